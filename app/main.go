@@ -1,0 +1,142 @@
+// Command spotloom turns the raw signals of a flying-spot scanner into
+// calibrated images. Run "spotloom help" for the sub-commands.
+package main
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"sort"
+	"strings"
+)
+
+// command is one sub-command. Each lives in its own file and registers
+// itself from an init function, so the files can grow independently.
+type command struct {
+	name    string
+	summary string // one line for the command list
+	// run parses args (everything after the command name) and does the work.
+	// Returning a usageError exits 2; any other error exits 1.
+	run func(args []string, stdout, stderr io.Writer) error
+}
+
+var commands = map[string]command{}
+
+func register(c command) {
+	if _, dup := commands[c.name]; dup {
+		panic("spotloom: command registered twice: " + c.name)
+	}
+	commands[c.name] = c
+}
+
+// usageError marks bad usage (exit status 2).
+type usageError struct{ msg string }
+
+func (e usageError) Error() string { return e.msg }
+
+func usagef(format string, args ...any) error {
+	return usageError{fmt.Sprintf(format, args...)}
+}
+
+// newFlagSet makes a flag set for a sub-command whose -help prints the
+// command's description and its flags to stderr.
+func newFlagSet(name, synopsis, description string, stderr io.Writer) *flag.FlagSet {
+	fs := flag.NewFlagSet(name, flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	fs.Usage = func() {
+		fmt.Fprintf(stderr, "usage: spotloom %s\n\n%s\n", synopsis, strings.TrimSpace(description))
+		hasFlags := false
+		fs.VisitAll(func(*flag.Flag) { hasFlags = true })
+		if hasFlags {
+			fmt.Fprintf(stderr, "\nflags:\n")
+			fs.PrintDefaults()
+		}
+	}
+	return fs
+}
+
+// parseFlags parses args, allowing flags after positional arguments
+// ("spotloom probe FILE --json"). It returns the positional arguments.
+func parseFlags(fs *flag.FlagSet, args []string) ([]string, error) {
+	var positional []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			if errors.Is(err, flag.ErrHelp) {
+				return nil, flag.ErrHelp
+			}
+			return nil, usageError{err.Error()}
+		}
+		args = fs.Args()
+		if len(args) == 0 {
+			return positional, nil
+		}
+		if args[0] == "--" {
+			return append(positional, args[1:]...), nil
+		}
+		positional = append(positional, args[0])
+		args = args[1:]
+	}
+}
+
+func printCommands(w io.Writer) {
+	fmt.Fprintf(w, "spotloom turns flying-spot scanner traces into calibrated images.\n\n")
+	fmt.Fprintf(w, "usage: spotloom [command] [arguments]\n\ncommands:\n")
+	names := make([]string, 0, len(commands))
+	for n := range commands {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		fmt.Fprintf(w, "  %-10s %s\n", n, commands[n].summary)
+	}
+	fmt.Fprintf(w, "\nWith no command, spotloom opens the workstation on the built-in demo.\n")
+	fmt.Fprintf(w, "Run \"spotloom COMMAND --help\" for the flags of a command.\n")
+}
+
+func main() {
+	os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
+}
+
+// run dispatches to a sub-command and turns its error into an exit status.
+func run(args []string, stdout, stderr io.Writer) int {
+	name := "open"
+	if len(args) > 0 {
+		switch a := args[0]; {
+		case a == "help" || a == "-h" || a == "-help" || a == "--help":
+			if len(args) > 1 {
+				if c, ok := commands[args[1]]; ok {
+					return finish(c.name, c.run([]string{"--help"}, stdout, stderr), stderr)
+				}
+			}
+			printCommands(stdout)
+			return 0
+		case strings.HasPrefix(a, "-"):
+			// flags for the default command: "spotloom --snapshot x.png"
+		default:
+			name, args = a, args[1:]
+		}
+	}
+	c, ok := commands[name]
+	if !ok {
+		fmt.Fprintf(stderr, "spotloom: unknown command %q\n\n", name)
+		printCommands(stderr)
+		return 2
+	}
+	return finish(c.name, c.run(args, stdout, stderr), stderr)
+}
+
+func finish(name string, err error, stderr io.Writer) int {
+	var ue usageError
+	switch {
+	case err == nil, errors.Is(err, flag.ErrHelp):
+		return 0
+	case errors.As(err, &ue):
+		fmt.Fprintf(stderr, "spotloom %s: %s (see \"spotloom %s --help\")\n", name, ue.msg, name)
+		return 2
+	default:
+		fmt.Fprintf(stderr, "spotloom %s: %s\n", name, err)
+		return 1
+	}
+}

@@ -1,0 +1,49 @@
+package recon
+
+// Frame is one reconstructed image on a uniform millimetre grid.
+//
+// Pixel (col,row) is Pix[row*Width+col]. Column 0 is the start of the sweep
+// (mirrored by sweep.reverse); row 0 is the largest cross-scan position. The
+// centre of pixel (col,row) lies at x = OriginXMM + col*PitchXMM and
+// y = OriginYMM - row*PitchYMM.
+type Frame struct {
+	Width, Height int
+	Pix           []float32 // detector value, baseline removed; undefined where !Covered
+	Covered       []bool    // true where the pixel received data (or was gap-filled)
+	PitchXMM      float64
+	PitchYMM      float64
+	OriginXMM     float64 // x of the centre of column 0
+	OriginYMM     float64 // y of the centre of row 0
+	Stroke        int     // which pass of the head made this frame (0 for merged)
+	Recipe        Recipe  // the recipe with every automatic value resolved
+	Report        Report
+}
+
+// At returns the value at (col,row) and whether it holds data.
+func (f *Frame) At(col, row int) (float32, bool) {
+	if col < 0 || row < 0 || col >= f.Width || row >= f.Height {
+		return 0, false
+	}
+	i := row*f.Width + col
+	return f.Pix[i], f.Covered[i]
+}
+
+// Report is what a build found and resolved; its JSON keys are fixed by
+// DESIGN.md ("Build report").
+type Report struct {
+	Lines         int      `json:"lines"`
+	LinesRepaired int      `json:"lines_repaired"`
+	Revolutions   int      `json:"revolutions"`
+	RPMMean       float64  `json:"rpm_mean"`
+	RPMSpreadPct  float64  `json:"rpm_spread_pct"`
+	SweepMS       float64  `json:"sweep_ms"`
+	LineRateHz    float64  `json:"line_rate_hz"`
+	DelayDeg      float64  `json:"delay_deg"`
+	Threshold     float64  `json:"threshold"`
+	Strokes       int      `json:"strokes"`
+	Columns       int      `json:"columns"`
+	Rows          int      `json:"rows"`
+	PitchMM       float64  `json:"pitch_mm"`
+	Coverage      float64  `json:"coverage"`
+	Warnings      []string `json:"warnings"`
+}

@@ -1,0 +1,122 @@
+package recon
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"strconv"
+)
+
+// RecipeFormat is the value of the "format" key of every recipe file.
+const RecipeFormat = "spotloom-recipe/1"
+
+// ChannelRef names a channel of a capture: a channel number or a channel
+// name. In JSON it is a number, a string, or null (not used / automatic).
+type ChannelRef string
+
+// IsSet reports whether the reference names a channel.
+func (c ChannelRef) IsSet() bool { return c != "" }
+
+// MarshalJSON writes a number when the reference is numeric.
+func (c ChannelRef) MarshalJSON() ([]byte, error) {
+	if c == "" {
+		return []byte("null"), nil
+	}
+	if n, err := strconv.Atoi(string(c)); err == nil {
+		return []byte(strconv.Itoa(n)), nil
+	}
+	return json.Marshal(string(c))
+}
+
+// UnmarshalJSON accepts a whole number, a string or null.
+func (c *ChannelRef) UnmarshalJSON(b []byte) error {
+	b = bytes.TrimSpace(b)
+	if bytes.Equal(b, []byte("null")) {
+		*c = ""
+		return nil
+	}
+	if len(b) > 0 && b[0] == '"' {
+		var s string
+		if err := json.Unmarshal(b, &s); err != nil {
+			return err
+		}
+		*c = ChannelRef(s)
+		return nil
+	}
+	var n json.Number
+	if err := json.Unmarshal(b, &n); err != nil {
+		return fmt.Errorf("a channel is a number or a name, got %s", b)
+	}
+	i, err := strconv.Atoi(n.String())
+	if err != nil || i < 0 {
+		return fmt.Errorf("a channel number is a whole number from 0, got %s", b)
+	}
+	*c = ChannelRef(strconv.Itoa(i))
+	return nil
+}
+
+// Channels says which capture channel plays which role.
+type Channels struct {
+	Detector ChannelRef `json:"detector"`
+	Index    ChannelRef `json:"index"`
+	Position ChannelRef `json:"position,omitempty"`
+	Steps    ChannelRef `json:"steps,omitempty"`
+}
+
+// Timing controls how index edges are found.
+type Timing struct {
+	Edge         string   `json:"edge"` // "rising" or "falling"
+	Threshold    *float64 `json:"threshold"`
+	Hysteresis   *float64 `json:"hysteresis"`
+	PulsesPerRev int      `json:"pulses_per_rev"`
+}
+
+// Sweep describes how time within a line maps to x in millimetres.
+type Sweep struct {
+	Apertures          int          `json:"apertures"`
+	Law                string       `json:"law"` // "uniform", "sine", "table"
+	FieldDeg           float64      `json:"field_deg"`
+	DelayDeg           *float64     `json:"delay_deg"`
+	ApertureOffsetsDeg []float64    `json:"aperture_offsets_deg"`
+	Projection         string       `json:"projection"` // "flat" or "angular"
+	DistanceMM         float64      `json:"distance_mm"`
+	SinePeriodS        *float64     `json:"sine_period_s"`
+	SineKeep           float64      `json:"sine_keep"`
+	Table              [][2]float64 `json:"table"`
+	Reverse            bool         `json:"reverse"`
+}
+
+// Rows describes how the cross-scan position of every sample is found.
+type Rows struct {
+	Source      string       `json:"source"` // "position", "tone", "steps", "even"
+	Calibration [][2]float64 `json:"calibration"`
+	CarrierHz   *float64     `json:"carrier_hz"`
+	MMPerStep   *float64     `json:"mm_per_step"`
+	SpeedMMS    *float64     `json:"speed_mm_s"`
+	Strokes     string       `json:"strokes"` // "merge", "split", "first"
+}
+
+// Signal controls detector clean-up.
+type Signal struct {
+	Baseline string `json:"baseline"` // "beam-off" or "none"
+	Invert   bool   `json:"invert"`
+}
+
+// Image controls the output grid.
+type Image struct {
+	PitchMM    float64 `json:"pitch_mm"`
+	FillGapsPx int     `json:"fill_gaps_px"`
+}
+
+// Recipe holds every reconstruction parameter; a frame can be rebuilt
+// exactly from its capture and its recipe. Nil pointers mean "find it
+// automatically". The keys are fixed by DESIGN.md: extend, do not rename.
+type Recipe struct {
+	Format   string   `json:"format"`
+	Channels Channels `json:"channels"`
+	Timing   Timing   `json:"timing"`
+	Sweep    Sweep    `json:"sweep"`
+	Rows     Rows     `json:"rows"`
+	Signal   Signal   `json:"signal"`
+	Image    Image    `json:"image"`
+}
