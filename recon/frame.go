@@ -1,5 +1,7 @@
 package recon
 
+import "spotloom/recon/recipe"
+
 // Frame is one reconstructed image on a uniform millimetre grid.
 //
 // Pixel (col,row) is Pix[row*Width+col]. Column 0 is the start of the sweep
@@ -12,10 +14,10 @@ type Frame struct {
 	Covered       []bool    // true where the pixel received data (or was gap-filled)
 	PitchXMM      float64
 	PitchYMM      float64
-	OriginXMM     float64 // x of the centre of column 0
-	OriginYMM     float64 // y of the centre of row 0
-	Stroke        int     // which pass of the head made this frame (0 for merged)
-	Recipe        Recipe  // the recipe with every automatic value resolved
+	OriginXMM     float64       // x of the centre of column 0
+	OriginYMM     float64       // y of the centre of row 0
+	Stroke        int           // which pass of the head made this frame (0 for merged)
+	Recipe        recipe.Recipe // the recipe with every automatic value resolved
 	Report        Report
 }
 
