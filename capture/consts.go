@@ -1,0 +1,52 @@
+package capture
+
+// Numbers of the RIFF/WAVE format, named as the specifications name them.
+//
+// Sources: Microsoft/IBM, "Multimedia Programming Interface and Data
+// Specifications 1.0", August 1991, chapter 3 "Resource Interchange File
+// Format" (RIFF chunks, word alignment) and its WAVE form section (fmt and
+// data chunks, PCM data packing); Microsoft, "Multiple Channel Audio Data and
+// WAVE Files" (WAVEFORMATEXTENSIBLE, the KSDATAFORMAT_SUBTYPE GUIDs).
+const (
+	riffHeaderSize  = 12 // "RIFF", ckSize, "WAVE"                (RIFF 1.0, 3-3)
+	chunkHeaderSize = 8  // ckID, ckSize                          (RIFF 1.0, 3-2)
+
+	// fmt chunk layouts (WAVE form, <fmt-ck>).
+	fmtPCMSize        = 16 // WAVEFORMAT + wBitsPerSample (PCMWAVEFORMAT)
+	fmtExSize         = 18 // WAVEFORMATEX: + cbSize
+	fmtExtensibleSize = 40 // WAVEFORMATEXTENSIBLE: cbSize = 22
+	extensibleCbSize  = 22
+	maxFmtSize        = 1 << 16 // no defined fmt chunk is near this; larger is damage
+
+	waveFormatPCM        = 0x0001 // WAVE_FORMAT_PCM
+	waveFormatIEEEFloat  = 0x0003 // WAVE_FORMAT_IEEE_FLOAT
+	waveFormatExtensible = 0xFFFE // WAVE_FORMAT_EXTENSIBLE
+)
+
+// Chunk and form identifiers (four-character codes).
+var (
+	idRIFF = [4]byte{'R', 'I', 'F', 'F'}
+	idWAVE = [4]byte{'W', 'A', 'V', 'E'}
+	idFmt  = [4]byte{'f', 'm', 't', ' '}
+	idData = [4]byte{'d', 'a', 't', 'a'}
+	idFact = [4]byte{'f', 'a', 'c', 't'}
+	idRIFX = [4]byte{'R', 'I', 'F', 'X'} // big-endian RIFF, not read
+	idRF64 = [4]byte{'R', 'F', '6', '4'} // 64-bit RIFF (EBU Tech 3306), not read
+)
+
+// KSDATAFORMAT_SUBTYPE_PCM and KSDATAFORMAT_SUBTYPE_IEEE_FLOAT as stored in a
+// file: the GUIDs {00000001-0000-0010-8000-00AA00389B71} and
+// {00000003-0000-0010-8000-00AA00389B71}, first three fields little-endian.
+var (
+	subtypePCM       = [16]byte{0x01, 0, 0, 0, 0, 0, 0x10, 0, 0x80, 0, 0, 0xAA, 0, 0x38, 0x9B, 0x71}
+	subtypeIEEEFloat = [16]byte{0x03, 0, 0, 0, 0, 0, 0x10, 0, 0x80, 0, 0, 0xAA, 0, 0x38, 0x9B, 0x71}
+)
+
+// Limits shared by every reader.
+const (
+	// MaxChannels is the most channels a WAV capture may have.
+	MaxChannels = 16
+	// MaxSampleRateHz is the highest sample rate accepted from a file; a
+	// header above it is damaged rather than fast.
+	MaxSampleRateHz = 1e10
+)

@@ -1,0 +1,166 @@
+package capture
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"strings"
+	"unicode/utf8"
+)
+
+// Options steer Open. The zero value reads any WAV or CSV file that carries
+// its own sample rate.
+type Options struct {
+	// SampleRateHz gives the rate of a CSV without a time column or of a raw
+	// file, and overrides the rate a file states when it is above 0.
+	SampleRateHz float64
+	// Layout describes a raw binary file. When nil, Open looks for
+	// NAME.layout.json beside the file.
+	Layout *RawLayout
+	// Progress, when not nil, is called now and then with the fraction of
+	// the file read so far.
+	Progress func(fraction float64)
+}
+
+// sniffBytes is how much of a file Open looks at to choose a reader.
+const sniffBytes = 4096
+
+// rawExtensions name files that hold bare samples.
+var rawExtensions = map[string]bool{".bin": true, ".raw": true, ".dat": true, ".adc": true, ".pcm": true, ".i16": true, ".u16": true, ".f32": true}
+
+// textExtensions name files that hold delimited text.
+var textExtensions = map[string]bool{".csv": true, ".txt": true, ".tsv": true, ".tab": true, ".dat": true, ".asc": true}
+
+// Open reads the capture at path. It chooses the reader by content first
+// (a RIFF/WAVE header, printable text) and extension second, and uses a raw
+// layout when one is given or found beside the file.
+func Open(path string, opts Options) (*Recording, error) {
+	st, err := os.Stat(path)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, unwrapPathError(err))
+	}
+	if st.IsDir() {
+		return nil, &FormatError{Path: path, Place: wholeFile, Problem: "is a directory", Expected: "a WAV, CSV or raw capture file"}
+	}
+	if !st.Mode().IsRegular() {
+		return nil, &FormatError{Path: path, Place: wholeFile, Problem: "is not a regular file", Expected: "a WAV, CSV or raw capture file"}
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, unwrapPathError(err))
+	}
+	defer f.Close()
+	size := st.Size()
+	if size == 0 {
+		return nil, &FormatError{Path: path, Place: wholeFile, Problem: "file is empty (0 bytes)", Expected: "a WAV, CSV or raw capture"}
+	}
+	head := make([]byte, min(size, sniffBytes))
+	if _, err := f.ReadAt(head, 0); err != nil && !errors.Is(err, io.EOF) {
+		return nil, fmt.Errorf("%s: %w", path, unwrapPathError(err))
+	}
+	ext := strings.ToLower(filepath.Ext(path))
+
+	var rec *Recording
+	layout, layoutErr := findLayout(path, opts)
+	switch {
+	case opts.Layout != nil || (layout != nil && !isWAV(head)):
+		if layoutErr != nil {
+			return nil, layoutErr
+		}
+		rec, err = readRaw(f, size, *layout, opts)
+	case layoutErr != nil && !isWAV(head):
+		return nil, layoutErr
+	case isWAV(head):
+		rec, err = readWAV(f, size, opts)
+	case ext == ".wav" || ext == ".wave":
+		return nil, &FormatError{Path: path, Format: "wav", Place: AtByte(0), Problem: fmt.Sprintf("file starts with %q", printable(head[:min(len(head), 4)])), Expected: "\"RIFF\" ... \"WAVE\""}
+	case isUTF16(head):
+		return nil, &UnsupportedError{Path: path, Format: "csv", Place: AtByte(0), Feature: "UTF-16 text", Expected: "UTF-8 or ASCII text (save the export as UTF-8)"}
+	case looksLikeText(head, size <= sniffBytes):
+		rec, err = readCSV(f, size, opts)
+	case rawExtensions[ext]:
+		return nil, missingLayout(path)
+	default:
+		kinds := "a RIFF/WAVE file, delimited text (CSV) or a raw file with a layout"
+		return nil, &FormatError{Path: path, Place: AtByte(0), Problem: fmt.Sprintf("unknown format (starts with % x)", head[:min(len(head), 8)]),
+			Expected: kinds + "; for raw ADC dumps " + layoutHint(path)}
+	}
+	if err != nil {
+		return nil, withPath(err, path)
+	}
+	if textExtensions[ext] && rec.Source.Format == "wav" {
+		rec.Warnings = append(rec.Warnings, fmt.Sprintf("file is named %s but holds a WAV capture", ext))
+	}
+	if opts.SampleRateHz > 0 {
+		rec.SampleRateHz = opts.SampleRateHz
+	}
+	rec.Source.Path = path
+	if err := rec.Validate(); err != nil {
+		return nil, &FormatError{Path: path, Format: rec.Source.Format, Place: wholeFile, Problem: err.Error()}
+	}
+	return rec, nil
+}
+
+// unwrapPathError drops the path an *fs.PathError repeats, since the caller
+// names the file first.
+func unwrapPathError(err error) error {
+	var pe *fs.PathError
+	if errors.As(err, &pe) {
+		return fmt.Errorf("%s: %w", pe.Op, pe.Err)
+	}
+	return err
+}
+
+// looksLikeText reports whether head is printable UTF-8 text. complete says
+// head is the whole file (so a cut rune at its end is an error).
+func looksLikeText(head []byte, complete bool) bool {
+	if len(head) >= 3 && head[0] == 0xEF && head[1] == 0xBB && head[2] == 0xBF {
+		head = head[3:]
+	}
+	control := 0
+	for i := 0; i < len(head); {
+		c := head[i]
+		if c < utf8.RuneSelf {
+			switch {
+			case c == 0:
+				return false
+			case c < 0x20 && c != '\t' && c != '\n' && c != '\r' && c != '\f':
+				control++
+			case c == 0x7F:
+				control++
+			}
+			i++
+			continue
+		}
+		r, n := utf8.DecodeRune(head[i:])
+		if r == utf8.RuneError && n <= 1 {
+			if !complete && len(head)-i < utf8.UTFMax {
+				break
+			}
+			return false
+		}
+		i += n
+	}
+	return control*100 <= len(head)
+}
+
+// isUTF16 reports a UTF-16 byte order mark.
+func isUTF16(head []byte) bool {
+	return len(head) >= 2 && (head[0] == 0xFF && head[1] == 0xFE || head[0] == 0xFE && head[1] == 0xFF)
+}
+
+// printable quotes bytes for a message without control characters.
+func printable(b []byte) string {
+	var sb strings.Builder
+	for _, c := range b {
+		if c >= 0x20 && c < 0x7F {
+			sb.WriteByte(c)
+		} else {
+			fmt.Fprintf(&sb, "\\x%02x", c)
+		}
+	}
+	return sb.String()
+}

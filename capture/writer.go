@@ -1,0 +1,294 @@
+package capture
+
+import (
+	"bufio"
+	"encoding/binary"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+)
+
+// WriteWAV writes rec as a RIFF/WAVE file with sample type "uint8", "int16",
+// "int24", "int32", "float32" or "float64". Samples are written as given
+// with ±1.0 as full scale; integer samples are rounded and clipped to the
+// range. Captures with more than two channels or more than 16 bits are
+// written as WAVE_FORMAT_EXTENSIBLE, as that definition asks; IEEE float
+// files carry a fact chunk. The sample rate must be a whole number of hertz.
+func WriteWAV(w io.Writer, rec *Recording, sampleType string) error {
+	if err := rec.Validate(); err != nil {
+		return fmt.Errorf("write WAV: %v", err)
+	}
+	if len(rec.Channels) > MaxChannels {
+		return fmt.Errorf("write WAV: %d channels: expected at most %d", len(rec.Channels), MaxChannels)
+	}
+	rate := math.Round(rec.SampleRateHz)
+	if rate != rec.SampleRateHz || rate > math.MaxUint32 {
+		return fmt.Errorf("write WAV: sample rate %g Hz: expected a whole number of hertz below 2^32 (WAV stores an integer rate)", rec.SampleRateHz)
+	}
+	var kind sampleKind
+	tag := uint16(waveFormatPCM)
+	switch sampleType {
+	case "uint8":
+		kind = kindUint8
+	case "int16":
+		kind = kindInt16
+	case "int24":
+		kind = kindInt24
+	case "int32":
+		kind = kindInt32
+	case "float32":
+		kind, tag = kindFloat32, waveFormatIEEEFloat
+	case "float64":
+		kind, tag = kindFloat64, waveFormatIEEEFloat
+	default:
+		return fmt.Errorf("write WAV: sample type %q: expected uint8, int16, int24, int32, float32 or float64", sampleType)
+	}
+	nch := len(rec.Channels)
+	size := kindSize[kind]
+	frames := int64(rec.Frames())
+	dataBytes := frames * int64(nch*size)
+	extensible := nch > 2 || 8*size > 16
+	fmtSize := fmtPCMSize
+	switch {
+	case extensible:
+		fmtSize = fmtExtensibleSize
+	case tag == waveFormatIEEEFloat:
+		fmtSize = fmtExSize
+	}
+	header := make([]byte, 0, 80)
+	le := binary.LittleEndian
+	header = append(header, idRIFF[:]...)
+	riffSize := 4 + chunkHeaderSize + int64(fmtSize) + chunkHeaderSize + dataBytes + dataBytes&1
+	if tag == waveFormatIEEEFloat {
+		riffSize += chunkHeaderSize + 4
+	}
+	if riffSize > math.MaxUint32 {
+		return fmt.Errorf("write WAV: %d bytes of samples: expected under 4 GiB (RIFF sizes are 32-bit)", dataBytes)
+	}
+	header = le.AppendUint32(header, uint32(riffSize))
+	header = append(header, idWAVE[:]...)
+	header = append(header, idFmt[:]...)
+	header = le.AppendUint32(header, uint32(fmtSize))
+	storedTag := tag
+	if extensible {
+		storedTag = waveFormatExtensible
+	}
+	header = le.AppendUint16(header, storedTag)
+	header = le.AppendUint16(header, uint16(nch))
+	header = le.AppendUint32(header, uint32(rate))
+	header = le.AppendUint32(header, uint32(rate)*uint32(nch*size))
+	header = le.AppendUint16(header, uint16(nch*size))
+	header = le.AppendUint16(header, uint16(8*size))
+	switch {
+	case extensible:
+		header = le.AppendUint16(header, extensibleCbSize)
+		header = le.AppendUint16(header, uint16(8*size)) // wValidBitsPerSample
+		header = le.AppendUint32(header, 0)              // dwChannelMask: no speaker positions
+		if tag == waveFormatIEEEFloat {
+			header = append(header, subtypeIEEEFloat[:]...)
+		} else {
+			header = append(header, subtypePCM[:]...)
+		}
+	case tag == waveFormatIEEEFloat:
+		header = le.AppendUint16(header, 0) // cbSize
+	}
+	if tag == waveFormatIEEEFloat {
+		header = append(header, idFact[:]...)
+		header = le.AppendUint32(header, 4)
+		header = le.AppendUint32(header, uint32(frames)) // dwSampleLength
+	}
+	header = append(header, idData[:]...)
+	header = le.AppendUint32(header, uint32(dataBytes))
+	bw := bufio.NewWriterSize(w, 1<<16)
+	bw.Write(header)
+	var fullScale float64
+	if kind != kindFloat32 && kind != kindFloat64 {
+		fullScale = float64(uint64(1) << (8*size - 1))
+	}
+	if err := writeInterleaved(bw, rec, kind, false, func(int) (float64, float64) {
+		if fullScale == 0 {
+			return 1, 0
+		}
+		if kind == kindUint8 {
+			return 1 / fullScale, -1
+		}
+		return 1 / fullScale, 0
+	}); err != nil {
+		return fmt.Errorf("write WAV: %w", err)
+	}
+	if dataBytes&1 == 1 {
+		bw.WriteByte(0) // RIFF pad byte
+	}
+	if err := bw.Flush(); err != nil {
+		return fmt.Errorf("write WAV: %w", err)
+	}
+	return nil
+}
+
+// writeInterleaved writes the samples frame by frame in the given kind. For
+// each channel, scaleOf gives the scale and offset of the stored values
+// (v = stored·scale + offset), so stored = (v − offset)/scale.
+func writeInterleaved(bw *bufio.Writer, rec *Recording, kind sampleKind, bigEndian bool, scaleOf func(c int) (scale, offset float64)) error {
+	frames := rec.Frames()
+	buf := make([]byte, 0, 1<<16)
+	for i := 0; i < frames; i++ {
+		for c := range rec.Channels {
+			buf = appendSample(buf, kind, bigEndian, rec.Channels[c].Samples[i], scaleOf, c)
+		}
+		if len(buf) >= 1<<16-8*MaxRawChannels {
+			if _, err := bw.Write(buf); err != nil {
+				return err
+			}
+			buf = buf[:0]
+		}
+	}
+	_, err := bw.Write(buf)
+	return err
+}
+
+// appendSample encodes one value, rounding to nearest and clipping integers.
+func appendSample(buf []byte, kind sampleKind, bigEndian bool, v float32, scaleOf func(int) (float64, float64), c int) []byte {
+	scale, offset := scaleOf(c)
+	x := (float64(v) - offset) / scale
+	var order binary.AppendByteOrder = binary.LittleEndian
+	if bigEndian {
+		order = binary.BigEndian
+	}
+	clip := func(lo, hi float64) float64 {
+		x = math.Round(x)
+		if x != x {
+			return 0
+		}
+		return math.Max(lo, math.Min(hi, x))
+	}
+	switch kind {
+	case kindInt8:
+		return append(buf, byte(int8(clip(math.MinInt8, math.MaxInt8))))
+	case kindUint8:
+		return append(buf, byte(clip(0, math.MaxUint8)))
+	case kindInt16:
+		return order.AppendUint16(buf, uint16(int16(clip(math.MinInt16, math.MaxInt16))))
+	case kindUint16:
+		return order.AppendUint16(buf, uint16(clip(0, math.MaxUint16)))
+	case kindInt24:
+		u := uint32(int32(clip(-1<<23, 1<<23-1)))
+		if bigEndian {
+			return append(buf, byte(u>>16), byte(u>>8), byte(u))
+		}
+		return append(buf, byte(u), byte(u>>8), byte(u>>16))
+	case kindInt32:
+		return order.AppendUint32(buf, uint32(int32(clip(math.MinInt32, math.MaxInt32))))
+	case kindUint32:
+		return order.AppendUint32(buf, uint32(clip(0, math.MaxUint32)))
+	case kindFloat32:
+		return order.AppendUint32(buf, math.Float32bits(float32(x)))
+	default:
+		return order.AppendUint64(buf, math.Float64bits(x))
+	}
+}
+
+// WriteRaw writes rec as bare samples following layout: the header bytes
+// as zeros, then the samples interleaved or planar. Values are turned back
+// into stored numbers with the layout's scale and offset (or full scale for
+// integers without a scale), rounded and clipped. The layout's channel count
+// must match the recording; its rate, names and units are not checked, so
+// write the layout with WriteLayoutFile to describe the file.
+func WriteRaw(w io.Writer, rec *Recording, layout RawLayout) error {
+	if err := rec.Validate(); err != nil {
+		return fmt.Errorf("write raw: %v", err)
+	}
+	if err := layout.Validate(); err != nil {
+		return fmt.Errorf("write raw: layout: %v", err)
+	}
+	if layout.Channels != len(rec.Channels) {
+		return fmt.Errorf("write raw: layout has %d channels, recording has %d", layout.Channels, len(rec.Channels))
+	}
+	kind, big := layout.kind()
+	scaleOf := func(c int) (float64, float64) {
+		s, o, _ := layout.channelScale(c)
+		return s, o
+	}
+	bw := bufio.NewWriterSize(w, 1<<16)
+	if _, err := bw.Write(make([]byte, layout.HeaderBytes)); err != nil {
+		return fmt.Errorf("write raw: %w", err)
+	}
+	if layout.Interleaved {
+		if err := writeInterleaved(bw, rec, kind, big, scaleOf); err != nil {
+			return fmt.Errorf("write raw: %w", err)
+		}
+	} else {
+		buf := make([]byte, 0, 1<<16)
+		for c, ch := range rec.Channels {
+			for _, v := range ch.Samples {
+				buf = appendSample(buf, kind, big, v, scaleOf, c)
+				if len(buf) >= 1<<16-8 {
+					bw.Write(buf)
+					buf = buf[:0]
+				}
+			}
+		}
+		bw.Write(buf)
+	}
+	if err := bw.Flush(); err != nil {
+		return fmt.Errorf("write raw: %w", err)
+	}
+	return nil
+}
+
+// WriteCSV writes rec as comma-separated text: the preamble lines as they
+// are, a header row "time (s),NAME (UNIT),...", then one row per frame with
+// the time i/rate and each sample in the shortest form that reads back to
+// the same float32. Fields are quoted as RFC 4180 asks when they hold a
+// comma, a quote or a line break.
+func WriteCSV(w io.Writer, rec *Recording, preamble []string) error {
+	if err := rec.Validate(); err != nil {
+		return fmt.Errorf("write CSV: %v", err)
+	}
+	bw := bufio.NewWriterSize(w, 1<<16)
+	for _, line := range preamble {
+		line = strings.NewReplacer("\r\n", " ", "\n", " ", "\r", " ").Replace(line)
+		bw.WriteString(line)
+		bw.WriteString("\r\n")
+	}
+	fields := []string{"time (s)"}
+	for _, c := range rec.Channels {
+		name := c.Name
+		if c.Unit != "" {
+			name += " (" + c.Unit + ")"
+		}
+		fields = append(fields, name)
+	}
+	for i, f := range fields {
+		if i > 0 {
+			bw.WriteByte(',')
+		}
+		bw.WriteString(quoteCSV(f))
+	}
+	bw.WriteString("\r\n")
+	buf := make([]byte, 0, 256)
+	for i := 0; i < rec.Frames(); i++ {
+		buf = strconv.AppendFloat(buf[:0], float64(i)/rec.SampleRateHz, 'g', -1, 64)
+		for _, c := range rec.Channels {
+			buf = append(buf, ',')
+			buf = strconv.AppendFloat(buf, float64(c.Samples[i]), 'g', -1, 32)
+		}
+		buf = append(buf, '\r', '\n')
+		if _, err := bw.Write(buf); err != nil {
+			return fmt.Errorf("write CSV: %w", err)
+		}
+	}
+	if err := bw.Flush(); err != nil {
+		return fmt.Errorf("write CSV: %w", err)
+	}
+	return nil
+}
+
+// quoteCSV quotes a field as RFC 4180 section 2 rules 6 and 7 ask.
+func quoteCSV(s string) string {
+	if !strings.ContainsAny(s, ",\"\r\n") && strings.TrimSpace(s) == s {
+		return s
+	}
+	return `"` + strings.ReplaceAll(s, `"`, `""`) + `"`
+}
