@@ -46,7 +46,9 @@ type FormatError struct {
 	Expected string // what was expected instead, may be ""
 }
 
-func (e *FormatError) Error() string { return describe(e.Path, e.Format, e.Place, e.Problem, e.Expected) }
+func (e *FormatError) Error() string {
+	return describe(e.Path, e.Format, e.Place, e.Problem, e.Expected)
+}
 
 // UnsupportedError reports a file that is valid for its format but uses a
 // feature Spotloom does not read (a compressed WAV, an unknown sample type).

@@ -237,4 +237,3 @@ func layoutHint(path string) string {
 func missingLayout(path string) error {
 	return fmt.Errorf("%s: %w: give the layout as flags or %s", path, ErrNoLayout, layoutHint(path))
 }
-
