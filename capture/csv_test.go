@@ -1,0 +1,200 @@
+package capture
+
+import (
+	"bytes"
+	"errors"
+	"math"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// TestSplitRecordRFC4180 checks the record splitter on the examples of RFC
+// 4180 ("Common Format and MIME Type for CSV Files", 2005), section 2.
+func TestSplitRecordRFC4180(t *testing.T) {
+	for _, tc := range []struct {
+		rule string
+		in   string
+		want []string
+	}{
+		{"2.1", "aaa,bbb,ccc", []string{"aaa", "bbb", "ccc"}},
+		{"2.4 (spaces are part of a field)", "aaa , bbb", []string{"aaa ", " bbb"}},
+		{"2.5", `"aaa","bbb","ccc"`, []string{"aaa", "bbb", "ccc"}},
+		{"2.6", "\"aaa\",\"b\r\nbb\",\"ccc\"", []string{"aaa", "b\r\nbb", "ccc"}},
+		{"2.6 (comma inside quotes)", `"a,b",c`, []string{"a,b", "c"}},
+		{"2.7", `"aaa","b""bb","ccc"`, []string{"aaa", `b"bb`, "ccc"}},
+		{"2.7 (only a quote)", `""""`, []string{`"`}},
+		{"empty fields", `,,`, []string{"", "", ""}},
+	} {
+		fields, _, err := splitRecord([]byte(tc.in), ',', nil, nil)
+		if err != nil {
+			t.Errorf("RFC 4180 %s: %q: %v", tc.rule, tc.in, err)
+			continue
+		}
+		var got []string
+		for _, f := range fields {
+			got = append(got, string(f))
+		}
+		if strings.Join(got, "|") != strings.Join(tc.want, "|") || len(got) != len(tc.want) {
+			t.Errorf("RFC 4180 %s: %q split into %q, want %q", tc.rule, tc.in, got, tc.want)
+		}
+	}
+	for _, bad := range []string{`"aaa`, `"aaa"b,c`} {
+		if _, _, err := splitRecord([]byte(bad), ',', nil, nil); err == nil {
+			t.Errorf("%q: no error, want a quoting error", bad)
+		}
+	}
+}
+
+// TestParseNumberAgainstStrconv compares the fast number parser with the
+// standard library's strconv.ParseFloat, an independent implementation.
+func TestParseNumberAgainstStrconv(t *testing.T) {
+	for _, s := range []string{"0", "-0", "1", "-1.25e-3", "3.14159", "1e22", "1e23", "123456789012345678901234", "0.1", "2.5E+02",
+		"  7.5 ", "+4", "1.7976931348623157e308", "4.9e-324", "0.000030517578125", "-32768", "12345678901234567", ".5", "5."} {
+		got, ok := parseNumber([]byte(s), false)
+		want, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
+		if !ok || err != nil || got != want {
+			t.Errorf("parseNumber(%q) = %v, %v; strconv gives %v, %v", s, got, ok, want, err)
+		}
+	}
+	for _, s := range []string{"", "abc", "1.2.3", "1e", "--1", "0x10", "1_000", "1,5"} {
+		if v, ok := parseNumber([]byte(s), false); ok {
+			t.Errorf("parseNumber(%q) = %v, want not a number", s, v)
+		}
+	}
+	if v, ok := parseNumber([]byte("-1,25"), true); !ok || v != -1.25 {
+		t.Errorf("decimal comma: got %v %v, want -1.25", v, ok)
+	}
+}
+
+func readCSVString(t *testing.T, text string, opts Options) (*Recording, error) {
+	t.Helper()
+	return readCSV(strings.NewReader(text), int64(len(text)), opts)
+}
+
+func TestCSVShapes(t *testing.T) {
+	type want struct {
+		rate  float64
+		names []string
+		units []string
+		cols  [][]float32
+	}
+	for _, tc := range []struct {
+		name string
+		text string
+		opts Options
+		want want
+	}{
+		{"preamble and header with units", "Instrument,bench scope\nSample interval,1e-3\n\ntime (s),detector (V),index (mV)\n0,0.5,100\n0.001,0.25,-200\n0.002,1e-1,0\n",
+			Options{}, want{1000, []string{"detector", "index"}, []string{"V", "V"}, [][]float32{{0.5, 0.25, 0.1}, {0.1, -0.2, 0}}}},
+		{"semicolon and decimal comma", "Zeit [ms];Kanal A [V];Kanal B [V]\n0,0;1,5;-2,25\n0,5;2,5;3\n1,0;0;1e-2\n",
+			Options{}, want{2000, []string{"Kanal A", "Kanal B"}, []string{"V", "V"}, [][]float32{{1.5, 2.5, 0}, {-2.25, 3, 0.01}}}},
+		{"tab", "t\tA\tB\n0\t1\t2\n1\t3\t4\n", Options{}, want{1, []string{"A", "B"}, []string{"", ""}, [][]float32{{1, 3}, {2, 4}}}},
+		{"whitespace", "   0.0   1.0  -1.0\n   0.5   2.0  -2.0\n   1.0   3.0  -3.0\n", Options{}, want{2, []string{"ch0", "ch1"}, []string{"", ""}, [][]float32{{1, 2, 3}, {-1, -2, -3}}}},
+		{"names row then units row", "Time,CH1,CH2\n(s),(V),(V)\n0,1,2\n0.1,3,4\n", Options{}, want{10, []string{"CH1", "CH2"}, []string{"V", "V"}, [][]float32{{1, 3}, {2, 4}}}},
+		{"no time column, rate given", "a,b\n1,2\n3,4\n5,6\n", Options{SampleRateHz: 500}, want{500, []string{"a", "b"}, []string{"", ""}, [][]float32{{1, 3, 5}, {2, 4, 6}}}},
+		{"single column, rate given", "0.5\n0.25\n", Options{SampleRateHz: 8}, want{8, []string{"ch0"}, []string{""}, [][]float32{{0.5, 0.25}}}},
+		{"RFC 4180 quoted header and cells, CRLF", "\"time (s)\",\"det, \"\"main\"\"\"\r\n\"0\",\"1.5\"\r\n\"0.25\",\"2.5\"\r\n", Options{}, want{4, []string{`det, "main"`}, []string{""}, [][]float32{{1.5, 2.5}}}},
+		{"trailing delimiter", "time,a,\n0,1,\n1,2,\n", Options{}, want{1, []string{"a"}, []string{""}, [][]float32{{1, 2}}}},
+		{"microseconds", "time (us),x\n0,1\n10,2\n20,3\n", Options{}, want{1e5, []string{"x"}, []string{""}, [][]float32{{1, 2, 3}}}},
+	} {
+		rec, err := readCSVString(t, tc.text, tc.opts)
+		if err != nil {
+			t.Errorf("%s: %v", tc.name, err)
+			continue
+		}
+		if math.Abs(rec.SampleRateHz-tc.want.rate) > 1e-9*tc.want.rate {
+			t.Errorf("%s: rate %v, want %v", tc.name, rec.SampleRateHz, tc.want.rate)
+		}
+		if len(rec.Channels) != len(tc.want.names) {
+			t.Errorf("%s: %d channels, want %d", tc.name, len(rec.Channels), len(tc.want.names))
+			continue
+		}
+		for c, ch := range rec.Channels {
+			if ch.Name != tc.want.names[c] || ch.Unit != tc.want.units[c] {
+				t.Errorf("%s: channel %d is %q [%s], want %q [%s]", tc.name, c, ch.Name, ch.Unit, tc.want.names[c], tc.want.units[c])
+			}
+			if len(ch.Samples) != len(tc.want.cols[c]) {
+				t.Errorf("%s: channel %d has %d samples, want %d", tc.name, c, len(ch.Samples), len(tc.want.cols[c]))
+				continue
+			}
+			for i, v := range ch.Samples {
+				if math.Abs(float64(v-tc.want.cols[c][i])) > 1e-7 {
+					t.Errorf("%s: ch%d[%d] = %v, want %v", tc.name, c, i, v, tc.want.cols[c][i])
+				}
+			}
+		}
+		if len(rec.Warnings) > 0 {
+			t.Errorf("%s: unexpected warnings %q", tc.name, rec.Warnings)
+		}
+	}
+}
+
+func TestCSVUnevenTimeWarns(t *testing.T) {
+	rec, err := readCSVString(t, "time,a\n0,1\n1,2\n2.5,3\n3,4\n", Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// mean step (3-0)/3 = 1 s; steps 1, 1.5, 0.5 differ by more than 1 %
+	if rec.SampleRateHz != 1 || len(rec.Warnings) != 1 || !strings.Contains(rec.Warnings[0], "uneven") {
+		t.Fatalf("rate %v warnings %q", rec.SampleRateHz, rec.Warnings)
+	}
+}
+
+func TestCSVErrorsNamePlace(t *testing.T) {
+	for _, tc := range []struct {
+		name, text string
+		opts       Options
+		place      string
+		words      string
+	}{
+		{"not a number", "time,a,b\n0,1,2\n1,3,4\n2,x5,6\n3,7,8\n", Options{}, "line 4:3", `"x5"`},
+		{"bad cell in first data row", "time,a,b\n0,1,oops\n1,3,4\n2,5,6\n3,7,8\n", Options{}, "line 2:5", `"oops"`},
+		{"ragged row", "time,a,b\n0,1,2\n1,3\n2,5,6\n3,7,8\n", Options{}, "line 3", "2 fields"},
+		{"ragged row right after header", "time,a,b\n0,1\n1,3,4\n2,5,6\n3,7,8\n", Options{}, "line 2", "2 fields"},
+		{"time going back", "time,a\n0,1\n1,2\n0.5,3\n2,4\n", Options{}, "line 4:1", "does not come after"},
+		{"no rate", "a,b\n1,2\n3,4\n", Options{}, "line 1", "no time column"},
+		{"open quote", "time,a\n0,1\n1,\"2\n", Options{}, "line 3:3", "never closes"},
+		{"text after quote", "time,a\n0,1\n1,\"2\"x\n2,3\n3,4\n", Options{}, "line 3:6", "after a closing quote"},
+		{"no numbers at all", "hello\nworld\n", Options{}, "line 1", "no line"},
+		{"one row", "time,a\n0,1\n", Options{}, "line 2", "one data row"},
+	} {
+		_, err := readCSVString(t, tc.text, tc.opts)
+		var fe *FormatError
+		if !errors.As(err, &fe) {
+			t.Errorf("%s: err = %v, want a FormatError", tc.name, err)
+			continue
+		}
+		if fe.Place.String() != tc.place || !strings.Contains(err.Error(), tc.words) || !strings.Contains(err.Error(), "expected") {
+			t.Errorf("%s: %q, want place %q and %q", tc.name, err, tc.place, tc.words)
+		}
+	}
+}
+
+func TestCSVRoundTrip(t *testing.T) {
+	rec := testRecording(3, 2000, 12500)
+	rec.Channels[1].Name = "index, main" // needs quoting
+	rec.Channels[2].Unit = UnitVolt
+	var buf bytes.Buffer
+	if err := WriteCSV(&buf, rec, []string{"Spotloom test capture", "rig,bench 1"}); err != nil {
+		t.Fatal(err)
+	}
+	got, err := readCSV(bytes.NewReader(buf.Bytes()), int64(buf.Len()), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// the time column i/rate, written with full precision, gives back the rate
+	if math.Abs(got.SampleRateHz-12500) > 1e-6 || len(got.Warnings) != 0 {
+		t.Fatalf("rate %v warnings %q", got.SampleRateHz, got.Warnings)
+	}
+	for c := range rec.Channels {
+		if got.Channels[c].Name != rec.Channels[c].Name || got.Channels[c].Unit != rec.Channels[c].Unit {
+			t.Errorf("channel %d: %q %q, want %q %q", c, got.Channels[c].Name, got.Channels[c].Unit, rec.Channels[c].Name, rec.Channels[c].Unit)
+		}
+		for i, v := range rec.Channels[c].Samples {
+			if got.Channels[c].Samples[i] != v {
+				t.Fatalf("ch%d[%d] = %v, want %v", c, i, got.Channels[c].Samples[i], v)
+			}
+		}
+	}
+}
