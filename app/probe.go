@@ -1,0 +1,169 @@
+package main
+
+import (
+	"encoding/json"
+	"flag"
+	"fmt"
+	"io"
+	"text/tabwriter"
+
+	"spotloom/capture"
+)
+
+func init() {
+	register(command{
+		name:    "probe",
+		summary: "show a capture's format, rate, duration, channel statistics and guessed roles",
+		run:     runProbe,
+	})
+}
+
+// captureFlags are the flags every command that reads a capture shares: a
+// sample rate for files without one, and a raw layout given on the command
+// line instead of a NAME.layout.json sidecar.
+type captureFlags struct {
+	rateHz      float64
+	layoutPath  string
+	sampleType  string
+	channels    int
+	byteOrder   string
+	planar      bool
+	headerBytes int64
+}
+
+// addCaptureFlags defines the capture flags on fs.
+func addCaptureFlags(fs *flag.FlagSet) *captureFlags {
+	cf := &captureFlags{}
+	fs.Float64Var(&cf.rateHz, "rate", 0, "sample rate in `Hz` (CSV without a time column, raw files; overrides the file's rate)")
+	fs.StringVar(&cf.layoutPath, "layout", "", "raw layout JSON `file` (default: NAME.layout.json beside the capture)")
+	fs.StringVar(&cf.sampleType, "raw", "", "read as raw samples of this `type`: int8, uint8, int16, uint16, int32, uint32, float32, float64")
+	fs.IntVar(&cf.channels, "channels", 1, "raw: number of `channels`")
+	fs.StringVar(&cf.byteOrder, "byte-order", "little", "raw: byte `order`, little or big")
+	fs.BoolVar(&cf.planar, "planar", false, "raw: channels stored one after another instead of interleaved")
+	fs.Int64Var(&cf.headerBytes, "header-bytes", 0, "raw: `bytes` to skip at the start")
+	return cf
+}
+
+// options turns the flags into capture.Options.
+func (cf *captureFlags) options() (capture.Options, error) {
+	opts := capture.Options{SampleRateHz: cf.rateHz}
+	if cf.rateHz < 0 || cf.rateHz > capture.MaxSampleRateHz {
+		return opts, usagef("--rate %g: expected a rate above 0 Hz and at most %g Hz", cf.rateHz, capture.MaxSampleRateHz)
+	}
+	switch {
+	case cf.layoutPath != "" && cf.sampleType != "":
+		return opts, usagef("give either --layout or --raw, not both")
+	case cf.layoutPath != "":
+		l, err := capture.LoadLayout(cf.layoutPath)
+		if err != nil {
+			return opts, err
+		}
+		opts.Layout = &l
+	case cf.sampleType != "":
+		l := capture.RawLayout{SampleType: cf.sampleType, ByteOrder: cf.byteOrder, Channels: cf.channels,
+			Interleaved: !cf.planar, HeaderBytes: cf.headerBytes, SampleRateHz: cf.rateHz}
+		if err := l.Validate(); err != nil {
+			return opts, usagef("raw layout: %v", err)
+		}
+		opts.Layout = &l
+	}
+	return opts, nil
+}
+
+// probeChannel is one channel in the probe's JSON output.
+type probeChannel struct {
+	Name           string  `json:"name"`
+	Unit           string  `json:"unit"`
+	Min            float64 `json:"min"`
+	Max            float64 `json:"max"`
+	Mean           float64 `json:"mean"`
+	RMS            float64 `json:"rms"`
+	Role           string  `json:"role"`
+	RoleConfidence float64 `json:"role_confidence"`
+}
+
+// probeReport is the probe's JSON output.
+type probeReport struct {
+	Format       string         `json:"format"`
+	SampleType   string         `json:"sample_type"`
+	SampleRateHz float64        `json:"sample_rate_hz"`
+	Frames       int            `json:"frames"`
+	DurationS    float64        `json:"duration_s"`
+	Channels     []probeChannel `json:"channels"`
+	Warnings     []string       `json:"warnings"`
+}
+
+func runProbe(args []string, stdout, stderr io.Writer) error {
+	fs := newFlagSet("probe", "probe FILE [--json] [--rate HZ] [--layout L.json | --raw TYPE --channels N ...]", `
+Probe reads a capture (WAV, CSV or raw binary with a layout) and prints its
+format, sample type, sample rate, number of frames, duration, and for each
+channel its name, unit, minimum, maximum, mean, RMS and the role Spotloom
+guesses for it (detector, index, position, steps or unknown) with a
+confidence from 0 to 1.`, stderr)
+	asJSON := fs.Bool("json", false, "print JSON instead of a table")
+	cf := addCaptureFlags(fs)
+	rest, err := parseFlags(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(rest) != 1 {
+		return usagef("expected one capture file, got %d arguments", len(rest))
+	}
+	opts, err := cf.options()
+	if err != nil {
+		return err
+	}
+	progress := newProgress(stderr)
+	opts.Progress = func(f float64) { progress.Report("reading", f) }
+	rec, err := capture.Open(rest[0], opts)
+	progress.Done()
+	if err != nil {
+		return err
+	}
+	report := probeReport{
+		Format:       rec.Source.Format,
+		SampleType:   rec.Source.SampleType,
+		SampleRateHz: rec.SampleRateHz,
+		Frames:       rec.Frames(),
+		DurationS:    rec.DurationS(),
+		Channels:     []probeChannel{},
+		Warnings:     append([]string{}, rec.Warnings...),
+	}
+	roles := capture.GuessRoles(rec)
+	for c, ch := range rec.Channels {
+		st := ch.Stats()
+		report.Channels = append(report.Channels, probeChannel{Name: ch.Name, Unit: ch.Unit, Min: st.Min, Max: st.Max,
+			Mean: st.Mean, RMS: st.RMS, Role: roles[c].Role, RoleConfidence: roles[c].Confidence})
+	}
+	if *asJSON {
+		enc := json.NewEncoder(stdout)
+		enc.SetIndent("", "  ")
+		return enc.Encode(report)
+	}
+	tw := tabwriter.NewWriter(stdout, 0, 0, 2, ' ', 0)
+	bits := ""
+	if rec.Source.BitDepth > 0 {
+		bits = fmt.Sprintf(", %d-bit", rec.Source.BitDepth)
+	}
+	fmt.Fprintf(tw, "file\t%s\n", rec.Source.Path)
+	fmt.Fprintf(tw, "format\t%s (%s%s)\n", report.Format, report.SampleType, bits)
+	fmt.Fprintf(tw, "sample rate\t%g Hz\n", report.SampleRateHz)
+	fmt.Fprintf(tw, "frames\t%d\n", report.Frames)
+	fmt.Fprintf(tw, "duration\t%.6g s\n", report.DurationS)
+	tw.Flush()
+	fmt.Fprintln(stdout)
+	tw = tabwriter.NewWriter(stdout, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintf(tw, "channel\tname\tunit\tmin\tmax\tmean\trms\trole\t\n")
+	for c, ch := range report.Channels {
+		unit := ch.Unit
+		if unit == "" {
+			unit = "-"
+		}
+		fmt.Fprintf(tw, "%d\t%s\t%s\t%.6g\t%.6g\t%.6g\t%.6g\t%s (%.2f)\t\n", c, ch.Name, unit, ch.Min, ch.Max, ch.Mean, ch.RMS, ch.Role, ch.RoleConfidence)
+	}
+	tw.Flush()
+	for _, w := range report.Warnings {
+		fmt.Fprintf(stdout, "warning: %s\n", w)
+	}
+	return nil
+}

@@ -1,0 +1,233 @@
+package capture
+
+import (
+	"math"
+	"sort"
+)
+
+// Channel roles GuessRoles can give.
+const (
+	RoleDetector = "detector"
+	RoleIndex    = "index"
+	RolePosition = "position"
+	RoleSteps    = "steps"
+	RoleUnknown  = "unknown"
+)
+
+// RoleGuess is the guessed role of one channel and how sure the guess is,
+// from 0 (a shrug) to 1.
+type RoleGuess struct {
+	Channel    int
+	Role       string
+	Confidence float64
+}
+
+// roleSamples caps how many samples of a channel the guess looks at.
+const roleSamples = 1 << 22
+
+// signalTraits are the measurements a role guess is made from.
+type signalTraits struct {
+	constant bool
+	// twoLevel is the fraction of samples within 15 % of the range from the
+	// low or the high level (levels: the 1st and 99th percentiles).
+	twoLevel float64
+	// middle is the fraction of samples between 30 % and 70 % of the range:
+	// small for a train of sharp-edged pulses.
+	middle float64
+	// edges is the number of rising crossings of the mid level (with
+	// hysteresis), edgeSpread the coefficient of variation of their spacing.
+	edges      int
+	edgeSpread float64
+	// roughness is the RMS of the first difference over the standard
+	// deviation: about 2·sin(π f/fs) for a tone of frequency f, √2 for white
+	// noise, near 0 for a slow, band-limited signal.
+	roughness float64
+}
+
+// measureTraits measures one channel.
+func measureTraits(s []float32) signalTraits {
+	if len(s) > roleSamples {
+		s = s[:roleSamples]
+	}
+	var t signalTraits
+	if len(s) < 8 {
+		t.constant = true
+		return t
+	}
+	lo, hi := float64(s[0]), float64(s[0])
+	var sum, sumSq, diffSq float64
+	for i, v := range s {
+		x := float64(v)
+		lo, hi = math.Min(lo, x), math.Max(hi, x)
+		sum += x
+		sumSq += x * x
+		if i > 0 {
+			d := x - float64(s[i-1])
+			diffSq += d * d
+		}
+	}
+	n := float64(len(s))
+	mean := sum / n
+	variance := sumSq/n - mean*mean
+	if hi-lo <= 1e-12*math.Max(1, math.Abs(hi)) || variance <= 0 {
+		t.constant = true
+		return t
+	}
+	t.roughness = math.Sqrt(diffSq/(n-1)) / math.Sqrt(variance)
+	// Levels from a 1024-bin histogram, robust to a few outliers.
+	const bins = 1024
+	var hist [bins]int
+	width := (hi - lo) / bins
+	for _, v := range s {
+		b := int((float64(v) - lo) / width)
+		hist[min(max(b, 0), bins-1)]++
+	}
+	percentile := func(p float64) float64 {
+		target := int(p * n)
+		acc := 0
+		for b, c := range hist {
+			acc += c
+			if acc > target {
+				return lo + (float64(b)+0.5)*width
+			}
+		}
+		return hi
+	}
+	low, high := percentile(0.01), percentile(0.99)
+	span := high - low
+	if span <= 0 {
+		span = hi - lo
+		low, high = lo, hi
+	}
+	var near, mid int
+	rising := make([]int, 0, 64)
+	state := false
+	upper, lower := low+0.6*span, low+0.4*span
+	for i, v := range s {
+		x := float64(v)
+		if x <= low+0.15*span || x >= high-0.15*span {
+			near++
+		}
+		if x > low+0.3*span && x < low+0.7*span {
+			mid++
+		}
+		if !state && x > upper {
+			state = true
+			if i > 0 {
+				rising = append(rising, i)
+			}
+		} else if state && x < lower {
+			state = false
+		}
+	}
+	t.twoLevel = float64(near) / n
+	t.middle = float64(mid) / n
+	t.edges = len(rising)
+	if len(rising) >= 3 {
+		gaps := make([]float64, len(rising)-1)
+		var gsum float64
+		for i := range gaps {
+			gaps[i] = float64(rising[i+1] - rising[i])
+			gsum += gaps[i]
+		}
+		gmean := gsum / float64(len(gaps))
+		var gvar float64
+		for _, g := range gaps {
+			gvar += (g - gmean) * (g - gmean)
+		}
+		t.edgeSpread = math.Sqrt(gvar/float64(len(gaps))) / gmean
+	} else {
+		t.edgeSpread = 1
+	}
+	return t
+}
+
+// clamp01 limits x to [0, 1].
+func clamp01(x float64) float64 { return math.Max(0, math.Min(1, x)) }
+
+// pulseScore is how much a channel looks like a train of sharp two-level
+// pulses (an index or step signal).
+func (t signalTraits) pulseScore() float64 {
+	if t.constant || t.edges < 4 {
+		return 0
+	}
+	return clamp01((t.twoLevel-0.8)/0.15) * clamp01(1-t.middle/0.1)
+}
+
+// smoothScore is how much a channel looks like a slow position signal.
+func (t signalTraits) smoothScore() float64 {
+	if t.constant {
+		return 0
+	}
+	return clamp01(1-t.roughness/0.05) * (1 - t.pulseScore())
+}
+
+// GuessRoles guesses each channel's role from its samples alone: the index
+// is the most regular train of sharp two-level pulses, other pulse trains
+// are step pulses, the position is the smoothest remaining signal, and the
+// detector is the busiest remaining one. Constant channels stay unknown.
+// The recipe's channel choice always overrides these guesses.
+func GuessRoles(rec *Recording) []RoleGuess {
+	if rec == nil {
+		return nil
+	}
+	n := len(rec.Channels)
+	traits := make([]signalTraits, n)
+	for c, ch := range rec.Channels {
+		traits[c] = measureTraits(ch.Samples)
+	}
+	guesses := make([]RoleGuess, n)
+	taken := make([]bool, n)
+	for c := range guesses {
+		guesses[c] = RoleGuess{Channel: c, Role: RoleUnknown}
+	}
+	// pick gives the untaken channel with the best score, and the best
+	// score among the others, for a confidence that falls when two
+	// channels look alike.
+	pick := func(score func(int) float64) (int, float64, float64) {
+		best, second, at := 0.0, 0.0, -1
+		for c := 0; c < n; c++ {
+			if taken[c] {
+				continue
+			}
+			s := score(c)
+			if s > best {
+				best, second, at = s, best, c
+			} else if s > second {
+				second = s
+			}
+		}
+		return at, best, second
+	}
+	confidence := func(best, second float64) float64 { return clamp01(best * (1 - 0.5*second/best)) }
+
+	if c, best, second := pick(func(c int) float64 {
+		return traits[c].pulseScore() * (1 - 0.5*math.Min(traits[c].edgeSpread, 1))
+	}); c >= 0 && best >= 0.3 {
+		guesses[c] = RoleGuess{c, RoleIndex, confidence(best, second)}
+		taken[c] = true
+	}
+	// Further pulse trains are step pulses.
+	for c := 0; c < n; c++ {
+		if !taken[c] && traits[c].pulseScore() >= 0.5 {
+			guesses[c] = RoleGuess{c, RoleSteps, 0.7 * traits[c].pulseScore()}
+			taken[c] = true
+		}
+	}
+	if c, best, second := pick(func(c int) float64 { return traits[c].smoothScore() }); c >= 0 && best >= 0.3 {
+		guesses[c] = RoleGuess{c, RolePosition, confidence(best, second)}
+		taken[c] = true
+	}
+	if c, best, second := pick(func(c int) float64 {
+		t := traits[c]
+		if t.constant {
+			return 0
+		}
+		return clamp01(t.roughness/0.1) * (1 - t.pulseScore())
+	}); c >= 0 && best > 0 {
+		guesses[c] = RoleGuess{c, RoleDetector, confidence(best, second)}
+		taken[c] = true
+	}
+	sort.Slice(guesses, func(i, j int) bool { return guesses[i].Channel < guesses[j].Channel })
+	return guesses
+}

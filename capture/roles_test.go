@@ -1,0 +1,66 @@
+package capture
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+// scannerLike builds three signals from closed forms: a 10 %-duty index
+// pulse train at the line rate, a slow position sine well below it, and a
+// detector made of a line-periodic bumpy profile plus white noise.
+func scannerLike(rateHz float64, seconds float64, seed uint64) (det, idx, pos []float32) {
+	n := int(rateHz * seconds)
+	rng := rand.New(rand.NewPCG(seed, 7))
+	lineHz := 88.0 // lines per second of a made-up bench wheel
+	det, idx, pos = make([]float32, n), make([]float32, n), make([]float32, n)
+	for i := range det {
+		t := float64(i) / rateHz
+		phase := math.Mod(t*lineHz, 1)
+		if phase < 0.1 {
+			idx[i] = 4.8
+		} else {
+			idx[i] = 0.1
+		}
+		pos[i] = float32(2 + 1.5*math.Sin(2*math.Pi*0.3*t))
+		det[i] = float32(0.4+0.3*math.Sin(2*math.Pi*7*phase)*math.Sin(2*math.Pi*2*t)) + float32(0.05*rng.NormFloat64())
+	}
+	return det, idx, pos
+}
+
+func TestGuessRoles(t *testing.T) {
+	det, idx, pos := scannerLike(48000, 2, 1)
+	flat := make([]float32, len(det))
+	for i := range flat {
+		flat[i] = 0.25
+	}
+	rec := &Recording{SampleRateHz: 48000, Channels: []Channel{
+		{Name: "a", Samples: pos}, {Name: "b", Samples: det}, {Name: "c", Samples: flat}, {Name: "d", Samples: idx},
+	}}
+	got := GuessRoles(rec)
+	want := []string{RolePosition, RoleDetector, RoleUnknown, RoleIndex}
+	for c, g := range got {
+		if g.Channel != c || g.Role != want[c] {
+			t.Errorf("channel %d guessed %s (%.2f), want %s", c, g.Role, g.Confidence, want[c])
+		}
+		if g.Role != RoleUnknown && g.Confidence < 0.5 {
+			t.Errorf("channel %d: %s with confidence %.2f, want at least 0.5 on clean signals", c, g.Role, g.Confidence)
+		}
+	}
+}
+
+// TestRoughnessClosedForm checks the roughness trait against its closed
+// form for a pure tone: RMS of the first difference over the RMS of the
+// tone is 2·sin(πf/fs).
+func TestRoughnessClosedForm(t *testing.T) {
+	const fs, f = 48000.0, 1000.0
+	s := make([]float32, 48000)
+	for i := range s {
+		s[i] = float32(math.Sin(2 * math.Pi * f * float64(i) / fs))
+	}
+	got := measureTraits(s).roughness
+	want := 2 * math.Sin(math.Pi*f/fs)
+	if math.Abs(got-want) > 1e-3 {
+		t.Fatalf("roughness %v, want %v", got, want)
+	}
+}
