@@ -33,19 +33,22 @@ func (f *Frame) At(col, row int) (float32, bool) {
 // Report is what a build found and resolved; its JSON keys are fixed by
 // DESIGN.md ("Build report").
 type Report struct {
-	Lines         int      `json:"lines"`
-	LinesRepaired int      `json:"lines_repaired"`
-	Revolutions   int      `json:"revolutions"`
-	RPMMean       float64  `json:"rpm_mean"`
-	RPMSpreadPct  float64  `json:"rpm_spread_pct"`
-	SweepMS       float64  `json:"sweep_ms"`
-	LineRateHz    float64  `json:"line_rate_hz"`
-	DelayDeg      float64  `json:"delay_deg"`
-	Threshold     float64  `json:"threshold"`
-	Strokes       int      `json:"strokes"`
-	Columns       int      `json:"columns"`
-	Rows          int      `json:"rows"`
+	Lines         int      `json:"lines"`          // lines placed
+	LinesRepaired int      `json:"lines_repaired"` // lines whose index edge was filled in
+	Revolutions   int      `json:"revolutions"`    // complete revolutions timed
+	RPMMean       float64  `json:"rpm_mean"`       // 60 / mean revolution period
+	RPMSpreadPct  float64  `json:"rpm_spread_pct"` // standard deviation of the per-revolution rev/min, % of the mean
+	SweepMS       float64  `json:"sweep_ms"`       // time the beam spends inside the field per line
+	LineRateHz    float64  `json:"line_rate_hz"`   // lines per second
+	DelayDeg      float64  `json:"delay_deg"`      // resolved sweep.delay_deg
+	Threshold     float64  `json:"threshold"`      // resolved timing.threshold
+	Strokes       int      `json:"strokes"`        // passes of the head found
+	Columns       int      `json:"columns"`        // of the first frame
+	Rows          int      `json:"rows"`           // of the first frame
 	PitchMM       float64  `json:"pitch_mm"`
-	Coverage      float64  `json:"coverage"`
-	Warnings      []string `json:"warnings"`
+	Coverage      float64  `json:"coverage"` // fraction of pixels with data, all frames
+	Warnings      []string `json:"warnings"` // plain sentences
+
+	PulsesMissing int `json:"pulses_missing"` // index pulses filled in
+	PulsesExtra   int `json:"pulses_extra"`   // spurious index pulses ignored
 }

@@ -1,5 +1,3 @@
-// Package recipe holds the reconstruction recipe: every parameter that turns a
-// capture into a frame, in the JSON format "spotloom-recipe/1" of DESIGN.md.
 package recipe
 
 import (

@@ -1,0 +1,25 @@
+package recon
+
+import (
+	"fmt"
+	"strings"
+
+	"spotloom/capture"
+)
+
+// guessChannel picks the channel for a role the recipe leaves null, from
+// capture.GuessRoles: the most confident channel given that role.
+func guessChannel(rec *capture.Recording, role string) (int, error) {
+	best, conf := -1, -1.0
+	var seen []string
+	for _, g := range capture.GuessRoles(rec) {
+		seen = append(seen, fmt.Sprintf("%d=%s", g.Channel, g.Role))
+		if g.Role == role && g.Confidence > conf {
+			best, conf = g.Channel, g.Confidence
+		}
+	}
+	if best < 0 {
+		return -1, fmt.Errorf("channels.%s is null and no channel looks like a %s channel (guessed roles: %s): name it in the recipe", role, role, strings.Join(seen, ", "))
+	}
+	return best, nil
+}

@@ -1,0 +1,354 @@
+package recon
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"runtime"
+	"slices"
+	"sync"
+)
+
+// minCoverWeight is the accumulated kernel weight a pixel needs to count
+// as covered: a twentieth of one sample landing on it squarely, so a
+// sample almost a pixel away does not claim a pixel it barely touches.
+const minCoverWeight = 0.05
+
+// maxPixels bounds the size of one frame.
+const maxPixels = 64 << 20
+
+// workers is the number of goroutines the parallel stages use.
+func workers() int { return max(1, runtime.GOMAXPROCS(0)) }
+
+// baselineLines sets each line's baseline from the beam-off intervals
+// before and after it: the mean of the middle 80 % of each interval, as a
+// straight line between the interval centres, so slow drift and the droop
+// of an AC-coupled input are followed across the line.
+func baselineLines(ctx context.Context, det []float32, lines []placedLine) error {
+	n := len(det)
+	if len(lines) == 0 {
+		return nil
+	}
+	// Typical beam-off length, for the intervals before the first line
+	// and after the last.
+	var gaps []float64
+	for i := 1; i < len(lines); i++ {
+		if g := lines[i].first - lines[i-1].last; g > 0 {
+			gaps = append(gaps, float64(g))
+		}
+	}
+	typ := 0
+	if len(gaps) > 0 {
+		typ = int(median(gaps))
+	}
+	type interval struct{ a, b int }
+	iv := make([]interval, len(lines)+1)
+	for i := range iv {
+		var a, b int
+		switch {
+		case i == 0:
+			a, b = lines[0].first-typ, lines[0].first
+		case i == len(lines):
+			a, b = lines[i-1].last, lines[i-1].last+typ
+		default:
+			a, b = lines[i-1].last, lines[i].first
+		}
+		a, b = max(a, 0), min(b, n)
+		m := (b - a) / 10
+		iv[i] = interval{a + m, b - m}
+	}
+	means := make([]float64, len(iv))
+	valid := make([]bool, len(iv))
+	var wg sync.WaitGroup
+	w := workers()
+	chunk := (len(iv) + w - 1) / w
+	for start := 0; start < len(iv); start += chunk {
+		wg.Add(1)
+		go func(start, end int) {
+			defer wg.Done()
+			for i := start; i < end; i++ {
+				if i%512 == 0 && ctx.Err() != nil {
+					return
+				}
+				a, b := iv[i].a, iv[i].b
+				if b <= a {
+					continue
+				}
+				s := float32(0)
+				acc := 0.0
+				for k, v := range det[a:b] {
+					s += v
+					if k&1023 == 1023 {
+						acc += float64(s)
+						s = 0
+					}
+				}
+				means[i] = (acc + float64(s)) / float64(b-a)
+				valid[i] = true
+			}
+		}(start, min(start+chunk, len(iv)))
+	}
+	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return err
+	}
+	// Fill empty intervals from their neighbours.
+	last := math.NaN()
+	for i := range means {
+		if valid[i] {
+			last = means[i]
+		} else if !math.IsNaN(last) {
+			means[i] = last
+			valid[i] = true
+		}
+	}
+	for i := len(means) - 1; i >= 0; i-- {
+		if valid[i] {
+			last = means[i]
+		} else {
+			means[i] = last
+		}
+	}
+	for i := range lines {
+		l := &lines[i]
+		c0 := float64(iv[i].a+iv[i].b) / 2
+		c1 := float64(iv[i+1].a+iv[i+1].b) / 2
+		slope := 0.0
+		if c1 > c0 {
+			slope = (means[i+1] - means[i]) / (c1 - c0)
+		}
+		l.base0 = means[i] + slope*(float64(l.first)-c0)
+		l.baseSlope = slope
+		l.baseFirst, l.baseLast = iv[i].a, iv[i].b
+	}
+	return nil
+}
+
+// gridStats is what gridding found beside the pixels.
+type gridStats struct {
+	clippedLines int
+	gapRows      int // rows inside the frame left without data after filling
+	covered      int
+}
+
+// gridInput is everything one frame is made from.
+type gridInput struct {
+	det          []float32
+	lines        []placedLine // the lines of this frame
+	sweep        *sweepMap
+	rows         *rowsResult
+	pitch        float64
+	invert       bool
+	fill         int
+	clipHi       float32
+	clipLo       float32 // -Inf when the low end cannot clip
+	yTop, yBotom float64 // frame extent in y, mm
+}
+
+// gridFrame accumulates every beam-on sample of the lines into the frame
+// with a bilinear kernel, divides by the weight, marks coverage and fills
+// small gaps.
+func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, error) {
+	var st gridStats
+	p := in.pitch
+	x0 := in.sweep.xMin
+	cols := int(math.Floor((in.sweep.xMax-x0)/p+1e-9)) + 1
+	rows := int(math.Floor((in.yTop-in.yBotom)/p+1e-9)) + 1
+	if float64(cols)*float64(rows) > maxPixels {
+		return nil, st, nil, fmt.Errorf("the frame would be %d × %d pixels at image.pitch_mm %g: raise pitch_mm", cols, rows, p)
+	}
+	npx := cols * rows
+	w := min(workers(), max(1, len(in.lines)/64))
+	sums := make([][]float64, w)
+	weights := make([][]float64, w)
+	clipped := make([]bool, len(in.lines))
+	var wg sync.WaitGroup
+	chunk := (len(in.lines) + w - 1) / w
+	for k := 0; k < w; k++ {
+		sums[k] = make([]float64, npx)
+		weights[k] = make([]float64, npx)
+		a, b := k*chunk, min((k+1)*chunk, len(in.lines))
+		wg.Add(1)
+		go func(sum, wt []float64, a, b int) {
+			defer wg.Done()
+			for i := a; i < b; i++ {
+				if (i-a)%64 == 0 && ctx.Err() != nil {
+					return
+				}
+				clipped[i] = splatLine(in, &in.lines[i], sum, wt, cols, rows, x0)
+			}
+		}(sums[k], weights[k], a, b)
+	}
+	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return nil, st, nil, err
+	}
+	sum, wt := sums[0], weights[0]
+	for k := 1; k < w; k++ {
+		for i := range sum {
+			sum[i] += sums[k][i]
+			wt[i] += weights[k][i]
+		}
+	}
+	f := &Frame{
+		Width: cols, Height: rows,
+		Pix:      make([]float32, npx),
+		Covered:  make([]bool, npx),
+		PitchXMM: p, PitchYMM: p,
+		OriginXMM: x0, OriginYMM: in.yTop,
+	}
+	for i := range sum {
+		if wt[i] >= minCoverWeight {
+			f.Pix[i] = float32(sum[i] / wt[i])
+			f.Covered[i] = true
+		}
+	}
+	if in.fill > 0 {
+		fillGaps(f, in.fill)
+	}
+	// Rows with gaps: inside the covered span of rows, under half the
+	// columns that a typical row covers.
+	perRow := make([]int, rows)
+	for r := 0; r < rows; r++ {
+		for c := 0; c < cols; c++ {
+			if f.Covered[r*cols+c] {
+				perRow[r]++
+				st.covered++
+			}
+		}
+	}
+	typical := medianInts(perRow)
+	for r := 0; r < rows; r++ {
+		if float64(perRow[r]) < 0.5*float64(typical) {
+			st.gapRows++
+		}
+	}
+	for _, c := range clipped {
+		if c {
+			st.clippedLines++
+		}
+	}
+	return f, st, clipped, nil
+}
+
+func medianInts(v []int) int {
+	s := slices.Clone(v)
+	slices.Sort(s)
+	if len(s) == 0 {
+		return 0
+	}
+	return s[len(s)/2]
+}
+
+// splatLine adds one line's samples to sum/wt and reports whether the
+// detector sat at its extreme for three samples in a row (clipping).
+func splatLine(in gridInput, l *placedLine, sum, wt []float64, cols, rows int, x0 float64) bool {
+	inv := 1 / in.pitch
+	first, last := l.first, l.last
+	y0 := in.rows.at(float64(first))
+	y1 := in.rows.at(float64(last - 1))
+	span := float64(max(last-1-first, 1))
+	v0 := (in.yTop - y0) * inv
+	dv := -(y1 - y0) / span * inv
+	sign := 1.0
+	if in.invert {
+		sign = -1
+	}
+	m := in.sweep
+	run, clipped := 0, false
+	det := in.det[first:last]
+	for k, raw := range det {
+		if raw >= in.clipHi || raw <= in.clipLo {
+			run++
+			if run >= 3 {
+				clipped = true
+			}
+		} else {
+			run = 0
+		}
+		fk := float64(k)
+		value := sign * (float64(raw) - (l.base0 + l.baseSlope*fk))
+		// x from the law table (inlined sweepMap.x).
+		pu := (l.u0 + l.du*fk - m.uMin) * m.scale
+		var x float64
+		if pu <= 0 {
+			x = m.lut[0]
+		} else if iu := int(pu); iu >= lutSize-1 {
+			x = m.lut[lutSize-1]
+		} else {
+			fu := pu - float64(iu)
+			x = m.lut[iu] + fu*(m.lut[iu+1]-m.lut[iu])
+		}
+		cu := (x - x0) * inv
+		cv := v0 + dv*fk
+		if cu < 0 || cv < 0 {
+			if cu <= -1 || cv <= -1 {
+				continue
+			}
+		}
+		i := int(math.Floor(cu))
+		j := int(math.Floor(cv))
+		if i >= cols || j >= rows {
+			continue
+		}
+		fx := cu - float64(i)
+		fy := cv - float64(j)
+		w00 := (1 - fx) * (1 - fy)
+		w10 := fx * (1 - fy)
+		w01 := (1 - fx) * fy
+		w11 := fx * fy
+		base := j*cols + i
+		if j >= 0 {
+			if i >= 0 {
+				sum[base] += w00 * value
+				wt[base] += w00
+			}
+			if i+1 < cols {
+				sum[base+1] += w10 * value
+				wt[base+1] += w10
+			}
+		}
+		if j+1 < rows {
+			if i >= 0 {
+				sum[base+cols] += w01 * value
+				wt[base+cols] += w01
+			}
+			if i+1 < cols {
+				sum[base+cols+1] += w11 * value
+				wt[base+cols+1] += w11
+			}
+		}
+	}
+	return clipped
+}
+
+// fillGaps fills runs of at most maxRun uncovered pixels that have covered
+// pixels on both sides, first down each column, then along each row, by
+// linear interpolation between the two ends. Wider holes stay no-data.
+func fillGaps(f *Frame, maxRun int) {
+	fillRuns := func(n, stride, count, step int) {
+		for line := 0; line < count; line++ {
+			base := line * step
+			prev := -1
+			for k := 0; k < n; k++ {
+				i := base + k*stride
+				if !f.Covered[i] {
+					continue
+				}
+				if prev >= 0 && k-prev > 1 && k-prev-1 <= maxRun {
+					a := f.Pix[base+prev*stride]
+					b := f.Pix[i]
+					for q := prev + 1; q < k; q++ {
+						t := float32(q-prev) / float32(k-prev)
+						j := base + q*stride
+						f.Pix[j] = a + t*(b-a)
+						f.Covered[j] = true
+					}
+				}
+				prev = k
+			}
+		}
+	}
+	fillRuns(f.Height, f.Width, f.Width, 1) // down each column
+	fillRuns(f.Width, 1, f.Height, f.Width) // along each row
+}

@@ -1,0 +1,459 @@
+package recon
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"math/cmplx"
+	"slices"
+
+	"gonum.org/v1/gonum/dsp/fourier"
+	"gonum.org/v1/gonum/mat"
+)
+
+// SavitzkyGolay returns the weights of a Savitzky–Golay filter (Savitzky &
+// Golay 1964, "Smoothing and differentiation of data by simplified least
+// squares procedures", Anal. Chem. 36(8)): the least-squares polynomial of
+// the given order through the 2·half+1 points around a sample, evaluated at
+// offset at (0 for the centre; ±half at the ends of a series, where no
+// centred window fits). Weight i applies to the sample at offset i−half.
+func SavitzkyGolay(half, order int, at float64) ([]float64, error) {
+	n := 2*half + 1
+	if half < 0 || order < 0 || order >= n {
+		return nil, fmt.Errorf("Savitzky-Golay: order %d needs more than %d points", order, n)
+	}
+	a := mat.NewDense(n, order+1, nil)
+	for i := 0; i < n; i++ {
+		p := 1.0
+		for j := 0; j <= order; j++ {
+			a.Set(i, j, p)
+			p *= float64(i - half)
+		}
+	}
+	// weights = eᵀ (AᵀA)⁻¹ Aᵀ with e = [1, at, at², …].
+	var ata mat.Dense
+	ata.Mul(a.T(), a)
+	e := mat.NewVecDense(order+1, nil)
+	p := 1.0
+	for j := 0; j <= order; j++ {
+		e.SetVec(j, p)
+		p *= at
+	}
+	var c mat.VecDense
+	if err := c.SolveVec(&ata, e); err != nil {
+		return nil, fmt.Errorf("Savitzky-Golay: %v", err)
+	}
+	var w mat.VecDense
+	w.MulVec(a, &c)
+	out := make([]float64, n)
+	for i := range out {
+		out[i] = w.AtVec(i)
+	}
+	return out, nil
+}
+
+// smoothSG applies a quadratic Savitzky–Golay filter of 2·half+1 points,
+// with the end points taken from the polynomial of the first and last
+// windows, so a motion edge keeps its shape better than under a moving
+// average.
+func smoothSG(y []float64, half int) []float64 {
+	n := len(y)
+	if half < 1 || n < 2*half+1 {
+		return slices.Clone(y)
+	}
+	out := make([]float64, n)
+	centre, _ := SavitzkyGolay(half, 2, 0)
+	for i := half; i < n-half; i++ {
+		s := 0.0
+		for k, w := range centre {
+			s += w * y[i-half+k]
+		}
+		out[i] = s
+	}
+	for i := 0; i < half; i++ {
+		w, _ := SavitzkyGolay(half, 2, float64(i-half))
+		s, t := 0.0, 0.0
+		for k := range w {
+			s += w[k] * y[k]
+			t += w[2*half-k] * y[n-1-k]
+		}
+		out[i], out[n-1-i] = s, t
+	}
+	return out
+}
+
+// calibrate maps a level to mm through the points, piecewise linear,
+// extended beyond the end points along the end segments.
+type calibration struct{ level, mm []float64 }
+
+func newCalibration(points [][2]float64) (calibration, error) {
+	if len(points) < 2 {
+		return calibration{}, fmt.Errorf("rows.calibration has %d points: two or more [level, mm] points are needed", len(points))
+	}
+	p := slices.Clone(points)
+	slices.SortFunc(p, func(a, b [2]float64) int {
+		switch {
+		case a[0] < b[0]:
+			return -1
+		case a[0] > b[0]:
+			return 1
+		}
+		return 0
+	})
+	var c calibration
+	for i, q := range p {
+		if i > 0 && q[0] == p[i-1][0] {
+			return calibration{}, fmt.Errorf("rows.calibration has two points at level %g", q[0])
+		}
+		c.level = append(c.level, q[0])
+		c.mm = append(c.mm, q[1])
+	}
+	return c, nil
+}
+
+func (c calibration) at(v float64) float64 {
+	n := len(c.level)
+	i, _ := slices.BinarySearch(c.level, v)
+	i = min(max(i, 1), n-1)
+	x0, x1 := c.level[i-1], c.level[i]
+	return c.mm[i-1] + (v-x0)*(c.mm[i]-c.mm[i-1])/(x1-x0)
+}
+
+// stroke is one pass of the head between reversals, in samples.
+type stroke struct{ first, last int }
+
+// rowsResult is the cross-scan position at evenly spaced block centres:
+// block j covers samples [j·blockLen, (j+1)·blockLen) and its value is the
+// position at sample j·blockLen + blockLen/2.
+type rowsResult struct {
+	blockLen int
+	y        []float64 // mm
+	strokes  []stroke
+	carrier  float64 // Hz, for source tone
+	levelMin float64 // range of the smoothed level (volts or full scale)
+	levelMax float64
+	warnings []string
+}
+
+// at interpolates y at a (fractional) sample position.
+func (r *rowsResult) at(s float64) float64 {
+	p := (s-float64(r.blockLen)/2)/float64(r.blockLen) + 0
+	if p <= 0 {
+		return r.y[0]
+	}
+	i := int(p)
+	if i >= len(r.y)-1 {
+		return r.y[len(r.y)-1]
+	}
+	f := p - float64(i)
+	return r.y[i] + f*(r.y[i+1]-r.y[i])
+}
+
+// strokeOf returns the stroke that holds sample s.
+func (r *rowsResult) strokeOf(s int) int {
+	for i, st := range r.strokes {
+		if s < st.last {
+			return i
+		}
+	}
+	return len(r.strokes) - 1
+}
+
+type rowsParams struct {
+	source    string
+	channel   int // position or steps channel, -1 for even
+	calib     [][2]float64
+	carrierHz *float64
+	mmPerStep *float64
+	speedMMS  *float64
+}
+
+// smoothMS is the span of the position smoothing window.
+const smoothMS = 10.0
+
+// findRows runs the rows stage for every sample of the capture.
+func findRows(ctx context.Context, rec rowsInput, p rowsParams) (*rowsResult, error) {
+	res := &rowsResult{}
+	n := rec.n
+	rate := rec.rateHz
+	res.blockLen = max(1, int(math.Round(rate*0.25e-3)))
+	var levels []float64 // raw level per block, before smoothing
+	switch p.source {
+	case "even":
+		if p.speedMMS == nil {
+			return nil, fmt.Errorf("rows.speed_mm_s is null: source even needs the head speed in mm/s")
+		}
+		nb := (n + res.blockLen - 1) / res.blockLen
+		res.y = make([]float64, nb)
+		for j := range res.y {
+			res.y[j] = *p.speedMMS * (float64(j*res.blockLen) + float64(res.blockLen)/2) / rate
+		}
+		res.strokes = []stroke{{0, n}}
+		return res, nil
+	case "steps":
+		if p.mmPerStep == nil {
+			return nil, fmt.Errorf("rows.mm_per_step is null: source steps needs the head travel per step pulse in mm")
+		}
+		x := rec.channel
+		o := Otsu(x)
+		if o.Separability < minSeparability {
+			return nil, fmt.Errorf("steps channel %s stays between %s and %s: no step pulses; check channels.steps", rec.name, level(o.Min, rec.unit), level(o.Max, rec.unit))
+		}
+		edges, err := rawEdges(ctx, x, o.Threshold, 0.2*(o.HighMean-o.LowMean), true)
+		if err != nil {
+			return nil, err
+		}
+		if len(edges) == 0 {
+			return nil, fmt.Errorf("steps channel %s has no step pulses crossing %s", rec.name, level(o.Threshold, rec.unit))
+		}
+		nb := (n + res.blockLen - 1) / res.blockLen
+		res.y = make([]float64, nb)
+		k := 0
+		for j := range res.y {
+			c := float64(j*res.blockLen) + float64(res.blockLen)/2
+			for k < len(edges) && edges[k] <= c {
+				k++
+			}
+			// k edges at or before c; between edges the head moves evenly.
+			// Edge k−1 is step k; between edges the head moves evenly.
+			count := float64(k)
+			if k > 0 && k < len(edges) {
+				count += (c - edges[k-1]) / (edges[k] - edges[k-1])
+			}
+			res.y[j] = *p.mmPerStep * count
+		}
+		res.levelMin, res.levelMax = 0, float64(len(edges))
+		res.strokes = []stroke{{0, n}}
+		return res, nil
+	case "position":
+		levels = blockMeans(rec.channel, res.blockLen)
+	case "tone":
+		var err error
+		levels, res.blockLen, res.carrier, err = toneAmplitude(rec, p.carrierHz)
+		if err != nil {
+			return nil, err
+		}
+	default:
+		return nil, fmt.Errorf("rows.source %q: allowed values are position, tone, steps, even", p.source)
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	cal, err := newCalibration(p.calib)
+	if err != nil {
+		return nil, err
+	}
+	blockS := float64(res.blockLen) / rate
+	half := int(math.Round(smoothMS / 2e3 / blockS))
+	smooth := smoothSG(levels, half)
+	res.levelMin, res.levelMax = math.Inf(1), math.Inf(-1)
+	res.y = make([]float64, len(smooth))
+	for j, v := range smooth {
+		res.levelMin = math.Min(res.levelMin, v)
+		res.levelMax = math.Max(res.levelMax, v)
+		res.y[j] = cal.at(v)
+	}
+	yMin, yMax := minMax(res.y)
+	if yMax-yMin < 0.5 {
+		return nil, fmt.Errorf("%s channel %s stays between %s and %s (%.2g mm through rows.calibration): the head did not move; check channels.position and rows.calibration, or use rows.source even with rows.speed_mm_s",
+			p.source, rec.name, level(res.levelMin, rec.unit), level(res.levelMax, rec.unit), yMax-yMin)
+	}
+	// Noise of the position after smoothing, for the reversal hysteresis.
+	resid := make([]float64, len(levels))
+	for j := range levels {
+		resid[j] = math.Abs(cal.at(levels[j]) - res.y[j])
+	}
+	noise := 1.4826 * median(resid)
+	res.strokes = findStrokes(res.y, res.blockLen, n, math.Max(0.02*(yMax-yMin), 6*noise))
+	return res, nil
+}
+
+// rowsInput is the channel the rows stage reads.
+type rowsInput struct {
+	channel    []float32
+	n          int
+	rateHz     float64
+	name, unit string
+}
+
+func minMax(v []float64) (float64, float64) {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, x := range v {
+		lo = math.Min(lo, x)
+		hi = math.Max(hi, x)
+	}
+	return lo, hi
+}
+
+func blockMeans(x []float32, blockLen int) []float64 {
+	nb := (len(x) + blockLen - 1) / blockLen
+	out := make([]float64, nb)
+	for j := range out {
+		a, b := j*blockLen, min((j+1)*blockLen, len(x))
+		s := 0.0
+		for _, v := range x[a:b] {
+			s += float64(v)
+		}
+		out[j] = s / float64(b-a)
+	}
+	return out
+}
+
+// findStrokes splits the capture at direction reversals: a reversal is a
+// turning point after which the position has gone back by more than hyst.
+func findStrokes(y []float64, blockLen, n int, hyst float64) []stroke {
+	var turns []int // block indices
+	dir := 0
+	hi, lo := y[0], y[0]
+	hiIdx, loIdx := 0, 0
+	for j, v := range y {
+		switch dir {
+		case 0:
+			if v > hi {
+				hi, hiIdx = v, j
+			}
+			if v < lo {
+				lo, loIdx = v, j
+			}
+			if v-lo > hyst {
+				dir, hi, hiIdx = 1, v, j
+			} else if hi-v > hyst {
+				dir, lo, loIdx = -1, v, j
+			}
+		case 1:
+			if v > hi {
+				hi, hiIdx = v, j
+			} else if hi-v > hyst {
+				turns = append(turns, hiIdx)
+				dir, lo, loIdx = -1, v, j
+			}
+		case -1:
+			if v < lo {
+				lo, loIdx = v, j
+			} else if v-lo > hyst {
+				turns = append(turns, loIdx)
+				dir, hi, hiIdx = 1, v, j
+			}
+		}
+	}
+	var out []stroke
+	start := 0
+	for _, t := range turns {
+		s := t*blockLen + blockLen/2
+		out = append(out, stroke{start, s})
+		start = s
+	}
+	return append(out, stroke{start, n})
+}
+
+// toneAmplitude demodulates the peak amplitude of the carrier on the
+// position channel: the samples are mixed with the carrier and summed under
+// a Hann window two blocks long, one value per block. Each block spans at
+// least two carrier periods and 1 ms, so the window covers at least four
+// periods and the 2·f and DC leakage of the mix falls well below the
+// amplitude.
+func toneAmplitude(rec rowsInput, carrierHz *float64) ([]float64, int, float64, error) {
+	x := rec.channel
+	rate := rec.rateHz
+	var fc float64
+	if carrierHz != nil {
+		fc = *carrierHz
+	} else {
+		var err error
+		fc, err = strongestTone(x, rate)
+		if err != nil {
+			return nil, 0, 0, fmt.Errorf("position channel %s: %v", rec.name, err)
+		}
+	}
+	if fc <= 0 || fc >= rate/2 {
+		return nil, 0, 0, fmt.Errorf("rows.carrier_hz %g Hz is not between 0 and half the sample rate (%g Hz)", fc, rate/2)
+	}
+	blockLen := int(math.Ceil(math.Max(2*rate/fc, rate*1e-3)))
+	win := 2 * blockLen
+	hann := make([]float64, win)
+	for i := range hann {
+		hann[i] = 0.5 - 0.5*math.Cos(2*math.Pi*(float64(i)+0.5)/float64(win))
+	}
+	nb := (len(x) + blockLen - 1) / blockLen
+	out := make([]float64, nb)
+	w := 2 * math.Pi * fc / rate
+	rot := complex(math.Cos(w), -math.Sin(w))
+	for j := range out {
+		c := j*blockLen + blockLen/2
+		a := max(c-blockLen, 0)
+		b := min(c+blockLen, len(x))
+		// The mixing phasor starts exact at each window and advances by
+		// multiplication, which stays accurate over a few hundred samples.
+		z := complex(math.Cos(w*float64(a)), -math.Sin(w*float64(a)))
+		// The window's own mean is removed (Σ(x−m)hz = Σxhz − mΣhz), so a
+		// DC offset on the channel does not leak into the amplitude.
+		var acc, hz complex128
+		ws, xs := 0.0, 0.0
+		for s := a; s < b; s++ {
+			h := hann[s-(c-blockLen)]
+			v := float64(x[s]) * h
+			acc += complex(v, 0) * z
+			hz += complex(h, 0) * z
+			ws += h
+			xs += v
+			z *= rot
+		}
+		if ws > 0 {
+			out[j] = 2 * cmplx.Abs(acc-complex(xs/ws, 0)*hz) / ws
+		}
+	}
+	return out, blockLen, fc, nil
+}
+
+// strongestTone returns the frequency of the largest peak of the spectrum
+// of x (DC excluded), from averaged Hann-windowed FFTs of 65536 samples,
+// refined by fitting a parabola through the log magnitudes around the peak.
+func strongestTone(x []float32, rate float64) (float64, error) {
+	nfft := 1 << 16
+	for nfft > len(x) && nfft > 256 {
+		nfft >>= 1
+	}
+	if len(x) < nfft {
+		return 0, fmt.Errorf("too short (%d samples) to find a carrier tone; set rows.carrier_hz", len(x))
+	}
+	fft := fourier.NewFFT(nfft)
+	power := make([]float64, nfft/2+1)
+	seq := make([]float64, nfft)
+	var coef []complex128
+	segments := min(8, len(x)/nfft)
+	step := (len(x) - nfft) / max(segments-1, 1)
+	for sgm := 0; sgm < segments; sgm++ {
+		a := sgm * step
+		m := 0.0
+		for i := 0; i < nfft; i++ {
+			m += float64(x[a+i])
+		}
+		m /= float64(nfft)
+		for i := 0; i < nfft; i++ {
+			seq[i] = (float64(x[a+i]) - m) * (0.5 - 0.5*math.Cos(2*math.Pi*float64(i)/float64(nfft)))
+		}
+		coef = fft.Coefficients(coef, seq)
+		for k, c := range coef {
+			power[k] += real(c)*real(c) + imag(c)*imag(c)
+		}
+	}
+	best := 2
+	for k := 2; k < len(power)-1; k++ {
+		if power[k] > power[best] {
+			best = k
+		}
+	}
+	total := 0.0
+	for _, p := range power[2:] {
+		total += p
+	}
+	if total == 0 || power[best] < 0.05*total {
+		return 0, fmt.Errorf("no clear carrier tone (the strongest line holds %.1f %% of the power); set rows.carrier_hz or use rows.source position", 100*power[best]/math.Max(total, 1e-300))
+	}
+	a, b, c := math.Log(power[best-1]+1e-300), math.Log(power[best]+1e-300), math.Log(power[best+1]+1e-300)
+	d := 0.0
+	if den := a - 2*b + c; den != 0 {
+		d = 0.5 * (a - c) / den
+	}
+	return (float64(best) + d) * rate / float64(nfft), nil
+}

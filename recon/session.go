@@ -1,0 +1,619 @@
+package recon
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"math"
+	"slices"
+	"sync"
+
+	"spotloom/capture"
+	"spotloom/recon/recipe"
+)
+
+// Progress receives the name of the running stage and how far it is, 0..1.
+// It may be nil.
+type Progress func(stage string, fraction float64)
+
+func (p Progress) report(stage string, fraction float64) {
+	if p != nil {
+		p(stage, fraction)
+	}
+}
+
+// Line is one sweep of the beam as the build found it.
+type Line struct {
+	Number, Aperture, Stroke int
+	// EdgeS is the time of the line's index edge (or the start of its
+	// share of the revolution with one pulse per revolution), seconds.
+	EdgeS float64
+	// Repaired is true when the edge was missing and filled in.
+	Repaired bool
+	// FieldStartS and FieldEndS bound the time the beam is inside the field.
+	FieldStartS, FieldEndS float64
+	// BaselineStartS and BaselineEndS bound the beam-off interval before
+	// the line used for its baseline.
+	BaselineStartS, BaselineEndS float64
+	// YMM is the cross-scan position at mid-field.
+	YMM float64
+}
+
+// Result is the outcome of a build.
+type Result struct {
+	Frames []*Frame      // one per stroke with rows.strokes split, else one
+	Report Report        // the whole build; each frame carries its own copy
+	Recipe recipe.Recipe // every automatic value resolved
+	Lines  []Line        // every line found, in time order
+}
+
+// Session holds one recording and the cached results of each stage, so a
+// changed parameter re-runs only the stages that depend on it: timing
+// (index channel and timing keys), rows (position keys), delay estimate,
+// placement (sweep keys and baseline) and gridding (image and signal keys).
+// One Build or Resolve runs at a time; concurrent calls wait.
+type Session struct {
+	rec *capture.Recording
+	mu  sync.Mutex
+
+	timingKey string
+	timing    *timingResult
+	rowsKey   string
+	rows      *rowsResult
+	delayKey  string
+	delay     float64
+	delayWarn []string
+	sineKey   string
+	sineDelay float64
+	placeKey  string
+	place     *placement
+	gridKey   string
+	grid      *Result
+	ranges    map[int][2]float32
+}
+
+// NewSession starts a session on a recording.
+func NewSession(rec *capture.Recording) *Session {
+	return &Session{rec: rec, ranges: map[int][2]float32{}}
+}
+
+// Recording returns the session's recording.
+func (s *Session) Recording() *capture.Recording { return s.rec }
+
+// channels is the resolved channel numbers (-1 when unused).
+type channels struct{ detector, index, position, steps int }
+
+func (s *Session) lookup(key string, ref recipe.ChannelRef) (int, error) {
+	i, err := s.rec.Lookup(string(ref))
+	if err != nil {
+		return -1, fmt.Errorf("channels.%s: %v", key, err)
+	}
+	return i, nil
+}
+
+// resolveChannels fills automatic channel roles and checks the named ones.
+func (s *Session) resolveChannels(r *recipe.Recipe) (channels, error) {
+	c := channels{-1, -1, -1, -1}
+	need := map[string]bool{"detector": true, "index": true}
+	switch r.Rows.Source {
+	case "position", "tone":
+		need["position"] = true
+	case "steps":
+		need["steps"] = true
+	}
+	refs := map[string]*recipe.ChannelRef{
+		"detector": &r.Channels.Detector, "index": &r.Channels.Index,
+		"position": &r.Channels.Position, "steps": &r.Channels.Steps,
+	}
+	out := map[string]*int{"detector": &c.detector, "index": &c.index, "position": &c.position, "steps": &c.steps}
+	for _, role := range []string{"detector", "index", "position", "steps"} {
+		ref := refs[role]
+		if !ref.IsSet() {
+			if !need[role] {
+				continue
+			}
+			g, err := guessChannel(s.rec, role)
+			if err != nil {
+				return c, err
+			}
+			*ref = recipe.ChannelRef(fmt.Sprint(g))
+		}
+		i, err := s.lookup(role, *ref)
+		if err != nil {
+			return c, err
+		}
+		*out[role] = i
+	}
+	return c, nil
+}
+
+func key(v any) string {
+	b, _ := json.Marshal(v)
+	return string(b)
+}
+
+// resolved carries everything the later stages need.
+type resolved struct {
+	r  recipe.Recipe
+	ch channels
+}
+
+// Resolve returns a copy of r with every automatic value filled in from
+// the recording: channels, threshold, hysteresis, delay, sine period,
+// carrier and pitch. It runs (and caches) the timing and rows stages.
+func (s *Session) Resolve(ctx context.Context, r recipe.Recipe) (recipe.Recipe, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	res, _, err := s.resolve(ctx, r, nil)
+	if err != nil {
+		return recipe.Recipe{}, err
+	}
+	return res.r, nil
+}
+
+func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progress) (*resolved, []string, error) {
+	if err := s.rec.Validate(); err != nil {
+		return nil, nil, err
+	}
+	r := in.Clone()
+	if r.Format == "" {
+		r.Format = recipe.RecipeFormat
+	}
+	if err := r.Validate(); err != nil {
+		return nil, nil, err
+	}
+	ch, err := s.resolveChannels(&r)
+	if err != nil {
+		return nil, nil, err
+	}
+	var warns []string
+	progress.report("timing", 0)
+	t, err := s.timingStage(ctx, r, ch)
+	if err != nil {
+		return nil, nil, err
+	}
+	warns = append(warns, t.warnings...)
+	r.Timing.Threshold = recipe.Float(t.threshold)
+	r.Timing.Hysteresis = recipe.Float(t.hysteresis)
+	progress.report("timing", 1)
+	if r.Sweep.Law == "sine" && r.Sweep.SinePeriodS == nil {
+		periods := make([]float64, len(t.lines))
+		for i, l := range t.lines {
+			periods[i] = l.period
+		}
+		r.Sweep.SinePeriodS = recipe.Float(median(periods) / s.rec.SampleRateHz)
+	}
+	progress.report("rows", 0)
+	rows, err := s.rowsStage(ctx, r, ch)
+	if err != nil {
+		return nil, nil, err
+	}
+	warns = append(warns, rows.warnings...)
+	if r.Rows.Source == "tone" && r.Rows.CarrierHz == nil {
+		r.Rows.CarrierHz = recipe.Float(rows.carrier)
+	}
+	progress.report("rows", 1)
+	if r.Sweep.DelayDeg == nil {
+		progress.report("delay", 0)
+		d, w, err := s.delayStage(ctx, r, ch, t)
+		if err != nil {
+			return nil, nil, err
+		}
+		warns = append(warns, w...)
+		r.Sweep.DelayDeg = recipe.Float(d)
+		progress.report("delay", 1)
+	}
+	if r.Image.PitchMM == 0 {
+		r.Image.PitchMM = autoPitch(t, rows, r.Sweep, s.rec.SampleRateHz)
+	}
+	return &resolved{r: r, ch: ch}, warns, nil
+}
+
+func (s *Session) timingStage(ctx context.Context, r recipe.Recipe, ch channels) (*timingResult, error) {
+	p := timingParams{
+		channel:      ch.index,
+		rising:       r.Timing.Edge != "falling",
+		threshold:    r.Timing.Threshold,
+		hysteresis:   r.Timing.Hysteresis,
+		pulsesPerRev: r.Timing.PulsesPerRev,
+		apertures:    r.Sweep.Apertures,
+		sine:         r.Sweep.Law == "sine",
+	}
+	k := key(p)
+	if s.timing != nil && s.timingKey == k {
+		return s.timing, nil
+	}
+	c := s.rec.Channels[ch.index]
+	t, err := findTiming(ctx, c.Samples, s.rec.SampleRateHz, fmt.Sprintf("%d (%s)", ch.index, c.Name), unitOf(c), p)
+	if err != nil {
+		return nil, err
+	}
+	// Automatic values resolved to the same numbers give the same key.
+	s.timing, s.timingKey = t, k
+	return t, nil
+}
+
+func unitOf(c capture.Channel) string {
+	if c.Unit == "" {
+		return capture.UnitVolt
+	}
+	return c.Unit
+}
+
+func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (*rowsResult, error) {
+	p := rowsParams{
+		source: r.Rows.Source, channel: -1, calib: r.Rows.Calibration,
+		carrierHz: r.Rows.CarrierHz, mmPerStep: r.Rows.MMPerStep, speedMMS: r.Rows.SpeedMMS,
+	}
+	switch p.source {
+	case "position", "tone":
+		p.channel = ch.position
+	case "steps":
+		p.channel = ch.steps
+	}
+	k := key(p)
+	if s.rows != nil && s.rowsKey == k {
+		return s.rows, nil
+	}
+	in := rowsInput{n: s.rec.Frames(), rateHz: s.rec.SampleRateHz}
+	if p.channel >= 0 {
+		c := s.rec.Channels[p.channel]
+		in.channel, in.name, in.unit = c.Samples, fmt.Sprintf("%d (%s)", p.channel, c.Name), unitOf(c)
+	}
+	rows, err := findRows(ctx, in, p)
+	if err != nil {
+		return nil, err
+	}
+	s.rows, s.rowsKey = rows, k
+	return rows, nil
+}
+
+func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, t *timingResult) (float64, []string, error) {
+	sw := r.Sweep
+	if sw.Law == "table" {
+		// A measured table is written against the index edge.
+		return 0, nil, nil
+	}
+	p := struct {
+		T        string
+		Detector int
+		Law      string
+		Field    float64
+		Aper     int
+		Offsets  []float64
+		Keep     float64
+		Period   *float64
+	}{s.timingKey, ch.detector, sw.Law, sw.FieldDeg, sw.Apertures, sw.ApertureOffsetsDeg, sw.SineKeep, sw.SinePeriodS}
+	k := key(p)
+	if s.delayKey == k {
+		return s.delay, s.delayWarn, nil
+	}
+	det := s.rec.Channels[ch.detector].Samples
+	var d float64
+	var w []string
+	var err error
+	if sw.Law == "sine" {
+		period := 0.0
+		if sw.SinePeriodS != nil {
+			period = *sw.SinePeriodS * s.rec.SampleRateHz
+		}
+		d, err = estimateSineDelay(ctx, t, det, sw, period)
+	} else {
+		d, w, err = estimateDelay(ctx, t, det, sw)
+	}
+	if err != nil {
+		return 0, nil, err
+	}
+	s.delay, s.delayWarn, s.delayKey = d, w, k
+	return d, w, nil
+}
+
+// autoPitch picks a pixel size near the spacing of neighbouring lines and
+// of samples along a line, rounded up to 1, 2 or 5 times a power of ten.
+func autoPitch(t *timingResult, rows *rowsResult, sw recipe.Sweep, rate float64) float64 {
+	var dys []float64
+	for i := 1; i < len(t.lines); i++ {
+		dys = append(dys, math.Abs(rows.at(t.lines[i].edge)-rows.at(t.lines[i-1].edge)))
+	}
+	v := 0.0
+	if len(dys) > 0 {
+		v = median(dys)
+		if sw.Law == "sine" {
+			v /= 2
+		}
+	}
+	if m, err := lawMap(sw); err == nil && len(t.lines) > 0 {
+		periods := make([]float64, len(t.lines))
+		for i, l := range t.lines {
+			periods[i] = l.period
+		}
+		field := median(periods) * fieldFraction(sw)
+		if field > 0 {
+			v = math.Max(v, (m.xMax-m.xMin)/field)
+		}
+	}
+	if !(v > 0) {
+		return 1
+	}
+	e := math.Pow(10, math.Floor(math.Log10(v)))
+	for _, f := range []float64{1, 2, 5, 10} {
+		if f*e >= v*0.999 {
+			return f * e
+		}
+	}
+	return 10 * e
+}
+
+// fieldFraction is the share of a line period spent inside the field.
+func fieldFraction(sw recipe.Sweep) float64 {
+	switch sw.Law {
+	case "sine":
+		return sineKeepDeg(sw.SineKeep) / 180
+	case "table":
+		return sw.Table[len(sw.Table)-1][0] - sw.Table[0][0]
+	}
+	return sw.FieldDeg / apertureSpacingDeg(sw)
+}
+
+func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, t *timingResult) (*placement, error) {
+	sw := r.Sweep
+	p := struct {
+		T        string
+		Sweep    recipe.Sweep
+		Detector int
+		Baseline string
+	}{s.timingKey, sw, ch.detector, r.Signal.Baseline}
+	k := key(p)
+	if s.place != nil && s.placeKey == k {
+		return s.place, nil
+	}
+	m, err := lawMap(sw)
+	if err != nil {
+		return nil, err
+	}
+	rate := s.rec.SampleRateHz
+	period := 0.0
+	if sw.Law == "sine" && sw.SinePeriodS != nil {
+		period = *sw.SinePeriodS * rate
+	}
+	det := s.rec.Channels[ch.detector].Samples
+	pl := &placement{sweep: m, lines: placeLines(t, sw, *sw.DelayDeg, period, len(det), rate)}
+	if len(pl.lines) == 0 {
+		return nil, fmt.Errorf("no line has its field inside the capture: check sweep.delay_deg (%g°) and sweep.field_deg", *sw.DelayDeg)
+	}
+	switch {
+	case r.Signal.Baseline == "none":
+	case sw.Law == "sine":
+		pl.warnings = append(pl.warnings, "the sine law has no beam-off interval, so no baseline was removed; set signal.baseline to none to silence this")
+	default:
+		if err := baselineLines(ctx, det, pl.lines); err != nil {
+			return nil, err
+		}
+		for i := range pl.lines {
+			l := &pl.lines[i]
+			l.BaselineStartS, l.BaselineEndS = float64(l.baseFirst)/rate, float64(l.baseLast)/rate
+		}
+	}
+	s.place, s.placeKey = pl, k
+	return pl, nil
+}
+
+// detRange returns the smallest and largest sample of a channel.
+func (s *Session) detRange(ch int) (float32, float32) {
+	if r, ok := s.ranges[ch]; ok {
+		return r[0], r[1]
+	}
+	lo, hi := float32(math.Inf(1)), float32(math.Inf(-1))
+	for _, v := range s.rec.Channels[ch].Samples {
+		lo = min(lo, v)
+		hi = max(hi, v)
+	}
+	s.ranges[ch] = [2]float32{lo, hi}
+	return lo, hi
+}
+
+// Build reconstructs the frames of a recipe. Stages whose parameters are
+// unchanged since the last Build are reused. It stops with ctx.Err() when
+// the context is cancelled.
+func (s *Session) Build(ctx context.Context, r recipe.Recipe, progress Progress) (*Result, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	rs, warns, err := s.resolve(ctx, r, progress)
+	if err != nil {
+		return nil, err
+	}
+	t := s.timing
+	rows := s.rows
+	progress.report("placement", 0)
+	pl, err := s.placeStage(ctx, rs.r, rs.ch, t)
+	if err != nil {
+		return nil, err
+	}
+	warns = append(warns, pl.warnings...)
+	progress.report("placement", 1)
+	k := key(struct {
+		P, R  string
+		Rows  recipe.Rows
+		Sig   recipe.Signal
+		Image recipe.Image
+	}{s.placeKey, s.rowsKey, rs.r.Rows, rs.r.Signal, rs.r.Image})
+	if s.grid != nil && s.gridKey == k {
+		return cloneResult(s.grid, rs.r), nil
+	}
+	progress.report("gridding", 0)
+	res, err := s.gridStage(ctx, rs, t, rows, pl, warns)
+	if err != nil {
+		return nil, err
+	}
+	progress.report("gridding", 1)
+	s.grid, s.gridKey = res, k
+	return cloneResult(res, rs.r), nil
+}
+
+// cloneResult copies the result's slices so a caller's edits do not reach
+// the cache.
+func cloneResult(res *Result, r recipe.Recipe) *Result {
+	out := &Result{Report: res.Report, Recipe: r.Clone(), Lines: slices.Clone(res.Lines)}
+	out.Report.Warnings = slices.Clone(res.Report.Warnings)
+	for _, f := range res.Frames {
+		g := *f
+		g.Pix = slices.Clone(f.Pix)
+		g.Covered = slices.Clone(f.Covered)
+		g.Recipe = r.Clone()
+		g.Report.Warnings = slices.Clone(f.Report.Warnings)
+		out.Frames = append(out.Frames, &g)
+	}
+	return out
+}
+
+func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, rows *rowsResult, pl *placement, warns []string) (*Result, error) {
+	r := rs.r
+	rate := s.rec.SampleRateHz
+	det := s.rec.Channels[rs.ch.detector].Samples
+	lo, hi := s.detRange(rs.ch.detector)
+	clipLo := float32(math.Inf(-1))
+	if lo < 0 {
+		clipLo = lo
+	}
+	lines := slices.Clone(pl.lines)
+	for i := range lines {
+		l := &lines[i]
+		mid := (l.first + l.last) / 2
+		l.YMM = rows.at(float64(mid))
+		l.Stroke = rows.strokeOf(mid)
+	}
+	// Group lines into frames.
+	var groups [][]placedLine
+	var groupStroke []int
+	switch r.Rows.Strokes {
+	case "split":
+		for si := range rows.strokes {
+			var g []placedLine
+			for _, l := range lines {
+				if l.Stroke == si {
+					g = append(g, l)
+				}
+			}
+			if len(g) > 0 {
+				groups = append(groups, g)
+				groupStroke = append(groupStroke, si)
+			}
+		}
+	case "first":
+		var g []placedLine
+		for _, l := range lines {
+			if l.Stroke == 0 {
+				g = append(g, l)
+			}
+		}
+		groups, groupStroke = [][]placedLine{g}, []int{0}
+	default:
+		groups, groupStroke = [][]placedLine{lines}, []int{0}
+	}
+	rep := Report{
+		Lines:         len(lines),
+		LinesRepaired: t.missing,
+		PulsesMissing: t.missing,
+		PulsesExtra:   t.extra,
+		Revolutions:   len(t.revPeriods),
+		DelayDeg:      *r.Sweep.DelayDeg,
+		Threshold:     t.threshold,
+		Strokes:       len(rows.strokes),
+		PitchMM:       r.Image.PitchMM,
+	}
+	if len(t.revPeriods) > 0 {
+		rpms := make([]float64, len(t.revPeriods))
+		sum := 0.0
+		for i, p := range t.revPeriods {
+			rpms[i] = 60 * rate / p
+			sum += p
+		}
+		rep.RPMMean = 60 * rate * float64(len(t.revPeriods)) / sum
+		v := 0.0
+		for _, x := range rpms {
+			v += (x - rep.RPMMean) * (x - rep.RPMMean)
+		}
+		if len(rpms) > 1 {
+			rep.RPMSpreadPct = 100 * math.Sqrt(v/float64(len(rpms)-1)) / rep.RPMMean
+		}
+	}
+	periods := make([]float64, len(pl.lines))
+	for i, l := range pl.lines {
+		periods[i] = l.period
+	}
+	pMean := meanOf(periods)
+	rep.SweepMS = 1000 * pMean * fieldFraction(r.Sweep) / rate
+	rep.LineRateHz = rate / pMean
+	if r.Sweep.Law == "sine" {
+		rep.LineRateHz *= 2
+		rep.RPMMean, rep.RPMSpreadPct = 0, 0
+	}
+	res := &Result{Recipe: r}
+	totalClipped, totalGapRows, covered, pixels := 0, 0, 0, 0
+	for gi, g := range groups {
+		if len(g) == 0 {
+			return nil, fmt.Errorf("rows.strokes %s: no lines in the first stroke", r.Rows.Strokes)
+		}
+		yTop, yBottom := math.Inf(-1), math.Inf(1)
+		for _, l := range g {
+			for _, y := range []float64{rows.at(float64(l.first)), rows.at(float64(l.last - 1))} {
+				yTop = math.Max(yTop, y)
+				yBottom = math.Min(yBottom, y)
+			}
+		}
+		f, st, _, err := gridFrame(ctx, gridInput{
+			det: det, lines: g, sweep: pl.sweep, rows: rows, pitch: r.Image.PitchMM,
+			invert: r.Signal.Invert, fill: r.Image.FillGapsPx, clipHi: hi, clipLo: clipLo,
+			yTop: yTop, yBotom: yBottom,
+		})
+		if err != nil {
+			return nil, err
+		}
+		f.Stroke = groupStroke[gi]
+		totalClipped += st.clippedLines
+		totalGapRows += st.gapRows
+		covered += st.covered
+		pixels += f.Width * f.Height
+		res.Frames = append(res.Frames, f)
+		if gi == 0 {
+			rep.Columns, rep.Rows = f.Width, f.Height
+		}
+	}
+	if pixels > 0 {
+		rep.Coverage = float64(covered) / float64(pixels)
+	}
+	if totalClipped > 0 {
+		warns = append(warns, fmt.Sprintf("the detector clipped on %.2g %% of lines (%d of %d): lower the detector gain", 100*float64(totalClipped)/float64(len(lines)), totalClipped, len(lines)))
+	}
+	if totalGapRows > 0 {
+		warns = append(warns, gapWarning(lines, r.Image.PitchMM, r.Image.FillGapsPx, totalGapRows))
+	}
+	rep.Warnings = append([]string{}, warns...)
+	res.Report = rep
+	for _, f := range res.Frames {
+		f.Report = rep
+		f.Report.Warnings = slices.Clone(rep.Warnings)
+		f.Recipe = r
+	}
+	res.Lines = make([]Line, len(lines))
+	for i, l := range lines {
+		res.Lines[i] = l.Line
+	}
+	return res, nil
+}
+
+// gapWarning describes where the head outran the lines.
+func gapWarning(lines []placedLine, pitch float64, fill, gapRows int) string {
+	limit := float64(fill+1) * pitch
+	from, to := math.Inf(1), math.Inf(-1)
+	for i := 1; i < len(lines); i++ {
+		if lines[i].Stroke == lines[i-1].Stroke && math.Abs(lines[i].YMM-lines[i-1].YMM) > limit {
+			from = math.Min(from, lines[i-1].FieldStartS)
+			to = math.Max(to, lines[i].FieldEndS)
+		}
+	}
+	if math.IsInf(from, 1) {
+		return fmt.Sprintf("%d rows have gaps where no line passed", gapRows)
+	}
+	return fmt.Sprintf("the head moved faster than one line per row between %.1f s and %.1f s: %d rows have gaps", from, to, gapRows)
+}

@@ -1,0 +1,427 @@
+package recon
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"slices"
+
+	"gonum.org/v1/gonum/interp"
+
+	"spotloom/recon/recipe"
+)
+
+// lutSize is the number of entries of a sweep's x lookup table. With
+// linear interpolation between entries, a flat projection over a 30° field
+// at 500 mm is exact to about 1e-7 mm.
+const lutSize = 8193
+
+// sweepMap turns the line variable u (degrees of beam angle for uniform,
+// degrees of phase for sine, fraction of the line for table) into x in mm,
+// through a lookup table filled from the exact law.
+type sweepMap struct {
+	uMin, uMax float64
+	scale      float64 // (lutSize-1)/(uMax-uMin)
+	lut        []float64
+	xMin, xMax float64 // extent of x over the part of u that is kept
+}
+
+func newSweepMap(uMin, uMax float64, f func(u float64) float64) *sweepMap {
+	m := &sweepMap{uMin: uMin, uMax: uMax, lut: make([]float64, lutSize)}
+	m.scale = float64(lutSize-1) / (uMax - uMin)
+	for i := range m.lut {
+		m.lut[i] = f(uMin + float64(i)/m.scale)
+	}
+	return m
+}
+
+// x interpolates the table at u (clamped to the table's range).
+func (m *sweepMap) x(u float64) float64 {
+	p := (u - m.uMin) * m.scale
+	if p <= 0 {
+		return m.lut[0]
+	}
+	i := int(p)
+	if i >= lutSize-1 {
+		return m.lut[lutSize-1]
+	}
+	f := p - float64(i)
+	return m.lut[i] + f*(m.lut[i+1]-m.lut[i])
+}
+
+// extent sets xMin/xMax from the kept u ranges.
+func (m *sweepMap) extent(ranges ...[2]float64) {
+	m.xMin, m.xMax = math.Inf(1), math.Inf(-1)
+	for _, r := range ranges {
+		const steps = 2048
+		for i := 0; i <= steps; i++ {
+			v := m.x(r[0] + (r[1]-r[0])*float64(i)/steps)
+			m.xMin = math.Min(m.xMin, v)
+			m.xMax = math.Max(m.xMax, v)
+		}
+	}
+}
+
+// Project returns x in mm for a beam angle thetaDeg from the centre of the
+// field: projection "flat" gives x = D·tan θ on a plane at distance D,
+// "angular" gives x = D·θ (θ in radians, the arc length at D).
+func Project(projection string, distanceMM, thetaDeg float64) float64 {
+	t := thetaDeg * math.Pi / 180
+	if projection == "angular" {
+		return distanceMM * t
+	}
+	return distanceMM * math.Tan(t)
+}
+
+// lawMap builds the x lookup for a resolved sweep.
+func lawMap(s recipe.Sweep) (*sweepMap, error) {
+	sign := 1.0
+	if s.Reverse {
+		sign = -1
+	}
+	half := s.FieldDeg / 2
+	switch s.Law {
+	case "uniform":
+		m := newSweepMap(-half, half, func(u float64) float64 { return sign * Project(s.Projection, s.DistanceMM, u) })
+		m.extent([2]float64{-half, half})
+		return m, nil
+	case "sine":
+		m := newSweepMap(-90, 270, func(u float64) float64 {
+			return sign * Project(s.Projection, s.DistanceMM, half*math.Sin(u*math.Pi/180))
+		})
+		a := sineKeepDeg(s.SineKeep)
+		m.extent([2]float64{-a, a}, [2]float64{180 - a, 180 + a})
+		return m, nil
+	case "table":
+		if len(s.Table) < 2 {
+			return nil, fmt.Errorf("sweep.table has %d points: law table needs two or more [fraction_of_line, x_mm] points", len(s.Table))
+		}
+		xs := make([]float64, len(s.Table))
+		ys := make([]float64, len(s.Table))
+		for i, p := range s.Table {
+			xs[i], ys[i] = p[0], p[1]
+		}
+		var pl interp.PiecewiseLinear
+		if err := pl.Fit(xs, ys); err != nil {
+			return nil, fmt.Errorf("sweep.table: %v; fractions must increase", err)
+		}
+		lo, hi := xs[0], xs[len(xs)-1]
+		m := newSweepMap(lo, hi, func(u float64) float64 { return sign * pl.Predict(math.Min(math.Max(u, lo), hi)) })
+		m.extent([2]float64{lo, hi})
+		return m, nil
+	}
+	return nil, fmt.Errorf("sweep.law %q: allowed values are uniform, sine, table", s.Law)
+}
+
+// sineKeepDeg is the phase half-width a (degrees) with sin a = keep: the
+// part of each half period where |θ| ≤ keep·field/2.
+func sineKeepDeg(keep float64) float64 {
+	if keep >= 1 {
+		return 90
+	}
+	return math.Asin(keep) * 180 / math.Pi
+}
+
+// apertureSpacingDeg is the wheel rotation per line.
+func apertureSpacingDeg(s recipe.Sweep) float64 { return 360 / float64(max(s.Apertures, 1)) }
+
+// placedLine is one line placed in time: the samples inside the field and
+// the linear map from sample to the law variable u.
+type placedLine struct {
+	Line
+	first, last int     // samples [first, last) are inside the field
+	u0, du      float64 // u at sample first, and per sample
+	period      float64 // samples
+	// baseline at sample first and its change per sample
+	base0, baseSlope float64
+	baseFirst        int // baseline interval before the line, samples
+	baseLast         int
+}
+
+// placement is the output of the placement stage.
+type placement struct {
+	lines    []placedLine
+	sweep    *sweepMap
+	warnings []string
+}
+
+// placeLines turns each line's timing into sample ranges and the u map.
+func placeLines(t *timingResult, s recipe.Sweep, delay float64, sinePeriod float64, n int, rateHz float64) []placedLine {
+	offset := func(k int) float64 {
+		if k < len(s.ApertureOffsetsDeg) {
+			return s.ApertureOffsetsDeg[k]
+		}
+		return 0
+	}
+	clamp := func(v float64) int {
+		switch {
+		case v < 0:
+			return 0
+		case v > float64(n):
+			return n
+		}
+		return int(v)
+	}
+	var out []placedLine
+	add := func(number, aperture int, edge, period, uStartSample, uEndSample, u0, du float64, repaired bool) {
+		first := clamp(math.Ceil(uStartSample))
+		last := clamp(math.Floor(uEndSample) + 1)
+		if last <= first {
+			return
+		}
+		pl := placedLine{
+			Line: Line{
+				Number: number, Aperture: aperture, EdgeS: edge / rateHz, Repaired: repaired,
+				FieldStartS: float64(first) / rateHz, FieldEndS: float64(last) / rateHz,
+			},
+			first: first, last: last, period: period,
+			u0: u0 + du*(float64(first)-uStartSample), du: du,
+		}
+		out = append(out, pl)
+	}
+	switch s.Law {
+	case "sine":
+		a := sineKeepDeg(s.SineKeep)
+		for i, lt := range t.lines {
+			p := lt.period
+			if sinePeriod > 0 {
+				p = sinePeriod
+			}
+			du := 360 / p
+			// φ(s) = 360(s−e)/P − delay; s(φ) = e + (φ+delay)P/360.
+			at := func(phi float64) float64 { return lt.edge + (phi+delay)*p/360 }
+			add(2*i, 0, lt.edge, p, at(-a), at(a), -a, du, lt.repaired)
+			add(2*i+1, 1, lt.edge, p, at(180-a), at(180+a), 180-a, du, false)
+		}
+	case "table":
+		spacing := apertureSpacingDeg(s)
+		f0, f1 := s.Table[0][0], s.Table[len(s.Table)-1][0]
+		for i, lt := range t.lines {
+			d := (delay + offset(lt.aperture)) / spacing
+			at := func(f float64) float64 { return lt.edge + (f+d)*lt.period }
+			add(i, lt.aperture, lt.edge, lt.period, at(f0), at(f1), f0, 1/lt.period, lt.repaired)
+		}
+	default: // uniform
+		spacing := apertureSpacingDeg(s)
+		half := s.FieldDeg / 2
+		for i, lt := range t.lines {
+			d := delay + offset(lt.aperture)
+			// α(s) = (s−e)/T·spacing; θ = α − d − F/2.
+			at := func(theta float64) float64 { return lt.edge + (theta+d+half)/spacing*lt.period }
+			add(i, lt.aperture, lt.edge, lt.period, at(-half), at(half), -half, spacing/lt.period, lt.repaired)
+		}
+	}
+	return out
+}
+
+// lineWindow returns the samples [from, to) of the line's own span: from
+// its edge to the next, where the delay profile is collected.
+func lineWindow(lt lineTiming, n int) (int, int) {
+	from := int(math.Ceil(lt.edge))
+	to := int(math.Floor(lt.edge + lt.period))
+	return max(from, 0), min(to, n)
+}
+
+// estimateDelay finds the wheel rotation from the index edge to the start
+// of the field from the detector's beam-on envelope: the mean detector
+// level against wheel angle, folded over many lines (each aperture shifted
+// by its offset), rises where the beam enters the field. The start is the
+// half-way crossing between the beam-off and beam-on levels, interpolated
+// between bins.
+func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep) (float64, []string, error) {
+	if len(t.lines) == 0 {
+		return 0, nil, fmt.Errorf("no lines to find the delay from")
+	}
+	spacing := apertureSpacingDeg(s)
+	periods := make([]float64, len(t.lines))
+	for i, lt := range t.lines {
+		periods[i] = lt.period
+	}
+	pMed := median(periods)
+	bins := int(math.Min(3600, math.Max(90, pMed/2)))
+	sum := make([]float64, bins)
+	cnt := make([]float64, bins)
+	// Up to 3000 lines, spread over the capture.
+	stride := 1 + len(t.lines)/3000
+	for i := 0; i < len(t.lines); i += stride {
+		if i%256 == 0 {
+			if err := ctx.Err(); err != nil {
+				return 0, nil, err
+			}
+		}
+		lt := t.lines[i]
+		off := 0.0
+		if lt.aperture < len(s.ApertureOffsetsDeg) {
+			off = s.ApertureOffsetsDeg[lt.aperture]
+		}
+		from, to := lineWindow(lt, len(det))
+		k := float64(bins) / lt.period
+		b0 := -off / spacing * float64(bins)
+		for j := from; j < to; j++ {
+			b := int(math.Floor((float64(j)-lt.edge)*k + b0))
+			b %= bins
+			if b < 0 {
+				b += bins
+			}
+			sum[b] += float64(det[j])
+			cnt[b]++
+		}
+	}
+	prof := make([]float64, bins)
+	for b := range prof {
+		if cnt[b] == 0 {
+			return 0, nil, fmt.Errorf("lines are too short to find the delay (%d samples per line)", int(pMed))
+		}
+		prof[b] = sum[b] / cnt[b]
+	}
+	fon := s.FieldDeg / spacing
+	sorted := slices.Clone(prof)
+	slices.Sort(sorted)
+	q := func(f float64) float64 {
+		return sorted[min(bins-1, max(0, int(f*float64(bins))))]
+	}
+	off := q(0.5 * (1 - fon))
+	on := q(1 - 0.5*fon)
+	if !(on > off) {
+		return 0, nil, fmt.Errorf("the detector shows no beam-on stretch within the lines: set sweep.delay_deg by hand")
+	}
+	mid := (off + on) / 2
+	// Longest circular run above mid.
+	bestStart, bestLen, runStart, runLen := -1, 0, -1, 0
+	for i := 0; i < 2*bins; i++ {
+		if prof[i%bins] > mid {
+			if runLen == 0 {
+				runStart = i
+			}
+			runLen++
+			if runLen > bestLen && runLen <= bins {
+				bestStart, bestLen = runStart, runLen
+			}
+		} else {
+			runLen = 0
+		}
+	}
+	if bestStart < 0 || bestLen >= bins {
+		return 0, nil, fmt.Errorf("the detector shows no beam-off stretch within the lines: set sweep.delay_deg by hand, or check sweep.apertures")
+	}
+	binDeg := spacing / float64(bins)
+	// Crossing between bin bestStart-1 (below) and bestStart (above); bin
+	// b's value belongs to the angle at its centre.
+	cross := func(below, above int) float64 {
+		a, b := prof[(below+bins)%bins], prof[above%bins]
+		f := 0.5
+		if b != a {
+			f = (mid - a) / (b - a)
+		}
+		return (float64(below) + 0.5 + f) * binDeg
+	}
+	start := cross(bestStart-1, bestStart)
+	endBin := bestStart + bestLen
+	// Falling crossing: from bin endBin-1 (above) to endBin (below).
+	a, b := prof[(endBin-1)%bins], prof[endBin%bins]
+	f := 0.5
+	if a != b {
+		f = (a - mid) / (a - b)
+	}
+	end := (float64(endBin-1) + 0.5 + f) * binDeg
+	width := end - start
+	delay := math.Mod(start, spacing)
+	var warns []string
+	if math.Abs(width-s.FieldDeg) > 0.2*s.FieldDeg {
+		warns = append(warns, fmt.Sprintf("the detector's beam-on stretch lasts %.1f° of wheel rotation but sweep.field_deg is %g°: check field_deg and apertures, or set sweep.delay_deg by hand", width, s.FieldDeg))
+	}
+	return delay, warns, nil
+}
+
+// estimateSineDelay finds the phase delay of a resonant mirror by making
+// the forward and backward lines agree: with the wrong delay they shift in
+// opposite directions. It minimises the mean squared difference between
+// the two lines of each period, resampled onto common beam angles.
+func estimateSineDelay(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep, sinePeriod float64) (float64, error) {
+	const nb = 256
+	stride := 1 + len(t.lines)/400
+	cost := func(delay float64) float64 {
+		total, count := 0.0, 0
+		fw := make([]float64, nb)
+		bw := make([]float64, nb)
+		for i := 0; i < len(t.lines); i += stride {
+			lt := t.lines[i]
+			p := lt.period
+			if sinePeriod > 0 {
+				p = sinePeriod
+			}
+			ok := true
+			for k := 0; k < nb && ok; k++ {
+				// Common θ sample: sin φ = v, forward φ = asin v, backward 180 − asin v.
+				v := -s.SineKeep + 2*s.SineKeep*(float64(k)+0.5)/nb
+				phi := math.Asin(v) * 180 / math.Pi
+				sf := lt.edge + (phi+delay)*p/360
+				sb := lt.edge + (180-phi+delay)*p/360
+				fv, ok1 := sampleAt(det, sf)
+				bv, ok2 := sampleAt(det, sb)
+				ok = ok1 && ok2
+				fw[k], bw[k] = fv, bv
+			}
+			if !ok {
+				continue
+			}
+			mf, mb := meanOf(fw), meanOf(bw)
+			for k := range fw {
+				d := (fw[k] - mf) - (bw[k] - mb)
+				total += d * d
+			}
+			count++
+		}
+		if count == 0 {
+			return math.Inf(1)
+		}
+		return total / float64(count)
+	}
+	best, bestCost := 0.0, math.Inf(1)
+	for d := -45.0; d <= 45; d += 0.5 {
+		if err := ctx.Err(); err != nil {
+			return 0, err
+		}
+		if c := cost(d); c < bestCost {
+			best, bestCost = d, c
+		}
+	}
+	// Golden-section refinement within ±0.5°.
+	lo, hi := best-0.5, best+0.5
+	g := (math.Sqrt(5) - 1) / 2
+	x1, x2 := hi-g*(hi-lo), lo+g*(hi-lo)
+	c1, c2 := cost(x1), cost(x2)
+	for hi-lo > 0.005 {
+		if c1 < c2 {
+			hi, x2, c2 = x2, x1, c1
+			x1 = hi - g*(hi-lo)
+			c1 = cost(x1)
+		} else {
+			lo, x1, c1 = x1, x2, c2
+			x2 = lo + g*(hi-lo)
+			c2 = cost(x2)
+		}
+	}
+	if math.IsInf(bestCost, 1) {
+		return 0, fmt.Errorf("the sine lines run past the capture: set sweep.delay_deg by hand")
+	}
+	return (lo + hi) / 2, nil
+}
+
+// sampleAt interpolates x linearly at a fractional sample position.
+func sampleAt(x []float32, s float64) (float64, bool) {
+	if s < 0 || s >= float64(len(x)-1) {
+		return 0, false
+	}
+	i := int(s)
+	f := s - float64(i)
+	return float64(x[i]) + f*float64(x[i+1]-x[i]), true
+}
+
+func meanOf(v []float64) float64 {
+	s := 0.0
+	for _, x := range v {
+		s += x
+	}
+	return s / float64(len(v))
+}

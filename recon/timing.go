@@ -1,0 +1,460 @@
+package recon
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"slices"
+)
+
+// OtsuResult is the outcome of Otsu's method on a set of values.
+type OtsuResult struct {
+	Threshold float64 // values above belong to the upper class
+	LowMean   float64 // mean of the lower class
+	HighMean  float64 // mean of the upper class
+	// Separability is Otsu's η = σ_B²/σ_T², the between-class variance over
+	// the total variance: near 1 for two clean levels, about 0.64 (2/π) for
+	// Gaussian noise, 0 for a constant signal.
+	Separability float64
+	Min, Max     float64 // range of the values
+}
+
+// otsuBins is the histogram resolution used by Otsu.
+const otsuBins = 256
+
+// Otsu finds the threshold that maximises the between-class variance of
+// the histogram of values (Otsu 1979, "A threshold selection method from
+// gray-level histograms", IEEE Trans. SMC-9(1), eq. 18). The histogram has
+// 256 bins between the smallest and largest value; at most about two
+// million values are read, evenly spaced, so the cost stays bounded on long
+// captures. The threshold is placed at the upper edge of the last bin of
+// the lower class.
+func Otsu(values []float32) OtsuResult {
+	n := len(values)
+	if n == 0 {
+		return OtsuResult{}
+	}
+	stride := 1 + n/2_000_000
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for i := 0; i < n; i += stride {
+		v := float64(values[i])
+		if v < lo {
+			lo = v
+		}
+		if v > hi {
+			hi = v
+		}
+	}
+	res := OtsuResult{Min: lo, Max: hi, Threshold: lo, LowMean: lo, HighMean: hi}
+	if !(hi > lo) {
+		return res
+	}
+	var hist [otsuBins]float64
+	var sums [otsuBins]float64
+	scale := otsuBins / (hi - lo)
+	for i := 0; i < n; i += stride {
+		v := float64(values[i])
+		b := int((v - lo) * scale)
+		if b >= otsuBins {
+			b = otsuBins - 1
+		}
+		hist[b]++
+		sums[b] += v
+	}
+	return otsuHistogram(hist[:], sums[:], lo, hi, res)
+}
+
+// otsuHistogram runs Otsu's search over a histogram whose bin b covers
+// [lo + b·w, lo + (b+1)·w); sums holds the sum of the values in each bin
+// (so class means are exact, not bin centres).
+func otsuHistogram(hist, sums []float64, lo, hi float64, res OtsuResult) OtsuResult {
+	total, totalSum, totalSq := 0.0, 0.0, 0.0
+	w := (hi - lo) / float64(len(hist))
+	for b := range hist {
+		total += hist[b]
+		totalSum += sums[b]
+		c := lo + (float64(b)+0.5)*w
+		totalSq += hist[b] * c * c
+	}
+	mean := totalSum / total
+	// Total variance from bin centres, the same quantisation as σ_B².
+	varT := totalSq/total - mean*mean
+	best, bestB, lastB := -1.0, 0, 0
+	w0, s0 := 0.0, 0.0
+	for b := 0; b < len(hist)-1; b++ {
+		w0 += hist[b]
+		s0 += sums[b]
+		w1 := total - w0
+		if w0 == 0 || w1 == 0 {
+			continue
+		}
+		m0 := s0 / w0
+		m1 := (totalSum - s0) / w1
+		between := w0 * w1 * (m0 - m1) * (m0 - m1) / (total * total)
+		switch {
+		case between > best*(1+1e-12):
+			best, bestB, lastB = between, b, b
+			res.LowMean, res.HighMean = m0, m1
+		case between >= best*(1-1e-12):
+			// Empty bins between two levels give the same σ_B²: the
+			// threshold goes to the middle of that plateau.
+			lastB = b
+		}
+	}
+	if best < 0 {
+		return res
+	}
+	res.Threshold = lo + (float64(bestB+lastB)/2+1)*w
+	if varT > 0 {
+		res.Separability = math.Min(1, best/varT)
+	}
+	return res
+}
+
+// minSeparability is the smallest Otsu η taken as a real two-level pulse
+// train; Gaussian noise alone gives about 0.64.
+const minSeparability = 0.8
+
+// rawEdges finds the threshold crossings of x in the chosen direction with a
+// Schmitt trigger (hysteresis h around thr) and returns their times in
+// samples, interpolated linearly between the two samples that straddle thr.
+func rawEdges(ctx context.Context, x []float32, thr, h float64, rising bool) ([]float64, error) {
+	upper := float32(thr + h/2)
+	lower := float32(thr - h/2)
+	t := float32(thr)
+	if !rising {
+		// Work on the negated signal so one loop serves both polarities.
+		upper, lower, t = float32(-(thr - h/2)), float32(-(thr + h/2)), float32(-thr)
+	}
+	sign := float32(1)
+	if !rising {
+		sign = -1
+	}
+	var edges []float64
+	high := sign*x[0] > t
+	const chunk = 1 << 20
+	for start := 0; start < len(x); start += chunk {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		end := min(start+chunk, len(x))
+		for i := start; i < end; i++ {
+			v := sign * x[i]
+			if high {
+				if v < lower {
+					high = false
+				}
+				continue
+			}
+			if v <= upper {
+				continue
+			}
+			high = true
+			// Walk back to the crossing of the threshold itself.
+			k := i
+			for k > 0 && i-k < 4096 && sign*x[k-1] > t {
+				k--
+			}
+			if k == 0 {
+				edges = append(edges, 0)
+				continue
+			}
+			a, b := sign*x[k-1], sign*x[k]
+			frac := 0.0
+			if b != a {
+				frac = float64((t - a) / (b - a))
+			}
+			edges = append(edges, float64(k-1)+frac)
+		}
+	}
+	return edges, nil
+}
+
+// repairResult is the edge list after missing and extra pulses are fixed.
+type repairResult struct {
+	edges    []float64 // samples
+	repaired []bool    // true where the edge was filled in
+	missing  int       // edges filled in
+	extra    int       // edges dropped as spurious
+	// gaps are stretches with no pulses that were too long to fill in
+	// (start and end edge, samples).
+	gaps [][2]float64
+	// periodMin, periodMax are the extremes of the running median period.
+	periodMin, periodMax float64
+}
+
+// maxFill is the longest run of consecutive missing pulses that is filled
+// in; a longer silence is reported as a gap without lines.
+const maxFill = 8
+
+// repairEdges walks the edges with a running median of the last accepted
+// periods. An edge within ±tol of the expected time is accepted; edges
+// before that window are spurious; when the next edge lies whole periods
+// later, the missing edges are placed evenly between the two good ones.
+func repairEdges(raw []float64) repairResult {
+	var res repairResult
+	if len(raw) < 2 {
+		res.edges = raw
+		res.repaired = make([]bool, len(raw))
+		return res
+	}
+	intervals := make([]float64, len(raw)-1)
+	for i := range intervals {
+		intervals[i] = raw[i+1] - raw[i]
+	}
+	period := median(intervals)
+	// Start from an edge that is followed by a normal interval, so a
+	// spurious first pulse does not become the reference.
+	first := 0
+	for first < len(raw)-1 && math.Abs(raw[first+1]-raw[first]-period) > 0.25*period {
+		first++
+	}
+	res.extra = first
+	const window = 9
+	recent := make([]float64, 0, window)
+	recent = append(recent, period)
+	scratch := make([]float64, window)
+	res.edges = append(res.edges, raw[first])
+	res.repaired = append(res.repaired, false)
+	res.periodMin, res.periodMax = period, period
+	const tol = 0.25
+	i := first + 1
+	for i < len(raw) {
+		last := res.edges[len(res.edges)-1]
+		p := medianOf(recent, scratch)
+		expect := last + p
+		// Find the edge closest to the expected time among those not too
+		// late; everything before the window is spurious.
+		if raw[i] < expect-tol*p {
+			// Spurious unless a later edge fits better; skip it.
+			res.extra++
+			i++
+			continue
+		}
+		if raw[i] <= expect+tol*p {
+			// Prefer a following edge if it is even closer to expect.
+			for i+1 < len(raw) && math.Abs(raw[i+1]-expect) < math.Abs(raw[i]-expect) {
+				res.extra++
+				i++
+			}
+			accept(&res, &recent, raw[i]-last, raw[i], false, window)
+			i++
+		} else {
+			// One or more pulses missing: how many periods fit?
+			m := int(math.Round((raw[i] - last) / p))
+			if m < 2 || math.Abs(raw[i]-last-float64(m)*p) > tol*p*float64(m) {
+				// Not a whole number of periods: accept as is (speed step).
+				accept(&res, &recent, raw[i]-last, raw[i], false, window)
+				i++
+				continue
+			}
+			if m-1 > maxFill {
+				res.gaps = append(res.gaps, [2]float64{last, raw[i]})
+				res.edges = append(res.edges, raw[i])
+				res.repaired = append(res.repaired, false)
+				i++
+				continue
+			}
+			step := (raw[i] - last) / float64(m)
+			for k := 1; k < m; k++ {
+				res.edges = append(res.edges, last+float64(k)*step)
+				res.repaired = append(res.repaired, true)
+				res.missing++
+			}
+			accept(&res, &recent, step, raw[i], false, window)
+			i++
+		}
+		pm := medianOf(recent, scratch)
+		res.periodMin = math.Min(res.periodMin, pm)
+		res.periodMax = math.Max(res.periodMax, pm)
+	}
+	return res
+}
+
+func accept(res *repairResult, recent *[]float64, interval, edge float64, repaired bool, window int) {
+	res.edges = append(res.edges, edge)
+	res.repaired = append(res.repaired, repaired)
+	if len(*recent) == window {
+		copy(*recent, (*recent)[1:])
+		*recent = (*recent)[:window-1]
+	}
+	*recent = append(*recent, interval)
+}
+
+// median returns the median of v (v is not changed).
+func median(v []float64) float64 {
+	if len(v) == 0 {
+		return math.NaN()
+	}
+	s := slices.Clone(v)
+	slices.Sort(s)
+	n := len(s)
+	if n%2 == 1 {
+		return s[n/2]
+	}
+	return (s[n/2-1] + s[n/2]) / 2
+}
+
+func medianOf(v, scratch []float64) float64 {
+	s := scratch[:len(v)]
+	copy(s, v)
+	slices.Sort(s)
+	n := len(s)
+	if n%2 == 1 {
+		return s[n/2]
+	}
+	return (s[n/2-1] + s[n/2]) / 2
+}
+
+// lineTiming is one line: its start (the index edge, or the line's share
+// of a revolution) and its own period, both in samples.
+type lineTiming struct {
+	edge     float64
+	period   float64
+	aperture int
+	repaired bool
+}
+
+// timingResult is the output of the timing stage.
+type timingResult struct {
+	otsu       OtsuResult
+	threshold  float64
+	hysteresis float64
+	edges      []float64 // index edges in samples, after repair
+	lines      []lineTiming
+	revPeriods []float64 // samples per complete revolution
+	missing    int
+	extra      int
+	warnings   []string
+}
+
+type timingParams struct {
+	channel      int
+	rising       bool
+	threshold    *float64
+	hysteresis   *float64
+	pulsesPerRev int
+	apertures    int
+	sine         bool
+}
+
+// findTiming runs the timing stage: threshold, edges, repair, lines.
+func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit string, p timingParams) (*timingResult, error) {
+	res := &timingResult{}
+	o := Otsu(x)
+	res.otsu = o
+	noPulses := func() error {
+		return fmt.Errorf("index channel %s stays between %s and %s: no pulses; check channels.index, or the index sensor and its cable", chName, level(o.Min, unit), level(o.Max, unit))
+	}
+	if p.threshold == nil && (o.Separability < minSeparability || !(o.Max > o.Min)) {
+		return nil, noPulses()
+	}
+	thr := o.Threshold
+	if p.threshold != nil {
+		thr = *p.threshold
+		if thr <= o.Min || thr >= o.Max {
+			return nil, fmt.Errorf("timing.threshold %s is outside the index channel %s, which stays between %s and %s: no pulses; set threshold to null to find it automatically", level(thr, unit), chName, level(o.Min, unit), level(o.Max, unit))
+		}
+	}
+	// Automatic hysteresis: a fifth of the step between the levels, kept
+	// inside them so both switching points are reached.
+	h := 0.2 * (o.HighMean - o.LowMean)
+	h = math.Min(h, 1.6*math.Min(thr-o.LowMean, o.HighMean-thr))
+	if p.hysteresis != nil {
+		h = *p.hysteresis
+	}
+	res.threshold, res.hysteresis = thr, h
+	raw, err := rawEdges(ctx, x, thr, h, p.rising)
+	if err != nil {
+		return nil, err
+	}
+	if len(raw) < 3 {
+		if len(raw) == 0 {
+			return nil, noPulses()
+		}
+		return nil, fmt.Errorf("index channel %s has only %d pulse(s) crossing %s in %.3g s: at least 3 are needed; check channels.index and timing.edge", chName, len(raw), level(thr, unit), float64(len(x))/rateHz)
+	}
+	rep := repairEdges(raw)
+	res.edges, res.missing, res.extra = rep.edges, rep.missing, rep.extra
+	if rep.missing > 0 {
+		res.warnings = append(res.warnings, fmt.Sprintf("%d index pulses were missing and were filled in", rep.missing))
+	}
+	if rep.extra > 0 {
+		res.warnings = append(res.warnings, fmt.Sprintf("%d extra index pulses were ignored", rep.extra))
+	}
+	for _, g := range rep.gaps {
+		res.warnings = append(res.warnings, fmt.Sprintf("no index pulses between %.3f s and %.3f s: that part of the capture has no lines; check the index sensor", g[0]/rateHz, g[1]/rateHz))
+	}
+	if rep.periodMin > 0 && rep.periodMax > 1.2*rep.periodMin {
+		res.warnings = append(res.warnings, fmt.Sprintf("the index period varies by %.0f %% (from %.3g ms to %.3g ms): the wheel speed is not steady; check the motor, or timing.pulses_per_rev and sweep.apertures",
+			100*(rep.periodMax/rep.periodMin-1), 1000*rep.periodMin/rateHz, 1000*rep.periodMax/rateHz))
+	}
+	gapAfter := map[int]bool{}
+	for _, g := range rep.gaps {
+		for i, e := range res.edges {
+			if e == g[0] {
+				gapAfter[i] = true
+			}
+		}
+	}
+	if len(res.edges) < 2 {
+		return nil, fmt.Errorf("index channel %s: fewer than two usable pulses after repair", chName)
+	}
+	// Lines. Each interval between two edges has its own period; the last
+	// edge's line uses the period before it.
+	period := func(i int) float64 {
+		if i+1 < len(res.edges) && !gapAfter[i] {
+			return res.edges[i+1] - res.edges[i]
+		}
+		if i > 0 {
+			return res.edges[i] - res.edges[i-1]
+		}
+		return 0
+	}
+	n := len(res.edges)
+	switch {
+	case p.sine || p.pulsesPerRev != 1 || p.apertures == 1:
+		per := p.apertures
+		if p.sine {
+			per = 1
+		}
+		for i := 0; i < n-1; i++ {
+			if gapAfter[i] {
+				continue
+			}
+			res.lines = append(res.lines, lineTiming{edge: res.edges[i], period: period(i), aperture: i % max(per, 1), repaired: rep.repaired[i]})
+		}
+		if per > 0 {
+			for i := 0; i+per < n; i += per {
+				ok := true
+				for k := i; k < i+per; k++ {
+					ok = ok && !gapAfter[k]
+				}
+				if ok {
+					res.revPeriods = append(res.revPeriods, res.edges[i+per]-res.edges[i])
+				}
+			}
+		}
+	default:
+		// One pulse per revolution: lines at equal fractions of it.
+		for i := 0; i < n-1; i++ {
+			if gapAfter[i] {
+				continue
+			}
+			rev := period(i)
+			res.revPeriods = append(res.revPeriods, rev)
+			for k := 0; k < p.apertures; k++ {
+				res.lines = append(res.lines, lineTiming{
+					edge:     res.edges[i] + float64(k)*rev/float64(p.apertures),
+					period:   rev / float64(p.apertures),
+					aperture: k,
+					repaired: rep.repaired[i] && k == 0,
+				})
+			}
+		}
+	}
+	return res, nil
+}
+
+// volts formats a level for messages.
+func level(v float64, unit string) string { return fmt.Sprintf("%.3g %s", v, unit) }
