@@ -1,0 +1,476 @@
+package export
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"image/draw"
+	"image/png"
+	"io"
+	"io/fs"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"time"
+	"unicode/utf16"
+
+	"spotloom/recon"
+)
+
+// Options says how frames are written.
+type Options struct {
+	// Depth is the bits per sample: 8 or 16 (tone-mapped, TIFF or PNG) or
+	// 32 (raw IEEE float frame values, TIFF only). 0 means 32 when Raw is
+	// set, else 16.
+	Depth int
+	// Tone maps frame values to 8 or 16 bits. A Window of 0 takes window
+	// and level from recon.AutoTone of each frame (keeping Gamma and
+	// Invert); a Gamma of 0 means 1. So the zero Tone is automatic.
+	Tone recon.Tone
+	// Raw writes the frame values themselves (32-bit float TIFF).
+	Raw bool
+	// NoData is written where a frame has no data: a frame value for
+	// depth 32 (NaN is allowed), a brightness from 0 (black) to 1 (white)
+	// for 8 and 16 bits.
+	NoData float64
+	// ScaleBarMM burns a scale bar of that length into 8- and 16-bit
+	// exports: 0 = none, < 0 = a round length near a quarter of the width.
+	ScaleBarMM float64
+	// Caption is burned into the upper left of 8- and 16-bit exports.
+	Caption string
+	// Force replaces an existing file (and its sidecar).
+	Force bool
+	// Compression of TIFF strips: "none" (or ""), "deflate" or "lzw". For
+	// PNG, which always deflates, "none" stores without compressing.
+	Compression string
+}
+
+// ErrExists is returned (wrapped, with the path) when the output or its
+// sidecar exists and Options.Force is not set.
+var ErrExists = errors.New("the file exists and is replaced only when forced")
+
+// Software is written into the Software tag, the PNG "Software" text and
+// the sidecar.
+const Software = "Spotloom"
+
+// SidecarPath returns the sidecar of an export: path without its
+// extension, plus ".recipe.json".
+func SidecarPath(path string) string {
+	return strings.TrimSuffix(path, filepath.Ext(path)) + ".recipe.json"
+}
+
+// Write writes frames to path in the format its extension names (.tif,
+// .tiff: one page per frame; .png: one frame) and the sidecar beside it.
+// Both are written to temporary files in the same folder, synced and then
+// renamed into place, so a failure leaves neither a partial file nor a
+// leftover temporary file.
+func Write(path string, frames []*recon.Frame, opts Options) error {
+	return write(path, frames, opts, time.Now(), nil)
+}
+
+// fileFormat is the container chosen from the extension.
+type fileFormat int
+
+const (
+	formatTIFF fileFormat = iota
+	formatPNG
+)
+
+// settings are Options checked and resolved against the format.
+type settings struct {
+	format      fileFormat
+	depth       int
+	compression string
+	tiffCode    uint16
+	pngLevel    png.CompressionLevel
+}
+
+// Check reports whether opts can be written to path, without any frame:
+// the extension names a format, the depth and compression suit it, the
+// folder exists and, unless Force is set, neither the file nor its sidecar
+// is there (ErrExists). Callers use it to refuse bad settings before a
+// long build; Write checks everything again.
+func Check(path string, opts Options) error {
+	if _, err := resolveOptions(path, opts); err != nil {
+		return err
+	}
+	return checkDestination(path, opts.Force)
+}
+
+func resolve(path string, frames []*recon.Frame, opts Options) (settings, error) {
+	if len(frames) == 0 {
+		return settings{}, fmt.Errorf("%s: no frame to write", path)
+	}
+	for i, f := range frames {
+		if err := checkFrame(f); err != nil {
+			return settings{}, fmt.Errorf("%s: frame %d: %w", path, i+1, err)
+		}
+	}
+	s, err := resolveOptions(path, opts)
+	if err != nil {
+		return s, err
+	}
+	if s.format == formatPNG && len(frames) > 1 {
+		return s, fmt.Errorf("%s: a PNG holds one frame and there are %d (one per stroke): write a .tiff, which keeps each as a page, or set rows.strokes to merge or first", path, len(frames))
+	}
+	return s, nil
+}
+
+func resolveOptions(path string, opts Options) (settings, error) {
+	var s settings
+	switch ext := strings.ToLower(filepath.Ext(path)); ext {
+	case ".tif", ".tiff":
+		s.format = formatTIFF
+	case ".png":
+		s.format = formatPNG
+	case "":
+		return s, fmt.Errorf("%s has no extension: name it .tiff, .tif or .png to choose the format", path)
+	default:
+		return s, fmt.Errorf("%s: unknown extension %q: use .tiff, .tif or .png", path, ext)
+	}
+	s.depth = opts.Depth
+	if s.depth == 0 {
+		s.depth = 16
+		if opts.Raw {
+			s.depth = 32
+		}
+	}
+	switch s.depth {
+	case 8, 16, 32:
+	default:
+		return s, fmt.Errorf("%s: depth %d is not written: choose 8 or 16 (tone-mapped) or 32 (raw float, TIFF)", path, s.depth)
+	}
+	if opts.Raw && s.depth != 32 {
+		return s, fmt.Errorf("%s: raw frame values need depth 32 (float), not %d", path, s.depth)
+	}
+	if s.depth == 32 {
+		if s.format == formatPNG {
+			return s, fmt.Errorf("%s: PNG holds at most 16 bits per gray sample (PNG §11.2.2): use .tiff for 32-bit float, or depth 8 or 16", path)
+		}
+		if opts.ScaleBarMM != 0 || opts.Caption != "" {
+			return s, fmt.Errorf("%s: a scale bar or caption would overwrite measured values in a 32-bit float export: use depth 8 or 16 for a report image", path)
+		}
+	} else if !(opts.NoData >= 0 && opts.NoData <= 1) {
+		return s, fmt.Errorf("%s: no-data brightness %g is outside 0 (black) … 1 (white)", path, opts.NoData)
+	}
+	for _, v := range []float64{opts.Tone.Window, opts.Tone.Level, opts.Tone.Gamma} {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return s, fmt.Errorf("%s: tone window %g, level %g, gamma %g: each must be a finite number", path, opts.Tone.Window, opts.Tone.Level, opts.Tone.Gamma)
+		}
+	}
+	if math.IsNaN(opts.ScaleBarMM) || math.IsInf(opts.ScaleBarMM, 0) {
+		return s, fmt.Errorf("%s: scale bar length %g mm is not a number", path, opts.ScaleBarMM)
+	}
+	s.compression = strings.ToLower(opts.Compression)
+	switch {
+	case s.format == formatTIFF && (s.compression == "" || s.compression == "none"):
+		s.compression, s.tiffCode = "none", compressionNone
+	case s.format == formatTIFF && s.compression == "deflate":
+		s.tiffCode = compressionDeflate
+	case s.format == formatTIFF && s.compression == "lzw":
+		s.tiffCode = compressionLZW
+	case s.format == formatPNG && (s.compression == "" || s.compression == "deflate"):
+		s.compression, s.pngLevel = "deflate", png.DefaultCompression
+	case s.format == formatPNG && s.compression == "none":
+		s.pngLevel = png.NoCompression
+	default:
+		allowed := "none, deflate or lzw"
+		if s.format == formatPNG {
+			allowed = "deflate or none"
+		}
+		return s, fmt.Errorf("%s: compression %q is not written for this format: choose %s", path, opts.Compression, allowed)
+	}
+	return s, nil
+}
+
+func checkFrame(f *recon.Frame) error {
+	switch {
+	case f == nil:
+		return errors.New("the frame is missing (nil)")
+	case f.Width <= 0 || f.Height <= 0:
+		return fmt.Errorf("the frame is %d×%d pixels: nothing to write", f.Width, f.Height)
+	case f.Width > math.MaxUint32/4 || f.Height > math.MaxUint32 || f.Width > math.MaxInt/f.Height:
+		return fmt.Errorf("the frame is %d×%d pixels: too large for a TIFF or PNG", f.Width, f.Height)
+	case len(f.Pix) != f.Width*f.Height || len(f.Covered) != f.Width*f.Height:
+		return fmt.Errorf("the frame is %d×%d but holds %d values and %d coverage flags", f.Width, f.Height, len(f.Pix), len(f.Covered))
+	case !(f.PitchXMM > 0) || !(f.PitchYMM > 0) || math.IsInf(f.PitchXMM, 0) || math.IsInf(f.PitchYMM, 0):
+		return fmt.Errorf("the pitch is %g × %g mm; it must be positive", f.PitchXMM, f.PitchYMM)
+	}
+	return nil
+}
+
+// checkDestination: the folder exists and, without force, neither the
+// file nor its sidecar does.
+func checkDestination(path string, force bool) error {
+	dir := filepath.Dir(path)
+	if st, err := os.Stat(dir); err != nil {
+		if errors.Is(err, fs.ErrNotExist) {
+			return fmt.Errorf("%s: the output folder %s does not exist", path, dir)
+		}
+		return fmt.Errorf("%s: the output folder: %w", path, err)
+	} else if !st.IsDir() {
+		return fmt.Errorf("%s: %s is not a folder", path, dir)
+	}
+	if !force {
+		for _, p := range []string{path, SidecarPath(path)} {
+			if _, err := os.Lstat(p); err == nil {
+				return fmt.Errorf("%s: %w", p, ErrExists)
+			}
+		}
+	}
+	return nil
+}
+
+// page is one frame ready for a container.
+type page struct {
+	frame      *recon.Frame
+	image      draw.Image // nil for raw float
+	tone       recon.Tone
+	scaleBarMM float64
+}
+
+// write is Write with the clock and the file writer injectable, so tests
+// can stamp a fixed time and make a write fail part way.
+func write(path string, frames []*recon.Frame, opts Options, now time.Time, wrap func(io.Writer) io.Writer) error {
+	s, err := resolve(path, frames, opts)
+	if err != nil {
+		return err
+	}
+	if err := checkDestination(path, opts.Force); err != nil {
+		return err
+	}
+	dir, sidecar := filepath.Dir(path), SidecarPath(path)
+
+	pages := make([]page, len(frames))
+	for i, f := range frames {
+		pages[i].frame = f
+		if s.depth == 32 {
+			continue
+		}
+		tone := opts.Tone
+		if tone.Window == 0 {
+			auto := recon.AutoTone(f)
+			tone.Window, tone.Level = auto.Window, auto.Level
+		}
+		if tone.Gamma == 0 {
+			tone.Gamma = 1
+		}
+		img := toneImage(f, tone, s.depth, opts.NoData)
+		bar, err := overlay(img, f, opts.ScaleBarMM, opts.Caption)
+		if err != nil {
+			return fmt.Errorf("%s: frame %d: %w", path, i+1, err)
+		}
+		pages[i] = page{frame: f, image: img, tone: tone, scaleBarMM: bar}
+	}
+
+	recipeJSON := asciiJSON(frames[0].Recipe.JSON())
+	sidecarJSON, err := sidecarBytes(path, pages, s, opts, now, recipeJSON)
+	if err != nil {
+		return fmt.Errorf("%s: %w", sidecar, err)
+	}
+	encode := func(w io.Writer) error {
+		if s.format == formatPNG {
+			return writePNG(w, pages[0], recipeJSON, opts.Caption, now, s.pngLevel)
+		}
+		return writeTIFF(w, pages, recipeJSON, s, opts.NoData, now)
+	}
+	return placeFiles(dir, []pendingFile{
+		{path: path, encode: encode},
+		{path: sidecar, encode: func(w io.Writer) error { _, err := w.Write(sidecarJSON); return err }},
+	}, opts.Force, wrap)
+}
+
+func writeTIFF(w io.Writer, pages []page, recipeJSON []byte, s settings, noData float64, now time.Time) error {
+	tp := make([]tiffPage, len(pages))
+	for i, p := range pages {
+		f := p.frame
+		t := tiffPage{
+			width: f.Width, height: f.Height, bitsPerSample: s.depth,
+			sampleFormat: sampleFormatUInt,
+			pixelsPerCMX: 10 / f.PitchXMM, pixelsPerCMY: 10 / f.PitchYMM,
+			description: string(recipeJSON),
+		}
+		if s.depth == 32 {
+			t.sampleFormat = sampleFormatIEEEFP
+			t.samples = floatSamples(f, noData)
+		} else {
+			t.samples = tiffSamples(p.image)
+		}
+		if len(pages) > 1 {
+			t.pageName = fmt.Sprintf("stroke %d", f.Stroke+1)
+		}
+		tp[i] = t
+	}
+	return encodeTIFF(w, tp, tiffFile{compression: s.tiffCode, software: Software, created: now})
+}
+
+func writePNG(w io.Writer, p page, recipeJSON []byte, caption string, now time.Time, level png.CompressionLevel) error {
+	f := p.frame
+	ppmX, err := pixelsPerMetre(f.PitchXMM)
+	if err != nil {
+		return err
+	}
+	ppmY, err := pixelsPerMetre(f.PitchYMM)
+	if err != nil {
+		return err
+	}
+	report, err := json.MarshalIndent(f.Report, "", "  ")
+	if err != nil {
+		return fmt.Errorf("the build report: %w", err)
+	}
+	desc := fmt.Sprintf("Frame of %d x %d pixels at %s x %s mm pitch: %s x %s mm.",
+		f.Width, f.Height, fmtMM(f.PitchXMM), fmtMM(f.PitchYMM),
+		fmtMM(float64(f.Width)*f.PitchXMM), fmtMM(float64(f.Height)*f.PitchYMM))
+	if caption != "" {
+		desc += " " + caption
+	}
+	texts := []pngText{
+		{keywordSoftware, Software},
+		{keywordDescription, latin1Lossy(desc)},
+		{keywordCreationTime, now.UTC().Format(time.RFC1123Z)},
+		{keywordRecipe, string(recipeJSON)},
+		{keywordReport, string(asciiJSON(report))},
+	}
+	return encodePNG(w, p.image, ppmX, ppmY, texts, level)
+}
+
+// pixelsPerMetre is the pHYs value for a pitch: 1000 / pitch in mm,
+// rounded (PNG §11.3.5.3 stores whole pixels per unit).
+func pixelsPerMetre(pitchMM float64) (uint32, error) {
+	v := math.Round(1000 / pitchMM)
+	if !(v >= 1) || v > math.MaxUint32 {
+		return 0, fmt.Errorf("a %g mm pitch is %g pixels per metre, which pHYs cannot hold (1 … 2^32−1)", pitchMM, 1000/pitchMM)
+	}
+	return uint32(v), nil
+}
+
+func fmtMM(v float64) string { return strconv.FormatFloat(v, 'g', 6, 64) }
+
+// latin1Lossy replaces characters outside Latin-1 with '?', for the free
+// text of the description.
+func latin1Lossy(s string) string {
+	return strings.Map(func(r rune) rune {
+		if r > 0xff || r == 0 {
+			return '?'
+		}
+		return r
+	}, s)
+}
+
+// asciiJSON escapes every non-ASCII character of a JSON text as \uXXXX
+// (a surrogate pair above U+FFFF, RFC 8259 §7). Outside strings JSON is
+// ASCII already, so the result is the same JSON value in 7-bit bytes, as
+// the TIFF ASCII type requires (TIFF 6.0 Section 2).
+func asciiJSON(b []byte) []byte {
+	ascii := true
+	for _, c := range b {
+		if c >= 0x80 {
+			ascii = false
+			break
+		}
+	}
+	if ascii {
+		return b
+	}
+	var out []byte
+	for _, r := range string(b) {
+		if r < 0x80 {
+			out = append(out, byte(r))
+			continue
+		}
+		if r > 0xffff {
+			hi, lo := utf16.EncodeRune(r)
+			out = fmt.Appendf(out, `\u%04x\u%04x`, hi, lo)
+			continue
+		}
+		out = fmt.Appendf(out, `\u%04x`, r)
+	}
+	return out
+}
+
+// sidecarFile is the JSON beside every export.
+type sidecarFile struct {
+	Format   string          `json:"format"`
+	File     string          `json:"file"`
+	Software string          `json:"software"`
+	Written  string          `json:"written"`
+	Export   sidecarExport   `json:"export"`
+	Pages    []sidecarPage   `json:"pages"`
+	Recipe   json.RawMessage `json:"recipe"`
+	Report   recon.Report    `json:"report"`
+}
+
+type sidecarExport struct {
+	Depth       int    `json:"depth"`
+	Raw         bool   `json:"raw"`
+	Compression string `json:"compression"`
+	NoData      any    `json:"no_data"` // a number, or "NaN"
+	Caption     string `json:"caption,omitempty"`
+}
+
+type sidecarPage struct {
+	Stroke     int          `json:"stroke"`
+	Columns    int          `json:"columns"`
+	Rows       int          `json:"rows"`
+	PitchXMM   float64      `json:"pitch_x_mm"`
+	PitchYMM   float64      `json:"pitch_y_mm"`
+	OriginXMM  float64      `json:"origin_x_mm"`
+	OriginYMM  float64      `json:"origin_y_mm"`
+	WidthMM    float64      `json:"width_mm"`
+	HeightMM   float64      `json:"height_mm"`
+	Tone       *sidecarTone `json:"tone,omitempty"`
+	ScaleBarMM float64      `json:"scale_bar_mm,omitempty"`
+	Coverage   float64      `json:"coverage"`
+}
+
+type sidecarTone struct {
+	Window float64 `json:"window"`
+	Level  float64 `json:"level"`
+	Gamma  float64 `json:"gamma"`
+	Invert bool    `json:"invert"`
+}
+
+// SidecarFormat is the "format" value of every sidecar.
+const SidecarFormat = "spotloom-export/1"
+
+func sidecarBytes(path string, pages []page, s settings, opts Options, now time.Time, recipeJSON []byte) ([]byte, error) {
+	var noData any = opts.NoData
+	if math.IsNaN(opts.NoData) || math.IsInf(opts.NoData, 0) {
+		noData = strconv.FormatFloat(opts.NoData, 'g', -1, 64)
+	}
+	sc := sidecarFile{
+		Format: SidecarFormat, File: filepath.Base(path), Software: Software,
+		Written: now.UTC().Format(time.RFC3339),
+		Export: sidecarExport{Depth: s.depth, Raw: s.depth == 32, Compression: s.compression,
+			NoData: noData, Caption: opts.Caption},
+		Recipe: recipeJSON,
+		Report: pages[0].frame.Report,
+	}
+	for _, p := range pages {
+		f := p.frame
+		covered := 0
+		for _, c := range f.Covered {
+			if c {
+				covered++
+			}
+		}
+		sp := sidecarPage{
+			Stroke: f.Stroke, Columns: f.Width, Rows: f.Height,
+			PitchXMM: f.PitchXMM, PitchYMM: f.PitchYMM, OriginXMM: f.OriginXMM, OriginYMM: f.OriginYMM,
+			WidthMM: float64(f.Width) * f.PitchXMM, HeightMM: float64(f.Height) * f.PitchYMM,
+			ScaleBarMM: p.scaleBarMM,
+			Coverage:   float64(covered) / float64(len(f.Covered)),
+		}
+		if p.image != nil {
+			sp.Tone = &sidecarTone{p.tone.Window, p.tone.Level, p.tone.Gamma, p.tone.Invert}
+		}
+		sc.Pages = append(sc.Pages, sp)
+	}
+	b, err := json.MarshalIndent(sc, "", "  ")
+	if err != nil {
+		return nil, err
+	}
+	return append(b, '\n'), nil
+}
