@@ -49,4 +49,8 @@ const (
 	// MaxSampleRateHz is the highest sample rate accepted from a file; a
 	// header above it is damaged rather than fast.
 	MaxSampleRateHz = 1e10
+	// maxWAVRateHz is the highest rate a WAV header may state: 100 MHz is
+	// far beyond any sound card or WAV-writing ADC, so a higher field (such
+	// as 0xFFFFFFFF) is damage.
+	maxWAVRateHz = 1e8
 )

@@ -144,8 +144,8 @@ func parseFmt(b []byte, off int64) (wavFormat, error) {
 		return f, bad(2, "zero channels", fmt.Sprintf("1 to %d channels", MaxChannels))
 	case f.channels > MaxChannels:
 		return f, &UnsupportedError{Format: "wav", Place: AtByte(off + chunkHeaderSize + 2), Feature: fmt.Sprintf("%d channels", f.channels), Expected: fmt.Sprintf("1 to %d channels", MaxChannels)}
-	case f.sampleRate == 0 || float64(f.sampleRate) > MaxSampleRateHz:
-		return f, bad(4, fmt.Sprintf("sample rate %d Hz", f.sampleRate), fmt.Sprintf("1 Hz to %g Hz", MaxSampleRateHz))
+	case f.sampleRate == 0 || float64(f.sampleRate) > maxWAVRateHz:
+		return f, bad(4, fmt.Sprintf("sample rate %d Hz", f.sampleRate), fmt.Sprintf("1 Hz to %g Hz", maxWAVRateHz))
 	}
 	switch f.tag {
 	case waveFormatPCM:
