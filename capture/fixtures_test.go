@@ -252,8 +252,12 @@ var badFixtures = []struct {
 	{"absurd_rate.wav", func() []byte { return patched(validWAV(), 24, 0xFFFFFFFF, 4) }, "byte 24", "sample rate 4294967295 Hz"},
 	{"compressed.wav", func() []byte { return patched(validWAV(), 20, 2, 2) }, "byte 20", "format tag 0x0002"},
 	{"not_riff.wav", func() []byte { return []byte("this is not a wave file at all\n") }, "byte 0", `"RIFF"`},
-	{"not_number.csv", func() []byte { return []byte("time (s),det (V),idx (V)\n0,0.1,0\n0.001,0.2,5\n0.002,0.3x,5\n0.003,0.4,0\n") }, "line 4:7", `"0.3x"`},
-	{"ragged.csv", func() []byte { return []byte("time (s),det (V),idx (V)\n0,0.1,0\n0.001,0.2\n0.002,0.3,5\n0.003,0.4,0\n") }, "line 3", "2 fields"},
+	{"not_number.csv", func() []byte {
+		return []byte("time (s),det (V),idx (V)\n0,0.1,0\n0.001,0.2,5\n0.002,0.3x,5\n0.003,0.4,0\n")
+	}, "line 4:7", `"0.3x"`},
+	{"ragged.csv", func() []byte {
+		return []byte("time (s),det (V),idx (V)\n0,0.1,0\n0.001,0.2\n0.002,0.3,5\n0.003,0.4,0\n")
+	}, "line 3", "2 fields"},
 	{"time_backwards.csv", func() []byte { return []byte("time (s),det (V)\n0,1\n0.002,2\n0.001,3\n0.003,4\n") }, "line 4:1", "does not come after"},
 	{"empty.csv", func() []byte { return nil }, "", "empty"},
 	{"odd_size.bin", func() []byte { return make([]byte, 6*10+3) }, "byte 60", "not a whole number of 6-byte frames"},
