@@ -1,0 +1,94 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"os"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/app"
+
+	"spotloom/app/ui"
+	"spotloom/assets"
+	"spotloom/recon/recipe"
+)
+
+func init() {
+	register(command{
+		name:    "open",
+		summary: "open the workstation window (on the built-in demo when no file is given)",
+		run:     runOpen,
+	})
+}
+
+const openDescription = `
+Opens the Spotloom window on a capture (WAV, CSV or raw with a layout), or on
+the built-in demo capture when no FILE is given. Without --recipe the window
+uses FILE-without-extension.recipe.json when it exists, else settings with the
+channel roles guessed from the capture.
+
+With --snapshot the window is rendered without a display (software renderer)
+to a PNG once the first image is built, and the command exits: for
+documentation and tests.`
+
+func runOpen(args []string, _, stderr io.Writer) error {
+	fs := newFlagSet("open", "open [FILE] [--recipe R.json] [--snapshot OUT.png]", openDescription, stderr)
+	recipePath := fs.String("recipe", "", "build with this recipe `R.json`")
+	snapshot := fs.String("snapshot", "", "render the window to `OUT.png` and exit")
+	positional, err := parseFlags(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(positional) > 1 {
+		return usagef("open takes at most one capture file, got %d: %q", len(positional), positional)
+	}
+	file := ""
+	if len(positional) == 1 {
+		file = positional[0]
+		if _, err := os.Stat(file); err != nil {
+			return fmt.Errorf("%s: %w", file, unwrapStat(err))
+		}
+	}
+	var r *recipe.Recipe
+	if *recipePath != "" {
+		loaded, err := recipe.Load(*recipePath)
+		if err != nil {
+			return err
+		}
+		r = &loaded
+	}
+	opts := ui.Options{Icon: assets.Icon}
+	if *snapshot != "" {
+		img, err := ui.Snapshot(file, r, opts)
+		if err != nil {
+			if file == "" {
+				return fmt.Errorf("snapshot of the built-in demo: %w", err)
+			}
+			return fmt.Errorf("snapshot of %s: %w", file, err)
+		}
+		return ui.WritePNG(*snapshot, img)
+	}
+
+	a := app.NewWithID("org.spotloom.workstation")
+	a.SetIcon(assets.Icon)
+	a.Settings().SetTheme(ui.Theme())
+	w := a.NewWindow("Spotloom")
+	w.SetIcon(assets.Icon)
+	ws := ui.New(a, w, opts)
+	w.Resize(fyne.NewSize(1440, 900))
+	if file == "" {
+		ws.OpenDemoWithRecipe(r)
+	} else {
+		ws.OpenFile(file, r)
+	}
+	w.ShowAndRun()
+	return nil
+}
+
+// unwrapStat drops the path that os.Stat repeats in its error.
+func unwrapStat(err error) error {
+	if pe, ok := err.(*os.PathError); ok {
+		return pe.Err
+	}
+	return err
+}

@@ -1,0 +1,708 @@
+package ui
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"sync"
+	"time"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/storage"
+
+	"spotloom/capture"
+	"spotloom/recon"
+	"spotloom/recon/recipe"
+	"spotloom/sampledata"
+)
+
+// opened is what an open job hands back: a capture with its engine and
+// the first build.
+type opened struct {
+	rec    *capture.Recording
+	engine Engine
+	recipe recipe.Recipe
+	result *Result
+	path   string
+	name   string
+	note   string // how the recipe was chosen
+}
+
+func (ws *Workstation) openFunc() OpenFunc {
+	if ws.opts.Open != nil {
+		return ws.opts.Open
+	}
+	return capture.Open
+}
+
+func (ws *Workstation) engineFunc() EngineFunc {
+	if ws.opts.NewEngine != nil {
+		return ws.opts.NewEngine
+	}
+	return NewSessionEngine
+}
+
+// OpenDemo shows the built-in demo capture with its recipe.
+func (ws *Workstation) OpenDemo() { ws.OpenDemoWithRecipe(nil) }
+
+// OpenDemoWithRecipe shows the built-in demo built with r (the demo's own
+// recipe when r is nil).
+func (ws *Workstation) OpenDemoWithRecipe(given *recipe.Recipe) {
+	newEngine := ws.engineFunc()
+	var givenCopy *recipe.Recipe
+	if given != nil {
+		c := cloneRecipe(*given)
+		givenCopy = &c
+	}
+	ws.submitOpen("Opening the built-in demo", func(ctx context.Context, progress func(string, float64)) (*opened, error) {
+		progress("making the demo capture", 0)
+		rec, err := sampledata.Demo()
+		if err != nil {
+			return nil, fmt.Errorf("the built-in demo could not be made: %w", err)
+		}
+		eng := newEngine(rec)
+		r := sampledata.DemoRecipe()
+		if givenCopy != nil {
+			r = *givenCopy
+		}
+		res, err := eng.Build(ctx, r, progress)
+		if err != nil {
+			return nil, fmt.Errorf("the built-in demo could not be built: %w", err)
+		}
+		return &opened{rec: rec, engine: eng, recipe: r, result: res, name: "built-in demo"}, nil
+	}, "")
+}
+
+// OpenFile opens the capture at path. With r nil it uses, in this order, a
+// recipe saved beside the capture (NAME.recipe.json), the current recipe
+// with the channel roles guessed from the capture, or the default recipe
+// with guessed roles; the first that builds wins.
+func (ws *Workstation) OpenFile(path string, r *recipe.Recipe) {
+	ws.openWith(path, capture.Options{}, r)
+}
+
+func (ws *Workstation) openWith(path string, copts capture.Options, given *recipe.Recipe) {
+	open, newEngine := ws.openFunc(), ws.engineFunc()
+	current := cloneRecipe(ws.cur.Recipe)
+	haveCurrent := ws.result != nil
+	var givenCopy *recipe.Recipe
+	if given != nil {
+		c := cloneRecipe(*given)
+		givenCopy = &c
+	}
+	ws.submitOpen("Opening "+filepath.Base(path), func(ctx context.Context, progress func(string, float64)) (*opened, error) {
+		copts.Progress = func(f float64) { progress("reading "+filepath.Base(path), f) }
+		rec, err := open(path, copts)
+		if err != nil {
+			return nil, err
+		}
+		eng := newEngine(rec)
+		var tries []recipeTry
+		if givenCopy != nil {
+			tries = append(tries, recipeTry{*givenCopy, "the recipe given"})
+		} else {
+			side := strings.TrimSuffix(path, filepath.Ext(path)) + ".recipe.json"
+			if sr, err := recipe.Load(side); err == nil {
+				tries = append(tries, recipeTry{sr, "the recipe saved beside the capture (" + filepath.Base(side) + ")"})
+			}
+			if haveCurrent {
+				tries = append(tries, recipeTry{withGuessedRoles(current, rec), "the current settings with channel roles guessed from the capture"})
+			}
+			tries = append(tries, recipeTry{withGuessedRoles(recipe.Default(), rec), "starting settings with channel roles guessed from the capture"})
+		}
+		var firstErr error
+		for _, t := range tries {
+			res, err := eng.Build(ctx, t.recipe, progress)
+			if err == nil {
+				return &opened{rec: rec, engine: eng, recipe: t.recipe, result: res, path: path, name: filepath.Base(path), note: t.note}, nil
+			}
+			if ctx.Err() != nil {
+				return nil, ctx.Err()
+			}
+			if firstErr == nil {
+				firstErr = fmt.Errorf("with %s: %w", t.note, err)
+			}
+		}
+		return nil, &buildFailed{path: path, err: firstErr}
+	}, path)
+}
+
+type recipeTry struct {
+	recipe recipe.Recipe
+	note   string
+}
+
+// buildFailed marks a capture that was read but would not build.
+type buildFailed struct {
+	path string
+	err  error
+}
+
+func (e *buildFailed) Error() string { return e.err.Error() }
+func (e *buildFailed) Unwrap() error { return e.err }
+
+// withGuessedRoles returns r with the channel roles the capture suggests:
+// for each role the channel guessed with the highest confidence.
+func withGuessedRoles(r recipe.Recipe, rec *capture.Recording) recipe.Recipe {
+	r = cloneRecipe(r)
+	best := map[string]capture.RoleGuess{}
+	for _, g := range capture.GuessRoles(rec) {
+		if b, ok := best[g.Role]; !ok || g.Confidence > b.Confidence {
+			best[g.Role] = g
+		}
+	}
+	ref := func(g capture.RoleGuess) recipe.ChannelRef { return recipe.ChannelRef(strconv.Itoa(g.Channel)) }
+	if g, ok := best["detector"]; ok {
+		r.Channels.Detector = ref(g)
+	}
+	if g, ok := best["index"]; ok {
+		r.Channels.Index = ref(g)
+	}
+	switch pos, okPos := best["position"]; {
+	case okPos:
+		r.Channels.Position = ref(pos)
+		r.Channels.Steps = ""
+		if r.Rows.Source == "steps" || r.Rows.Source == "even" {
+			r.Rows.Source = "position"
+		}
+	default:
+		if g, ok := best["steps"]; ok {
+			r.Channels.Steps = ref(g)
+			r.Channels.Position = ""
+			r.Rows.Source = "steps"
+		}
+	}
+	return r
+}
+
+func (ws *Workstation) submitOpen(what string, run func(ctx context.Context, progress func(string, float64)) (*opened, error), path string) {
+	ws.busy(what)
+	ws.work.submit(&job{
+		run: func(ctx context.Context, progress func(string, float64)) (any, error) {
+			return run(ctx, progress)
+		},
+		done: func(value any, err error, _ bool) {
+			fyne.Do(func() {
+				ws.idle()
+				if err != nil {
+					ws.openFailed(path, err)
+					return
+				}
+				ws.finishOpen(value.(*opened))
+			})
+		},
+	})
+}
+
+func (ws *Workstation) openFailed(path string, err error) {
+	name := filepath.Base(path)
+	if path == "" {
+		name = "the built-in demo"
+	}
+	switch {
+	case errors.Is(err, context.Canceled):
+		ws.stage.SetText("Opening stopped; the previous capture is still shown")
+	case isRawWithoutLayout(path, err):
+		ws.showProblem("Cannot read "+name, err.Error(),
+			"this looks like a raw sample file: describe its layout (sample type, channels, rate) in the form that follows, or put a "+
+				strings.TrimSuffix(name, filepath.Ext(name))+".layout.json beside it.")
+		ws.askRawLayout(path)
+	default:
+		var bf *buildFailed
+		if errors.As(err, &bf) {
+			ws.showProblem("Cannot build "+name, "The capture was read, but no image could be formed from it "+err.Error()+".",
+				"check the channel roles in the Source panel and the timing in a recipe (Load recipe…); `spotloom probe FILE` lists the channels and the guessed roles. The previous capture is still shown.")
+			return
+		}
+		ws.showProblem("Cannot open "+name, err.Error(),
+			"make sure the file is a WAV, CSV or raw capture that is complete; `spotloom probe FILE` shows what Spotloom sees in it. The previous capture is still shown.")
+	}
+}
+
+func isRawWithoutLayout(path string, err error) bool {
+	if path == "" {
+		return false
+	}
+	switch strings.ToLower(filepath.Ext(path)) {
+	case ".bin", ".raw", ".adc", ".pcm", ".i16", ".u16", ".f32":
+	default:
+		return false
+	}
+	text := strings.ToLower(err.Error())
+	return strings.Contains(text, "layout")
+}
+
+func (ws *Workstation) finishOpen(o *opened) {
+	ws.rec, ws.engine = o.rec, o.engine
+	ws.sourcePath, ws.sourceName = o.path, o.name
+	ws.hist = newHistory()
+	ws.cur = settings{Recipe: cloneRecipe(o.recipe)}
+	ws.frameIndex = 0
+	ws.result = nil
+	ws.applyResult(o.result, true)
+	ws.good = ws.cur.clone()
+	ws.source.showCapture(o.rec, o.path, o.note)
+	ws.relayout()
+	ws.setTitle()
+	ws.updateUndo()
+	if o.path != "" {
+		ws.addRecent(o.path)
+	}
+	ws.stage.SetText(fmt.Sprintf("Opened %s", o.name))
+}
+
+// rebuild asks for a build of the current settings; a newer call cancels
+// a build still running.
+func (ws *Workstation) rebuild(reason string) {
+	if ws.engine == nil {
+		return
+	}
+	eng := ws.engine
+	r := cloneRecipe(ws.cur.Recipe)
+	ws.buildSeq++
+	seq := ws.buildSeq
+	started := time.Now()
+	ws.busy("Building")
+	ws.work.submit(&job{
+		build: true,
+		run: func(ctx context.Context, progress func(string, float64)) (any, error) {
+			return eng.Build(ctx, r, progress)
+		},
+		done: func(value any, err error, superseded bool) {
+			elapsed := time.Since(started)
+			fyne.Do(func() {
+				if eng != ws.engine {
+					return // a different capture was opened meanwhile
+				}
+				if !superseded {
+					ws.idle()
+				}
+				ws.finishBuild(r, value, err, superseded, seq, reason, elapsed)
+			})
+		},
+	})
+}
+
+func (ws *Workstation) finishBuild(r recipe.Recipe, value any, err error, superseded bool, seq int, reason string, elapsed time.Duration) {
+	if err != nil {
+		if superseded {
+			return // a newer build is on its way
+		}
+		if errors.Is(err, context.Canceled) {
+			ws.restoreGood()
+			ws.stage.SetText("Build stopped; the settings of the image shown are restored")
+			return
+		}
+		ws.restoreGood()
+		what := reason
+		if what == "" {
+			what = "These settings"
+		}
+		ws.showProblem("Cannot build with these settings", fmt.Sprintf("%s could not be used: %v.", what, err),
+			"change the value back or pick another one; the image and the settings it was made with are restored.")
+		return
+	}
+	res, _ := value.(*Result)
+	if res == nil {
+		return
+	}
+	ws.applyResult(res, false)
+	ws.good = settings{Recipe: cloneRecipe(r), Tone: ws.cur.Tone}
+	if !superseded {
+		ws.lastBuild = elapsed
+		ws.stage.SetText(fmt.Sprintf("Built in %d ms", elapsed.Milliseconds()))
+	}
+}
+
+// restoreGood puts back the settings the image shown was built with.
+func (ws *Workstation) restoreGood() {
+	if len(ws.hist.undo) > 0 && sameSettings(ws.hist.undo[len(ws.hist.undo)-1], ws.good) {
+		ws.hist.dropLast()
+	}
+	ws.cur = ws.good.clone()
+	if ws.result != nil {
+		ws.controls.show(ws.cur, ws.result)
+		ws.source.showRoles(ws.cur.Recipe)
+	}
+	ws.updateUndo()
+}
+
+// applyResult shows a finished build. first means a new capture: the tone
+// is set automatically and the view fits the frame.
+func (ws *Workstation) applyResult(res *Result, first bool) {
+	ws.result = res
+	if len(res.Frames) == 0 {
+		ws.frameIndex = 0
+	} else if ws.frameIndex >= len(res.Frames) {
+		ws.frameIndex = len(res.Frames) - 1
+	}
+	var frame *recon.Frame
+	if len(res.Frames) > 0 {
+		frame = res.Frames[ws.frameIndex]
+	}
+	if first || ws.controls.autoEachBuild() {
+		if frame != nil {
+			ws.cur.Tone = recon.AutoTone(frame)
+		}
+	}
+	ws.view.SetFrame(frame, ws.cur.Tone)
+	ws.showZoom(ws.view.Zoom())
+	det, idx, pos := ws.roleChannels(res.Recipe)
+	ws.strip.SetData(ws.rec, det, idx, pos, res.Lines, res.Report.Threshold)
+	ws.showLineNumber()
+	ws.facts.show(res.Report, ws.rec)
+	ws.controls.show(ws.cur, res)
+	ws.showFrameControls()
+	ws.relayout()
+}
+
+// roleChannels returns the channel numbers of the detector, index and
+// position (or steps) roles of r in the capture shown; -1 for none.
+func (ws *Workstation) roleChannels(r recipe.Recipe) (det, idx, pos int) {
+	look := func(ref recipe.ChannelRef) int {
+		if ws.rec == nil || !ref.IsSet() {
+			return -1
+		}
+		i, err := ws.rec.Lookup(string(ref))
+		if err != nil {
+			return -1
+		}
+		return i
+	}
+	det, idx, pos = look(r.Channels.Detector), look(r.Channels.Index), look(r.Channels.Position)
+	if pos < 0 {
+		pos = look(r.Channels.Steps)
+	}
+	return det, idx, pos
+}
+
+// change edits the recipe from control and rebuilds.
+func (ws *Workstation) change(control string, edit func(r *recipe.Recipe)) {
+	if ws.result == nil {
+		return
+	}
+	before := ws.cur.clone()
+	next := ws.cur.clone()
+	edit(&next.Recipe)
+	if sameRecipe(next.Recipe, before.Recipe) {
+		return
+	}
+	ws.hist.record(control, before)
+	ws.cur = next
+	ws.updateUndo()
+	ws.rebuild("")
+}
+
+// changeTone edits the tone from control; only the view is redrawn.
+func (ws *Workstation) changeTone(control string, edit func(t *recon.Tone)) {
+	before := ws.cur.clone()
+	t := ws.cur.Tone
+	edit(&t)
+	if t == before.Tone {
+		return
+	}
+	ws.hist.record(control, before)
+	ws.cur.Tone = t
+	ws.good.Tone = t
+	ws.view.SetTone(t)
+	ws.updateUndo()
+}
+
+// AutoTone sets the tone from the histogram of the frame shown.
+func (ws *Workstation) AutoTone() {
+	f := ws.view.Frame()
+	if f == nil {
+		return
+	}
+	t := recon.AutoTone(f)
+	t.Invert = ws.cur.Tone.Invert
+	ws.changeTone("auto tone", func(tone *recon.Tone) { *tone = t })
+	ws.controls.showTone(ws.cur.Tone, f)
+}
+
+// Undo restores the settings before the last change.
+func (ws *Workstation) Undo() { ws.restore(ws.hist.back(ws.cur)) }
+
+// Redo re-applies the last change undone.
+func (ws *Workstation) Redo() { ws.restore(ws.hist.forward(ws.cur)) }
+
+func (ws *Workstation) restore(s settings, ok bool) {
+	if !ok || ws.result == nil {
+		return
+	}
+	recipeChanged := !sameRecipe(s.Recipe, ws.cur.Recipe)
+	ws.cur = s.clone()
+	ws.view.SetTone(ws.cur.Tone)
+	ws.controls.show(ws.cur, ws.result)
+	ws.source.showRoles(ws.cur.Recipe)
+	ws.updateUndo()
+	if recipeChanged {
+		ws.rebuild("The restored settings")
+	} else {
+		ws.good.Tone = ws.cur.Tone
+	}
+}
+
+func (ws *Workstation) updateUndo() {
+	set := func(b interface {
+		Enable()
+		Disable()
+	}, on bool) {
+		if on {
+			b.Enable()
+		} else {
+			b.Disable()
+		}
+	}
+	set(ws.undoButton, ws.hist.canUndo())
+	set(ws.redoButton, ws.hist.canRedo())
+	if ws.menuUndo != nil {
+		ws.menuUndo.Disabled = !ws.hist.canUndo()
+		ws.menuRedo.Disabled = !ws.hist.canRedo()
+		ws.mainMenu.Refresh()
+	}
+}
+
+// Cancel stops the running build or open; the image and settings stay.
+func (ws *Workstation) Cancel() { ws.work.stop() }
+
+// EstimateApertureOffsets sets the per-aperture offsets that line up
+// neighbouring lines of the current image.
+func (ws *Workstation) EstimateOffsets() {
+	if ws.engine == nil || ws.result == nil {
+		return
+	}
+	eng := ws.engine
+	r := cloneRecipe(ws.cur.Recipe)
+	ws.busy("Estimating aperture offsets")
+	ws.work.submit(&job{
+		run: func(ctx context.Context, progress func(string, float64)) (any, error) {
+			progress("estimating aperture offsets", 0)
+			return eng.EstimateApertureOffsets(ctx, r)
+		},
+		done: func(value any, err error, _ bool) {
+			fyne.Do(func() {
+				ws.idle()
+				if eng != ws.engine {
+					return
+				}
+				if err != nil {
+					if errors.Is(err, context.Canceled) {
+						ws.stage.SetText("Estimate stopped")
+						return
+					}
+					ws.showProblem("Cannot estimate aperture offsets", err.Error()+".",
+						"the estimate needs several lines of each aperture over a textured part of the scene; set the offsets by hand while watching the image.")
+					return
+				}
+				offsets, _ := value.([]float64)
+				ws.change("estimate offsets", func(r *recipe.Recipe) {
+					r.Sweep.ApertureOffsetsDeg = append([]float64(nil), offsets...)
+				})
+				ws.stage.SetText("Aperture offsets estimated: " + formatList(offsets, "%.3f°"))
+			})
+		},
+	})
+}
+
+func formatList(v []float64, format string) string {
+	parts := make([]string, len(v))
+	for i, x := range v {
+		parts[i] = fmt.Sprintf(format, x)
+	}
+	return strings.Join(parts, ", ")
+}
+
+// progress reports are thinned to about 20 a second before they reach the
+// UI goroutine.
+var progressGate struct {
+	sync.Mutex
+	last time.Time
+}
+
+func (ws *Workstation) reportProgress(stage string, fraction float64) {
+	progressGate.Lock()
+	now := time.Now()
+	if fraction > 0 && fraction < 1 && now.Sub(progressGate.last) < 50*time.Millisecond {
+		progressGate.Unlock()
+		return
+	}
+	progressGate.last = now
+	progressGate.Unlock()
+	fyne.Do(func() {
+		ws.stage.SetText(stage)
+		ws.progress.SetValue(fraction)
+	})
+}
+
+func (ws *Workstation) busy(what string) {
+	ws.stage.SetText(what)
+	ws.progress.SetValue(0)
+	ws.cancel.Enable()
+}
+
+func (ws *Workstation) idle() {
+	ws.progress.SetValue(1)
+	ws.cancel.Disable()
+}
+
+// ChooseCapture asks for a capture file and opens it.
+func (ws *Workstation) ChooseCapture() {
+	d := dialog.NewFileOpen(func(rc fyne.URIReadCloser, err error) {
+		if err != nil {
+			ws.showProblem("Cannot open the file", err.Error(), "pick the file again.")
+			return
+		}
+		if rc == nil {
+			return
+		}
+		path := rc.URI().Path()
+		rc.Close()
+		ws.OpenFile(path, nil)
+	}, ws.win)
+	ws.startIn(d, ws.sourcePath)
+	d.SetConfirmText("Open")
+	d.Resize(fyne.NewSize(820, 560))
+	d.Show()
+}
+
+func (ws *Workstation) startIn(d *dialog.FileDialog, near string) {
+	dir := ""
+	if near != "" {
+		dir = filepath.Dir(near)
+	} else if wd, err := os.Getwd(); err == nil {
+		dir = wd
+	}
+	if dir == "" {
+		return
+	}
+	if l, err := storage.ListerForURI(storage.NewFileURI(dir)); err == nil {
+		d.SetLocation(l)
+	}
+}
+
+// ChooseRecipe asks for a recipe file and applies it.
+func (ws *Workstation) ChooseRecipe() {
+	d := dialog.NewFileOpen(func(rc fyne.URIReadCloser, err error) {
+		if err != nil || rc == nil {
+			return
+		}
+		path := rc.URI().Path()
+		rc.Close()
+		ws.LoadRecipe(path)
+	}, ws.win)
+	d.SetFilter(storage.NewExtensionFileFilter([]string{".json"}))
+	ws.startIn(d, ws.sourcePath)
+	d.Resize(fyne.NewSize(820, 560))
+	d.Show()
+}
+
+// LoadRecipe applies the recipe in path; if it does not fit the capture
+// the settings stay as they were.
+func (ws *Workstation) LoadRecipe(path string) {
+	r, err := recipe.Load(path)
+	if err != nil {
+		ws.showProblem("Cannot use "+filepath.Base(path), err.Error()+".",
+			"fix the key named above (the recipe format is spotloom-recipe/1) or save a fresh recipe with Save recipe… and edit that. The settings are unchanged.")
+		return
+	}
+	ws.applyRecipe(r, "The recipe "+filepath.Base(path))
+}
+
+// applyRecipe replaces the recipe and rebuilds; if the build fails the
+// settings go back to those of the image shown.
+func (ws *Workstation) applyRecipe(r recipe.Recipe, reason string) {
+	if ws.result == nil {
+		return
+	}
+	before := ws.cur.clone()
+	ws.hist.record("", before)
+	ws.cur.Recipe = cloneRecipe(r)
+	ws.updateUndo()
+	ws.controls.show(ws.cur, ws.result)
+	ws.source.showRoles(ws.cur.Recipe)
+	ws.rebuild(reason)
+}
+
+// SaveRecipe writes the recipe of the image shown, every automatic value
+// filled in, so the frame can be rebuilt exactly.
+func (ws *Workstation) SaveRecipe() {
+	if ws.result == nil {
+		return
+	}
+	data := ws.result.Recipe.JSON()
+	d := dialog.NewFileSave(func(wc fyne.URIWriteCloser, err error) {
+		if err != nil || wc == nil {
+			return
+		}
+		_, werr := wc.Write(data)
+		cerr := wc.Close()
+		if werr == nil {
+			werr = cerr
+		}
+		if werr != nil {
+			ws.showProblem("Cannot save the recipe", werr.Error(), "choose a folder you can write to.")
+			return
+		}
+		ws.stage.SetText("Recipe saved to " + wc.URI().Path())
+	}, ws.win)
+	name := "spotloom.recipe.json"
+	if ws.sourcePath != "" {
+		name = strings.TrimSuffix(filepath.Base(ws.sourcePath), filepath.Ext(ws.sourcePath)) + ".recipe.json"
+	}
+	d.SetFileName(name)
+	ws.startIn(d, ws.sourcePath)
+	d.Resize(fyne.NewSize(820, 560))
+	d.Show()
+}
+
+// recentKey is the preference that lists recently opened captures.
+const recentKey = "recent_captures"
+
+func (ws *Workstation) recent() []string {
+	if ws.app == nil {
+		return nil
+	}
+	return ws.app.Preferences().StringList(recentKey)
+}
+
+func (ws *Workstation) addRecent(path string) {
+	if ws.app == nil {
+		return
+	}
+	if abs, err := filepath.Abs(path); err == nil {
+		path = abs
+	}
+	list := []string{path}
+	for _, p := range ws.recent() {
+		if p != path && len(list) < 8 {
+			list = append(list, p)
+		}
+	}
+	ws.app.Preferences().SetStringList(recentKey, list)
+	ws.refreshRecentMenu()
+	ws.source.showRecent(list)
+}
+
+func (ws *Workstation) refreshRecentMenu() {
+	list := ws.recent()
+	var items []*fyne.MenuItem
+	for _, p := range list {
+		p := p
+		items = append(items, fyne.NewMenuItem(p, func() { ws.OpenFile(p, nil) }))
+	}
+	if len(items) == 0 {
+		none := fyne.NewMenuItem("(none yet)", nil)
+		none.Disabled = true
+		items = append(items, none)
+	}
+	ws.recentMenu.ChildMenu = fyne.NewMenu("", items...)
+	if ws.mainMenu != nil {
+		ws.mainMenu.Refresh()
+	}
+}

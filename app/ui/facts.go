@@ -1,0 +1,90 @@
+package ui
+
+import (
+	"fmt"
+	"strings"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/layout"
+	"fyne.io/fyne/v2/widget"
+
+	"spotloom/capture"
+	"spotloom/recon"
+)
+
+// factsPanel shows what the last build found, from its report.
+type factsPanel struct {
+	values   map[string]*widget.Label
+	order    []string
+	warnings *widget.Label
+	box      fyne.CanvasObject
+}
+
+// factNames are the rows of the panel, in order.
+var factNames = []string{
+	"Lines", "Repaired pulses", "Revolutions", "Rev/min", "Sweep time", "Line rate",
+	"Delay", "Index threshold", "Passes", "Frame size", "Pitch", "Coverage",
+	"Sample rate", "Duration",
+}
+
+func newFactsPanel() *factsPanel {
+	p := &factsPanel{values: map[string]*widget.Label{}, order: factNames}
+	form := container.New(layout.NewFormLayout())
+	for _, name := range factNames {
+		v := widget.NewLabel("–")
+		v.TextStyle = fyne.TextStyle{Monospace: true}
+		p.values[name] = v
+		form.Add(widget.NewLabel(name))
+		form.Add(v)
+	}
+	p.warnings = widget.NewLabel("none")
+	p.warnings.Wrapping = fyne.TextWrapWord
+	p.box = container.NewVBox(
+		widget.NewLabelWithStyle("Facts", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
+		form,
+		widget.NewSeparator(),
+		widget.NewLabelWithStyle("Warnings", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
+		p.warnings,
+	)
+	return p
+}
+
+func (p *factsPanel) object() fyne.CanvasObject { return p.box }
+
+// value returns the text shown for a fact, for tests.
+func (p *factsPanel) value(name string) string { return p.values[name].Text }
+
+func (p *factsPanel) show(rep recon.Report, rec *capture.Recording) {
+	set := func(name, text string) { p.values[name].SetText(text) }
+	set("Lines", fmt.Sprint(rep.Lines))
+	repaired := fmt.Sprint(rep.LinesRepaired)
+	if rep.Lines > 0 && rep.LinesRepaired > 0 {
+		repaired = fmt.Sprintf("%d (%.1f %%)", rep.LinesRepaired, 100*float64(rep.LinesRepaired)/float64(rep.Lines))
+	}
+	set("Repaired pulses", repaired)
+	set("Revolutions", fmt.Sprint(rep.Revolutions))
+	set("Rev/min", fmt.Sprintf("%.1f ± %.2f %%", rep.RPMMean, rep.RPMSpreadPct))
+	set("Sweep time", fmt.Sprintf("%.2f ms", rep.SweepMS))
+	set("Line rate", fmt.Sprintf("%.2f /s", rep.LineRateHz))
+	set("Delay", fmt.Sprintf("%.2f°", rep.DelayDeg))
+	set("Index threshold", fmt.Sprintf("%.4g", rep.Threshold))
+	set("Passes", fmt.Sprint(rep.Strokes))
+	set("Frame size", fmt.Sprintf("%d × %d px", rep.Columns, rep.Rows))
+	set("Pitch", fmt.Sprintf("%.3g mm", rep.PitchMM))
+	set("Coverage", fmt.Sprintf("%.1f %%", 100*rep.Coverage))
+	if rec != nil {
+		set("Sample rate", fmt.Sprintf("%.6g Hz", rec.SampleRateHz))
+		set("Duration", fmt.Sprintf("%.3f s", rec.DurationS()))
+	}
+	var warn []string
+	if rec != nil {
+		warn = append(warn, rec.Warnings...)
+	}
+	warn = append(warn, rep.Warnings...)
+	if len(warn) == 0 {
+		p.warnings.SetText("none")
+	} else {
+		p.warnings.SetText("• " + strings.Join(warn, "\n• "))
+	}
+}

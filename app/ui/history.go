@@ -1,0 +1,114 @@
+package ui
+
+import (
+	"encoding/json"
+	"time"
+
+	"spotloom/recon"
+	"spotloom/recon/recipe"
+)
+
+// settings is everything the user can change that undo and redo restore:
+// the recipe and the tone of the view.
+type settings struct {
+	Recipe recipe.Recipe
+	Tone   recon.Tone
+}
+
+func (s settings) clone() settings {
+	return settings{Recipe: cloneRecipe(s.Recipe), Tone: s.Tone}
+}
+
+// cloneRecipe deep-copies r through its JSON form, which keeps every key.
+func cloneRecipe(r recipe.Recipe) recipe.Recipe {
+	data, err := json.Marshal(r)
+	if err != nil {
+		return r
+	}
+	var out recipe.Recipe
+	if err := json.Unmarshal(data, &out); err != nil {
+		return r
+	}
+	return out
+}
+
+// sameRecipe reports whether a and b hold the same values.
+func sameRecipe(a, b recipe.Recipe) bool {
+	da, errA := json.Marshal(a)
+	db, errB := json.Marshal(b)
+	return errA == nil && errB == nil && string(da) == string(db)
+}
+
+func sameSettings(a, b settings) bool {
+	return a.Tone == b.Tone && sameRecipe(a.Recipe, b.Recipe)
+}
+
+// mergeWindow is how long a run of changes to one control counts as a
+// single step of undo: dragging a slider is one step, not a hundred.
+const mergeWindow = 1200 * time.Millisecond
+
+// history keeps undo and redo stacks of settings.
+type history struct {
+	undo, redo  []settings
+	lastControl string
+	lastAt      time.Time
+	now         func() time.Time
+	limit       int
+}
+
+func newHistory() *history {
+	return &history{now: time.Now, limit: 200}
+}
+
+// record notes that control is about to change the settings from before.
+// Changes to the same control in quick succession merge into one step.
+// It returns true when a new step was pushed.
+func (h *history) record(control string, before settings) bool {
+	t := h.now()
+	merge := control != "" && control == h.lastControl && t.Sub(h.lastAt) < mergeWindow && len(h.undo) > 0
+	h.lastControl, h.lastAt = control, t
+	h.redo = nil
+	if merge {
+		return false
+	}
+	h.undo = append(h.undo, before.clone())
+	if len(h.undo) > h.limit {
+		h.undo = h.undo[len(h.undo)-h.limit:]
+	}
+	return true
+}
+
+// dropLast removes the newest undo step (its change was refused).
+func (h *history) dropLast() {
+	if len(h.undo) > 0 {
+		h.undo = h.undo[:len(h.undo)-1]
+	}
+	h.lastControl = ""
+}
+
+// back returns the settings to restore for undo, given the current ones.
+func (h *history) back(current settings) (settings, bool) {
+	if len(h.undo) == 0 {
+		return current, false
+	}
+	prev := h.undo[len(h.undo)-1]
+	h.undo = h.undo[:len(h.undo)-1]
+	h.redo = append(h.redo, current.clone())
+	h.lastControl = ""
+	return prev, true
+}
+
+// forward returns the settings to restore for redo.
+func (h *history) forward(current settings) (settings, bool) {
+	if len(h.redo) == 0 {
+		return current, false
+	}
+	next := h.redo[len(h.redo)-1]
+	h.redo = h.redo[:len(h.redo)-1]
+	h.undo = append(h.undo, current.clone())
+	h.lastControl = ""
+	return next, true
+}
+
+func (h *history) canUndo() bool { return len(h.undo) > 0 }
+func (h *history) canRedo() bool { return len(h.redo) > 0 }

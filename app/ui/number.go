@@ -1,0 +1,126 @@
+package ui
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/widget"
+)
+
+// numberControl is a labelled slider with an entry beside it for typing an
+// exact value. Setting the value from code (set) does not call onChange.
+type numberControl struct {
+	label  *widget.Label
+	slider *widget.Slider
+	entry  *widget.Entry
+	format string
+	quiet  bool
+	value  float64
+	// onChange is called with the new value as the user moves or types.
+	onChange func(v float64)
+	box      fyne.CanvasObject
+}
+
+// newNumberControl makes a control for values from lo to hi in steps of
+// step, shown with format (e.g. "%.2f").
+func newNumberControl(name string, lo, hi, step float64, format string, onChange func(float64)) *numberControl {
+	c := &numberControl{format: format, onChange: onChange}
+	c.label = widget.NewLabel(name)
+	c.slider = widget.NewSlider(lo, hi)
+	c.slider.Step = step
+	c.entry = widget.NewEntry()
+	c.slider.OnChanged = func(v float64) {
+		if c.quiet {
+			return
+		}
+		c.value = v
+		c.showEntry()
+		if c.onChange != nil {
+			c.onChange(v)
+		}
+	}
+	c.entry.OnSubmitted = func(text string) { c.typed(text) }
+	c.entry.Validator = func(text string) error {
+		if _, err := parseNumber(text); err != nil {
+			return err
+		}
+		return nil
+	}
+	entryBox := container.NewGridWrap(fyne.NewSize(86, c.entry.MinSize().Height), c.entry)
+	c.box = container.NewBorder(c.label, nil, nil, entryBox, c.slider)
+	return c
+}
+
+func parseNumber(text string) (float64, error) {
+	text = strings.TrimSpace(strings.TrimRight(strings.TrimSpace(text), "°m"))
+	v, err := strconv.ParseFloat(strings.ReplaceAll(text, ",", "."), 64)
+	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, fmt.Errorf("type a number, e.g. 12.5")
+	}
+	return v, nil
+}
+
+// typed applies a value typed into the entry; values beyond the slider's
+// range widen it, since the range is only a convenience.
+func (c *numberControl) typed(text string) {
+	v, err := parseNumber(text)
+	if err != nil {
+		c.showEntry()
+		return
+	}
+	c.setQuiet(v)
+	if c.onChange != nil {
+		c.onChange(v)
+	}
+}
+
+// set shows v without calling onChange.
+func (c *numberControl) set(v float64) {
+	c.setQuiet(v)
+}
+
+func (c *numberControl) setQuiet(v float64) {
+	c.quiet = true
+	defer func() { c.quiet = false }()
+	c.value = v
+	if v < c.slider.Min {
+		c.slider.Min = v
+	}
+	if v > c.slider.Max {
+		c.slider.Max = v
+	}
+	c.slider.SetValue(v)
+	c.showEntry()
+}
+
+// setRange changes the slider's span without changing the value.
+func (c *numberControl) setRange(lo, hi float64) {
+	if !(hi > lo) {
+		return
+	}
+	c.quiet = true
+	defer func() { c.quiet = false }()
+	c.slider.Min, c.slider.Max = math.Min(lo, c.value), math.Max(hi, c.value)
+	c.slider.Refresh()
+}
+
+func (c *numberControl) showEntry() {
+	was := c.quiet
+	c.quiet = true
+	c.entry.SetText(fmt.Sprintf(c.format, c.value))
+	c.quiet = was
+}
+
+func (c *numberControl) enable(on bool) {
+	if on {
+		c.slider.Enable()
+		c.entry.Enable()
+	} else {
+		c.slider.Disable()
+		c.entry.Disable()
+	}
+}

@@ -1,0 +1,274 @@
+package ui
+
+import (
+	"fmt"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/layout"
+	"fyne.io/fyne/v2/widget"
+
+	"spotloom/capture"
+	"spotloom/recon/recipe"
+)
+
+// sourcePanel shows the capture, its channel roles, recent captures and
+// the recipe buttons.
+type sourcePanel struct {
+	ws       *Workstation
+	quiet    bool
+	info     *widget.Label
+	note     *widget.Label
+	recent   *widget.Select
+	detector *widget.Select
+	index    *widget.Select
+	position *widget.Select
+	options  []string // "N · name (unit)" per channel
+	box      fyne.CanvasObject
+}
+
+const noChannel = "none"
+
+func newSourcePanel(ws *Workstation) *sourcePanel {
+	p := &sourcePanel{ws: ws}
+	p.info = widget.NewLabel("No capture")
+	p.info.Wrapping = fyne.TextWrapWord
+	p.note = widget.NewLabel("")
+	p.note.Wrapping = fyne.TextWrapWord
+	p.note.Importance = widget.LowImportance
+	p.recent = widget.NewSelect(nil, func(path string) {
+		if p.quiet || path == "" {
+			return
+		}
+		ws.OpenFile(path, nil)
+	})
+	p.recent.PlaceHolder = "Recent captures"
+	p.detector = widget.NewSelect(nil, func(string) { p.rolesChanged() })
+	p.index = widget.NewSelect(nil, func(string) { p.rolesChanged() })
+	p.position = widget.NewSelect(nil, func(string) { p.rolesChanged() })
+	roles := container.New(layout.NewFormLayout(),
+		widget.NewLabel("Detector"), p.detector,
+		widget.NewLabel("Index pulse"), p.index,
+		widget.NewLabel("Position"), p.position,
+	)
+	p.box = container.NewVBox(
+		widget.NewLabelWithStyle("Source", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
+		p.info,
+		container.NewGridWithColumns(2,
+			widget.NewButton("Open capture…", ws.ChooseCapture),
+			widget.NewButton("Raw layout…", func() { ws.askRawLayout("") })),
+		p.recent,
+		widget.NewLabel("Channel roles"),
+		roles,
+		p.note,
+		container.NewGridWithColumns(2,
+			widget.NewButton("Load recipe…", ws.ChooseRecipe),
+			widget.NewButton("Save recipe…", ws.SaveRecipe)),
+	)
+	p.showRecent(ws.recent())
+	return p
+}
+
+func (p *sourcePanel) object() fyne.CanvasObject { return p.box }
+
+func (p *sourcePanel) showRecent(list []string) {
+	p.quiet = true
+	p.recent.Options = list
+	p.recent.ClearSelected()
+	p.recent.Refresh()
+	p.quiet = false
+}
+
+// showCapture describes rec and fills the role lists from its channels.
+func (p *sourcePanel) showCapture(rec *capture.Recording, path, note string) {
+	src := "built-in demo (generated in memory)"
+	if path != "" {
+		src = filepath.Base(path)
+	}
+	format := rec.Source.Format
+	if rec.Source.SampleType != "" {
+		format += ", " + rec.Source.SampleType
+	}
+	p.info.SetText(fmt.Sprintf("%s\n%s · %d channels · %.6g Hz · %.3f s", src, format, len(rec.Channels), rec.SampleRateHz, rec.DurationS()))
+	p.options = nil
+	for i, c := range rec.Channels {
+		p.options = append(p.options, channelOption(i, c))
+	}
+	p.quiet = true
+	p.detector.Options = p.options
+	p.index.Options = p.options
+	p.position.Options = append([]string{noChannel}, p.options...)
+	p.quiet = false
+	if note != "" {
+		p.note.SetText("Settings: " + note + ".")
+	} else {
+		p.note.SetText("")
+	}
+	p.showRoles(p.ws.cur.Recipe)
+}
+
+func channelOption(i int, c capture.Channel) string {
+	name := c.Name
+	if name == "" {
+		name = "channel " + strconv.Itoa(i)
+	}
+	if c.Unit != "" {
+		return fmt.Sprintf("%d · %s (%s)", i, name, c.Unit)
+	}
+	return fmt.Sprintf("%d · %s", i, name)
+}
+
+// showRoles selects the channels r names.
+func (p *sourcePanel) showRoles(r recipe.Recipe) {
+	p.quiet = true
+	defer func() { p.quiet = false }()
+	det, idx, pos := p.ws.roleChannels(r)
+	pick := func(s *widget.Select, i int, allowNone bool) {
+		switch {
+		case i >= 0 && i < len(p.options):
+			s.SetSelected(p.options[i])
+		case allowNone:
+			s.SetSelected(noChannel)
+		default:
+			s.ClearSelected()
+		}
+	}
+	pick(p.detector, det, false)
+	pick(p.index, idx, false)
+	pick(p.position, pos, true)
+}
+
+func optionChannel(option string) (recipe.ChannelRef, bool) {
+	if option == "" || option == noChannel {
+		return "", false
+	}
+	num, _, _ := strings.Cut(option, " · ")
+	if _, err := strconv.Atoi(num); err != nil {
+		return "", false
+	}
+	return recipe.ChannelRef(num), true
+}
+
+func (p *sourcePanel) rolesChanged() {
+	if p.quiet {
+		return
+	}
+	det, okDet := optionChannel(p.detector.Selected)
+	idx, okIdx := optionChannel(p.index.Selected)
+	pos, okPos := optionChannel(p.position.Selected)
+	if !okDet || !okIdx {
+		return
+	}
+	p.ws.change("channels", func(r *recipe.Recipe) {
+		r.Channels.Detector, r.Channels.Index = det, idx
+		switch {
+		case r.Rows.Source == "steps":
+			r.Channels.Steps = pos
+		case okPos:
+			r.Channels.Position = pos
+		default:
+			r.Channels.Position = ""
+		}
+	})
+}
+
+// askRawLayout asks how a raw sample file is laid out and opens it with
+// that layout. With path "" it first asks for the file.
+func (ws *Workstation) askRawLayout(path string) {
+	fileEntry := widget.NewEntry()
+	fileEntry.SetText(path)
+	fileEntry.SetPlaceHolder("/path/to/capture.bin")
+	browse := widget.NewButton("Choose…", func() {
+		d := dialog.NewFileOpen(func(rc fyne.URIReadCloser, err error) {
+			if err != nil || rc == nil {
+				return
+			}
+			fileEntry.SetText(rc.URI().Path())
+			rc.Close()
+		}, ws.win)
+		d.Resize(fyne.NewSize(820, 560))
+		d.Show()
+	})
+	sampleType := widget.NewSelect([]string{"int8", "uint8", "int16", "uint16", "int32", "uint32", "float32", "float64"}, nil)
+	sampleType.SetSelected("int16")
+	byteOrder := widget.NewSelect([]string{"little", "big"}, nil)
+	byteOrder.SetSelected("little")
+	channels := widget.NewEntry()
+	channels.SetText("3")
+	interleaved := widget.NewCheck("frame after frame (ch0 ch1 ch2 ch0 …)", nil)
+	interleaved.SetChecked(true)
+	header := widget.NewEntry()
+	header.SetText("0")
+	rate := widget.NewEntry()
+	rate.SetPlaceHolder("e.g. 200000")
+	scale := widget.NewEntry()
+	scale.SetPlaceHolder("volts per count, blank = full scale ±1")
+	offset := widget.NewEntry()
+	offset.SetPlaceHolder("volts, blank = 0")
+	items := []*widget.FormItem{
+		widget.NewFormItem("File", container.NewBorder(nil, nil, nil, browse, fileEntry)),
+		widget.NewFormItem("Sample type", sampleType),
+		widget.NewFormItem("Byte order", byteOrder),
+		widget.NewFormItem("Channels", channels),
+		widget.NewFormItem("Interleaved", interleaved),
+		widget.NewFormItem("Header bytes", header),
+		widget.NewFormItem("Sample rate (Hz)", rate),
+		widget.NewFormItem("Scale", scale),
+		widget.NewFormItem("Offset", offset),
+	}
+	d := dialog.NewForm("Raw sample layout", "Open", "Cancel", items, func(ok bool) {
+		if !ok {
+			return
+		}
+		layout, err := readLayoutForm(sampleType.Selected, byteOrder.Selected, channels.Text, interleaved.Checked, header.Text, rate.Text, scale.Text, offset.Text)
+		if err != nil {
+			ws.showProblem("Cannot use this layout", err.Error(), "correct the field and open again.")
+			return
+		}
+		if strings.TrimSpace(fileEntry.Text) == "" {
+			ws.showProblem("No file chosen", "the layout form needs the raw file to open.", "type its path or press Choose….")
+			return
+		}
+		ws.openWith(strings.TrimSpace(fileEntry.Text), capture.Options{Layout: &layout}, nil)
+	}, ws.win)
+	d.Resize(fyne.NewSize(560, 520))
+	d.Show()
+}
+
+func readLayoutForm(sampleType, byteOrder, channels string, interleaved bool, header, rate, scale, offset string) (capture.RawLayout, error) {
+	l := capture.RawLayout{SampleType: sampleType, ByteOrder: byteOrder, Interleaved: interleaved}
+	n, err := strconv.Atoi(strings.TrimSpace(channels))
+	if err != nil || n < 1 || n > capture.MaxRawChannels {
+		return l, fmt.Errorf("channels %q: give a whole number from 1 to %d", channels, capture.MaxRawChannels)
+	}
+	l.Channels = n
+	h, err := strconv.ParseInt(strings.TrimSpace(header), 10, 64)
+	if err != nil || h < 0 {
+		return l, fmt.Errorf("header bytes %q: give a whole number from 0", header)
+	}
+	l.HeaderBytes = h
+	hz, err := parseNumber(rate)
+	if err != nil || hz <= 0 {
+		return l, fmt.Errorf("sample rate %q: give the rate in hertz, above 0", rate)
+	}
+	l.SampleRateHz = hz
+	if strings.TrimSpace(scale) != "" {
+		v, err := parseNumber(scale)
+		if err != nil || v == 0 {
+			return l, fmt.Errorf("scale %q: give volts per count (not 0), or leave it blank", scale)
+		}
+		l.Scale = []float64{v}
+	}
+	if strings.TrimSpace(offset) != "" {
+		v, err := parseNumber(offset)
+		if err != nil {
+			return l, fmt.Errorf("offset %q: give volts, or leave it blank", offset)
+		}
+		l.Offset = []float64{v}
+	}
+	return l, nil
+}

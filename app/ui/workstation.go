@@ -1,0 +1,508 @@
+package ui
+
+import (
+	"fmt"
+	"image/color"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/canvas"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/driver/desktop"
+	"fyne.io/fyne/v2/layout"
+	"fyne.io/fyne/v2/theme"
+	"fyne.io/fyne/v2/widget"
+
+	"spotloom/capture"
+)
+
+// Options configure a Workstation. The zero value uses the real engine,
+// capture.Open and the application's preferences.
+type Options struct {
+	Open      OpenFunc   // reads a capture; nil means capture.Open
+	NewEngine EngineFunc // makes the engine for a capture; nil means recon.NewSession
+	Icon      fyne.Resource
+}
+
+// Workstation is the Spotloom window: the source and controls on the
+// left, the image with the trace strip below it in the middle, the facts
+// on the right and the build status at the bottom.
+//
+// Its state belongs to the UI goroutine; engine work runs on a worker
+// goroutine and comes back through fyne.Do.
+type Workstation struct {
+	app  fyne.App
+	win  fyne.Window
+	opts Options
+	work *worker
+
+	// State of the capture shown.
+	rec        *capture.Recording
+	engine     Engine
+	sourcePath string // "" for the built-in demo
+	sourceName string
+	cur        settings // what the controls show
+	good       settings // what the image was built with
+	result     *Result
+	frameIndex int
+	hist       *history
+	followLine bool // the trace strip follows the pointer
+	problem    string
+	buildSeq   int
+	lastBuild  time.Duration
+
+	view     *ImageView
+	strip    *TraceStrip
+	controls *controlPanel
+	facts    *factsPanel
+	source   *sourcePanel
+
+	readout     *widget.Label
+	zoomLabel   *widget.Label
+	frameLabel  *widget.Label
+	prevFrame   *widget.Button
+	nextFrame   *widget.Button
+	lineEntry   *widget.Entry
+	followCheck *widget.Check
+	progress    *widget.ProgressBar
+	stage       *widget.Label
+	cancel      *widget.Button
+	undoButton  *widget.Button
+	redoButton  *widget.Button
+	menuUndo    *fyne.MenuItem
+	menuRedo    *fyne.MenuItem
+	recentMenu  *fyne.MenuItem
+	mainMenu    *fyne.MainMenu
+	leftBox     *fyne.Container
+}
+
+// relayout lays the side panels out again after their texts changed
+// height (wrapped labels, a new number of aperture controls).
+func (ws *Workstation) relayout() {
+	if ws.leftBox != nil {
+		ws.leftBox.Refresh()
+	}
+}
+
+// New builds the window's content in win. Call OpenDemo or OpenFile next.
+func New(a fyne.App, win fyne.Window, opts Options) *Workstation {
+	ws := &Workstation{app: a, win: win, opts: opts, hist: newHistory(), followLine: true}
+	ws.work = newWorker(ws.reportProgress)
+	ws.build()
+	return ws
+}
+
+// Window returns the window the workstation lives in.
+func (ws *Workstation) Window() fyne.Window { return ws.win }
+
+// Wait blocks until no engine work is running or queued. It is for tests
+// and the snapshot, which must not call it from the UI goroutine.
+func (ws *Workstation) Wait() { ws.work.wait() }
+
+// Problem returns the text of the last problem shown in a dialog ("" when
+// none), for tests.
+func (ws *Workstation) Problem() string { return ws.problem }
+
+// fixedWidth lays out its objects at a fixed width and full height.
+type fixedWidth struct{ width float32 }
+
+func (l fixedWidth) MinSize(objects []fyne.CanvasObject) fyne.Size {
+	h := float32(0)
+	for _, o := range objects {
+		h = max(h, o.MinSize().Height)
+	}
+	return fyne.NewSize(l.width, h)
+}
+
+func (l fixedWidth) Layout(objects []fyne.CanvasObject, size fyne.Size) {
+	for _, o := range objects {
+		o.Move(fyne.NewPos(0, 0))
+		o.Resize(size)
+	}
+}
+
+func (ws *Workstation) build() {
+	ws.view = NewImageView()
+	ws.view.OnPointer = ws.pointerMoved
+	ws.view.OnTap = ws.imageTapped
+	ws.view.OnZoom = func(z float32) { ws.showZoom(z) }
+	ws.strip = NewTraceStrip()
+	ws.controls = newControlPanel(ws)
+	ws.facts = newFactsPanel()
+	ws.source = newSourcePanel(ws)
+
+	ws.readout = widget.NewLabel("")
+	ws.readout.TextStyle = fyne.TextStyle{Monospace: true}
+	ws.zoomLabel = widget.NewLabel("")
+	ws.frameLabel = widget.NewLabel("frame 1 of 1")
+	ws.prevFrame = widget.NewButtonWithIcon("", theme.NavigateBackIcon(), func() { ws.showFrame(ws.frameIndex - 1) })
+	ws.nextFrame = widget.NewButtonWithIcon("", theme.NavigateNextIcon(), func() { ws.showFrame(ws.frameIndex + 1) })
+	fixed := func(w float32, o fyne.CanvasObject) fyne.CanvasObject {
+		return container.NewGridWrap(fyne.NewSize(w, o.MinSize().Height), o)
+	}
+	viewBar := container.NewHBox(
+		widget.NewButtonWithIcon("", theme.ZoomOutIcon(), func() { ws.view.ZoomBy(1 / 1.25) }),
+		widget.NewButtonWithIcon("", theme.ZoomInIcon(), func() { ws.view.ZoomBy(1.25) }),
+		widget.NewButtonWithIcon("Fit", theme.ZoomFitIcon(), ws.view.ZoomFit),
+		widget.NewButton("1:1", ws.view.ZoomPixels),
+		fixed(64, ws.zoomLabel),
+		widget.NewSeparator(),
+		ws.prevFrame, fixed(104, ws.frameLabel), ws.nextFrame,
+		widget.NewSeparator(),
+	)
+	viewBar = container.NewBorder(nil, nil, viewBar, nil, ws.readout)
+
+	ws.lineEntry = widget.NewEntry()
+	ws.lineEntry.SetPlaceHolder("line")
+	ws.lineEntry.OnSubmitted = func(s string) { ws.chooseLineNumber(s) }
+	ws.followCheck = widget.NewCheck("Follow pointer", func(on bool) { ws.followLine = on })
+	ws.followCheck.SetChecked(true)
+	stripBar := container.NewHBox(
+		widget.NewLabelWithStyle("Traces", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
+		widget.NewButtonWithIcon("", theme.MoveUpIcon(), func() { ws.stepLine(-1) }),
+		widget.NewButtonWithIcon("", theme.MoveDownIcon(), func() { ws.stepLine(1) }),
+		container.NewGridWrap(fyne.NewSize(90, ws.lineEntry.MinSize().Height), ws.lineEntry),
+		ws.followCheck,
+		widget.NewLabel("click the image to hold a line"),
+	)
+	imageArea := container.NewBorder(viewBar, nil, nil, nil, ws.view)
+	stripArea := container.NewBorder(stripBar, nil, nil, nil, ws.strip)
+	middle := container.NewVSplit(imageArea, stripArea)
+	middle.Offset = 0.68
+
+	ws.leftBox = container.NewVBox(ws.source.object(), ws.controls.object())
+	left := container.New(fixedWidth{340}, container.NewVScroll(ws.leftBox))
+	right := container.New(fixedWidth{250}, container.NewVScroll(ws.facts.object()))
+
+	ws.progress = widget.NewProgressBar()
+	ws.stage = widget.NewLabel("Ready")
+	ws.cancel = widget.NewButtonWithIcon("Cancel", theme.CancelIcon(), ws.Cancel)
+	ws.cancel.Disable()
+	status := container.NewBorder(nil, nil, ws.stage,
+		container.NewHBox(container.NewGridWrap(fyne.NewSize(220, ws.progress.MinSize().Height), ws.progress), ws.cancel))
+
+	ws.undoButton = widget.NewButtonWithIcon("Undo", theme.ContentUndoIcon(), ws.Undo)
+	ws.redoButton = widget.NewButtonWithIcon("Redo", theme.ContentRedoIcon(), ws.Redo)
+	top := container.NewHBox(
+		widget.NewButtonWithIcon("Open capture…", theme.FolderOpenIcon(), ws.ChooseCapture),
+		widget.NewButtonWithIcon("Demo", theme.MediaPlayIcon(), ws.OpenDemo),
+		widget.NewSeparator(),
+		widget.NewButtonWithIcon("Export…", theme.DocumentSaveIcon(), ws.ShowExport),
+		widget.NewSeparator(),
+		ws.undoButton, ws.redoButton,
+		layout.NewSpacer(),
+		widget.NewButtonWithIcon("About", theme.InfoIcon(), ws.ShowAbout),
+	)
+	line := canvas.NewRectangle(theme.Color(theme.ColorNameSeparator))
+	line.SetMinSize(fyne.NewSize(1, 1))
+	content := container.NewBorder(container.NewVBox(top, line), container.NewVBox(widget.NewSeparator(), status), left, right, middle)
+	ws.win.SetContent(content)
+	ws.buildMenu()
+	ws.bindKeys()
+	ws.win.SetOnDropped(ws.dropped)
+	ws.updateUndo()
+	ws.showFrameControls()
+}
+
+func (ws *Workstation) buildMenu() {
+	short := func(key fyne.KeyName, mod fyne.KeyModifier) fyne.Shortcut {
+		return &desktop.CustomShortcut{KeyName: key, Modifier: mod}
+	}
+	ctrl := fyne.KeyModifierShortcutDefault
+	item := func(label string, sc fyne.Shortcut, action func()) *fyne.MenuItem {
+		m := fyne.NewMenuItem(label, action)
+		m.Shortcut = sc
+		return m
+	}
+	ws.recentMenu = fyne.NewMenuItem("Recent captures", nil)
+	ws.refreshRecentMenu()
+	ws.menuUndo = item("Undo", &fyne.ShortcutUndo{}, ws.Undo)
+	ws.menuRedo = item("Redo", &fyne.ShortcutRedo{}, ws.Redo)
+	file := fyne.NewMenu("File",
+		item("Open capture…", short(fyne.KeyO, ctrl), ws.ChooseCapture),
+		ws.recentMenu,
+		item("Open built-in demo", short(fyne.KeyD, ctrl), ws.OpenDemo),
+		fyne.NewMenuItemSeparator(),
+		item("Load recipe…", short(fyne.KeyL, ctrl), ws.ChooseRecipe),
+		item("Save recipe…", short(fyne.KeyS, ctrl), ws.SaveRecipe),
+		fyne.NewMenuItemSeparator(),
+		item("Export…", short(fyne.KeyE, ctrl), ws.ShowExport),
+	)
+	edit := fyne.NewMenu("Edit",
+		ws.menuUndo, ws.menuRedo,
+		item("Redo ", short(fyne.KeyZ, ctrl|fyne.KeyModifierShift), ws.Redo),
+		fyne.NewMenuItemSeparator(),
+		item("Estimate aperture offsets", short(fyne.KeyK, ctrl), ws.EstimateOffsets),
+		item("Automatic tone", short(fyne.KeyT, ctrl), ws.AutoTone),
+		item("Stop the build", short(fyne.KeyPeriod, ctrl), ws.Cancel),
+	)
+	view := fyne.NewMenu("View",
+		item("Zoom in", short(fyne.KeyEqual, ctrl), func() { ws.view.ZoomBy(1.25) }),
+		item("Zoom out", short(fyne.KeyMinus, ctrl), func() { ws.view.ZoomBy(1 / 1.25) }),
+		item("Fit to view", short(fyne.Key0, ctrl), ws.view.ZoomFit),
+		item("One pixel per point", short(fyne.Key1, ctrl), ws.view.ZoomPixels),
+		fyne.NewMenuItemSeparator(),
+		item("Next frame", short(fyne.KeyPageDown, ctrl), func() { ws.showFrame(ws.frameIndex + 1) }),
+		item("Previous frame", short(fyne.KeyPageUp, ctrl), func() { ws.showFrame(ws.frameIndex - 1) }),
+	)
+	help := fyne.NewMenu("Help",
+		item("Keys", nil, ws.ShowKeys),
+		item("About Spotloom", nil, ws.ShowAbout),
+	)
+	ws.mainMenu = fyne.NewMainMenu(file, edit, view, help)
+	ws.win.SetMainMenu(ws.mainMenu)
+}
+
+// bindKeys handles the keys that need no modifier, when no entry has the
+// keyboard: arrows step the line shown in the trace strip, Page Up/Down
+// browse frames, Escape stops the build.
+func (ws *Workstation) bindKeys() {
+	ws.win.Canvas().SetOnTypedKey(func(ev *fyne.KeyEvent) {
+		switch ev.Name {
+		case fyne.KeyUp:
+			ws.stepLine(-1)
+		case fyne.KeyDown:
+			ws.stepLine(1)
+		case fyne.KeyPageUp:
+			ws.showFrame(ws.frameIndex - 1)
+		case fyne.KeyPageDown:
+			ws.showFrame(ws.frameIndex + 1)
+		case fyne.KeyEscape:
+			ws.Cancel()
+		case fyne.KeyF1:
+			ws.ShowKeys()
+		}
+	})
+	ws.win.Canvas().SetOnTypedRune(func(r rune) {
+		switch r {
+		case '+', '=':
+			ws.view.ZoomBy(1.25)
+		case '-':
+			ws.view.ZoomBy(1 / 1.25)
+		case '0':
+			ws.view.ZoomFit()
+		}
+	})
+}
+
+// ShowKeys lists the keyboard shortcuts.
+func (ws *Workstation) ShowKeys() {
+	text := strings.Join([]string{
+		"Ctrl+O\topen a capture", "Ctrl+D\topen the built-in demo",
+		"Ctrl+L / Ctrl+S\tload / save the recipe", "Ctrl+E\texport frames",
+		"Ctrl+Z\tundo", "Ctrl+Y or Ctrl+Shift+Z\tredo",
+		"Ctrl+K\testimate aperture offsets", "Ctrl+T\tautomatic tone",
+		"Esc or Ctrl+.\tstop the build",
+		"+ / − / 0\tzoom in / out / fit (also Ctrl+= Ctrl+- Ctrl+0)", "Ctrl+1\tone frame pixel per point",
+		"Page Up / Page Down\tprevious / next frame", "↑ / ↓\tprevious / next line in the trace strip",
+		"wheel\tzoom about the pointer", "drag\tmove the image", "click\thold the line under the pointer",
+	}, "\n")
+	rows := container.New(layout.NewFormLayout())
+	for _, l := range strings.Split(text, "\n") {
+		k, v, _ := strings.Cut(l, "\t")
+		rows.Add(widget.NewLabelWithStyle(k, fyne.TextAlignTrailing, fyne.TextStyle{Monospace: true}))
+		rows.Add(widget.NewLabel(v))
+	}
+	dialog.ShowCustom("Keys", "Close", rows, ws.win)
+}
+
+// showProblem tells the user what went wrong and what to try; nothing
+// else changes.
+func (ws *Workstation) showProblem(title, what, try string) {
+	ws.problem = title + ": " + what
+	text := what
+	if try != "" {
+		text += "\n\nWhat to try: " + try
+	}
+	label := widget.NewLabel(text)
+	label.Wrapping = fyne.TextWrapWord
+	icon := widget.NewIcon(theme.WarningIcon())
+	body := container.NewBorder(nil, nil, container.NewVBox(icon), nil, label)
+	sized := container.New(&minWidth{w: 460}, body)
+	dialog.ShowCustom(title, "OK", sized, ws.win)
+	ws.stage.SetText(title)
+}
+
+// minWidth makes its content at least w wide (so long messages wrap at a
+// readable width inside dialogs).
+type minWidth struct{ w float32 }
+
+func (m *minWidth) MinSize(objects []fyne.CanvasObject) fyne.Size {
+	s := fyne.NewSize(m.w, 0)
+	for _, o := range objects {
+		o.Resize(fyne.NewSize(m.w, o.MinSize().Height))
+		s.Height = max(s.Height, o.MinSize().Height)
+	}
+	return s
+}
+
+func (m *minWidth) Layout(objects []fyne.CanvasObject, size fyne.Size) {
+	for _, o := range objects {
+		o.Move(fyne.NewPos(0, 0))
+		o.Resize(size)
+	}
+}
+
+func (ws *Workstation) setTitle() {
+	name := ws.sourceName
+	if name == "" {
+		name = "no capture"
+	}
+	ws.win.SetTitle("Spotloom — " + name)
+}
+
+func (ws *Workstation) showZoom(unitsPerMM float32) {
+	f := ws.view.Frame()
+	if f == nil || f.PitchXMM <= 0 {
+		ws.zoomLabel.SetText("")
+		return
+	}
+	ws.zoomLabel.SetText(fmt.Sprintf("%.0f %%", 100*float64(unitsPerMM)*f.PitchXMM))
+}
+
+func (ws *Workstation) pointerMoved(p Pointer) {
+	if !p.Inside {
+		ws.readout.SetText("")
+		return
+	}
+	value := "no data"
+	if p.Covered {
+		value = fmt.Sprintf("%.4g", p.Value)
+	}
+	ws.readout.SetText(fmt.Sprintf("x %7.1f mm  y %7.1f mm  px %d,%d  value %s", p.XMM, p.YMM, p.Col, p.Row, value))
+	if ws.followLine {
+		ws.showLineAt(p.YMM)
+	}
+}
+
+func (ws *Workstation) imageTapped(p Pointer) {
+	if !p.Inside {
+		return
+	}
+	ws.showLineAt(p.YMM)
+	ws.followCheck.SetChecked(false)
+}
+
+// showLineAt shows in the trace strip the line of the shown frame whose
+// cross-scan position is nearest y.
+func (ws *Workstation) showLineAt(yMM float64) {
+	if ws.result == nil {
+		return
+	}
+	stroke := -1
+	if len(ws.result.Frames) > 1 && ws.frameIndex < len(ws.result.Frames) {
+		stroke = ws.result.Frames[ws.frameIndex].Stroke
+	}
+	best, bestD := -1, 0.0
+	for i, l := range ws.result.Lines {
+		if stroke >= 0 && l.Stroke != stroke {
+			continue
+		}
+		d := l.YMM - yMM
+		if d < 0 {
+			d = -d
+		}
+		if best < 0 || d < bestD {
+			best, bestD = i, d
+		}
+	}
+	if best >= 0 {
+		ws.strip.ShowLine(best)
+		ws.showLineNumber()
+	}
+}
+
+func (ws *Workstation) stepLine(delta int) {
+	if ws.result == nil || len(ws.result.Lines) == 0 {
+		return
+	}
+	i := min(max(ws.strip.Chosen()+delta, 0), len(ws.result.Lines)-1)
+	ws.strip.ShowLine(i)
+	ws.showLineNumber()
+}
+
+func (ws *Workstation) chooseLineNumber(text string) {
+	if ws.result == nil {
+		return
+	}
+	n, err := parseNumber(text)
+	if err != nil {
+		ws.showLineNumber()
+		return
+	}
+	for i, l := range ws.result.Lines {
+		if l.Number >= int(n) {
+			ws.strip.ShowLine(i)
+			break
+		}
+	}
+	ws.followCheck.SetChecked(false)
+	ws.showLineNumber()
+}
+
+func (ws *Workstation) showLineNumber() {
+	i := ws.strip.Chosen()
+	if ws.result == nil || i < 0 || i >= len(ws.result.Lines) {
+		ws.lineEntry.SetText("")
+		return
+	}
+	ws.lineEntry.SetText(fmt.Sprint(ws.result.Lines[i].Number))
+}
+
+// showFrame shows frame i of the result (strokes split into frames).
+func (ws *Workstation) showFrame(i int) {
+	if ws.result == nil || len(ws.result.Frames) == 0 {
+		return
+	}
+	i = min(max(i, 0), len(ws.result.Frames)-1)
+	ws.frameIndex = i
+	ws.view.SetFrame(ws.result.Frames[i], ws.cur.Tone)
+	ws.showFrameControls()
+}
+
+func (ws *Workstation) showFrameControls() {
+	n := 0
+	if ws.result != nil {
+		n = len(ws.result.Frames)
+	}
+	if n == 0 {
+		ws.frameLabel.SetText("no frame")
+	} else {
+		ws.frameLabel.SetText(fmt.Sprintf("frame %d of %d", ws.frameIndex+1, n))
+	}
+	if ws.frameIndex > 0 {
+		ws.prevFrame.Enable()
+	} else {
+		ws.prevFrame.Disable()
+	}
+	if ws.frameIndex+1 < n {
+		ws.nextFrame.Enable()
+	} else {
+		ws.nextFrame.Disable()
+	}
+}
+
+func (ws *Workstation) dropped(_ fyne.Position, uris []fyne.URI) {
+	for _, u := range uris {
+		if u.Scheme() != "file" {
+			continue
+		}
+		path := u.Path()
+		if strings.EqualFold(filepath.Ext(path), ".json") && strings.Contains(strings.ToLower(filepath.Base(path)), "recipe") {
+			ws.LoadRecipe(path)
+		} else {
+			ws.OpenFile(path, nil)
+		}
+		return
+	}
+}
+
+// swatch is a small coloured square for legends.
+func swatch(c color.Color) fyne.CanvasObject {
+	r := canvas.NewRectangle(c)
+	r.SetMinSize(fyne.NewSize(12, 12))
+	return container.NewCenter(r)
+}
