@@ -1,0 +1,216 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"strings"
+
+	"spotloom/capture"
+	"spotloom/recon"
+	"spotloom/recon/export"
+	"spotloom/recon/recipe"
+)
+
+func init() {
+	register(command{
+		name:    "build",
+		summary: "reconstruct a capture with a recipe and write a calibrated TIFF or PNG",
+		run:     runBuild,
+	})
+}
+
+const buildSynopsis = "build FILE --recipe R.json --out F.tiff|F.png [--report REP.json] [--depth 8|16|32] [--scale-bar] [--caption TEXT] [--force]"
+
+const buildDescription = `
+Reconstructs the capture FILE with the recipe R.json and writes the frame to
+F.tiff or F.png (the extension chooses the format), with its pitch as the
+file's resolution and the recipe inside, plus F.recipe.json beside it holding
+the recipe and the build report.
+
+TIFF: --depth 32 (default) writes the frame values themselves as 32-bit
+float; 16 or 8 writes them tone-mapped. With rows.strokes "split" every
+stroke is a page of the TIFF. PNG: 16 (default) or 8 bits, one frame.
+
+Tone-mapped output uses --window and --level in frame units (default: from
+the 0.5th to the 99.5th percentile of the frame), then --gamma and --invert.
+--scale-bar burns a bar of a round length into the lower left, --caption a
+line of text into the upper left (8 and 16 bits only).
+
+An existing file is never replaced without --force.`
+
+// buildFlags are the export settings of the build command.
+type buildFlags struct {
+	recipePath, outPath, reportPath string
+	depth                           int
+	scaleBar                        bool
+	scaleBarMM                      float64
+	caption                         string
+	force                           bool
+	compression                     string
+	window, level, gamma            float64
+	invert                          bool
+	noData                          float64
+}
+
+func runBuild(args []string, stdout, stderr io.Writer) error {
+	fs := newFlagSet("build", buildSynopsis, buildDescription, stderr)
+	cf := addCaptureFlags(fs)
+	var bf buildFlags
+	fs.StringVar(&bf.recipePath, "recipe", "", "recipe JSON `file` (required; \"spotloom recipe FILE\" writes a starting one)")
+	fs.StringVar(&bf.outPath, "out", "", "output `file`, .tiff, .tif or .png (required)")
+	fs.StringVar(&bf.reportPath, "report", "", "also write the build report as JSON to this `file`")
+	fs.IntVar(&bf.depth, "depth", 0, "bits per sample: 8, 16 or 32 (float, TIFF only); default 32 for TIFF, 16 for PNG")
+	fs.BoolVar(&bf.scaleBar, "scale-bar", false, "burn in a scale bar of a round length")
+	fs.Float64Var(&bf.scaleBarMM, "scale-bar-mm", 0, "burn in a scale bar of this `length` in mm")
+	fs.StringVar(&bf.caption, "caption", "", "burn this `text` into the upper left")
+	fs.BoolVar(&bf.force, "force", false, "replace the output, its sidecar and the report if they exist")
+	fs.StringVar(&bf.compression, "compress", "none", "TIFF strip compression: none, deflate or lzw (PNG always deflates)")
+	fs.Float64Var(&bf.window, "window", 0, "tone window `width` in frame units (default automatic)")
+	fs.Float64Var(&bf.level, "level", 0, "tone window `centre` in frame units (with --window)")
+	fs.Float64Var(&bf.gamma, "gamma", 1, "tone `gamma`: above 1 lifts the mid-tones")
+	fs.BoolVar(&bf.invert, "invert", false, "tone: bright becomes dark")
+	fs.Float64Var(&bf.noData, "no-data", 0, "`value` for pixels without data: a frame value at depth 32 (default NaN), else a brightness from 0 (black, the default) to 1")
+	positional, err := parseFlags(fs, args)
+	if err != nil {
+		return err
+	}
+	switch {
+	case len(positional) != 1:
+		return usagef("expected one capture FILE, got %d arguments", len(positional))
+	case bf.recipePath == "":
+		return usagef("--recipe R.json is required")
+	case bf.outPath == "":
+		return usagef("--out F.tiff or F.png is required")
+	}
+	opts, err := bf.exportOptions(fs)
+	if err != nil {
+		return err
+	}
+	captureOpts, err := cf.options()
+	if err != nil {
+		return err
+	}
+	// Refuse bad output settings before the long part.
+	if err := export.Check(bf.outPath, opts); err != nil {
+		return forceHint(err)
+	}
+	if bf.reportPath != "" && !bf.force {
+		if _, err := os.Lstat(bf.reportPath); err == nil {
+			return forceHint(fmt.Errorf("%s: %w", bf.reportPath, export.ErrExists))
+		}
+	}
+
+	r, err := recipe.Load(bf.recipePath)
+	if err != nil {
+		return err
+	}
+	if err := r.Validate(); err != nil {
+		return fmt.Errorf("%s: %w", bf.recipePath, err)
+	}
+	progress := newProgress(stderr)
+	defer progress.Done()
+	captureOpts.Progress = func(fraction float64) { progress.Report("reading", fraction) }
+	rec, err := capture.Open(positional[0], captureOpts)
+	if err != nil {
+		return err
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	defer stop()
+	res, err := recon.NewSession(rec).Build(ctx, r, progress.Report)
+	if err != nil {
+		return fmt.Errorf("%s: %w", positional[0], err)
+	}
+	progress.Report("writing", 0)
+	if err := export.Write(bf.outPath, res.Frames, opts); err != nil {
+		return forceHint(err)
+	}
+	if bf.reportPath != "" {
+		data, err := json.MarshalIndent(res.Report, "", "  ")
+		if err != nil {
+			return fmt.Errorf("%s: the build report: %w", bf.reportPath, err)
+		}
+		if err := export.SaveFile(bf.reportPath, append(data, '\n'), bf.force); err != nil {
+			return forceHint(err)
+		}
+	}
+	progress.Done()
+	f := res.Frames[0]
+	pages := ""
+	if len(res.Frames) > 1 {
+		pages = fmt.Sprintf(", %d pages", len(res.Frames))
+	}
+	fmt.Fprintf(stdout, "wrote %s (%d × %d px at %g mm: %.4g × %.4g mm%s) and %s\n",
+		bf.outPath, f.Width, f.Height, f.PitchXMM, float64(f.Width)*f.PitchXMM, float64(f.Height)*f.PitchYMM,
+		pages, filepath.Base(export.SidecarPath(bf.outPath)))
+	for _, w := range res.Report.Warnings {
+		fmt.Fprintf(stderr, "warning: %s\n", w)
+	}
+	return nil
+}
+
+// exportOptions turns the flags into export.Options; the defaults depend
+// on the format.
+func (bf *buildFlags) exportOptions(fs *flag.FlagSet) (export.Options, error) {
+	set := map[string]bool{}
+	fs.Visit(func(f *flag.Flag) { set[f.Name] = true })
+	opts := export.Options{
+		Depth:       bf.depth,
+		Caption:     bf.caption,
+		Force:       bf.force,
+		Compression: bf.compression,
+		Tone:        recon.Tone{Gamma: bf.gamma, Invert: bf.invert},
+	}
+	toned := set["window"] || set["gamma"] || set["invert"]
+	drawn := bf.scaleBar || set["scale-bar-mm"] || bf.caption != ""
+	isPNG := strings.EqualFold(filepath.Ext(bf.outPath), ".png")
+	if opts.Depth == 0 && !isPNG && !toned && !drawn {
+		opts.Depth = 32 // a TIFF keeps the measured values unless a report image is asked for
+	}
+	if opts.Depth == 32 && toned {
+		return opts, usagef("--window, --level, --gamma and --invert map values to 8 or 16 bits; --depth 32 writes the frame values themselves")
+	}
+	if set["window"] != set["level"] {
+		return opts, usagef("--window and --level go together (or leave both out for an automatic tone)")
+	}
+	if set["window"] {
+		if !(bf.window > 0) {
+			return opts, usagef("--window %g: expected a width above 0 in frame units", bf.window)
+		}
+		opts.Tone.Window, opts.Tone.Level = bf.window, bf.level
+	}
+	if !(bf.gamma > 0) {
+		return opts, usagef("--gamma %g: expected a number above 0", bf.gamma)
+	}
+	switch {
+	case set["scale-bar-mm"]:
+		if !(bf.scaleBarMM > 0) {
+			return opts, usagef("--scale-bar-mm %g: expected a length above 0 mm", bf.scaleBarMM)
+		}
+		opts.ScaleBarMM = bf.scaleBarMM
+	case bf.scaleBar:
+		opts.ScaleBarMM = -1
+	}
+	switch {
+	case set["no-data"]:
+		opts.NoData = bf.noData
+	case opts.Depth == 32:
+		opts.NoData = math.NaN()
+	}
+	return opts, nil
+}
+
+// forceHint adds what to do when the output exists.
+func forceHint(err error) error {
+	if errors.Is(err, export.ErrExists) {
+		return fmt.Errorf("%w: add --force to replace it", err)
+	}
+	return err
+}
