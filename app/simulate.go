@@ -1,0 +1,280 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"spotloom/capture"
+	"spotloom/sampledata"
+)
+
+func init() {
+	register(command{
+		name:    "simulate",
+		summary: "write a synthetic capture of a built-in scene and its ground truth",
+		run:     runSimulate,
+	})
+}
+
+const simulateDescription = `
+Scans one of the built-in scenes (parcel, dot-grid, edge-card, bars) with a
+simulated flying-spot scanner and writes the capture as WAV, CSV or raw
+binary (with NAME.layout.json beside it). The rig is the demo rig unless
+--rig gives one; "spotloom simulate --print-rig" prints the demo rig as a
+starting point. --truth writes the ground truth (line times, true speed,
+delay, aperture offsets, y of every line, dot centres) as JSON and the
+scene's true image as a 16-bit PNG beside it. The same flags and seed always
+give the same file.
+
+WAV stores volts divided by the rig's adc.full_scale_v (full scale = ±1.0).
+`
+
+// simulateFlags are the flags of the simulate command.
+type simulateFlags struct {
+	scene, out, rigPath, format, sampleType, truthPath, recipePath string
+	seconds, rateHz, truthPitchMM                                  float64
+	seed                                                           uint64
+	printRig, noiseless                                            bool
+}
+
+func runSimulate(args []string, stdout, stderr io.Writer) error {
+	fs := newFlagSet("simulate", "simulate --scene NAME --out FILE [flags]", simulateDescription, stderr)
+	var f simulateFlags
+	fs.StringVar(&f.scene, "scene", "", "scene `name`: "+strings.Join(sampledata.SceneNames(), ", "))
+	fs.StringVar(&f.out, "out", "", "capture `file` to write")
+	fs.StringVar(&f.rigPath, "rig", "", "rig JSON `file` (default: the demo rig)")
+	fs.Float64Var(&f.seconds, "seconds", 0, "capture length in `s` (default: the rig's duration_s)")
+	fs.Float64Var(&f.rateHz, "rate", 0, "sample rate in `Hz` (default: the rig's sample_rate_hz)")
+	fs.StringVar(&f.format, "format", "", "file `format`: wav, csv or raw (default: from the --out extension)")
+	fs.StringVar(&f.sampleType, "sample-type", "", "stored `type`: wav int16, int24 or float32; raw int16, int32 or float32 (default int16)")
+	fs.StringVar(&f.truthPath, "truth", "", "ground-truth JSON `file` to write (and the truth PNG beside it)")
+	fs.Float64Var(&f.truthPitchMM, "truth-pitch", 0.5, "pixel pitch of the truth PNG in `mm`")
+	fs.StringVar(&f.recipePath, "recipe", "", "also write the rig's starting recipe to this JSON `file`")
+	fs.Uint64Var(&f.seed, "seed", 1, "random `seed`")
+	fs.BoolVar(&f.noiseless, "noiseless", false, "write expected values: no photon, electronics or timing noise")
+	fs.BoolVar(&f.printRig, "print-rig", false, "print the demo rig JSON and exit")
+	positional, err := parseFlags(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(positional) > 0 {
+		return usagef("unexpected argument %q", positional[0])
+	}
+	if f.printRig {
+		_, err := stdout.Write(sampledata.DemoRig().JSON())
+		return err
+	}
+	return simulate(f, stderr)
+}
+
+// simulate checks the flags, runs the simulator and writes the files.
+func simulate(f simulateFlags, stderr io.Writer) error {
+	if f.scene == "" {
+		return usagef("--scene is required (one of %s)", strings.Join(sampledata.SceneNames(), ", "))
+	}
+	if f.out == "" {
+		return usagef("--out is required")
+	}
+	if f.seconds < 0 {
+		return usagef("--seconds %g: expected a length above 0 s", f.seconds)
+	}
+	if f.rateHz < 0 {
+		return usagef("--rate %g: expected a rate above 0 Hz", f.rateHz)
+	}
+	if !(f.truthPitchMM > 0) {
+		return usagef("--truth-pitch %g: expected a pitch above 0 mm", f.truthPitchMM)
+	}
+	format := f.format
+	if format == "" {
+		switch strings.ToLower(filepath.Ext(f.out)) {
+		case ".wav":
+			format = "wav"
+		case ".csv", ".txt":
+			format = "csv"
+		case ".bin", ".raw", ".dat":
+			format = "raw"
+		default:
+			return usagef("cannot tell the format from %q: give --format wav, csv or raw", f.out)
+		}
+	}
+	sampleType := f.sampleType
+	switch format {
+	case "wav":
+		if sampleType == "" {
+			sampleType = "int16"
+		}
+		if sampleType != "int16" && sampleType != "int24" && sampleType != "float32" {
+			return usagef("--sample-type %q: for wav expected int16, int24 or float32", sampleType)
+		}
+	case "raw":
+		if sampleType == "" {
+			sampleType = "int16"
+		}
+		if sampleType != "int16" && sampleType != "int32" && sampleType != "float32" {
+			return usagef("--sample-type %q: for raw expected int16, int32 or float32", sampleType)
+		}
+	case "csv":
+		if sampleType != "" {
+			return usagef("--sample-type does not apply to csv")
+		}
+	default:
+		return usagef("--format %q: expected wav, csv or raw", format)
+	}
+
+	rig := sampledata.DemoRig()
+	if f.rigPath != "" {
+		var err error
+		if rig, err = sampledata.LoadRig(f.rigPath); err != nil {
+			return err
+		}
+	}
+	if _, err := sampledata.Scene(f.scene); err != nil {
+		return fmt.Errorf("--scene: %w", err)
+	}
+	opts := sampledata.SimOptions{Seed: f.seed, DurationS: f.seconds, SampleRateHz: f.rateHz, Noiseless: f.noiseless}
+	if f.truthPath != "" {
+		opts.TruthPitchMM = f.truthPitchMM
+	}
+	progress := newProgress(stderr)
+	defer progress.Done()
+	opts.Progress = func(fraction float64) { progress.Report("simulating", fraction) }
+	rec, truth, err := sampledata.Simulate(context.Background(), rig, f.scene, opts)
+	if err != nil {
+		if f.rigPath != "" {
+			return fmt.Errorf("%s: %w", f.rigPath, err)
+		}
+		return err
+	}
+	rec.Source.Path = f.out
+
+	fullScale := truth.Rig.ADC.FullScaleV
+	switch format {
+	case "wav":
+		// A sound card maps its full scale to ±1.0.
+		scaled := scaleRecording(rec, 1/fullScale, capture.UnitFullScale)
+		err = writeFileSafely(f.out, func(w io.Writer) error { return capture.WriteWAV(w, scaled, sampleType) })
+	case "csv":
+		preamble := []string{
+			"Made by,spotloom simulate",
+			"Scene," + f.scene,
+			"Rig," + csvField(truth.Rig.Name),
+			"Seed," + strconv.FormatUint(f.seed, 10),
+		}
+		err = writeFileSafely(f.out, func(w io.Writer) error { return capture.WriteCSV(w, rec, preamble) })
+	case "raw":
+		layout := rawLayoutFor(rec, sampleType, fullScale)
+		err = writeFileSafely(f.out, func(w io.Writer) error { return capture.WriteRaw(w, rec, layout) })
+		if err == nil {
+			err = capture.WriteLayoutFile(strings.TrimSuffix(f.out, filepath.Ext(f.out))+".layout.json", layout)
+		}
+	}
+	if err != nil {
+		return err
+	}
+
+	if f.truthPath != "" {
+		pngPath := strings.TrimSuffix(f.truthPath, filepath.Ext(f.truthPath)) + ".png"
+		if err := writeFileSafely(pngPath, truth.WritePNG); err != nil {
+			return err
+		}
+		truth.Image.Path = filepath.Base(pngPath)
+		data, err := truth.JSON()
+		if err != nil {
+			return fmt.Errorf("%s: %w", f.truthPath, err)
+		}
+		if err := writeFileSafely(f.truthPath, func(w io.Writer) error { _, err := w.Write(data); return err }); err != nil {
+			return err
+		}
+	}
+	if f.recipePath != "" {
+		r := truth.Rig.Recipe()
+		if format == "wav" {
+			// The position calibration is in full-scale units in a WAV file.
+			for i := range r.Rows.Calibration {
+				r.Rows.Calibration[i][0] /= fullScale
+			}
+		}
+		if err := writeFileSafely(f.recipePath, func(w io.Writer) error { _, err := w.Write(r.JSON()); return err }); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// csvField keeps a preamble value on one CSV field.
+func csvField(s string) string {
+	if strings.ContainsAny(s, ",\"\r\n") {
+		return `"` + strings.ReplaceAll(s, `"`, `""`) + `"`
+	}
+	return s
+}
+
+// scaleRecording returns a copy of rec with every sample multiplied by k.
+func scaleRecording(rec *capture.Recording, k float64, unit string) *capture.Recording {
+	out := *rec
+	out.Channels = make([]capture.Channel, len(rec.Channels))
+	for i, c := range rec.Channels {
+		s := make([]float32, len(c.Samples))
+		for j, v := range c.Samples {
+			s[j] = float32(float64(v) * k)
+		}
+		out.Channels[i] = capture.Channel{Name: c.Name, Unit: unit, Samples: s}
+	}
+	return &out
+}
+
+// rawLayoutFor describes the raw file the simulator writes: interleaved,
+// little-endian, integer samples scaled so that the ADC's full scale fills
+// the type.
+func rawLayoutFor(rec *capture.Recording, sampleType string, fullScaleV float64) capture.RawLayout {
+	l := capture.RawLayout{
+		SampleType:   sampleType,
+		ByteOrder:    "little",
+		Channels:     len(rec.Channels),
+		Interleaved:  true,
+		SampleRateHz: rec.SampleRateHz,
+	}
+	switch sampleType {
+	case "int16":
+		l.Scale = []float64{fullScaleV / 32768}
+	case "int32":
+		l.Scale = []float64{fullScaleV / 2147483648}
+	}
+	for _, c := range rec.Channels {
+		l.Names = append(l.Names, c.Name)
+		l.Units = append(l.Units, c.Unit)
+	}
+	return l
+}
+
+// writeFileSafely writes through a temporary file in the same directory and
+// renames it into place only when writing succeeded, so a failed run never
+// leaves a half-written file under the final name.
+func writeFileSafely(path string, write func(io.Writer) error) error {
+	dir := filepath.Dir(path)
+	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".*.tmp")
+	if err != nil {
+		return err
+	}
+	defer os.Remove(tmp.Name())
+	if err := write(tmp); err != nil {
+		tmp.Close()
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if err := tmp.Close(); err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if err := os.Chmod(tmp.Name(), 0o644); err != nil {
+		return err
+	}
+	if err := os.Rename(tmp.Name(), path); err != nil {
+		return err
+	}
+	return nil
+}
+
