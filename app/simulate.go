@@ -277,4 +277,3 @@ func writeFileSafely(path string, write func(io.Writer) error) error {
 	}
 	return nil
 }
-
