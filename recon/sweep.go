@@ -316,6 +316,41 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		return (float64(below) + 0.5 + f) * binDeg
 	}
 	start := cross(bestStart-1, bestStart)
+	// The half-way crossing marks where the bright part of the scene
+	// starts; the beam enters the field where the profile first leaves the
+	// beam-off level, which a dim background (air) shows as a small step.
+	// Walk back from the bright run while the profile stays clearly above
+	// the beam-off level, then take the middle of that small step.
+	offLen := bins - bestLen
+	if offLen > 20 {
+		var offVals, diffs []float64
+		for i := bestLen + offLen/10; i < bestLen+offLen-offLen/10; i++ {
+			b := (bestStart + i) % bins
+			offVals = append(offVals, prof[b])
+			diffs = append(diffs, math.Abs(prof[(b+1)%bins]-prof[b]))
+		}
+		// Local beam-off level: the part of the off stretch nearest the start.
+		near := offVals[len(offVals)*3/4:]
+		offLevel := median(near)
+		sigma := 1.4826 * median(diffs) / math.Sqrt2
+		limit := offLevel + 6*sigma
+		b := bestStart - 1
+		for k := 0; k < offLen/2 && prof[(b+bins)%bins] > limit; k++ {
+			b--
+		}
+		if b < bestStart-1 {
+			// Bins b+1 … are above the off level; b is the last off bin.
+			step := median([]float64{prof[(b+2+bins)%bins], prof[(b+3+bins)%bins], prof[(b+4+bins)%bins]})
+			half := offLevel + (step-offLevel)/2
+			for j := b; j < b+4; j++ {
+				lo, hi := prof[(j+bins)%bins], prof[(j+1+bins)%bins]
+				if lo < half && hi >= half {
+					start = (float64(j) + 0.5 + (half-lo)/(hi-lo)) * binDeg
+					break
+				}
+			}
+		}
+	}
 	endBin := bestStart + bestLen
 	// Falling crossing: from bin endBin-1 (above) to endBin (below).
 	a, b := prof[(endBin-1)%bins], prof[endBin%bins]

@@ -418,7 +418,9 @@ func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit s
 		if p.sine {
 			per = 1
 		}
-		for i := 0; i < n-1; i++ {
+		// The last edge's line is kept with the period before it; its
+		// field may run past the end of the capture.
+		for i := 0; i < n; i++ {
 			if gapAfter[i] {
 				continue
 			}

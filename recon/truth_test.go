@@ -1,0 +1,291 @@
+package recon
+
+import (
+	"context"
+	"math"
+	"testing"
+
+	"spotloom/sampledata"
+)
+
+// These tests check the engine against the simulator's ground truth
+// (sampledata.Truth): true dot centres, true wheel speed, true delay and
+// offsets, and the true scene raster.
+
+// handRig is the demo rig with a hand-driven head making three strokes
+// (two reversals), a 0.5 % speed wobble and aperture errors of ±0.3°. The
+// position sensor is linear here, since the recipe's two-point calibration
+// cannot know a bow.
+func handRig() sampledata.Rig {
+	rig := sampledata.DemoRig()
+	rig.DurationS = 9
+	rig.Wheel.WobblePct = 0.5
+	rig.Wheel.ApertureErrorsDeg = []float64{0, 0.3, -0.3, 0.2, -0.1, -0.25}
+	rig.Motion.StartRestS = 0.5
+	rig.Motion.StrokeCount = 3
+	rig.Motion.StrokeS = 2.5
+	rig.Motion.TravelMM = 160
+	rig.Motion.TurnRestS = 0.2
+	rig.Motion.PauseCount = 0
+	rig.Position.NonlinearityPct = 0
+	return rig
+}
+
+// truthDotFit measures the centroid of each true dot in the frame (the
+// dots are holes, darker than the sheet: weights are how far a pixel lies
+// below the midpoint between the darkest and brightest pixel, inside a
+// window of one dot diameter around the true centre) and returns the RMS residual after
+// removing the mean shift, and the x and y scale of measured against true.
+func truthDotFit(t *testing.T, f *Frame, dots [][2]float64, diameter float64) (rms, scaleX, scaleY float64, n int) {
+	t.Helper()
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for i, v := range f.Pix {
+		if f.Covered[i] {
+			lo = math.Min(lo, float64(v))
+			hi = math.Max(hi, float64(v))
+		}
+	}
+	thr := (lo + hi) / 2
+	var tx, ty, mx, my []float64
+	for _, d := range dots {
+		var sw, sx, sy float64
+		complete := true
+		for row := 0; row < f.Height; row++ {
+			y := f.OriginYMM - float64(row)*f.PitchYMM
+			if math.Abs(y-d[1]) > diameter {
+				continue
+			}
+			for col := 0; col < f.Width; col++ {
+				x := f.OriginXMM + float64(col)*f.PitchXMM
+				if math.Abs(x-d[0]) > diameter {
+					continue
+				}
+				v, ok := f.At(col, row)
+				if !ok {
+					complete = false
+					continue
+				}
+				if w := thr - float64(v); w > 0 {
+					sw += w
+					sx += w * x
+					sy += w * y
+				}
+			}
+		}
+		if complete && sw > 0 {
+			tx, ty = append(tx, d[0]), append(ty, d[1])
+			mx, my = append(mx, sx/sw), append(my, sy/sw)
+		}
+	}
+	n = len(tx)
+	if n < 5 {
+		t.Fatalf("only %d dots measured", n)
+	}
+	var dx, dy float64
+	for i := range tx {
+		dx += mx[i] - tx[i]
+		dy += my[i] - ty[i]
+	}
+	dx /= float64(n)
+	dy /= float64(n)
+	ss := 0.0
+	for i := range tx {
+		ex, ey := mx[i]-tx[i]-dx, my[i]-ty[i]-dy
+		ss += ex*ex + ey*ey
+	}
+	return math.Sqrt(ss / float64(n)), lineSlope(tx, mx), lineSlope(ty, my), n
+}
+
+func lineSlope(a, b []float64) float64 {
+	ma, mb := meanOf(a), meanOf(b)
+	var num, den float64
+	for i := range a {
+		num += (a[i] - ma) * (b[i] - mb)
+		den += (a[i] - ma) * (a[i] - ma)
+	}
+	return num / den
+}
+
+func TestDotGridAgainstTruth(t *testing.T) {
+	ctx := context.Background()
+	rig := handRig()
+	rec, truth, err := sampledata.Simulate(ctx, rig, "dot-grid", sampledata.SimOptions{Seed: 7})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := NewSession(rec)
+	r := rig.Recipe()
+	r.Rows.Strokes = "merge"
+
+	// Offsets measured from the capture against the truth's (the truth
+	// gives offset[0] = 0; ours have zero mean, so compare differences).
+	off, err := EstimateApertureOffsets(ctx, s, r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tm := meanOf(truth.ApertureOffsetsDeg)
+	for k := range off {
+		want := truth.ApertureOffsetsDeg[k] - tm
+		if math.Abs(off[k]-want) > 0.05 {
+			t.Errorf("aperture %d offset %.3f°, truth %.3f° (mean removed)", k, off[k], want)
+		}
+	}
+	r.Sweep.ApertureOffsetsDeg = off
+	res, err := s.Build(ctx, r, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rep := res.Report
+	// Field start of aperture k = delay + offset[k], ours and the truth's.
+	for k := range off {
+		got := rep.DelayDeg + off[k]
+		want := truth.DelayDeg + truth.ApertureOffsetsDeg[k]
+		if math.Abs(got-want) > 0.3 {
+			t.Errorf("aperture %d field starts %.3f° after its edge, truth %.3f°", k, got, want)
+		}
+	}
+	if e := math.Abs(rep.RPMMean-truth.RevPerMinMean) / truth.RevPerMinMean; e > 0.002 {
+		t.Errorf("rpm %.3f, truth %.3f (%.3f %%)", rep.RPMMean, truth.RevPerMinMean, 100*e)
+	}
+	if rep.Strokes != rig.Motion.StrokeCount {
+		t.Errorf("%d strokes found, truth %d", rep.Strokes, rig.Motion.StrokeCount)
+	}
+	rms, sx, sy, n := truthDotFit(t, res.Frames[0], truth.Dots, truth.DotDiameterMM)
+	t.Logf("%d dots: rms %.3f mm, scale x %.5f y %.5f; delay %.3f (truth %.3f); rpm %.3f (truth %.3f); warnings %q",
+		n, rms, sx, sy, rep.DelayDeg, truth.DelayDeg, rep.RPMMean, truth.RevPerMinMean, rep.Warnings)
+	if rms > 0.5 {
+		t.Errorf("dot centres %.3f mm RMS from the truth after a translation fit, want ≤ 0.5 mm", rms)
+	}
+	if math.Abs(sx-1) > 0.005 || math.Abs(sy-1) > 0.005 {
+		t.Errorf("scale x %.5f y %.5f, want 1 within 0.5 %%", sx, sy)
+	}
+}
+
+func TestAutomaticDelayAgainstTruth(t *testing.T) {
+	ctx := context.Background()
+	rig := handRig()
+	rig.DurationS = 4
+	rec, truth, err := sampledata.Simulate(ctx, rig, "parcel", sampledata.SimOptions{Seed: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := NewSession(rec)
+	r := rig.Recipe()
+	// With the true offsets given, the delay is the truth's delay_deg.
+	r.Sweep.ApertureOffsetsDeg = truth.ApertureOffsetsDeg
+	got, err := s.Resolve(ctx, r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	d := *got.Sweep.DelayDeg
+	t.Logf("automatic delay %.3f°, truth %.3f°", d, truth.DelayDeg)
+	if math.Abs(d-truth.DelayDeg) > 0.3 {
+		t.Errorf("automatic delay %.3f°, truth %.3f°", d, truth.DelayDeg)
+	}
+}
+
+func TestParcelCorrelation(t *testing.T) {
+	ctx := context.Background()
+	rig := sampledata.DemoRig()
+	rec, truth, err := sampledata.Simulate(ctx, rig, "parcel", sampledata.SimOptions{Seed: sampledata.DemoSeed, TruthPitchMM: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := NewSession(rec).Build(ctx, rig.Recipe(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := res.Frames[0]
+	img := truth.ImageRaster()
+	// Pearson correlation over covered pixels inside the truth raster,
+	// the truth read at each frame pixel's centre (nearest pixel: both
+	// grids have a 1 mm pitch).
+	var a, b []float64
+	for row := 0; row < f.Height; row++ {
+		y := f.OriginYMM - float64(row)*f.PitchYMM
+		tr := int(math.Round((img.OriginYMM - y) / img.PitchMM))
+		if tr < 0 || tr >= img.Height {
+			continue
+		}
+		for col := 0; col < f.Width; col++ {
+			x := f.OriginXMM + float64(col)*f.PitchXMM
+			tc := int(math.Round((x - img.OriginXMM) / img.PitchMM))
+			v, ok := f.At(col, row)
+			if !ok || tc < 0 || tc >= img.Width {
+				continue
+			}
+			a = append(a, float64(v))
+			b = append(b, float64(img.Pix[tr*img.Width+tc]))
+		}
+	}
+	c := pearson(a, b)
+	t.Logf("correlation %.4f over %d pixels", c, len(a))
+	if c < 0.9 {
+		t.Errorf("correlation with the truth raster %.3f, want ≥ 0.9", c)
+	}
+}
+
+// pearson is the sample correlation coefficient.
+func pearson(a, b []float64) float64 {
+	ma, mb := meanOf(a), meanOf(b)
+	var sab, saa, sbb float64
+	for i := range a {
+		sab += (a[i] - ma) * (b[i] - mb)
+		saa += (a[i] - ma) * (a[i] - ma)
+		sbb += (b[i] - mb) * (b[i] - mb)
+	}
+	return sab / math.Sqrt(saa*sbb)
+}
+
+func TestRepairedPulsesAgainstTruth(t *testing.T) {
+	ctx := context.Background()
+	rig := sampledata.DemoRig()
+	rig.DurationS = 5
+	rec, truth, err := sampledata.Simulate(ctx, rig, "parcel", sampledata.SimOptions{Seed: 11})
+	if err != nil {
+		t.Fatal(err)
+	}
+	idx := rec.Channels[truth.Channels["index"]].Samples
+	rate := rec.SampleRateHz
+	edges := truth.IndexEdgesS
+	low := idx[int(edges[2]*rate)-50]
+	high := idx[int(edges[2]*rate)+20]
+	// Delete 5 pulses (two of them neighbours) well inside the capture.
+	for _, k := range []int{10, 40, 41, 90, 150} {
+		a := int(edges[k]*rate) - 20
+		for i := a; i < a+int(0.004*rate) && i < len(idx); i++ {
+			idx[i] = low
+		}
+	}
+	// Add 3 short spurious pulses between true ones.
+	for _, k := range []int{20, 60, 120} {
+		mid := int((edges[k] + edges[k+1]) / 2 * rate)
+		for i := mid; i < mid+10; i++ {
+			idx[i] = high
+		}
+	}
+	res, err := NewSession(rec).Build(ctx, rig.Recipe(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rep := res.Report
+	if rep.PulsesMissing != 5 || rep.LinesRepaired != 5 || rep.PulsesExtra != 3 {
+		t.Errorf("missing %d, lines repaired %d, extra %d; want 5, 5, 3; warnings %q", rep.PulsesMissing, rep.LinesRepaired, rep.PulsesExtra, rep.Warnings)
+	}
+	if len(res.Lines) != len(truth.Lines) {
+		t.Errorf("%d lines, truth %d", len(res.Lines), len(truth.Lines))
+	}
+	// Every line's edge where the truth has it (repaired ones within a
+	// fraction of a degree of wheel rotation).
+	for i := range min(len(res.Lines), len(truth.Lines)) {
+		// 20 µs for a found edge (jitter 3 µs, ramp 20 µs); a filled-in
+		// edge within the time of 0.3° of wheel rotation (rpm·6 °/s).
+		tol := 20e-6
+		if res.Lines[i].Repaired {
+			tol = 0.3 / (rig.Wheel.RevPerMin * 6)
+		}
+		if d := math.Abs(res.Lines[i].EdgeS - truth.Lines[i].EdgeS); d > tol {
+			t.Errorf("line %d edge at %.6f s, truth %.6f s (repaired %v)", i, res.Lines[i].EdgeS, truth.Lines[i].EdgeS, res.Lines[i].Repaired)
+		}
+	}
+}
