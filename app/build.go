@@ -72,7 +72,7 @@ func runBuild(args []string, stdout, stderr io.Writer) error {
 	fs.Float64Var(&bf.scaleBarMM, "scale-bar-mm", 0, "burn in a scale bar of this `length` in mm")
 	fs.StringVar(&bf.caption, "caption", "", "burn this `text` into the upper left")
 	fs.BoolVar(&bf.force, "force", false, "replace the output, its sidecar and the report if they exist")
-	fs.StringVar(&bf.compression, "compress", "none", "TIFF strip compression: none, deflate or lzw (PNG always deflates)")
+	fs.StringVar(&bf.compression, "compress", "", "TIFF strip `compression`: none (default), deflate or lzw; PNG: deflate (default) or none")
 	fs.Float64Var(&bf.window, "window", 0, "tone window `width` in frame units (default automatic)")
 	fs.Float64Var(&bf.level, "level", 0, "tone window `centre` in frame units (with --window)")
 	fs.Float64Var(&bf.gamma, "gamma", 1, "tone `gamma`: above 1 lifts the mid-tones")

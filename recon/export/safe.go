@@ -20,7 +20,7 @@ func SaveFile(path string, data []byte, force bool) error {
 	}
 	if !force {
 		if _, err := os.Lstat(path); err == nil {
-			return fmt.Errorf("%s: %w", path, ErrExists)
+			return fmt.Errorf("%s %w", path, ErrExists)
 		}
 	}
 	return placeFiles(dir, []pendingFile{{path: path, encode: func(w io.Writer) error {
@@ -116,12 +116,12 @@ func place(temp, path string, force bool) error {
 		return nil
 	}
 	if errors.Is(err, fs.ErrExist) {
-		return fmt.Errorf("%s: %w", path, ErrExists)
+		return fmt.Errorf("%s %w", path, ErrExists)
 	}
 	// The file system has no hard links (FAT, some network shares): check
 	// and rename, with a short window in which another writer could win.
 	if _, statErr := os.Lstat(path); statErr == nil {
-		return fmt.Errorf("%s: %w", path, ErrExists)
+		return fmt.Errorf("%s %w", path, ErrExists)
 	}
 	if err := os.Rename(temp, path); err != nil {
 		return fmt.Errorf("%s: %w", path, err)

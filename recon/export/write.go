@@ -49,7 +49,7 @@ type Options struct {
 
 // ErrExists is returned (wrapped, with the path) when the output or its
 // sidecar exists and Options.Force is not set.
-var ErrExists = errors.New("the file exists and is replaced only when forced")
+var ErrExists = errors.New("already exists")
 
 // Software is written into the Software tag, the PNG "Software" text and
 // the sidecar.
@@ -214,10 +214,12 @@ func checkDestination(path string, force bool) error {
 		return fmt.Errorf("%s: %s is not a folder", path, dir)
 	}
 	if !force {
-		for _, p := range []string{path, SidecarPath(path)} {
-			if _, err := os.Lstat(p); err == nil {
-				return fmt.Errorf("%s: %w", p, ErrExists)
-			}
+		if _, err := os.Lstat(path); err == nil {
+			return fmt.Errorf("%s %w", path, ErrExists)
+		}
+		sidecar := SidecarPath(path)
+		if _, err := os.Lstat(sidecar); err == nil {
+			return fmt.Errorf("%s (the sidecar %s would write) %w", sidecar, filepath.Base(path), ErrExists)
 		}
 	}
 	return nil
