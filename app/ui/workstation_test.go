@@ -1,25 +1,342 @@
 package ui
 
 import (
+	"bytes"
+	"fmt"
+	"image"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
 	"testing"
 
+	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/test"
+	"github.com/go-audio/wav"
+	"golang.org/x/image/tiff"
+	"gonum.org/v1/gonum/stat"
+
+	"spotloom/recon"
+	"spotloom/recon/export"
 )
 
-func TestQuickDemo(t *testing.T) {
-	a := test.NewApp()
-	w := a.NewWindow("t")
+// newTestWorkstation opens the demo in a headless window.
+func newTestWorkstation(t testing.TB) (*Workstation, fyne.Window) {
+	t.Helper()
+	a := test.NewTempApp(t)
 	a.Settings().SetTheme(Theme())
+	w := a.NewWindow("Spotloom test")
 	ws := New(a, w, Options{})
-	w.Resize(SnapshotSize)
+	w.Resize(fyne.NewSize(1280, 800))
 	ws.OpenDemo()
 	ws.Wait()
-	if ws.result == nil {
-		t.Fatalf("no result: %s", ws.Problem())
+	if ws.result == nil || len(ws.result.Frames) == 0 {
+		t.Fatalf("the demo did not build: %s", ws.Problem())
+	}
+	return ws, w
+}
+
+func framePixels(f *recon.Frame) []float32 { return append([]float32(nil), f.Pix...) }
+
+// grey returns the luminance of the pixel at (x,y), 0..255.
+func grey(img image.Image, x, y int) float64 {
+	r, g, b, _ := img.At(x, y).RGBA()
+	return (0.299*float64(r) + 0.587*float64(g) + 0.114*float64(b)) / 257
+}
+
+func TestDemoShowsNonBlankFrame(t *testing.T) {
+	ws, w := newTestWorkstation(t)
+	f := ws.view.Frame()
+	if f == nil {
+		t.Fatal("the view shows no frame")
+	}
+	if ws.result.Report.Coverage < 0.5 {
+		t.Errorf("coverage %.2f, want most of the demo frame covered", ws.result.Report.Coverage)
 	}
 	img := w.Canvas().Capture()
-	if err := WritePNG("/tmp/q/shot.png", img); err != nil {
+	// AbsolutePositionForObject leaves out the canvas's inset.
+	inset, _ := w.Canvas().InteractiveArea()
+	pos := fyne.CurrentApp().Driver().AbsolutePositionForObject(ws.view).Add(inset)
+	size := ws.view.Size()
+	scale := float64(img.Bounds().Dx()) / float64(w.Canvas().Size().Width)
+
+	// Sample the screen at the centre of every fourth frame pixel and set
+	// it beside the frame's own tone-mapped value. The view is right when
+	// the two agree; the check uses gonum's correlation, not our code.
+	ws.view.mu.Lock()
+	zoom, cx, cy := float64(ws.view.zoom), ws.view.centreX, ws.view.centreY
+	ws.view.mu.Unlock()
+	var onScreen, expected []float64
+	for row := 0; row < f.Height; row += 4 {
+		for col := 0; col < f.Width; col += 4 {
+			v, ok := f.At(col, row)
+			if !ok {
+				continue
+			}
+			xmm := f.OriginXMM + float64(col)*f.PitchXMM
+			ymm := f.OriginYMM - float64(row)*f.PitchYMM
+			ux := float64(pos.X) + float64(size.Width)/2 + (xmm-cx)*zoom
+			uy := float64(pos.Y) + float64(size.Height)/2 - (ymm-cy)*zoom
+			px, py := int(ux*scale), int(uy*scale)
+			// Leave out the corner under the scale bar.
+			if !image.Pt(px, py).In(img.Bounds()) || uy > float64(pos.Y+size.Height)-40 {
+				continue
+			}
+			onScreen = append(onScreen, grey(img, px, py))
+			expected = append(expected, 255*ws.cur.Tone.Map(v))
+		}
+	}
+	if len(onScreen) < 500 {
+		t.Fatalf("only %d frame pixels on screen", len(onScreen))
+	}
+	if sd := stat.StdDev(onScreen, nil); sd < 15 {
+		t.Errorf("the frame on screen has a standard deviation of %.1f grey levels: it looks blank", sd)
+	}
+	if r := stat.Correlation(onScreen, expected, nil); r < 0.99 {
+		t.Errorf("screen and frame correlate at r=%.3f, want ≥ 0.99", r)
+	}
+}
+
+// horizontalShift finds the whole-pixel lag that best lines up the middle
+// third of frame b with frame a (normalised cross-correlation).
+func horizontalShift(a, b *recon.Frame, maxLag int) int {
+	best, bestScore := 0, math.Inf(-1)
+	x0, x1 := a.Width/3, 2*a.Width/3
+	for lag := -maxLag; lag <= maxLag; lag++ {
+		var xs, ys []float64
+		for row := 0; row < a.Height; row++ {
+			for col := x0; col < x1; col++ {
+				va, okA := a.At(col, row)
+				vb, okB := b.At(col+lag, row)
+				if okA && okB {
+					xs, ys = append(xs, float64(va)), append(ys, float64(vb))
+				}
+			}
+		}
+		if len(xs) < 100 {
+			continue
+		}
+		if s := stat.Correlation(xs, ys, nil); s > bestScore {
+			best, bestScore = lag, s
+		}
+	}
+	return best
+}
+
+func TestDelayControlChangesImage(t *testing.T) {
+	ws, _ := newTestWorkstation(t)
+	before := ws.result.Frames[0]
+	pixBefore := framePixels(before)
+	d0 := ws.result.Report.DelayDeg
+	const stepDeg = 1.5
+	ws.controls.delay.typed(fmt.Sprintf("%.4f", d0+stepDeg))
+	ws.Wait()
+	if p := ws.Problem(); p != "" {
+		t.Fatalf("the delay change was refused: %s", p)
+	}
+	got := ws.result.Recipe.Sweep.DelayDeg
+	if got == nil || math.Abs(*got-(d0+stepDeg)) > 1e-3 {
+		t.Fatalf("the build used delay %v, want %.4f", got, d0+stepDeg)
+	}
+	after := ws.view.Frame()
+	if after == before {
+		t.Fatal("the view still shows the old frame")
+	}
+	if sameExtent(before, after) {
+		changed := 0
+		for i, v := range after.Pix {
+			if math.Abs(float64(v-pixBefore[i])) > 1e-6 {
+				changed++
+			}
+		}
+		if changed < len(pixBefore)/10 {
+			t.Errorf("only %d of %d pixels changed", changed, len(pixBefore))
+		}
+	}
+	// Closed form: turning the wheel's delay by Δ turns every beam by Δ, so
+	// at the middle of the field (θ ≈ 0) the scene moves by D·tan Δ on a
+	// flat plane, D·Δ (radians) with the angular projection.
+	r := ws.result.Recipe
+	delta := stepDeg * math.Pi / 180
+	wantMM := r.Sweep.DistanceMM * delta
+	if r.Sweep.Projection == "flat" {
+		wantMM = r.Sweep.DistanceMM * math.Tan(delta)
+	}
+	wantPx := wantMM / after.PitchXMM
+	lag := horizontalShift(before, after, int(2*wantPx)+3)
+	if math.Abs(math.Abs(float64(lag))-wantPx) > 2 {
+		t.Errorf("the image moved %d px for a %.1f° delay change, want about %.1f px (D·tan Δ)", lag, stepDeg, wantPx)
+	}
+}
+
+func TestUndoRestoresSettingsAndImage(t *testing.T) {
+	ws, _ := newTestWorkstation(t)
+	r0 := cloneRecipe(ws.cur.Recipe)
+	pix0 := framePixels(ws.result.Frames[0])
+	d0 := ws.result.Report.DelayDeg
+	ws.controls.delay.typed(fmt.Sprintf("%.4f", d0+2))
+	ws.Wait()
+	pix1 := framePixels(ws.result.Frames[0])
+	if !ws.hist.canUndo() {
+		t.Fatal("the change left nothing to undo")
+	}
+	ws.Undo()
+	ws.Wait()
+	if !sameRecipe(ws.cur.Recipe, r0) {
+		t.Errorf("undo left recipe\n%s\nwant\n%s", ws.cur.Recipe.JSON(), r0.JSON())
+	}
+	if !equalPix(ws.result.Frames[0].Pix, pix0) {
+		t.Error("undo did not bring the first image back")
+	}
+	if math.Abs(ws.controls.delay.value-d0) > 1e-6 {
+		t.Errorf("the delay control shows %.4f after undo, want %.4f", ws.controls.delay.value, d0)
+	}
+	ws.Redo()
+	ws.Wait()
+	if !equalPix(ws.result.Frames[0].Pix, pix1) {
+		t.Error("redo did not bring the changed image back")
+	}
+}
+
+func equalPix(a, b []float32) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i] != b[i] && !(math.IsNaN(float64(a[i])) && math.IsNaN(float64(b[i]))) {
+			return false
+		}
+	}
+	return true
+}
+
+func TestBrokenFileShowsDialog(t *testing.T) {
+	ws, w := newTestWorkstation(t)
+	shown := ws.result
+	settingsBefore := ws.cur.clone()
+
+	// A WAV whose header promises a data chunk the file does not hold.
+	var buf bytes.Buffer
+	buf.WriteString("RIFF\x24\x08\x00\x00WAVEfmt \x10\x00\x00\x00\x01\x00\x03\x00\x80\xbb\x00\x00\x00\x65\x04\x00\x06\x00\x10\x00data\x00\x08\x00\x00\x01\x02")
+	path := filepath.Join(t.TempDir(), "broken.wav")
+	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	t.Logf("report %+v", ws.result.Report)
+	// An independent reader agrees the file cannot be decoded.
+	if f, err := os.Open(path); err == nil {
+		d := wav.NewDecoder(f)
+		if pcm, err := d.FullPCMBuffer(); err == nil && pcm != nil && len(pcm.Data) >= 3*0x800/6 {
+			t.Fatalf("go-audio/wav decoded the broken file in full (%d samples)", len(pcm.Data))
+		}
+		f.Close()
+	}
+
+	ws.OpenFile(path, nil)
+	ws.Wait()
+	if !strings.Contains(ws.Problem(), "broken.wav") {
+		t.Errorf("problem %q does not name the file", ws.Problem())
+	}
+	if w.Canvas().Overlays().Top() == nil {
+		t.Error("no dialog is shown")
+	}
+	if ws.result != shown || !sameSettings(ws.cur, settingsBefore) {
+		t.Error("the image or the settings changed after a failed open")
+	}
+}
+
+func TestRecipeThatDoesNotFitIsRefused(t *testing.T) {
+	ws, w := newTestWorkstation(t)
+	shown := ws.result
+	before := ws.cur.clone()
+	bad := cloneRecipe(ws.cur.Recipe)
+	bad.Channels.Detector = "9" // the demo has three channels
+	path := filepath.Join(t.TempDir(), "wrong.recipe.json")
+	if err := os.WriteFile(path, bad.JSON(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	ws.LoadRecipe(path)
+	ws.Wait()
+	if ws.Problem() == "" || w.Canvas().Overlays().Top() == nil {
+		t.Fatal("no dialog for a recipe naming a missing channel")
+	}
+	if ws.result != shown || !sameSettings(ws.cur, before) {
+		t.Error("the image or the settings changed after a refused recipe")
+	}
+	if ws.hist.canUndo() {
+		t.Error("a refused recipe left an undo step")
+	}
+}
+
+func TestExportWritesCalibratedTIFFAndAsksBeforeReplacing(t *testing.T) {
+	ws, w := newTestWorkstation(t)
+	f := ws.result.Frames[0]
+	path := filepath.Join(t.TempDir(), "demo.tiff")
+	plan := exportPlan(path, []*recon.Frame{f}, exportOptions(ws))
+	ws.runExport(plan)
+	ws.Wait()
+	if p := ws.Problem(); p != "" {
+		t.Fatalf("export failed: %s", p)
+	}
+	data, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Decode with x/image/tiff, an independent reader.
+	img, err := tiff.Decode(bytes.NewReader(data))
+	if err != nil {
+		t.Fatalf("x/image/tiff cannot read the export: %v", err)
+	}
+	if b := img.Bounds(); b.Dx() != f.Width || b.Dy() != f.Height {
+		t.Errorf("export is %v, frame is %d×%d", b, f.Width, f.Height)
+	}
+	if _, err := os.Stat(strings.TrimSuffix(path, ".tiff") + ".recipe.json"); err != nil {
+		t.Errorf("no recipe beside the export: %v", err)
+	}
+	if w.Canvas().Overlays().Top() != nil {
+		t.Fatal("a dialog is open before the second export")
+	}
+	ws.runExport(exportPlan(path, []*recon.Frame{f}, exportOptions(ws)))
+	ws.Wait()
+	if w.Canvas().Overlays().Top() == nil {
+		t.Error("exporting over an existing file did not ask first")
+	}
+}
+
+func exportOptions(ws *Workstation) (o export.Options) {
+	o.Depth, o.Tone, o.ScaleBarMM, o.Compression = 16, ws.cur.Tone, -1, "deflate"
+	return o
+}
+
+func TestSnapshotRendersWindow(t *testing.T) {
+	img, err := Snapshot("", nil, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if b := img.Bounds(); b.Dx() < int(SnapshotSize.Width) || b.Dy() < int(SnapshotSize.Height) {
+		t.Errorf("snapshot is %v, want at least %v", b, SnapshotSize)
+	}
+	var g []float64
+	for y := 0; y < img.Bounds().Dy(); y += 7 {
+		for x := 0; x < img.Bounds().Dx(); x += 7 {
+			g = append(g, grey(img, x, y))
+		}
+	}
+	if sd := stat.StdDev(g, nil); sd < 10 {
+		t.Errorf("snapshot looks blank (sd %.1f)", sd)
+	}
+}
+
+func TestAboutShowsSafetyCaution(t *testing.T) {
+	ws, w := newTestWorkstation(t)
+	ws.ShowAbout()
+	top := w.Canvas().Overlays().Top()
+	if top == nil {
+		t.Fatal("no About dialog")
+	}
+	markup := test.RenderObjectToMarkup(top)
+	for _, want := range []string{"ionising radiation", "dosimetry", "controls no source"} {
+		if !strings.Contains(markup, want) {
+			t.Errorf("the About text lacks %q", want)
+		}
+	}
 }
