@@ -19,15 +19,16 @@ const (
 
 // TIFF field types (TIFF 6.0 Section 2, "IFD Entry", Types).
 const (
-	typeASCII    = 2 // 8-bit bytes holding 7-bit ASCII, the last byte NUL
-	typeSHORT    = 3 // 16-bit unsigned integer
-	typeLONG     = 4 // 32-bit unsigned integer
-	typeRATIONAL = 5 // two LONGs: numerator, denominator
+	typeASCII    = 2  // 8-bit bytes holding 7-bit ASCII, the last byte NUL
+	typeSHORT    = 3  // 16-bit unsigned integer
+	typeLONG     = 4  // 32-bit unsigned integer
+	typeRATIONAL = 5  // two LONGs: numerator, denominator
+	typeFLOAT    = 11 // IEEE single precision (4 bytes)
 )
 
 // tiffTypeSize is the size in bytes of one value of each field type
 // (TIFF 6.0 Section 2).
-var tiffTypeSize = map[uint16]uint32{typeASCII: 1, typeSHORT: 2, typeLONG: 4, typeRATIONAL: 8}
+var tiffTypeSize = map[uint16]uint32{typeASCII: 1, typeSHORT: 2, typeLONG: 4, typeRATIONAL: 8, typeFLOAT: 4}
 
 // TIFF tags.
 const (
@@ -52,6 +53,8 @@ const (
 	tagSoftware                  = 305 // Section 8
 	tagDateTime                  = 306 // Section 8: "YYYY:MM:DD HH:MM:SS", 20 bytes with the NUL
 	tagSampleFormat              = 339 // Section 19 (Data Sample Format)
+	tagSMinSampleValue           = 340 // Section 19: least sample value, in the samples' own type
+	tagSMaxSampleValue           = 341 // Section 19: greatest sample value
 )
 
 // TIFF field values.

@@ -41,7 +41,7 @@ func testFrame(w, h int, pitchMM float64) *recon.Frame {
 type ifdField struct {
 	typ    uint16
 	count  uint32
-	values []uint64 // SHORT, LONG; RATIONAL as numerator, denominator pairs
+	values []uint64 // SHORT, LONG, FLOAT bits; RATIONAL as numerator, denominator pairs
 	text   string   // ASCII without the final NUL
 }
 
@@ -81,7 +81,7 @@ func parseTIFF(t *testing.T, file []byte) []parsedPage {
 				t.Errorf("tag %d after %d: Section 2 requires ascending order", tag, prevTag)
 			}
 			prevTag = int(tag)
-			size := map[uint16]uint32{2: 1, 3: 2, 4: 4, 5: 8}[typ]
+			size := map[uint16]uint32{2: 1, 3: 2, 4: 4, 5: 8, 11: 4}[typ]
 			if size == 0 {
 				t.Fatalf("tag %d has type %d", tag, typ)
 			}
@@ -104,7 +104,7 @@ func parseTIFF(t *testing.T, file []byte) []parsedPage {
 				for i := uint32(0); i < count; i++ {
 					f.values = append(f.values, uint64(le.Uint16(data[2*i:])))
 				}
-			case 4:
+			case 4, 11: // LONG; FLOAT kept as its bits
 				for i := uint32(0); i < count; i++ {
 					f.values = append(f.values, uint64(le.Uint32(data[4*i:])))
 				}

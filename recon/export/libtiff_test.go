@@ -48,6 +48,8 @@ func TestTiffinfoReadsResolution(t *testing.T) {
 		"Sample Format: IEEE floating point",
 		"Compression Scheme: LZW",
 		"Image Width: 30 Image Length: 20",
+		"SMin Sample Value:",
+		"SMax Sample Value:",
 	}
 	for _, w := range want {
 		if !strings.Contains(text, w) {

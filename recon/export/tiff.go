@@ -20,8 +20,9 @@ type tiffPage struct {
 	samples       []byte // width*height*bitsPerSample/8 bytes
 	pixelsPerCMX  float64
 	pixelsPerCMY  float64
-	description   string // ASCII (the recipe JSON)
-	pageName      string // ASCII, may be empty
+	description   string      // ASCII (the recipe JSON)
+	valueRange    *[2]float32 // float pages: least and greatest value with data, or nil
+	pageName      string      // ASCII, may be empty
 }
 
 // tiffFile holds what is common to every page.
@@ -237,6 +238,11 @@ func pageEntries(p *tiffPage, file tiffFile, pageCount, page, rowsPerStrip int, 
 		ascii(tagDateTime, file.created.Format("2006:01:02 15:04:05")),
 		shorts(tagSampleFormat, p.sampleFormat),
 	)
+	if p.valueRange != nil && p.sampleFormat == sampleFormatIEEEFP {
+		// A display range for readers of float data, which has no
+		// implied black and white (Section 19).
+		entries = append(entries, floats(tagSMinSampleValue, p.valueRange[0]), floats(tagSMaxSampleValue, p.valueRange[1]))
+	}
 	for i := 1; i < len(entries); i++ {
 		if entries[i].tag <= entries[i-1].tag {
 			return nil, fmt.Errorf("internal: tag %d after tag %d", entries[i].tag, entries[i-1].tag)
@@ -259,6 +265,14 @@ func longs(tag uint16, values ...uint32) ifdEntry {
 		binary.LittleEndian.PutUint32(data[4*i:], v)
 	}
 	return ifdEntry{tag: tag, typ: typeLONG, count: uint32(len(values)), data: data}
+}
+
+func floats(tag uint16, values ...float32) ifdEntry {
+	data := make([]byte, 4*len(values))
+	for i, v := range values {
+		binary.LittleEndian.PutUint32(data[4*i:], math.Float32bits(v))
+	}
+	return ifdEntry{tag: tag, typ: typeFLOAT, count: uint32(len(values)), data: data}
 }
 
 func rationals(tag uint16, num, den uint32) ifdEntry {

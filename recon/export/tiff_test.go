@@ -100,6 +100,15 @@ func TestTIFFFloatParsedByHand(t *testing.T) {
 		if got := p.one(t, 259); got != wantComp {
 			t.Errorf("Compression = %d, want %d", got, wantComp)
 		}
+		lo, hi := float32(math.Inf(1)), float32(math.Inf(-1))
+		for i, v := range f.Pix {
+			if f.Covered[i] {
+				lo, hi = min(lo, v), max(hi, v)
+			}
+		}
+		if p.fields[340].typ != 11 || math.Float32frombits(uint32(p.one(t, 340))) != lo || math.Float32frombits(uint32(p.one(t, 341))) != hi {
+			t.Errorf("%s: SMin/SMaxSampleValue %v %v, want FLOAT %g %g", comp, p.fields[340], p.fields[341], lo, hi)
+		}
 		if len(p.samples) != 4*len(f.Pix) {
 			t.Fatalf("%s: %d sample bytes, want %d", comp, len(p.samples), 4*len(f.Pix))
 		}

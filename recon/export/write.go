@@ -297,6 +297,7 @@ func writeTIFF(w io.Writer, pages []page, recipeJSON []byte, s settings, noData 
 		if s.depth == 32 {
 			t.sampleFormat = sampleFormatIEEEFP
 			t.samples = floatSamples(f, noData)
+			t.valueRange = valueRange(f)
 		} else {
 			t.samples = tiffSamples(p.image)
 		}
@@ -306,6 +307,22 @@ func writeTIFF(w io.Writer, pages []page, recipeJSON []byte, s settings, noData 
 		tp[i] = t
 	}
 	return encodeTIFF(w, tp, tiffFile{compression: s.tiffCode, software: Software, created: now})
+}
+
+// valueRange is the least and greatest finite value of the covered
+// pixels, or nil when there is none.
+func valueRange(f *recon.Frame) *[2]float32 {
+	var r *[2]float32
+	for i, v := range f.Pix {
+		if !f.Covered[i] || math.IsNaN(float64(v)) || math.IsInf(float64(v), 0) {
+			continue
+		}
+		if r == nil {
+			r = &[2]float32{v, v}
+		}
+		r[0], r[1] = min(r[0], v), max(r[1], v)
+	}
+	return r
 }
 
 func writePNG(w io.Writer, p page, recipeJSON []byte, caption string, now time.Time, level png.CompressionLevel) error {
