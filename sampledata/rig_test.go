@@ -234,8 +234,8 @@ func TestRecipeForOtherRigs(t *testing.T) {
 	motor.Motion.StartRestS = 0
 	motor.Position.Kind = SensorNone
 	cases := []struct {
-		name string
-		rig  Rig
+		name  string
+		rig   Rig
 		check func(r recipe.Recipe) bool
 	}{
 		{"tone", tone, func(r recipe.Recipe) bool {
