@@ -147,7 +147,7 @@ confidence from 0 to 1.`, stderr)
 	}
 	fmt.Fprintf(tw, "file\t%s\n", rec.Source.Path)
 	fmt.Fprintf(tw, "format\t%s (%s%s)\n", report.Format, report.SampleType, bits)
-	fmt.Fprintf(tw, "sample rate\t%g Hz\n", report.SampleRateHz)
+	fmt.Fprintf(tw, "sample rate\t%.10g Hz\n", report.SampleRateHz)
 	fmt.Fprintf(tw, "frames\t%d\n", report.Frames)
 	fmt.Fprintf(tw, "duration\t%.6g s\n", report.DurationS)
 	tw.Flush()

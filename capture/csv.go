@@ -788,7 +788,9 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 		rec.SampleRateHz = opts.SampleRateHz
 	case timeCol >= 0 && rows >= 2:
 		meanStep := (tPrev - t0) / float64(rows-1)
-		rec.SampleRateHz = 1 / meanStep
+		// Ten significant digits: the time column is printed text, and its
+		// last-bit noise should not show up as 499999.99999999994 Hz.
+		rec.SampleRateHz, _ = strconv.ParseFloat(strconv.FormatFloat(1/meanStep, 'g', 10, 64), 64)
 		if maxStep > meanStep*1.01 || minStep < meanStep*0.99 {
 			rec.Warnings = append(rec.Warnings, fmt.Sprintf("time steps range from %.6g s to %.6g s around a mean of %.6g s (more than 1%% uneven); samples are treated as evenly spaced at %.6g Hz",
 				minStep, maxStep, meanStep, rec.SampleRateHz))

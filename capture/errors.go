@@ -3,6 +3,9 @@ package capture
 import (
 	"errors"
 	"fmt"
+	"strconv"
+	"strings"
+	"unicode"
 )
 
 // Place says where in a file something was found: a byte offset for binary
@@ -68,7 +71,7 @@ func (e *UnsupportedError) Error() string {
 func describe(path, format string, place Place, problem, expected string) string {
 	msg := ""
 	if path != "" {
-		msg = path + ": "
+		msg = displayPath(path) + ": "
 	}
 	where := format
 	if p := place.String(); p != "" {
@@ -103,4 +106,14 @@ func withPath(err error, path string) error {
 		ue.Path = path
 	}
 	return err
+}
+
+// displayPath is a file name as messages show it: as it is, or quoted when
+// it holds a line break or another non-printing character, so that every
+// message stays on one line.
+func displayPath(path string) string {
+	if strings.IndexFunc(path, func(r rune) bool { return !unicode.IsPrint(r) && r != ' ' }) >= 0 {
+		return strconv.Quote(path)
+	}
+	return path
 }

@@ -24,6 +24,9 @@ var update = flag.Bool("update", false, "rewrite the fixtures in testdata/captur
 
 const fixtureDir = "../testdata/capture"
 
+// fuzzDir holds the seed corpora, where go test looks for them.
+const fuzzDir = "testdata/fuzz"
+
 // fixtureFrames is the length of every WAV fixture: odd, so 8-bit mono
 // data needs the RIFF pad byte.
 const fixtureFrames = 61
@@ -372,26 +375,37 @@ func TestFixturesUpToDate(t *testing.T) {
 		if err := makeFixtures(fixtureDir); err != nil {
 			t.Fatal(err)
 		}
+		if err := makeFuzzCorpus(fuzzDir, fixtureDir); err != nil {
+			t.Fatal(err)
+		}
 	}
 	dir := t.TempDir()
 	if err := makeFixtures(dir); err != nil {
 		t.Fatal(err)
 	}
-	err := filepath.Walk(dir, func(p string, info os.FileInfo, err error) error {
-		if err != nil || info.IsDir() {
-			return err
-		}
-		rel, _ := filepath.Rel(dir, p)
-		want, _ := os.ReadFile(p)
-		got, err := os.ReadFile(filepath.Join(fixtureDir, rel))
-		if err != nil || !bytes.Equal(got, want) {
-			t.Errorf("%s differs from what makeFixtures writes; run go test ./capture -run TestFixturesUpToDate -update", rel)
-		}
-		return nil
-	})
-	if err != nil {
+	corpus := t.TempDir()
+	if err := makeFuzzCorpus(corpus, dir); err != nil {
 		t.Fatal(err)
 	}
+	check := func(made, committed string) {
+		err := filepath.Walk(made, func(p string, info os.FileInfo, err error) error {
+			if err != nil || info.IsDir() {
+				return err
+			}
+			rel, _ := filepath.Rel(made, p)
+			want, _ := os.ReadFile(p)
+			got, err := os.ReadFile(filepath.Join(committed, rel))
+			if err != nil || !bytes.Equal(got, want) {
+				t.Errorf("%s differs from what the generator writes; run go test ./capture -run TestFixturesUpToDate -update", filepath.Join(committed, rel))
+			}
+			return nil
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+	}
+	check(dir, fixtureDir)
+	check(corpus, fuzzDir)
 }
 
 // TestWAVFixtures decodes every WAV fixture and compares each sample with

@@ -173,11 +173,11 @@ func ParseLayout(data []byte) (RawLayout, error) {
 func LoadLayout(path string) (RawLayout, error) {
 	data, err := os.ReadFile(path)
 	if err != nil {
-		return RawLayout{}, fmt.Errorf("%s: %w", path, unwrapPathError(err))
+		return RawLayout{}, fmt.Errorf("%s: %w", displayPath(path), unwrapPathError(err))
 	}
 	l, err := ParseLayout(data)
 	if err != nil {
-		return RawLayout{}, fmt.Errorf("%s: %v", path, err)
+		return RawLayout{}, fmt.Errorf("%s: %v", displayPath(path), err)
 	}
 	return l, nil
 }
@@ -185,7 +185,7 @@ func LoadLayout(path string) (RawLayout, error) {
 // WriteLayoutFile writes l as indented JSON to path.
 func WriteLayoutFile(path string, l RawLayout) error {
 	if err := l.Validate(); err != nil {
-		return fmt.Errorf("%s: layout: %v", path, err)
+		return fmt.Errorf("%s: layout: %v", displayPath(path), err)
 	}
 	data, err := json.MarshalIndent(l, "", "  ")
 	if err != nil {
@@ -209,7 +209,7 @@ func LayoutPaths(path string) []string {
 func findLayout(path string, opts Options) (*RawLayout, error) {
 	if opts.Layout != nil {
 		if err := opts.Layout.Validate(); err != nil {
-			return nil, fmt.Errorf("%s: raw layout: %v", path, err)
+			return nil, fmt.Errorf("%s: raw layout: %v", displayPath(path), err)
 		}
 		return opts.Layout, nil
 	}
@@ -230,10 +230,10 @@ func findLayout(path string, opts Options) (*RawLayout, error) {
 
 // layoutHint tells where a layout goes and shows one.
 func layoutHint(path string) string {
-	return fmt.Sprintf("write %s beside it, e.g. %s", filepath.Base(LayoutPaths(path)[len(LayoutPaths(path))-1]), exampleLayout)
+	return fmt.Sprintf("write %s beside it, e.g. %s", displayPath(filepath.Base(LayoutPaths(path)[len(LayoutPaths(path))-1])), exampleLayout)
 }
 
 // missingLayout is the error for a raw capture without a layout.
 func missingLayout(path string) error {
-	return fmt.Errorf("%s: %w: give the layout as flags or %s", path, ErrNoLayout, layoutHint(path))
+	return fmt.Errorf("%s: %w: give the layout as flags or %s", displayPath(path), ErrNoLayout, layoutHint(path))
 }

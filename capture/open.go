@@ -40,7 +40,7 @@ var textExtensions = map[string]bool{".csv": true, ".txt": true, ".tsv": true, "
 func Open(path string, opts Options) (*Recording, error) {
 	st, err := os.Stat(path)
 	if err != nil {
-		return nil, fmt.Errorf("%s: %w", path, unwrapPathError(err))
+		return nil, fmt.Errorf("%s: %w", displayPath(path), unwrapPathError(err))
 	}
 	if st.IsDir() {
 		return nil, &FormatError{Path: path, Place: wholeFile, Problem: "is a directory", Expected: "a WAV, CSV or raw capture file"}
@@ -50,46 +50,62 @@ func Open(path string, opts Options) (*Recording, error) {
 	}
 	f, err := os.Open(path)
 	if err != nil {
-		return nil, fmt.Errorf("%s: %w", path, unwrapPathError(err))
+		return nil, fmt.Errorf("%s: %w", displayPath(path), unwrapPathError(err))
 	}
 	defer f.Close()
 	size := st.Size()
 	if size == 0 {
 		return nil, &FormatError{Path: path, Place: wholeFile, Problem: "file is empty (0 bytes)", Expected: "a WAV, CSV or raw capture"}
 	}
-	head := make([]byte, min(size, sniffBytes))
-	if _, err := f.ReadAt(head, 0); err != nil && !errors.Is(err, io.EOF) {
-		return nil, fmt.Errorf("%s: %w", path, unwrapPathError(err))
+	layout, err := findLayout(path, opts)
+	if err != nil {
+		return nil, err
 	}
-	ext := strings.ToLower(filepath.Ext(path))
+	rec, err := decode(f, size, path, layout, opts)
+	if err != nil {
+		if errors.Is(err, ErrNoLayout) {
+			return nil, missingLayout(path)
+		}
+		return nil, withPath(err, path)
+	}
+	rec.Source.Path = path
+	return rec, nil
+}
 
+// decode picks the reader for a file of the given size and name (used for
+// its extension and in hints) and reads it. layout, when not nil, is the raw
+// layout given or found beside the file; it is used unless the file is a
+// WAV and no layout was given in opts.
+func decode(r io.ReaderAt, size int64, name string, layout *RawLayout, opts Options) (*Recording, error) {
+	ext := strings.ToLower(filepath.Ext(name))
+	if size == 0 {
+		return nil, &FormatError{Place: wholeFile, Problem: "file is empty (0 bytes)", Expected: "a WAV, CSV or raw capture"}
+	}
+	head := make([]byte, min(size, sniffBytes))
+	if n, err := r.ReadAt(head, 0); err != nil && !(errors.Is(err, io.EOF) && n == len(head)) {
+		return nil, &FormatError{Place: AtByte(int64(n)), Problem: "cannot read: " + err.Error()}
+	}
 	var rec *Recording
-	layout, layoutErr := findLayout(path, opts)
+	var err error
 	switch {
 	case opts.Layout != nil || (layout != nil && !isWAV(head)):
-		if layoutErr != nil {
-			return nil, layoutErr
-		}
-		rec, err = readRaw(f, size, *layout, opts)
-	case layoutErr != nil && !isWAV(head):
-		return nil, layoutErr
+		rec, err = readRaw(r, size, *layout, opts)
 	case isWAV(head):
-		rec, err = readWAV(f, size, opts)
+		rec, err = readWAV(r, size, opts)
 	case ext == ".wav" || ext == ".wave":
-		return nil, &FormatError{Path: path, Format: "wav", Place: AtByte(0), Problem: fmt.Sprintf("file starts with %q", printable(head[:min(len(head), 4)])), Expected: "\"RIFF\" ... \"WAVE\""}
+		return nil, &FormatError{Format: "wav", Place: AtByte(0), Problem: fmt.Sprintf("file starts with %q", printable(head[:min(len(head), 4)])), Expected: "\"RIFF\" ... \"WAVE\""}
 	case isUTF16(head):
-		return nil, &UnsupportedError{Path: path, Format: "csv", Place: AtByte(0), Feature: "UTF-16 text", Expected: "UTF-8 or ASCII text (save the export as UTF-8)"}
+		return nil, &UnsupportedError{Format: "csv", Place: AtByte(0), Feature: "UTF-16 text", Expected: "UTF-8 or ASCII text (save the export as UTF-8)"}
 	case looksLikeText(head, size <= sniffBytes):
-		rec, err = readCSV(f, size, opts)
+		rec, err = readCSV(r, size, opts)
 	case rawExtensions[ext]:
-		return nil, missingLayout(path)
+		return nil, ErrNoLayout
 	default:
-		kinds := "a RIFF/WAVE file, delimited text (CSV) or a raw file with a layout"
-		return nil, &FormatError{Path: path, Place: AtByte(0), Problem: fmt.Sprintf("unknown format (starts with % x)", head[:min(len(head), 8)]),
-			Expected: kinds + "; for raw ADC dumps " + layoutHint(path)}
+		return nil, &FormatError{Place: AtByte(0), Problem: fmt.Sprintf("unknown format (starts with % x)", head[:min(len(head), 8)]),
+			Expected: "a RIFF/WAVE file, delimited text (CSV) or a raw file with a layout; for raw ADC dumps " + layoutHint(name)}
 	}
 	if err != nil {
-		return nil, withPath(err, path)
+		return nil, err
 	}
 	if textExtensions[ext] && rec.Source.Format == "wav" {
 		rec.Warnings = append(rec.Warnings, fmt.Sprintf("file is named %s but holds a WAV capture", ext))
@@ -97,9 +113,8 @@ func Open(path string, opts Options) (*Recording, error) {
 	if opts.SampleRateHz > 0 {
 		rec.SampleRateHz = opts.SampleRateHz
 	}
-	rec.Source.Path = path
 	if err := rec.Validate(); err != nil {
-		return nil, &FormatError{Path: path, Format: rec.Source.Format, Place: wholeFile, Problem: err.Error()}
+		return nil, &FormatError{Format: rec.Source.Format, Place: wholeFile, Problem: err.Error()}
 	}
 	return rec, nil
 }

@@ -1,0 +1,141 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"spotloom/capture"
+)
+
+const captureFixtures = "../testdata/capture"
+
+// TestProbeBadFiles runs "spotloom probe" on every broken fixture: exit
+// status 1 and exactly one line on stderr naming the file and the place.
+func TestProbeBadFiles(t *testing.T) {
+	dir := t.TempDir()
+	places := map[string]string{
+		"truncated.wav": "byte 36", "truncated_header.wav": "byte 12", "claims_more.wav": "byte 36",
+		"zero_channels.wav": "byte 22", "zero_rate.wav": "byte 24", "absurd_rate.wav": "byte 24",
+		"compressed.wav": "byte 20", "not_riff.wav": "byte 0", "not_number.csv": "line 4:7",
+		"ragged.csv": "line 3", "time_backwards.csv": "line 4:1", "empty.csv": "empty",
+		"odd_size.bin": "byte 60", "no_layout.bin": "layout", "unknown.xyz": "byte 0",
+	}
+	for name, place := range places {
+		path := filepath.Join(captureFixtures, "bad", name)
+		var stdout, stderr bytes.Buffer
+		code := run([]string{"probe", path}, &stdout, &stderr)
+		msg := stderr.String()
+		if code != 1 || strings.Count(msg, "\n") != 1 || !strings.Contains(msg, path) || !strings.Contains(msg, place) || stdout.Len() != 0 {
+			t.Errorf("%s: exit %d, stderr %q, stdout %q; want exit 1 and one line naming the file and %q", name, code, msg, stdout.String(), place)
+		}
+	}
+	var stdout, stderr bytes.Buffer
+	if code := run([]string{"probe", dir}, &stdout, &stderr); code != 1 || !strings.Contains(stderr.String(), "is a directory") {
+		t.Errorf("directory: exit %d, %q", code, stderr.String())
+	}
+	if code := run([]string{"probe"}, &stdout, &stderr); code != 2 {
+		t.Errorf("no file: exit %d, want 2 (usage)", code)
+	}
+}
+
+// TestProbeJSON checks the JSON keys and the statistics against sums done
+// here in float64 over the fixture's known samples.
+func TestProbeJSON(t *testing.T) {
+	path := filepath.Join(captureFixtures, "pcm_s16_stereo.wav")
+	var stdout, stderr bytes.Buffer
+	if code := run([]string{"probe", path, "--json"}, &stdout, &stderr); code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr.String())
+	}
+	var keys map[string]json.RawMessage
+	if err := json.Unmarshal(stdout.Bytes(), &keys); err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []string{"format", "sample_rate_hz", "frames", "duration_s", "channels"} {
+		if _, ok := keys[k]; !ok {
+			t.Errorf("JSON has no %q key: %s", k, stdout.String())
+		}
+	}
+	var rep struct {
+		Format       string  `json:"format"`
+		SampleRateHz float64 `json:"sample_rate_hz"`
+		Frames       int     `json:"frames"`
+		DurationS    float64 `json:"duration_s"`
+		Channels     []map[string]any
+	}
+	if err := json.Unmarshal(stdout.Bytes(), &rep); err != nil {
+		t.Fatal(err)
+	}
+	rec, err := capture.Open(path, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rep.Format != "wav" || rep.SampleRateHz != 44100 || rep.Frames != rec.Frames() || math.Abs(rep.DurationS-float64(rec.Frames())/44100) > 1e-12 || len(rep.Channels) != 2 {
+		t.Fatalf("report %+v", rep)
+	}
+	for c, ch := range rep.Channels {
+		for _, k := range []string{"name", "unit", "min", "max", "mean", "rms", "role"} {
+			if _, ok := ch[k]; !ok {
+				t.Errorf("channel %d has no %q", c, k)
+			}
+		}
+		var sum, sq float64
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, v := range rec.Channels[c].Samples {
+			sum += float64(v)
+			sq += float64(v) * float64(v)
+			lo, hi = math.Min(lo, float64(v)), math.Max(hi, float64(v))
+		}
+		n := float64(rec.Frames())
+		for k, want := range map[string]float64{"min": lo, "max": hi, "mean": sum / n, "rms": math.Sqrt(sq / n)} {
+			if got := ch[k].(float64); math.Abs(got-want) > 1e-12 {
+				t.Errorf("channel %d %s = %v, want %v", c, k, got, want)
+			}
+		}
+	}
+}
+
+// TestProbeRawFlags reads a raw file with the layout given as flags.
+func TestProbeRawFlags(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "dump.dat")
+	// three frames of two little-endian int16 channels: 16384 = 0.5 FS
+	data := []byte{0x00, 0x40, 0x00, 0xC0, 0x00, 0x00, 0xFF, 0x7F, 0x00, 0x80, 0x00, 0x00}
+	if err := os.WriteFile(path, data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var stdout, stderr bytes.Buffer
+	code := run([]string{"probe", path, "--raw", "int16", "--channels", "2", "--rate", "1000", "--json"}, &stdout, &stderr)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr.String())
+	}
+	var rep struct {
+		Frames   int
+		Channels []struct{ Min, Max float64 }
+	}
+	json.Unmarshal(stdout.Bytes(), &rep)
+	// channel 0 holds 0.5, 0, -1; channel 1 holds -0.5, 32767/32768, 0
+	if rep.Frames != 3 || rep.Channels[0].Min != -1 || rep.Channels[0].Max != 0.5 || rep.Channels[1].Max != 32767.0/32768 {
+		t.Fatalf("%s", stdout.String())
+	}
+	if code := run([]string{"probe", path, "--raw", "int16", "--channels", "5", "--rate", "1000"}, &stdout, &stderr); code != 1 {
+		t.Errorf("12 bytes as 5 int16 channels: exit %d, want 1", code)
+	}
+}
+
+func TestProbeTable(t *testing.T) {
+	var stdout, stderr bytes.Buffer
+	if code := run([]string{"probe", filepath.Join(captureFixtures, "scope.csv")}, &stdout, &stderr); code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr.String())
+	}
+	out := stdout.String()
+	for _, w := range []string{"csv", "500000 Hz", "CH1", "CH2", "frames", "duration"} {
+		if !strings.Contains(out, w) {
+			t.Errorf("table lacks %q:\n%s", w, out)
+		}
+	}
+}
