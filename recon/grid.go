@@ -151,9 +151,13 @@ type gridInput struct {
 func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, error) {
 	var st gridStats
 	p := in.pitch
-	x0 := in.sweep.xMin
-	cols := int(math.Floor((in.sweep.xMax-x0)/p+1e-9)) + 1
-	rows := int(math.Floor((in.yTop-in.yBotom)/p+1e-9)) + 1
+	// The grid covers the x and y extent and is centred on it, so a
+	// reversed sweep gives the exact mirror image.
+	cols := int(math.Ceil((in.sweep.xMax-in.sweep.xMin)/p-1e-9)) + 1
+	rows := int(math.Ceil((in.yTop-in.yBotom)/p-1e-9)) + 1
+	x0 := (in.sweep.xMin+in.sweep.xMax)/2 - float64(cols-1)/2*p
+	yTop := (in.yTop+in.yBotom)/2 + float64(rows-1)/2*p
+	in.yTop = yTop
 	if float64(cols)*float64(rows) > maxPixels {
 		return nil, st, nil, fmt.Errorf("the frame would be %d × %d pixels at image.pitch_mm %g: raise pitch_mm", cols, rows, p)
 	}

@@ -373,45 +373,7 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 // opposite directions. It minimises the mean squared difference between
 // the two lines of each period, resampled onto common beam angles.
 func estimateSineDelay(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep, sinePeriod float64) (float64, error) {
-	const nb = 256
-	stride := 1 + len(t.lines)/400
-	cost := func(delay float64) float64 {
-		total, count := 0.0, 0
-		fw := make([]float64, nb)
-		bw := make([]float64, nb)
-		for i := 0; i < len(t.lines); i += stride {
-			lt := t.lines[i]
-			p := lt.period
-			if sinePeriod > 0 {
-				p = sinePeriod
-			}
-			ok := true
-			for k := 0; k < nb && ok; k++ {
-				// Common θ sample: sin φ = v, forward φ = asin v, backward 180 − asin v.
-				v := -s.SineKeep + 2*s.SineKeep*(float64(k)+0.5)/nb
-				phi := math.Asin(v) * 180 / math.Pi
-				sf := lt.edge + (phi+delay)*p/360
-				sb := lt.edge + (180-phi+delay)*p/360
-				fv, ok1 := sampleAt(det, sf)
-				bv, ok2 := sampleAt(det, sb)
-				ok = ok1 && ok2
-				fw[k], bw[k] = fv, bv
-			}
-			if !ok {
-				continue
-			}
-			mf, mb := meanOf(fw), meanOf(bw)
-			for k := range fw {
-				d := (fw[k] - mf) - (bw[k] - mb)
-				total += d * d
-			}
-			count++
-		}
-		if count == 0 {
-			return math.Inf(1)
-		}
-		return total / float64(count)
-	}
+	cost := func(delay float64) float64 { return sineCost(t, det, s, sinePeriod, delay) }
 	best, bestCost := 0.0, math.Inf(1)
 	for d := -45.0; d <= 45; d += 0.5 {
 		if err := ctx.Err(); err != nil {
@@ -459,4 +421,46 @@ func meanOf(v []float64) float64 {
 		s += x
 	}
 	return s / float64(len(v))
+}
+
+// sineCost is the mean squared difference between the forward and
+// backward lines of sampled periods, for a trial delay.
+func sineCost(t *timingResult, det []float32, s recipe.Sweep, sinePeriod, delay float64) float64 {
+	const nb = 256
+	stride := 1 + len(t.lines)/400
+	total, count := 0.0, 0
+	fw := make([]float64, nb)
+	bw := make([]float64, nb)
+	for i := 0; i < len(t.lines); i += stride {
+		lt := t.lines[i]
+		p := lt.period
+		if sinePeriod > 0 {
+			p = sinePeriod
+		}
+		ok := true
+		for k := 0; k < nb && ok; k++ {
+			// Common θ sample: sin φ = v, forward φ = asin v, backward 180 − asin v.
+			v := -s.SineKeep + 2*s.SineKeep*(float64(k)+0.5)/nb
+			phi := math.Asin(v) * 180 / math.Pi
+			sf := lt.edge + (phi+delay)*p/360
+			sb := lt.edge + (180-phi+delay)*p/360
+			fv, ok1 := sampleAt(det, sf)
+			bv, ok2 := sampleAt(det, sb)
+			ok = ok1 && ok2
+			fw[k], bw[k] = fv, bv
+		}
+		if !ok {
+			continue
+		}
+		mf, mb := meanOf(fw), meanOf(bw)
+		for k := range fw {
+			d := (fw[k] - mf) - (bw[k] - mb)
+			total += d * d
+		}
+		count++
+	}
+	if count == 0 {
+		return math.Inf(1)
+	}
+	return total / float64(count)
 }

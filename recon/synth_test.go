@@ -68,12 +68,22 @@ func (w wheelRig) recording() *capture.Recording {
 			v += w.scene(x, y)
 		}
 		det[i] = float32(v + w.noise*rng.NormFloat64())
-		pulse := alpha < w.pulseDeg
+		// Index pulses with edges ramped over 4 samples centred on the
+		// true edge time, as a band-limited input would show them.
+		period := spacing
+		a := alpha
 		if w.onePerRev {
-			pulse = math.Mod(angle, 360) < w.pulseDeg
+			period, a = 360, math.Mod(angle, 360)
 		}
-		if pulse && !drop[int(line)-int(math.Floor(w.startDeg/spacing))] {
-			idx[i] = 5
+		if a > period/2 {
+			a -= period
+		}
+		perSample := omega / w.rateHz // degrees per sample
+		rise := math.Min(math.Max(a/perSample/4+0.5, 0), 1)
+		fall := math.Min(math.Max((w.pulseDeg-a)/perSample/4+0.5, 0), 1)
+		owner := int(math.Floor((angle + period/2) / spacing))
+		if !drop[owner-int(math.Floor(w.startDeg/spacing))] {
+			idx[i] = float32(5 * math.Min(rise, fall))
 		}
 		for _, e := range w.extraPulseAt {
 			if t >= e && t < e+0.0002 {

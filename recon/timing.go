@@ -183,6 +183,10 @@ type repairResult struct {
 	periodMin, periodMax float64
 }
 
+// minEdgeSpacing is the smallest median spacing of index edges, in
+// samples, taken as real pulses.
+const minEdgeSpacing = 16
+
 // maxFill is the longest run of consecutive missing pulses that is filled
 // in; a longer silence is reported as a gap without lines.
 const maxFill = 8
@@ -349,7 +353,11 @@ func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit s
 	if p.threshold == nil && (o.Separability < minSeparability || !(o.Max > o.Min)) {
 		return nil, noPulses()
 	}
-	thr := o.Threshold
+	// Otsu's split tells the two levels apart; the edge is timed where the
+	// signal crosses the middle of the two class means (the 50 % point of
+	// the step), which a ramped or band-limited edge crosses at its true
+	// time whatever the shape of the histogram between the levels.
+	thr := (o.LowMean + o.HighMean) / 2
 	if p.threshold != nil {
 		thr = *p.threshold
 		if thr <= o.Min || thr >= o.Max {
@@ -373,6 +381,15 @@ func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit s
 			return nil, noPulses()
 		}
 		return nil, fmt.Errorf("index channel %s has only %d pulse(s) crossing %s in %.3g s: at least 3 are needed; check channels.index and timing.edge", chName, len(raw), level(thr, unit), float64(len(x))/rateHz)
+	}
+	// Minimum spacing: edges a few samples apart are noise crossing the
+	// threshold, not index pulses.
+	spacings := make([]float64, len(raw)-1)
+	for i := range spacings {
+		spacings[i] = raw[i+1] - raw[i]
+	}
+	if m := median(spacings); m < minEdgeSpacing {
+		return nil, fmt.Errorf("index channel %s crosses %s every %.1f samples: that is noise, not index pulses; check channels.index, or set timing.threshold and timing.hysteresis", chName, level(thr, unit), m)
 	}
 	rep := repairEdges(raw)
 	res.edges, res.missing, res.extra = rep.edges, rep.missing, rep.extra
