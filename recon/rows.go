@@ -75,7 +75,7 @@ func smoothSG(y []float64, half int) []float64 {
 		s, t := 0.0, 0.0
 		for k := range w {
 			s += w[k] * y[k]
-			t += w[2*half-k] * y[n-1-k]
+			t += w[k] * y[n-1-k] // mirrored window at the far end
 		}
 		out[i], out[n-1-i] = s, t
 	}

@@ -60,6 +60,7 @@ func Parse(data []byte) (Recipe, error) {
 		return Recipe{}, err
 	}
 	r := Default()
+	r.Format = "" // must come from the file
 	dec := json.NewDecoder(bytes.NewReader(data))
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(&r); err != nil {
