@@ -11,6 +11,7 @@ import (
 // dark — the contrast a backscatter image shows.
 const (
 	yieldAir       = 0.02
+	yieldWall      = 0.08 // a wall some way behind the parcel
 	yieldCardboard = 0.35
 	yieldBoxRim    = 0.45 // folded-over cardboard at the box edges
 	yieldWater     = 0.85
@@ -29,12 +30,12 @@ const (
 
 // parcelScene is a cardboard box (240 × 340 mm) holding a plastic bottle of
 // water, a steel spanner, a roll of tape, a coiled cable, coins and a folded
-// cloth.
+// cloth, in front of a wall that scatters a little.
 func parcelScene() SceneModel {
 	s := SceneModel{
 		Name:            "parcel",
 		Description:     "a cardboard box holding a water bottle, a spanner, tape, a coiled cable, coins and a folded cloth",
-		BackgroundYield: yieldAir,
+		BackgroundYield: yieldWall,
 	}
 	add := func(sh Shape) { s.Shapes = append(s.Shapes, sh) }
 	add(shape("box rim", "cardboard", yieldBoxRim, 0, boxDistance(0, 0, 240, 340, 0, 6), -120, -170, 120, 170))
