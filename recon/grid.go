@@ -261,6 +261,15 @@ func splatLine(in gridInput, l *placedLine, sum, wt []float64, cols, rows int, x
 	m := in.sweep
 	run, clipped := 0, false
 	det := in.det[first:last]
+	lut := m.lut
+	uScale := m.scale
+	uOff := (l.u0 - m.uMin) * uScale
+	duS := l.du * uScale
+	// Lines whose every sample lands at least one pixel inside the grid
+	// take the fast path without bounds checks (most lines do).
+	vEnd := v0 + dv*float64(len(det))
+	fast := math.Min(v0, vEnd) >= 0 && math.Max(v0, vEnd) < float64(rows-1) &&
+		(m.xMin-x0)*inv >= 0 && (m.xMax-x0)*inv < float64(cols-1)
 	for k, raw := range det {
 		if raw >= in.clipHi || raw <= in.clipLo {
 			run++
@@ -272,23 +281,41 @@ func splatLine(in gridInput, l *placedLine, sum, wt []float64, cols, rows int, x
 		}
 		fk := float64(k)
 		value := sign * (float64(raw) - (l.base0 + l.baseSlope*fk))
-		// x from the law table (inlined sweepMap.x).
-		pu := (l.u0 + l.du*fk - m.uMin) * m.scale
+		// x from the law table (sweepMap.x, inlined).
+		pu := uOff + duS*fk
 		var x float64
 		if pu <= 0 {
-			x = m.lut[0]
+			x = lut[0]
 		} else if iu := int(pu); iu >= lutSize-1 {
-			x = m.lut[lutSize-1]
+			x = lut[lutSize-1]
 		} else {
 			fu := pu - float64(iu)
-			x = m.lut[iu] + fu*(m.lut[iu+1]-m.lut[iu])
+			x = lut[iu] + fu*(lut[iu+1]-lut[iu])
 		}
 		cu := (x - x0) * inv
 		cv := v0 + dv*fk
-		if cu < 0 || cv < 0 {
-			if cu <= -1 || cv <= -1 {
-				continue
-			}
+		if fast {
+			i, j := int(cu), int(cv)
+			fx, fy := cu-float64(i), cv-float64(j)
+			base := j*cols + i
+			w00 := (1 - fx) * (1 - fy)
+			w10 := fx * (1 - fy)
+			w01 := (1 - fx) * fy
+			w11 := fx * fy
+			s := sum[base : base+cols+2]
+			w := wt[base : base+cols+2]
+			s[0] += w00 * value
+			w[0] += w00
+			s[1] += w10 * value
+			w[1] += w10
+			s[cols] += w01 * value
+			w[cols] += w01
+			s[cols+1] += w11 * value
+			w[cols+1] += w11
+			continue
+		}
+		if cu <= -1 || cv <= -1 {
+			continue
 		}
 		i := int(math.Floor(cu))
 		j := int(math.Floor(cv))

@@ -241,8 +241,9 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 	bins := int(math.Min(3600, math.Max(90, pMed/2)))
 	sum := make([]float64, bins)
 	cnt := make([]float64, bins)
-	// Up to 3000 lines, spread over the capture.
-	stride := 1 + len(t.lines)/3000
+	// About 1000 lines, spread over the capture, average the noise down
+	// far enough.
+	stride := 1 + len(t.lines)/1000
 	for i := 0; i < len(t.lines); i += stride {
 		if i%256 == 0 {
 			if err := ctx.Err(); err != nil {
