@@ -71,30 +71,35 @@ func readCSV(r io.ReaderAt, size int64, opts Options) (*Recording, error) {
 	return streamCSV(io.NewSectionReader(r, shape.dataOffset, size-shape.dataOffset), size-shape.dataOffset, shape, opts)
 }
 
-// sampleLine is one physical line of the sniffed sample.
+// sampleLine is one record of the sniffed sample: one line, or several
+// when a quoted field holds line breaks.
 type sampleLine struct {
 	text   []byte
-	offset int64
+	offset int64 // of the record's first byte
+	line   int   // 1-based line of its first line
 }
 
-// splitSampleLines cuts head into lines; when head is not the whole file
-// the last, possibly cut, line is dropped.
+// splitSampleLines cuts head into non-blank records the way the streaming
+// pass will; when head is not the whole file its last, possibly cut,
+// record is dropped.
 func splitSampleLines(head []byte, complete bool) []sampleLine {
-	var lines []sampleLine
 	off := 0
 	if bytes.HasPrefix(head, []byte{0xEF, 0xBB, 0xBF}) { // UTF-8 byte order mark
 		off = 3
 	}
-	for off < len(head) {
-		j := bytes.IndexByte(head[off:], '\n')
-		if j < 0 {
-			if complete {
-				lines = append(lines, sampleLine{bytes.TrimSuffix(head[off:], []byte{'\r'}), int64(off)})
-			}
+	sc := &csvScanner{r: bytes.NewReader(head[off:]), buf: make([]byte, len(head)+1), line: 1, offset: int64(off)}
+	var lines []sampleLine
+	for {
+		text, line, recOff, ok, err := sc.record()
+		if err != nil || !ok {
+			// an unclosed quote at the end of the sample: the streaming
+			// pass reports it, or finds the quote closed further on
 			break
 		}
-		lines = append(lines, sampleLine{bytes.TrimSuffix(head[off:off+j], []byte{'\r'}), int64(off)})
-		off += j + 1
+		lines = append(lines, sampleLine{append([]byte(nil), text...), recOff, line})
+	}
+	if !complete && len(lines) > 0 && !bytes.HasSuffix(head, []byte{'\n'}) {
+		lines = lines[:len(lines)-1]
 	}
 	return lines
 }
@@ -136,7 +141,7 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 		}
 	}
 	if bestScore == 0 {
-		return csvShape{}, &FormatError{Format: "csv", Place: AtLine(idx[0]+1, 0), Problem: fmt.Sprintf("no line in the first %d bytes is a row of numbers (first line %q)", len(head), clip(string(lines[idx[0]].text), 60)),
+		return csvShape{}, &FormatError{Format: "csv", Place: AtLine(lines[idx[0]].line, 0), Problem: fmt.Sprintf("no line in the first %d bytes is a row of numbers (first line %q)", len(head), clip(string(lines[idx[0]].text), 60)),
 			Expected: "rows of numbers separated by commas, semicolons, tabs or spaces"}
 	}
 	shape := best
@@ -202,7 +207,7 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 		start--
 	}
 	first := idx[start]
-	shape.dataLine = first + 1
+	shape.dataLine = lines[first].line
 	shape.dataOffset = lines[first].offset
 	if fields, _, _ := splitRecord(lines[first].text, shape.delim, nil, nil); len(fields) == shape.fields+1 && len(bytes.TrimSpace(fields[shape.fields])) == 0 {
 		shape.trailingDrop = true
@@ -238,12 +243,12 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 			for i := range h {
 				shape.units[i] = strings.Trim(h[i], "()[] ")
 			}
-			shape.headerLine = idx[start-2] + 1
+			shape.headerLine = lines[idx[start-2]].line
 		} else {
 			for i, cell := range h {
 				shape.names[i], shape.units[i] = splitNameUnit(cell)
 			}
-			shape.headerLine = idx[start-1] + 1
+			shape.headerLine = lines[idx[start-1]].line
 		}
 	}
 	return shape, nil
@@ -616,31 +621,31 @@ func (s *csvScanner) next() (text []byte, line int, offset int64, ok bool, err e
 
 // record returns the next non-blank record, joining physical lines while a
 // quoted field is open (an odd number of quote characters so far).
-func (s *csvScanner) record() (rec []byte, line int, ok bool, err error) {
+func (s *csvScanner) record() (rec []byte, line int, offset int64, ok bool, err error) {
 	for {
-		text, line, _, ok, err := s.next()
+		text, line, offset, ok, err := s.next()
 		if !ok || err != nil {
-			return nil, line, ok, err
+			return nil, line, offset, ok, err
 		}
 		if len(bytes.TrimSpace(text)) == 0 {
 			continue
 		}
 		if bytes.Count(text, []byte{'"'})%2 == 0 {
-			return text, line, true, nil
+			return text, line, offset, true, nil
 		}
 		s.scratch = append(s.scratch[:0], text...)
 		for bytes.Count(s.scratch, []byte{'"'})%2 == 1 {
 			more, _, _, ok, err := s.next()
 			if err != nil {
-				return nil, line, false, err
+				return nil, line, offset, false, err
 			}
 			if !ok {
-				return nil, line, false, &FormatError{Format: "csv", Place: AtLine(line, bytes.IndexByte(text, '"')+1), Problem: "quoted field opened here never closes", Expected: "a closing double quote (RFC 4180 section 2, rule 6)"}
+				return nil, line, offset, false, &FormatError{Format: "csv", Place: AtLine(line, bytes.IndexByte(text, '"')+1), Problem: "quoted field opened here never closes", Expected: "a closing double quote (RFC 4180 section 2, rule 6)"}
 			}
 			s.scratch = append(s.scratch, '\n')
 			s.scratch = append(s.scratch, more...)
 		}
-		return s.scratch, line, true, nil
+		return s.scratch, line, offset, true, nil
 	}
 }
 
@@ -721,7 +726,7 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 		return fmt.Sprintf("field %d", i+1)
 	}
 	for {
-		text, line, ok, err := sc.record()
+		text, line, _, ok, err := sc.record()
 		if err != nil {
 			return nil, err
 		}
