@@ -770,13 +770,13 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 				tPrev = t
 				continue
 			}
-			v *= scale[i]
-			if v-v != 0 {
+			x := float32(v * scale[i])
+			if x-x != 0 { // NaN, ±Inf, or beyond float32
 				nonFinite++
-				v = 0
+				x = 0
 			}
 			c := &rec.Channels[colChan[i]]
-			c.Samples = append(c.Samples, float32(v))
+			c.Samples = append(c.Samples, x)
 		}
 		rows++
 		consumed = sc.offset
@@ -809,7 +809,7 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 		return nil, &FormatError{Format: "csv", Place: AtLine(shape.dataLine, 0), Problem: fmt.Sprintf("time column gives a sample rate of %g Hz", rec.SampleRateHz), Expected: fmt.Sprintf("a rate above 0 and at most %g Hz", MaxSampleRateHz)}
 	}
 	if nonFinite > 0 {
-		rec.Warnings = append(rec.Warnings, fmt.Sprintf("%d cells were NaN or infinite and were set to 0", nonFinite))
+		rec.Warnings = append(rec.Warnings, fmt.Sprintf("%d cells were NaN, infinite or beyond the float32 range and were set to 0", nonFinite))
 	}
 	if opts.Progress != nil {
 		opts.Progress(1)

@@ -3,6 +3,7 @@ package capture
 import (
 	"fmt"
 	"io"
+	"math"
 )
 
 // readRaw decodes a raw binary capture of the given size with layout l.
@@ -43,6 +44,12 @@ func readRaw(r io.ReaderAt, size int64, l RawLayout, opts Options) (*Recording, 
 	for c := range dst {
 		dst[c] = make([]float32, frames)
 		s, o, unit := l.channelScale(c)
+		if kind != kindFloat32 && kind != kindFloat64 {
+			if peak := math.Abs(s)*math.Ldexp(1, 8*sampleBytes) + math.Abs(o); peak > math.MaxFloat32 {
+				return nil, &FormatError{Format: "raw", Place: wholeFile, Problem: fmt.Sprintf("layout scale %g and offset %g for channel %d reach %g", s, o, c, peak),
+					Expected: "values within the float32 range (about ±3.4e38)"}
+			}
+		}
 		scales[c], offsets[c] = float32(s), float32(o)
 		name := fmt.Sprintf("ch%d", c)
 		if len(l.Names) > 0 {
