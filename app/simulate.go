@@ -24,7 +24,7 @@ func init() {
 const simulateDescription = `
 Scans one of the built-in scenes (parcel, dot-grid, edge-card, bars) with a
 simulated flying-spot scanner and writes the capture as WAV, CSV or raw
-binary (with NAME.layout.json beside it). The rig is the demo rig unless
+binary (with FILE.layout.json beside it). The rig is the demo rig unless
 --rig gives one; "spotloom simulate --print-rig" prints the demo rig as a
 starting point. --truth writes the ground truth (line times, true speed,
 delay, aperture offsets, y of every line, dot centres) as JSON and the
@@ -170,7 +170,9 @@ func simulate(f simulateFlags, stderr io.Writer) error {
 		layout := rawLayoutFor(rec, sampleType, fullScale)
 		err = writeFileSafely(f.out, func(w io.Writer) error { return capture.WriteRaw(w, rec, layout) })
 		if err == nil {
-			err = capture.WriteLayoutFile(strings.TrimSuffix(f.out, filepath.Ext(f.out))+".layout.json", layout)
+			// NAME.EXT.layout.json, the first name capture.Open looks for,
+			// so the layout never claims a NAME.csv or NAME.wav beside it.
+			err = capture.WriteLayoutFile(f.out+".layout.json", layout)
 		}
 	}
 	if err != nil {

@@ -79,7 +79,7 @@ func TestSimulateEverySceneAndFormat(t *testing.T) {
 				checkWAVIndependently(t, out, f.sampleType, want.Frames())
 			}
 			if f.ext == "raw" {
-				if _, err := os.Stat(strings.TrimSuffix(out, ".raw") + ".layout.json"); err != nil {
+				if _, err := os.Stat(out + ".layout.json"); err != nil {
 					t.Errorf("no layout beside %s: %v", out, err)
 				}
 			}
