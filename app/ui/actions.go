@@ -113,7 +113,9 @@ func (ws *Workstation) openWith(path string, copts capture.Options, given *recip
 			if haveCurrent {
 				tries = append(tries, recipeTry{withGuessedRoles(current, rec), "the current settings with channel roles guessed from the capture"})
 			}
-			tries = append(tries, recipeTry{withGuessedRoles(recipe.Default(), rec), "starting settings with channel roles guessed from the capture"})
+			tries = append(tries,
+				recipeTry{withGuessedRoles(recipe.Default(), rec), "starting settings with channel roles guessed from the capture"},
+				recipeTry{withGuessedRoles(sampledata.DemoRecipe(), rec), "the built-in demo rig's settings with channel roles guessed from the capture"})
 		}
 		var firstErr error
 		for _, t := range tries {
@@ -147,37 +149,65 @@ func (e *buildFailed) Error() string { return e.err.Error() }
 func (e *buildFailed) Unwrap() error { return e.err }
 
 // withGuessedRoles returns r with the channel roles the capture suggests:
-// for each role the channel guessed with the highest confidence.
+// the likeliest index channel, then the likeliest position (or step)
+// channel, then the likeliest detector; when no channel looks like a
+// detector, the first channel left over plays it, since every capture has
+// one.
 func withGuessedRoles(r recipe.Recipe, rec *capture.Recording) recipe.Recipe {
 	r = cloneRecipe(r)
-	best := map[string]capture.RoleGuess{}
-	for _, g := range capture.GuessRoles(rec) {
-		if b, ok := best[g.Role]; !ok || g.Confidence > b.Confidence {
-			best[g.Role] = g
+	guesses := capture.GuessRoles(rec)
+	used := map[int]bool{}
+	best := func(role string) (int, bool) {
+		ch, conf := -1, -1.0
+		for _, g := range guesses {
+			if g.Role == role && !used[g.Channel] && g.Confidence > conf {
+				ch, conf = g.Channel, g.Confidence
+			}
 		}
+		if ch >= 0 {
+			used[ch] = true
+		}
+		return ch, ch >= 0
 	}
-	ref := func(g capture.RoleGuess) recipe.ChannelRef { return recipe.ChannelRef(strconv.Itoa(g.Channel)) }
-	if g, ok := best["detector"]; ok {
-		r.Channels.Detector = ref(g)
+	ref := func(ch int) recipe.ChannelRef { return recipe.ChannelRef(strconv.Itoa(ch)) }
+	if ch, ok := best("index"); ok {
+		r.Channels.Index = ref(ch)
 	}
-	if g, ok := best["index"]; ok {
-		r.Channels.Index = ref(g)
-	}
-	switch pos, okPos := best["position"]; {
-	case okPos:
-		r.Channels.Position = ref(pos)
-		r.Channels.Steps = ""
+	if ch, ok := best("position"); ok {
+		r.Channels.Position, r.Channels.Steps = ref(ch), ""
 		if r.Rows.Source == "steps" || r.Rows.Source == "even" {
 			r.Rows.Source = "position"
 		}
-	default:
-		if g, ok := best["steps"]; ok {
-			r.Channels.Steps = ref(g)
-			r.Channels.Position = ""
+	}
+	det, ok := best("detector")
+	if !ok {
+		for i := range rec.Channels {
+			if !used[i] && (r.Channels.Position.IsSet() || !isGuessed(guesses, i, "steps")) {
+				det, ok = i, true
+				used[i] = true
+				break
+			}
+		}
+	}
+	if ok {
+		r.Channels.Detector = ref(det)
+	}
+	if !r.Channels.Position.IsSet() {
+		if ch, ok := best("steps"); ok {
+			r.Channels.Steps = ref(ch)
 			r.Rows.Source = "steps"
 		}
 	}
 	return r
+}
+
+func isGuessed(guesses []capture.RoleGuess, ch int, role string) bool {
+	for _, g := range guesses {
+		if g.Channel == ch && g.Role == role {
+			return true
+		}
+	}
+	return false
 }
 
 func (ws *Workstation) submitOpen(what string, run func(ctx context.Context, progress func(string, float64)) (*opened, error), path string) {
@@ -208,20 +238,27 @@ func (ws *Workstation) openFailed(path string, err error) {
 	case errors.Is(err, context.Canceled):
 		ws.stage.SetText("Opening stopped; the previous capture is still shown")
 	case isRawWithoutLayout(path, err):
-		ws.showProblem("Cannot read "+name, err.Error(),
-			"this looks like a raw sample file: describe its layout (sample type, channels, rate) in the form that follows, or put a "+
-				strings.TrimSuffix(name, filepath.Ext(name))+".layout.json beside it.")
+		// The layout form itself says what happened and what to fill in.
+		ws.problem = "Cannot read " + name + ": " + err.Error()
+		ws.stage.SetText("Cannot read " + name + " without its layout")
 		ws.askRawLayout(path)
 	default:
 		var bf *buildFailed
 		if errors.As(err, &bf) {
 			ws.showProblem("Cannot build "+name, "The capture was read, but no image could be formed from it "+err.Error()+".",
-				"check the channel roles in the Source panel and the timing in a recipe (Load recipe…); `spotloom probe FILE` lists the channels and the guessed roles. The previous capture is still shown.")
+				"give a recipe that matches the rig (spotloom open FILE --recipe R.json, or Load recipe… after opening); `spotloom probe FILE` lists the channels and the guessed roles."+ws.stillShown())
 			return
 		}
 		ws.showProblem("Cannot open "+name, err.Error(),
-			"make sure the file is a WAV, CSV or raw capture that is complete; `spotloom probe FILE` shows what Spotloom sees in it. The previous capture is still shown.")
+			"make sure the file is a WAV, CSV or raw capture that is complete; `spotloom probe FILE` shows what Spotloom sees in it."+ws.stillShown())
 	}
+}
+
+func (ws *Workstation) stillShown() string {
+	if ws.result == nil {
+		return ""
+	}
+	return " The previous capture is still shown."
 }
 
 func isRawWithoutLayout(path string, err error) bool {
@@ -543,11 +580,13 @@ func (ws *Workstation) reportProgress(stage string, fraction float64) {
 func (ws *Workstation) busy(what string) {
 	ws.stage.SetText(what)
 	ws.progress.SetValue(0)
+	ws.progress.Show()
 	ws.cancel.Enable()
 }
 
 func (ws *Workstation) idle() {
 	ws.progress.SetValue(1)
+	ws.progress.Hide()
 	ws.cancel.Disable()
 }
 

@@ -225,14 +225,17 @@ func (c *controlPanel) show(s settings, res *Result) {
 	case r.Sweep.DelayDeg != nil:
 		c.delay.set(*r.Sweep.DelayDeg)
 		c.delayNote.SetText("")
+		c.delayNote.Hide()
 		c.delayAuto.Enable()
 	case resolved.Sweep.DelayDeg != nil:
 		c.delay.set(*resolved.Sweep.DelayDeg)
 		c.delayNote.SetText("Found automatically; move it to set it by hand.")
+		c.delayNote.Show()
 		c.delayAuto.Disable()
 	default:
 		c.delay.set(res.Report.DelayDeg)
 		c.delayNote.SetText("Found automatically; move it to set it by hand.")
+		c.delayNote.Show()
 		c.delayAuto.Disable()
 	}
 

@@ -64,7 +64,7 @@ func (p *factsPanel) show(rep recon.Report, rec *capture.Recording) {
 	}
 	set("Repaired pulses", repaired)
 	set("Revolutions", fmt.Sprint(rep.Revolutions))
-	set("Rev/min", fmt.Sprintf("%.1f ± %.2f %%", rep.RPMMean, rep.RPMSpreadPct))
+	set("Rev/min", fmt.Sprintf("%.1f ±%.2f%%", rep.RPMMean, rep.RPMSpreadPct))
 	set("Sweep time", fmt.Sprintf("%.2f ms", rep.SweepMS))
 	set("Line rate", fmt.Sprintf("%.2f /s", rep.LineRateHz))
 	set("Delay", fmt.Sprintf("%.2f°", rep.DelayDeg))

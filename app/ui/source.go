@@ -105,8 +105,10 @@ func (p *sourcePanel) showCapture(rec *capture.Recording, path, note string) {
 	p.quiet = false
 	if note != "" {
 		p.note.SetText("Settings: " + note + ".")
+		p.note.Show()
 	} else {
 		p.note.SetText("")
+		p.note.Hide()
 	}
 	p.showRoles(p.ws.cur.Recipe)
 }
@@ -219,6 +221,13 @@ func (ws *Workstation) askRawLayout(path string) {
 		widget.NewFormItem("Sample rate (Hz)", rate),
 		widget.NewFormItem("Scale", scale),
 		widget.NewFormItem("Offset", offset),
+	}
+	if path != "" {
+		why := widget.NewLabel(filepath.Base(path) + " holds bare samples and no " +
+			strings.TrimSuffix(filepath.Base(path), filepath.Ext(path)) + ".layout.json lies beside it. " +
+			"Say how the samples are stored; the ADC's manual or the program that wrote the file has these numbers.")
+		why.Wrapping = fyne.TextWrapWord
+		items = append([]*widget.FormItem{widget.NewFormItem("", why)}, items...)
 	}
 	d := dialog.NewForm("Raw sample layout", "Open", "Cancel", items, func(ok bool) {
 		if !ok {

@@ -175,12 +175,13 @@ func (ws *Workstation) build() {
 
 	ws.leftBox = container.NewVBox(ws.source.object(), ws.controls.object())
 	left := container.New(fixedWidth{340}, container.NewVScroll(ws.leftBox))
-	right := container.New(fixedWidth{250}, container.NewVScroll(ws.facts.object()))
+	right := container.New(fixedWidth{260}, container.NewVScroll(ws.facts.object()))
 
 	ws.progress = widget.NewProgressBar()
 	ws.stage = widget.NewLabel("Ready")
 	ws.cancel = widget.NewButtonWithIcon("Cancel", theme.CancelIcon(), ws.Cancel)
 	ws.cancel.Disable()
+	ws.progress.Hide()
 	status := container.NewBorder(nil, nil, ws.stage,
 		container.NewHBox(container.NewGridWrap(fyne.NewSize(220, ws.progress.MinSize().Height), ws.progress), ws.cancel))
 
