@@ -20,11 +20,90 @@ const maxPixels = 64 << 20
 // workers is the number of goroutines the parallel stages use.
 func workers() int { return max(1, runtime.GOMAXPROCS(0)) }
 
+// channelStats holds what the stages need of a whole channel, found in
+// one pass: its range (for clipping) and running sums over fixed blocks,
+// so the mean of any interval costs at most two part-blocks of reading.
+type channelStats struct {
+	lo, hi float32
+	prefix []float64 // prefix[b] = sum of samples [0, b·statsBlock)
+}
+
+const statsBlock = 256
+
+func newChannelStats(ctx context.Context, x []float32) (*channelStats, error) {
+	nb := len(x) / statsBlock
+	st := &channelStats{prefix: make([]float64, nb+1)}
+	w := workers()
+	los := make([]float32, w)
+	his := make([]float32, w)
+	var wg sync.WaitGroup
+	chunk := (nb + w - 1) / w
+	for k := 0; k < w; k++ {
+		wg.Add(1)
+		go func(k int) {
+			defer wg.Done()
+			lo, hi := float32(math.Inf(1)), float32(math.Inf(-1))
+			a, b := k*chunk, min((k+1)*chunk, nb)
+			if k == w-1 {
+				// The tail after the last whole block counts for the range.
+				for _, v := range x[nb*statsBlock:] {
+					lo, hi = min(lo, v), max(hi, v)
+				}
+			}
+			for blk := a; blk < b; blk++ {
+				if blk%4096 == 0 && ctx.Err() != nil {
+					return
+				}
+				var s float32
+				for _, v := range x[blk*statsBlock : (blk+1)*statsBlock] {
+					s += v
+					lo, hi = min(lo, v), max(hi, v)
+				}
+				st.prefix[blk+1] = float64(s)
+			}
+			los[k], his[k] = lo, hi
+		}(k)
+	}
+	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	st.lo, st.hi = los[0], his[0]
+	for k := 1; k < w; k++ {
+		st.lo, st.hi = min(st.lo, los[k]), max(st.hi, his[k])
+	}
+	for b := 1; b <= nb; b++ {
+		st.prefix[b] += st.prefix[b-1]
+	}
+	return st, nil
+}
+
+// sum returns the sum of x[a:b].
+func (st *channelStats) sum(x []float32, a, b int) float64 {
+	ba := (a + statsBlock - 1) / statsBlock // first whole block
+	bb := b / statsBlock                    // end of the whole blocks
+	if ba >= bb {
+		s := 0.0
+		for _, v := range x[a:b] {
+			s += float64(v)
+		}
+		return s
+	}
+	s := st.prefix[bb] - st.prefix[ba]
+	for _, v := range x[a : ba*statsBlock] {
+		s += float64(v)
+	}
+	for _, v := range x[bb*statsBlock : b] {
+		s += float64(v)
+	}
+	return s
+}
+
 // baselineLines sets each line's baseline from the beam-off intervals
 // before and after it: the mean of the middle 80 % of each interval, as a
 // straight line between the interval centres, so slow drift and the droop
 // of an AC-coupled input are followed across the line.
-func baselineLines(ctx context.Context, det []float32, lines []placedLine) error {
+func baselineLines(ctx context.Context, det []float32, st *channelStats, lines []placedLine) error {
 	n := len(det)
 	if len(lines) == 0 {
 		return nil
@@ -59,38 +138,14 @@ func baselineLines(ctx context.Context, det []float32, lines []placedLine) error
 	}
 	means := make([]float64, len(iv))
 	valid := make([]bool, len(iv))
-	var wg sync.WaitGroup
-	w := workers()
-	chunk := (len(iv) + w - 1) / w
-	for start := 0; start < len(iv); start += chunk {
-		wg.Add(1)
-		go func(start, end int) {
-			defer wg.Done()
-			for i := start; i < end; i++ {
-				if i%512 == 0 && ctx.Err() != nil {
-					return
-				}
-				a, b := iv[i].a, iv[i].b
-				if b <= a {
-					continue
-				}
-				s := float32(0)
-				acc := 0.0
-				for k, v := range det[a:b] {
-					s += v
-					if k&1023 == 1023 {
-						acc += float64(s)
-						s = 0
-					}
-				}
-				means[i] = (acc + float64(s)) / float64(b-a)
-				valid[i] = true
-			}
-		}(start, min(start+chunk, len(iv)))
-	}
-	wg.Wait()
-	if err := ctx.Err(); err != nil {
-		return err
+	for i, v := range iv {
+		if i%4096 == 0 && ctx.Err() != nil {
+			return ctx.Err()
+		}
+		if v.b > v.a {
+			means[i] = st.sum(det, v.a, v.b) / float64(v.b-v.a)
+			valid[i] = true
+		}
 	}
 	// Fill empty intervals from their neighbours.
 	last := math.NaN()

@@ -159,13 +159,15 @@ func (r *rowsResult) strokeOf(s int) int {
 	return len(r.strokes) - 1
 }
 
+// rowsParams are the keys the rows stage depends on (exported fields, so
+// the cache key, their JSON, holds them all).
 type rowsParams struct {
-	source    string
-	channel   int // position or steps channel, -1 for even
-	calib     [][2]float64
-	carrierHz *float64
-	mmPerStep *float64
-	speedMMS  *float64
+	Source    string
+	Channel   int // position or steps channel, -1 for even
+	Calib     [][2]float64
+	CarrierHz *float64
+	MMPerStep *float64
+	SpeedMMS  *float64
 }
 
 // smoothMS is the span of the position smoothing window.
@@ -178,20 +180,20 @@ func findRows(ctx context.Context, rec rowsInput, p rowsParams) (*rowsResult, er
 	rate := rec.rateHz
 	res.blockLen = max(1, int(math.Round(rate*0.25e-3)))
 	var levels []float64 // raw level per block, before smoothing
-	switch p.source {
+	switch p.Source {
 	case "even":
-		if p.speedMMS == nil {
+		if p.SpeedMMS == nil {
 			return nil, fmt.Errorf("rows.speed_mm_s is null: source even needs the head speed in mm/s")
 		}
 		nb := (n + res.blockLen - 1) / res.blockLen
 		res.y = make([]float64, nb)
 		for j := range res.y {
-			res.y[j] = *p.speedMMS * (float64(j*res.blockLen) + float64(res.blockLen)/2) / rate
+			res.y[j] = *p.SpeedMMS * (float64(j*res.blockLen) + float64(res.blockLen)/2) / rate
 		}
 		res.strokes = []stroke{{0, n}}
 		return res, nil
 	case "steps":
-		if p.mmPerStep == nil {
+		if p.MMPerStep == nil {
 			return nil, fmt.Errorf("rows.mm_per_step is null: source steps needs the head travel per step pulse in mm")
 		}
 		x := rec.channel
@@ -220,7 +222,7 @@ func findRows(ctx context.Context, rec rowsInput, p rowsParams) (*rowsResult, er
 			if k > 0 && k < len(edges) {
 				count += (c - edges[k-1]) / (edges[k] - edges[k-1])
 			}
-			res.y[j] = *p.mmPerStep * count
+			res.y[j] = *p.MMPerStep * count
 		}
 		res.levelMin, res.levelMax = 0, float64(len(edges))
 		res.strokes = []stroke{{0, n}}
@@ -229,17 +231,17 @@ func findRows(ctx context.Context, rec rowsInput, p rowsParams) (*rowsResult, er
 		levels = blockMeans(rec.channel, res.blockLen)
 	case "tone":
 		var err error
-		levels, res.blockLen, res.carrier, err = toneAmplitude(rec, p.carrierHz)
+		levels, res.blockLen, res.carrier, err = toneAmplitude(rec, p.CarrierHz)
 		if err != nil {
 			return nil, err
 		}
 	default:
-		return nil, fmt.Errorf("rows.source %q: allowed values are position, tone, steps, even", p.source)
+		return nil, fmt.Errorf("rows.source %q: allowed values are position, tone, steps, even", p.Source)
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
-	cal, err := newCalibration(p.calib)
+	cal, err := newCalibration(p.Calib)
 	if err != nil {
 		return nil, err
 	}
@@ -256,7 +258,7 @@ func findRows(ctx context.Context, rec rowsInput, p rowsParams) (*rowsResult, er
 	yMin, yMax := minMax(res.y)
 	if yMax-yMin < 0.5 {
 		return nil, fmt.Errorf("%s channel %s stays between %s and %s (%.2g mm through rows.calibration): the head did not move; check channels.position and rows.calibration, or use rows.source even with rows.speed_mm_s",
-			p.source, rec.name, level(res.levelMin, rec.unit), level(res.levelMax, rec.unit), yMax-yMin)
+			p.Source, rec.name, level(res.levelMin, rec.unit), level(res.levelMax, rec.unit), yMax-yMin)
 	}
 	// Noise of the position after smoothing, for the reversal hysteresis.
 	// (From at most about 20000 blocks, evenly spaced: a median needs no more.)

@@ -57,24 +57,30 @@ type Session struct {
 	mu  sync.Mutex
 
 	timingKey string
-	timing    *timingResult
-	rowsKey   string
-	rows      *rowsResult
-	delayKey  string
-	delay     float64
-	delayWarn []string
-	sineKey   string
-	sineDelay float64
-	placeKey  string
-	place     *placement
-	gridKey   string
-	grid      *Result
-	ranges    map[int][2]float32
+	// timingResolvedKey is the key of the same timing with the automatic
+	// threshold and hysteresis written in.
+	timingResolvedKey string
+	timing            *timingResult
+	rowsKey           string
+	rows              *rowsResult
+	delayKey          string
+	delay             float64
+	delayWarn         []string
+	sineKey           string
+	sineDelay         float64
+	placeKey          string
+	place             *placement
+	gridKey           string
+	grid              *Result
+	chanStats         map[int]*channelStats
+	// runs counts how often each stage was computed (not reused), for
+	// tests of the caching.
+	runs map[string]int
 }
 
 // NewSession starts a session on a recording.
 func NewSession(rec *capture.Recording) *Session {
-	return &Session{rec: rec, ranges: map[int][2]float32{}}
+	return &Session{rec: rec, chanStats: map[int]*channelStats{}, runs: map[string]int{}}
 }
 
 // Recording returns the session's recording.
@@ -127,6 +133,8 @@ func (s *Session) resolveChannels(r *recipe.Recipe) (channels, error) {
 	return c, nil
 }
 
+// key is the cache key of a stage's parameters: their JSON, so only
+// exported fields count.
 func key(v any) string {
 	b, _ := json.Marshal(v)
 	return string(b)
@@ -211,16 +219,16 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 
 func (s *Session) timingStage(ctx context.Context, r recipe.Recipe, ch channels) (*timingResult, error) {
 	p := timingParams{
-		channel:      ch.index,
-		rising:       r.Timing.Edge != "falling",
-		threshold:    r.Timing.Threshold,
-		hysteresis:   r.Timing.Hysteresis,
-		pulsesPerRev: r.Timing.PulsesPerRev,
-		apertures:    r.Sweep.Apertures,
-		sine:         r.Sweep.Law == "sine",
+		Channel:      ch.index,
+		Rising:       r.Timing.Edge != "falling",
+		Threshold:    r.Timing.Threshold,
+		Hysteresis:   r.Timing.Hysteresis,
+		PulsesPerRev: r.Timing.PulsesPerRev,
+		Apertures:    r.Sweep.Apertures,
+		Sine:         r.Sweep.Law == "sine",
 	}
 	k := key(p)
-	if s.timing != nil && s.timingKey == k {
+	if s.timing != nil && (s.timingKey == k || s.timingResolvedKey == k) {
 		return s.timing, nil
 	}
 	c := s.rec.Channels[ch.index]
@@ -228,8 +236,12 @@ func (s *Session) timingStage(ctx context.Context, r recipe.Recipe, ch channels)
 	if err != nil {
 		return nil, err
 	}
-	// Automatic values resolved to the same numbers give the same key.
 	s.timing, s.timingKey = t, k
+	// The resolved recipe (threshold and hysteresis filled in) asks for
+	// the same edges: it gets the cached result too.
+	p.Threshold, p.Hysteresis = &t.threshold, &t.hysteresis
+	s.timingResolvedKey = key(p)
+	s.runs["timing"]++
 	return t, nil
 }
 
@@ -242,29 +254,30 @@ func unitOf(c capture.Channel) string {
 
 func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (*rowsResult, error) {
 	p := rowsParams{
-		source: r.Rows.Source, channel: -1, calib: r.Rows.Calibration,
-		carrierHz: r.Rows.CarrierHz, mmPerStep: r.Rows.MMPerStep, speedMMS: r.Rows.SpeedMMS,
+		Source: r.Rows.Source, Channel: -1, Calib: r.Rows.Calibration,
+		CarrierHz: r.Rows.CarrierHz, MMPerStep: r.Rows.MMPerStep, SpeedMMS: r.Rows.SpeedMMS,
 	}
-	switch p.source {
+	switch p.Source {
 	case "position", "tone":
-		p.channel = ch.position
+		p.Channel = ch.position
 	case "steps":
-		p.channel = ch.steps
+		p.Channel = ch.steps
 	}
 	k := key(p)
 	if s.rows != nil && s.rowsKey == k {
 		return s.rows, nil
 	}
 	in := rowsInput{n: s.rec.Frames(), rateHz: s.rec.SampleRateHz}
-	if p.channel >= 0 {
-		c := s.rec.Channels[p.channel]
-		in.channel, in.name, in.unit = c.Samples, fmt.Sprintf("%d (%s)", p.channel, c.Name), unitOf(c)
+	if p.Channel >= 0 {
+		c := s.rec.Channels[p.Channel]
+		in.channel, in.name, in.unit = c.Samples, fmt.Sprintf("%d (%s)", p.Channel, c.Name), unitOf(c)
 	}
 	rows, err := findRows(ctx, in, p)
 	if err != nil {
 		return nil, err
 	}
 	s.rows, s.rowsKey = rows, k
+	s.runs["rows"]++
 	return rows, nil
 }
 
@@ -305,6 +318,7 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		return 0, nil, err
 	}
 	s.delay, s.delayWarn, s.delayKey = d, w, k
+	s.runs["delay"]++
 	return d, w, nil
 }
 
@@ -386,7 +400,11 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 	case sw.Law == "sine":
 		pl.warnings = append(pl.warnings, "the sine law has no beam-off interval, so no baseline was removed; set signal.baseline to none to silence this")
 	default:
-		if err := baselineLines(ctx, det, pl.lines); err != nil {
+		st, err := s.stats(ctx, ch.detector)
+		if err != nil {
+			return nil, err
+		}
+		if err := baselineLines(ctx, det, st, pl.lines); err != nil {
 			return nil, err
 		}
 		for i := range pl.lines {
@@ -395,21 +413,21 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		}
 	}
 	s.place, s.placeKey = pl, k
+	s.runs["placement"]++
 	return pl, nil
 }
 
-// detRange returns the smallest and largest sample of a channel.
-func (s *Session) detRange(ch int) (float32, float32) {
-	if r, ok := s.ranges[ch]; ok {
-		return r[0], r[1]
+// stats returns the cached whole-channel statistics.
+func (s *Session) stats(ctx context.Context, ch int) (*channelStats, error) {
+	if st, ok := s.chanStats[ch]; ok {
+		return st, nil
 	}
-	lo, hi := float32(math.Inf(1)), float32(math.Inf(-1))
-	for _, v := range s.rec.Channels[ch].Samples {
-		lo = min(lo, v)
-		hi = max(hi, v)
+	st, err := newChannelStats(ctx, s.rec.Channels[ch].Samples)
+	if err != nil {
+		return nil, err
 	}
-	s.ranges[ch] = [2]float32{lo, hi}
-	return lo, hi
+	s.chanStats[ch] = st
+	return st, nil
 }
 
 // Build reconstructs the frames of a recipe. Stages whose parameters are
@@ -447,6 +465,7 @@ func (s *Session) Build(ctx context.Context, r recipe.Recipe, progress Progress)
 	}
 	progress.report("gridding", 1)
 	s.grid, s.gridKey = res, k
+	s.runs["gridding"]++
 	return cloneResult(res, rs.r), nil
 }
 
@@ -470,7 +489,11 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 	r := rs.r
 	rate := s.rec.SampleRateHz
 	det := s.rec.Channels[rs.ch.detector].Samples
-	lo, hi := s.detRange(rs.ch.detector)
+	st, err := s.stats(ctx, rs.ch.detector)
+	if err != nil {
+		return nil, err
+	}
+	lo, hi := st.lo, st.hi
 	clipLo := float32(math.Inf(-1))
 	if lo < 0 {
 		clipLo = lo

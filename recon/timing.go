@@ -332,14 +332,16 @@ type timingResult struct {
 	warnings   []string
 }
 
+// timingParams are the keys the timing stage depends on (exported fields,
+// so the cache key, their JSON, holds them all).
 type timingParams struct {
-	channel      int
-	rising       bool
-	threshold    *float64
-	hysteresis   *float64
-	pulsesPerRev int
-	apertures    int
-	sine         bool
+	Channel      int
+	Rising       bool
+	Threshold    *float64
+	Hysteresis   *float64
+	PulsesPerRev int
+	Apertures    int
+	Sine         bool
 }
 
 // findTiming runs the timing stage: threshold, edges, repair, lines.
@@ -350,7 +352,7 @@ func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit s
 	noPulses := func() error {
 		return fmt.Errorf("index channel %s stays between %s and %s: no pulses; check channels.index, or the index sensor and its cable", chName, level(o.Min, unit), level(o.Max, unit))
 	}
-	if p.threshold == nil && (o.Separability < minSeparability || !(o.Max > o.Min)) {
+	if p.Threshold == nil && (o.Separability < minSeparability || !(o.Max > o.Min)) {
 		return nil, noPulses()
 	}
 	// Otsu's split tells the two levels apart; the edge is timed where the
@@ -358,8 +360,8 @@ func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit s
 	// the step), which a ramped or band-limited edge crosses at its true
 	// time whatever the shape of the histogram between the levels.
 	thr := (o.LowMean + o.HighMean) / 2
-	if p.threshold != nil {
-		thr = *p.threshold
+	if p.Threshold != nil {
+		thr = *p.Threshold
 		if thr <= o.Min || thr >= o.Max {
 			return nil, fmt.Errorf("timing.threshold %s is outside the index channel %s, which stays between %s and %s: no pulses; set threshold to null to find it automatically", level(thr, unit), chName, level(o.Min, unit), level(o.Max, unit))
 		}
@@ -368,11 +370,11 @@ func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit s
 	// inside them so both switching points are reached.
 	h := 0.2 * (o.HighMean - o.LowMean)
 	h = math.Min(h, 1.6*math.Min(thr-o.LowMean, o.HighMean-thr))
-	if p.hysteresis != nil {
-		h = *p.hysteresis
+	if p.Hysteresis != nil {
+		h = *p.Hysteresis
 	}
 	res.threshold, res.hysteresis = thr, h
-	raw, err := rawEdges(ctx, x, thr, h, p.rising)
+	raw, err := rawEdges(ctx, x, thr, h, p.Rising)
 	if err != nil {
 		return nil, err
 	}
@@ -430,9 +432,9 @@ func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit s
 	}
 	n := len(res.edges)
 	switch {
-	case p.sine || p.pulsesPerRev != 1 || p.apertures == 1:
-		per := p.apertures
-		if p.sine {
+	case p.Sine || p.PulsesPerRev != 1 || p.Apertures == 1:
+		per := p.Apertures
+		if p.Sine {
 			per = 1
 		}
 		// The last edge's line is kept with the period before it; its
@@ -462,10 +464,10 @@ func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit s
 			}
 			rev := period(i)
 			res.revPeriods = append(res.revPeriods, rev)
-			for k := 0; k < p.apertures; k++ {
+			for k := 0; k < p.Apertures; k++ {
 				res.lines = append(res.lines, lineTiming{
-					edge:     res.edges[i] + float64(k)*rev/float64(p.apertures),
-					period:   rev / float64(p.apertures),
+					edge:     res.edges[i] + float64(k)*rev/float64(p.Apertures),
+					period:   rev / float64(p.Apertures),
 					aperture: k,
 					repaired: rep.repaired[i] && k == 0,
 				})

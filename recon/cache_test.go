@@ -1,0 +1,91 @@
+package recon
+
+import (
+	"context"
+	"maps"
+	"testing"
+
+	"spotloom/recon/recipe"
+)
+
+// Each control re-runs only the stages that depend on it.
+func TestStageCaching(t *testing.T) {
+	ctx := context.Background()
+	rig := baseRig()
+	s := NewSession(rig.recording())
+	r := rig.recipe()
+	first, err := s.Build(ctx, r, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := map[string]int{"timing": 1, "rows": 1, "delay": 1, "placement": 1, "gridding": 1}
+	check := func(step string) {
+		t.Helper()
+		if !maps.Equal(s.runs, want) {
+			t.Errorf("after %s: stage runs %v, want %v", step, s.runs, want)
+		}
+	}
+	check("the first build")
+
+	if _, err := s.Build(ctx, r, nil); err != nil {
+		t.Fatal(err)
+	}
+	check("the same recipe again")
+
+	// The resolved recipe (threshold, hysteresis, delay written in) reuses
+	// every stage.
+	if _, err := s.Build(ctx, first.Recipe, nil); err != nil {
+		t.Fatal(err)
+	}
+	check("the resolved recipe")
+
+	r.Sweep.DelayDeg = recipe.Float(first.Report.DelayDeg + 0.2)
+	if _, err := s.Build(ctx, r, nil); err != nil {
+		t.Fatal(err)
+	}
+	want["placement"]++
+	want["gridding"]++
+	check("a delay change")
+
+	r.Image.PitchMM = 2
+	if _, err := s.Build(ctx, r, nil); err != nil {
+		t.Fatal(err)
+	}
+	want["gridding"]++
+	check("a pitch change")
+
+	r.Signal.Invert = true
+	if _, err := s.Build(ctx, r, nil); err != nil {
+		t.Fatal(err)
+	}
+	want["gridding"]++
+	check("invert")
+
+	r.Timing.Hysteresis = recipe.Float(0.5)
+	if _, err := s.Build(ctx, r, nil); err != nil {
+		t.Fatal(err)
+	}
+	want["timing"]++
+	want["placement"]++
+	want["gridding"]++
+	check("a hysteresis change")
+}
+
+// A result's frames belong to the caller: editing them does not reach the
+// session's cache.
+func TestResultIsACopy(t *testing.T) {
+	rig := baseRig()
+	s := NewSession(rig.recording())
+	a, err := s.Build(context.Background(), rig.recipe(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	a.Frames[0].Pix[0] = 12345
+	b, err := s.Build(context.Background(), rig.recipe(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if b.Frames[0].Pix[0] == 12345 {
+		t.Error("the cached frame was changed through a result")
+	}
+}
