@@ -29,6 +29,8 @@ type captureFlags struct {
 	byteOrder   string
 	planar      bool
 	headerBytes int64
+	scale       float64
+	offset      float64
 }
 
 // addCaptureFlags defines the capture flags on fs.
@@ -41,6 +43,8 @@ func addCaptureFlags(fs *flag.FlagSet) *captureFlags {
 	fs.StringVar(&cf.byteOrder, "byte-order", "little", "raw: byte `order`, little or big")
 	fs.BoolVar(&cf.planar, "planar", false, "raw: channels stored one after another instead of interleaved")
 	fs.Int64Var(&cf.headerBytes, "header-bytes", 0, "raw: `bytes` to skip at the start")
+	fs.Float64Var(&cf.scale, "scale", 0, "raw: `volts` per stored unit, for every channel (default: integers on ±1.0 full scale)")
+	fs.Float64Var(&cf.offset, "offset", 0, "raw: `volts` added after scaling")
 	return cf
 }
 
@@ -62,6 +66,12 @@ func (cf *captureFlags) options() (capture.Options, error) {
 	case cf.sampleType != "":
 		l := capture.RawLayout{SampleType: cf.sampleType, ByteOrder: cf.byteOrder, Channels: cf.channels,
 			Interleaved: !cf.planar, HeaderBytes: cf.headerBytes, SampleRateHz: cf.rateHz}
+		if cf.scale != 0 {
+			l.Scale = []float64{cf.scale}
+		}
+		if cf.offset != 0 {
+			l.Offset = []float64{cf.offset}
+		}
 		if err := l.Validate(); err != nil {
 			return opts, usagef("raw layout: %v", err)
 		}

@@ -133,3 +133,18 @@ func BenchmarkCSV(b *testing.B) {
 	b.StopTimer()
 	allocRatio(b, func() (*Recording, error) { return Open(path, Options{}) })
 }
+
+func BenchmarkWriteWAVInt16(b *testing.B) {
+	rec := benchRecording(1 << 20)
+	var buf bytes.Buffer
+	b.SetBytes(int64(2 * 3 * rec.Frames()))
+	b.ResetTimer()
+	start := time.Now()
+	for i := 0; i < b.N; i++ {
+		buf.Reset()
+		if err := WriteWAV(&buf, rec, "int16"); err != nil {
+			b.Fatal(err)
+		}
+	}
+	reportSamples(b, rec.Frames()*3, start)
+}

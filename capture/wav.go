@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"math"
 
 	"github.com/go-audio/wav"
 )
@@ -243,9 +242,6 @@ func readWAV(r io.ReaderAt, size int64, opts Options) (*Recording, error) {
 	frames := data.size / int64(f.blockAlign)
 	if frames == 0 {
 		return nil, &FormatError{Format: "wav", Place: AtByte(data.offset), Problem: "data chunk holds no samples", Expected: "at least one frame"}
-	}
-	if frames > math.MaxInt32*4 {
-		return nil, &UnsupportedError{Format: "wav", Place: AtByte(data.offset), Feature: fmt.Sprintf("%d frames", frames), Expected: "a shorter capture"}
 	}
 	conv := wavConverter(f)
 	rec := &Recording{
