@@ -325,6 +325,24 @@ func splatLine(in gridInput, l *placedLine, sum, wt []float64, cols, rows int, x
 	vEnd := v0 + dv*float64(len(det))
 	fast := math.Min(v0, vEnd) >= 0 && math.Max(v0, vEnd) < float64(rows-1) &&
 		(m.xMin-x0)*inv >= 0 && (m.xMax-x0)*inv < float64(cols-1)
+	curCell := -1
+	var a00, a10, a01, a11, b00, b10, b01, b11 float64
+	flush := func() {
+		if curCell < 0 {
+			return
+		}
+		s := sum[curCell : curCell+cols+2]
+		w := wt[curCell : curCell+cols+2]
+		s[0] += a00
+		s[1] += a10
+		s[cols] += a01
+		s[cols+1] += a11
+		w[0] += b00
+		w[1] += b10
+		w[cols] += b01
+		w[cols+1] += b11
+		a00, a10, a01, a11, b00, b10, b01, b11 = 0, 0, 0, 0, 0, 0, 0, 0
+	}
 	for k, raw := range det {
 		if raw >= in.clipHi || raw <= in.clipLo {
 			run++
@@ -352,21 +370,25 @@ func splatLine(in gridInput, l *placedLine, sum, wt []float64, cols, rows int, x
 		if fast {
 			i, j := int(cu), int(cv)
 			fx, fy := cu-float64(i), cv-float64(j)
-			base := j*cols + i
+			cell := j*cols + i
+			if cell != curCell {
+				flush()
+				curCell = cell
+			}
+			// Consecutive samples mostly fall in the same cell (a few
+			// samples per pixel along the sweep): sum there in registers.
 			w00 := (1 - fx) * (1 - fy)
 			w10 := fx * (1 - fy)
 			w01 := (1 - fx) * fy
 			w11 := fx * fy
-			s := sum[base : base+cols+2]
-			w := wt[base : base+cols+2]
-			s[0] += w00 * value
-			w[0] += w00
-			s[1] += w10 * value
-			w[1] += w10
-			s[cols] += w01 * value
-			w[cols] += w01
-			s[cols+1] += w11 * value
-			w[cols+1] += w11
+			a00 += w00 * value
+			a10 += w10 * value
+			a01 += w01 * value
+			a11 += w11 * value
+			b00 += w00
+			b10 += w10
+			b01 += w01
+			b11 += w11
 			continue
 		}
 		if cu <= -1 || cv <= -1 {
@@ -405,6 +427,7 @@ func splatLine(in gridInput, l *placedLine, sum, wt []float64, cols, rows int, x
 			}
 		}
 	}
+	flush()
 	return clipped
 }
 
