@@ -15,6 +15,26 @@ type wavChunk struct {
 	id     [4]byte
 	offset int64 // of the chunk header
 	size   int64 // ckSize as stored, without the pad byte
+	// unpadded marks an odd-sized chunk written without its pad byte.
+	unpadded bool
+}
+
+// fourCCAt reports whether the 4 bytes at off are printable ASCII, as
+// chunk IDs are (RIFF 1.0: FOURCC).
+func fourCCAt(r io.ReaderAt, size, off int64) bool {
+	if off+4 > size {
+		return false
+	}
+	var id [4]byte
+	if _, err := r.ReadAt(id[:], off); err != nil {
+		return false
+	}
+	for _, c := range id {
+		if c < 0x20 || c > 0x7E {
+			return false
+		}
+	}
+	return true
 }
 
 // wavFormat is the decoded fmt chunk.
@@ -104,8 +124,17 @@ func walkWAV(r io.ReaderAt, size int64) (chunks []wavChunk, fmtBytes []byte, dat
 			return chunks, fmtBytes, c, nil
 		}
 		// RIFF 1.0: chunk data is padded to an even length; the pad byte is
-		// not counted in ckSize.
-		off = body + c.size + c.size&1
+		// not counted in ckSize. Some writers leave it out: when the byte
+		// after an odd chunk starts a chunk ID and the pad position does
+		// not, there is no pad.
+		off = body + c.size
+		if c.size&1 == 1 {
+			if !fourCCAt(r, size, off+1) && fourCCAt(r, size, off) {
+				chunks[len(chunks)-1].unpadded = true
+			} else {
+				off++
+			}
+		}
 	}
 }
 
@@ -178,17 +207,22 @@ func crossCheckWAV(r io.ReaderAt, chunks []wavChunk, data wavChunk, f wavFormat)
 	var lengths []int64
 	add := func(ra io.ReaderAt, n int64) { parts, lengths = append(parts, ra), append(lengths, n) }
 	add(io.NewSectionReader(r, 0, riffHeaderSize), riffHeaderSize)
-	var skipped int64
 	for _, c := range chunks {
 		if c.id == idData {
 			break
 		}
 		if id := string(c.id[:]); id == "LIST" || id == "smpl" || id == "cue " {
-			skipped += chunkHeaderSize + c.size + c.size&1
 			continue
 		}
-		n := chunkHeaderSize + c.size + c.size&1
+		n := chunkHeaderSize + c.size
 		add(io.NewSectionReader(r, c.offset, n), n)
+		if c.size&1 == 1 {
+			if c.unpadded {
+				add(bytes.NewReader([]byte{0}), 1) // the pad go-audio/wav expects
+			} else {
+				add(io.NewSectionReader(r, c.offset+n, 1), 1)
+			}
+		}
 	}
 	add(io.NewSectionReader(r, data.offset, chunkHeaderSize), chunkHeaderSize)
 	view := io.NewSectionReader(newSplice(parts, lengths), 0, totalLen(lengths))
@@ -200,7 +234,7 @@ func crossCheckWAV(r io.ReaderAt, chunks []wavChunk, data wavChunk, f wavFormat)
 		return &FormatError{Format: "wav", Place: AtByte(data.offset), Problem: fmt.Sprintf("RIFF chunk walk failed: %v", err), Expected: "a well-formed chunk list"}
 	}
 	pos, _ := view.Seek(0, io.SeekCurrent)
-	wantPos := data.offset + chunkHeaderSize - skipped
+	wantPos := totalLen(lengths) // the view ends with the data chunk header
 	rawTag := f.tag
 	if f.extensible {
 		rawTag = waveFormatExtensible
@@ -209,7 +243,7 @@ func crossCheckWAV(r io.ReaderAt, chunks []wavChunk, data wavChunk, f wavFormat)
 		int(dec.BitDepth) != f.bitsPerSample || uint16(dec.WavAudioFormat) != rawTag {
 		return &FormatError{Format: "wav", Place: AtByte(data.offset), Problem: fmt.Sprintf(
 			"chunk walk disagrees: data at %d, %d channels, %d Hz, %d bits, tag %d; fmt chunk says data at %d, %d channels, %d Hz, %d bits, tag %d",
-			pos+skipped, dec.NumChans, dec.SampleRate, dec.BitDepth, dec.WavAudioFormat,
+			pos-wantPos+data.offset+chunkHeaderSize, dec.NumChans, dec.SampleRate, dec.BitDepth, dec.WavAudioFormat,
 			data.offset+chunkHeaderSize, f.channels, f.sampleRate, f.bitsPerSample, rawTag), Expected: "one consistent fmt chunk"}
 	}
 	return nil

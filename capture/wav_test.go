@@ -124,3 +124,19 @@ func TestOpenProgress(t *testing.T) {
 		}
 	}
 }
+
+// TestWAVMissingPad reads a file whose odd chunk before fmt has no pad
+// byte, as some writers leave it out.
+func TestWAVMissingPad(t *testing.T) {
+	data := pcm16Data(6, 1)
+	noPad := le(nil).id("note").u32(3).raw([]byte("abc")) // no pad byte
+	file := riffWAVE(noPad, fmtChunk(1, 1, 8000, 16, nil), chunk("data", data))
+	rec, err := readWAVBytes(file)
+	if err != nil || rec.Frames() != 6 {
+		t.Fatalf("missing pad: %v", err)
+	}
+	padded := riffWAVE(chunk("note", []byte("abc")), fmtChunk(1, 1, 8000, 16, nil), chunk("data", data))
+	if rec, err := readWAVBytes(padded); err != nil || rec.Frames() != 6 {
+		t.Fatalf("with pad: %v", err)
+	}
+}
