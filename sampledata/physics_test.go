@@ -151,14 +151,19 @@ func TestPhotonCountsArePoisson(t *testing.T) {
 // trace of a thin line, the width at half maximum times the beam speed
 // equals 2·sqrt(2·ln 2)·sqrt(σ² + dwell²/12), dwell being the beam's travel
 // in one sample; along the cross-scan axis the blurred raster of a thin
-// line has width spot_fwhm_mm.
+// line has width spot_fwhm_mm. Near the field edge, at beam angle θ, both
+// grow with the slant range D/cos θ: by 1/cos²θ along the sweep (the
+// oblique plane stretches it once more) and by 1/cos θ across it.
 func TestSpotFWHM(t *testing.T) {
 	r := quietRig(30)
 	r.DurationS = 0.5
-	// 0.1 mm scattering lines on nothing, one along y at x = 0 and one
-	// along x.
+	thetaEdge := 12 * math.Pi / 180
+	xEdge := r.DistanceMM * math.Tan(thetaEdge)
+	// 0.1 mm scattering lines on nothing along y, at x = 0 and near the
+	// field edge.
 	thin := SceneModel{Name: "thin lines", BackgroundYield: 0, Shapes: []Shape{
-		shape("line along y", "foil", 1, 0, boxDistance(0, 0, 0.1, 2000, 0, 0), -0.05, -1000, 0.05, 1000),
+		shape("line at centre", "foil", 1, 0, boxDistance(0, 0, 0.1, 2000, 0, 0), -0.05, -1000, 0.05, 1000),
+		shape("line near edge", "foil", 1, 0, boxDistance(xEdge, 0, 0.1, 2000, 0, 0), xEdge-0.05, -1000, xEdge+0.05, 1000),
 	}}
 	rec, truth, err := SimulateScene(t.Context(), r, thin, SimOptions{Seed: 1, Noiseless: true})
 	if err != nil {
@@ -169,32 +174,60 @@ func TestSpotFWHM(t *testing.T) {
 	sigma := r.SpotFWHMMM / (2 * math.Sqrt(2*math.Ln2))
 	for _, l := range truth.Lines[:5] {
 		i0, i1 := int(math.Ceil(l.FieldStartS*fs)), int(l.FieldEndS*fs)
-		width := halfMaxWidth(det[i0:i1])
-		speed := r.DistanceMM * l.RevPerMin * 2 * math.Pi / 60 // mm/s at x = 0
-		dwell := speed / fs
-		want := 2 * math.Sqrt(2*math.Ln2) * math.Sqrt(sigma*sigma+dwell*dwell/12)
-		got := width * dwell
-		if math.Abs(got-want) > 0.01*want {
-			t.Errorf("line %d: FWHM along the sweep %.3f mm, want %.3f mm", l.Number, got, want)
+		mid := (i0 + i1) / 2
+		omega := l.RevPerMin * 2 * math.Pi / 60
+		for _, c := range []struct {
+			name   string
+			theta  float64
+			window []float32
+		}{
+			{"centre", 0, det[i0 : i0+(i1-i0)*3/4]},
+			{"edge", thetaEdge, det[mid+(i1-mid)/3 : i1]},
+		} {
+			cos2 := math.Cos(c.theta) * math.Cos(c.theta)
+			dwell := r.DistanceMM * omega / cos2 / fs // mm per sample at θ
+			want := 2 * math.Sqrt(2*math.Ln2) * math.Sqrt(sigma*sigma/(cos2*cos2)+dwell*dwell/12)
+			got := halfMaxWidth(c.window) * dwell
+			if math.Abs(got-want) > 0.015*want {
+				t.Errorf("line %d, %s: FWHM along the sweep %.3f mm, want %.3f mm", l.Number, c.name, got, want)
+			}
+			if l.Number == 0 {
+				t.Logf("%s: FWHM along the sweep %.4f mm, closed form %.4f mm", c.name, got, want)
+			}
 		}
-		if l.Number == 0 {
-			t.Logf("FWHM along the sweep %.4f mm, closed form %.4f mm", got, want)
+	}
+	// Across the sweep: sample the blurred rasters across a line along x,
+	// placed 0, 1/6, 1/3 and 1/2 pixel off the raster's pixel centres. The raster adds up
+	// to pitch²/4 of variance for a line midway between pixel centres
+	// (pitch = σ/3: at most 1.4 % of σ, plus the bilinear read-back), so
+	// each width is held to 2.5 % and their mean to 1.5 %.
+	probe := newSpotSampler(r, SceneModel{Name: "empty"}, 0, 0, -50, 50)
+	pitch := probe.centre.PitchMM
+	for _, theta := range []float64{0, thetaEdge} {
+		want := r.SpotFWHMMM / math.Cos(theta)
+		mean := 0.0
+		for k := 0; k < 4; k++ {
+			// Pixel centres lie at OriginYMM − row·pitch.
+			y0 := probe.centre.OriginYMM - math.Floor(probe.centre.OriginYMM/pitch)*pitch + float64(k)*pitch/6
+			across := SceneModel{Name: "line along x", Shapes: []Shape{
+				shape("line", "foil", 1, 0, boxDistance(0, y0, 2000, 0.1, 0, 0), -1000, y0-0.05, 1000, y0+0.05),
+			}}
+			s := newSpotSampler(r, across, 0, 0, -50, 50)
+			profile := make([]float32, 2001)
+			for i := range profile {
+				profile[i] = float32(s.at(r.DistanceMM*math.Tan(theta), y0-10+float64(i)*0.01, math.Cos(theta)))
+			}
+			got := halfMaxWidth(profile) * 0.01
+			mean += got / 4
+			if math.Abs(got-want) > 0.025*want {
+				t.Errorf("θ = %.0f°, line %.2f pixel off a pixel centre: FWHM across the sweep %.3f mm, want %.3f mm", theta*180/math.Pi, float64(k)/6, got, want)
+			}
 		}
+		if math.Abs(mean-want) > 0.015*want {
+			t.Errorf("θ = %.0f°: mean FWHM across the sweep %.3f mm, want %.3f mm", theta*180/math.Pi, mean, want)
+		}
+		t.Logf("θ = %.0f°: mean FWHM across the sweep %.4f mm, want %.4f mm", theta*180/math.Pi, mean, want)
 	}
-	// Along y: sample the blurred raster across a line along x.
-	across := SceneModel{Name: "line along x", Shapes: []Shape{
-		shape("line", "foil", 1, 0, boxDistance(0, 0, 2000, 0.1, 0, 0), -1000, -0.05, 1000, 0.05),
-	}}
-	s := newSpotSampler(r, across, 0, 0, -50, 50)
-	profile := make([]float32, 2001)
-	for i := range profile {
-		profile[i] = float32(s.r.bilinear(0, -10+float64(i)*0.01))
-	}
-	got := halfMaxWidth(profile) * 0.01
-	if math.Abs(got-r.SpotFWHMMM) > 0.01*r.SpotFWHMMM {
-		t.Errorf("FWHM across the sweep %.3f mm, want %.3f mm", got, r.SpotFWHMMM)
-	}
-	t.Logf("FWHM across the sweep %.4f mm, spot_fwhm_mm %g", got, r.SpotFWHMMM)
 }
 
 // halfMaxWidth is the width in samples of the peak of v at half its

@@ -124,9 +124,9 @@ func newRaster(x0, x1, y0, y1, pitchMM float64) *Raster {
 
 // Render paints the scene into r, whose coordinates are scene coordinates
 // shifted by (offsetXMM, offsetYMM) (raster x = scene x + offsetXMM). Each
-// pixel holds the area-averaged yield: a shape edge crossing a pixel covers
-// it by clamp(0.5 − distance/pitch, 0, 1), the exact area fraction for a
-// straight edge along a pixel axis. Rows are painted in parallel.
+// pixel holds the area-averaged yield: where a shape's boundary passes
+// through a pixel, the shape covers it by the fraction Shape.coverage
+// finds. Rows are painted in parallel.
 func (s SceneModel) Render(r *Raster, offsetXMM, offsetYMM, distanceMM float64) {
 	bg := float32(s.BackgroundYield)
 	parallelRows(r.Height, func(row0, row1 int) {
@@ -153,12 +153,16 @@ func (s SceneModel) Render(r *Raster, offsetXMM, offsetYMM, distanceMM float64) 
 				line := r.Pix[row*r.Width : (row+1)*r.Width]
 				for col := c0; col <= c1; col++ {
 					x := r.OriginXMM + float64(col)*r.PitchMM - offsetXMM
-					cov := 0.5 - sh.Distance(x, y)/r.PitchMM
-					if cov <= 0 {
+					d := sh.Distance(x, y)
+					if d >= edgeBand*r.PitchMM {
 						continue
 					}
-					if cov >= 1 {
+					if d <= -edgeBand*r.PitchMM {
 						line[col] = v
+						continue
+					}
+					cov := sh.coverage(x, y, r.PitchMM)
+					if cov <= 0 {
 						continue
 					}
 					line[col] = line[col]*float32(1-cov) + v*float32(cov)
@@ -166,6 +170,30 @@ func (s SceneModel) Render(r *Raster, offsetXMM, offsetYMM, distanceMM float64) 
 			}
 		}
 	})
+}
+
+// edgeBand is how near (in pixels) a shape's boundary must pass a pixel
+// centre for the pixel to be split: beyond 0.75 pixel the boundary cannot
+// cross the pixel (its half-diagonal is 0.707 pixel).
+const edgeBand = 0.75
+
+// coverage is the fraction of the pixel of size pitch centred at (x,y) that
+// lies inside the shape: the pixel is split into 4 × 4 sub-pixels, each
+// covered by clamp(0.5 − distance/sub-pitch, 0, 1) (exact for a straight
+// boundary along a sub-pixel axis), so shapes thinner than a pixel keep
+// their true area.
+func (sh *Shape) coverage(x, y, pitch float64) float64 {
+	const n = 4
+	sub := pitch / n
+	sum := 0.0
+	for j := 0; j < n; j++ {
+		sy := y + (float64(j)+0.5)*sub - pitch/2
+		for i := 0; i < n; i++ {
+			sx := x + (float64(i)+0.5)*sub - pitch/2
+			sum += math.Min(math.Max(0.5-sh.Distance(sx, sy)/sub, 0), 1)
+		}
+	}
+	return sum / (n * n)
 }
 
 // parallelRows splits [0,n) into bands and runs f on each band on all cores.
