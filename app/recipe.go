@@ -25,13 +25,15 @@ Reads a capture and prints a recipe (JSON) to start from: the channels from
 the guessed roles, the index threshold and hysteresis, the delay from the
 detector's beam-on stretch, and a pixel pitch near the line spacing. The
 geometry (apertures, field, distance) and the position calibration keep the
-values of --from, or the defaults, and are worth checking by hand.
+values of --from, or the defaults, and are worth checking by hand; what
+looks wrong is said on stderr.
 `
 
 func runRecipe(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("recipe FILE [--from R.json] > R.json", "recipe FILE", recipeHelp, stderr)
 	cf := addCaptureFlags(fs)
 	from := fs.String("from", "", "start from this recipe `file` and resolve its automatic (null) values")
+	apertures := fs.Int("apertures", 0, "the wheel's aperture `count` (also the index pulses per revolution unless --from says 1)")
 	rest, err := parseFlags(fs, args)
 	if err != nil {
 		return err
@@ -51,6 +53,15 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 	}
+	if *apertures < 0 {
+		return usagef("--apertures %d: expected a count of 1 or more", *apertures)
+	}
+	if *apertures > 0 {
+		if r.Timing.PulsesPerRev != 1 {
+			r.Timing.PulsesPerRev = *apertures
+		}
+		r.Sweep.Apertures = *apertures
+	}
 	prog := newProgress(stderr)
 	opts.Progress = func(f float64) { prog.Report("reading", f) }
 	rec, err := capture.Open(path, opts)
@@ -60,10 +71,17 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
-	resolved, err := recon.NewSession(rec).Resolve(ctx, r)
+	// A trial build resolves every value and finds what looks wrong (a
+	// calibration outside the position's range, a field that does not
+	// match the beam-on stretch); those warnings go to stderr.
+	res, err := recon.NewSession(rec).Build(ctx, r, func(stage string, f float64) { prog.Report(stage, f) })
+	prog.Done()
 	if err != nil {
 		return fmt.Errorf("%s: %w", path, err)
 	}
-	_, err = stdout.Write(resolved.JSON())
+	for _, w := range res.Report.Warnings {
+		fmt.Fprintf(stderr, "spotloom recipe: %s: %s\n", path, w)
+	}
+	_, err = stdout.Write(res.Recipe.JSON())
 	return err
 }

@@ -255,6 +255,10 @@ func findRows(ctx context.Context, rec rowsInput, p rowsParams) (*rowsResult, er
 		res.levelMax = math.Max(res.levelMax, v)
 		res.y[j] = cal.at(v)
 	}
+	if lo, hi := cal.level[0], cal.level[len(cal.level)-1]; res.levelMin < lo-0.25*(hi-lo) || res.levelMax > hi+0.25*(hi-lo) {
+		res.warnings = append(res.warnings, fmt.Sprintf("the %s channel %s runs from %s to %s, well outside rows.calibration (%s to %s): measure two head positions and their levels and write them in rows.calibration",
+			p.Source, rec.name, level(res.levelMin, rec.unit), level(res.levelMax, rec.unit), level(lo, rec.unit), level(hi, rec.unit)))
+	}
 	yMin, yMax := minMax(res.y)
 	if yMax-yMin < 0.5 {
 		return nil, fmt.Errorf("%s channel %s stays between %s and %s (%.2g mm through rows.calibration): the head did not move; check channels.position and rows.calibration, or use rows.source even with rows.speed_mm_s",

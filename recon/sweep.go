@@ -364,7 +364,15 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 	delay := math.Mod(start, spacing)
 	var warns []string
 	if math.Abs(width-s.FieldDeg) > 0.2*s.FieldDeg {
-		warns = append(warns, fmt.Sprintf("the detector's beam-on stretch lasts %.1f° of wheel rotation but sweep.field_deg is %g°: check field_deg and apertures, or set sweep.delay_deg by hand", width, s.FieldDeg))
+		// The beam is on for field/spacing of each line whatever the
+		// recipe says; if field_deg is right, that fraction gives the
+		// wheel's real aperture count.
+		guess := int(math.Round(360 * (width / spacing) / s.FieldDeg))
+		hint := ""
+		if guess >= 1 && guess != s.Apertures {
+			hint = fmt.Sprintf(" (if field_deg is right, the wheel has %d apertures)", guess)
+		}
+		warns = append(warns, fmt.Sprintf("the detector's beam-on stretch lasts %.1f° of wheel rotation but sweep.field_deg is %g°: check field_deg and apertures%s, or set sweep.delay_deg by hand", width, s.FieldDeg, hint))
 	}
 	return delay, warns, nil
 }
