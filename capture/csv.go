@@ -715,6 +715,7 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 	var fields [][]byte
 	var cols []int
 	var t0, tPrev, minStep, maxStep float64
+	var lastTime []byte // the last time cell, for its printing resolution
 	rows := 0
 	nonFinite := 0
 	var consumed int64
@@ -753,6 +754,7 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 			}
 			if i == timeCol {
 				t := v * timeScale
+				lastTime = append(lastTime[:0], f...)
 				if rows > 0 {
 					step := t - tPrev
 					if !(step > 0) {
@@ -796,7 +798,14 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 		// Ten significant digits: the time column is printed text, and its
 		// last-bit noise should not show up as 499999.99999999994 Hz.
 		rec.SampleRateHz, _ = strconv.ParseFloat(strconv.FormatFloat(1/meanStep, 'g', 10, 64), 64)
-		if maxStep > meanStep*1.01 || minStep < meanStep*0.99 {
+		// Steps that differ from the mean by more than 1 % are reported,
+		// unless the difference is only the rounding of the printed times.
+		// The last cell shows the resolution (a leading "0" would not);
+		// half a step is always reported, since that is a lost or doubled
+		// sample whatever the printing.
+		rounding := math.Min(1.5*printQuantum(lastTime)*timeScale, 0.5*meanStep)
+		tolerance := math.Max(0.01*meanStep, rounding)
+		if maxStep-meanStep > tolerance || meanStep-minStep > tolerance {
 			rec.Warnings = append(rec.Warnings, fmt.Sprintf("time steps range from %.6g s to %.6g s around a mean of %.6g s (more than 1%% uneven); samples are treated as evenly spaced at %.6g Hz",
 				minStep, maxStep, meanStep, rec.SampleRateHz))
 		}
@@ -824,4 +833,22 @@ func timeExpectation(guessed bool) string {
 		return "time rising from row to row (without a header the first column is read as time; give a sample rate to read it as a signal)"
 	}
 	return "time rising from row to row"
+}
+
+// printQuantum is the value of one unit in the last digit of a printed
+// number: 0.001 for "1.234", 1e-7 for "-1.2340e-03".
+func printQuantum(b []byte) float64 {
+	b = bytes.TrimSpace(b)
+	exp := 0
+	if i := bytes.IndexAny(b, "eE"); i >= 0 {
+		e, err := strconv.Atoi(string(b[i+1:]))
+		if err != nil {
+			return 0
+		}
+		exp, b = e, b[:i]
+	}
+	if i := bytes.IndexAny(b, ".,"); i >= 0 {
+		exp -= len(b) - i - 1
+	}
+	return math.Pow(10, float64(exp))
 }

@@ -3,6 +3,7 @@ package capture
 import (
 	"bytes"
 	"errors"
+	"fmt"
 	"math"
 	"strconv"
 	"strings"
@@ -131,11 +132,12 @@ func TestCSVShapes(t *testing.T) {
 }
 
 func TestCSVUnevenTimeWarns(t *testing.T) {
-	rec, err := readCSVString(t, "time,a\n0,1\n1,2\n2.5,3\n3,4\n", Options{})
+	rec, err := readCSVString(t, "time,a\n0.0,1\n1.0,2\n2.5,3\n3.0,4\n", Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	// mean step (3-0)/3 = 1 s; steps 1, 1.5, 0.5 differ by more than 1 %
+	// and more than the 0.1 s printing resolution
 	if rec.SampleRateHz != 1 || len(rec.Warnings) != 1 || !strings.Contains(rec.Warnings[0], "uneven") {
 		t.Fatalf("rate %v warnings %q", rec.SampleRateHz, rec.Warnings)
 	}
@@ -196,5 +198,31 @@ func TestCSVRoundTrip(t *testing.T) {
 				t.Fatalf("ch%d[%d] = %v, want %v", c, i, got.Channels[c].Samples[i], v)
 			}
 		}
+	}
+}
+
+// TestCSVPrintedTimeRounding: times printed to 3 significant digits step
+// unevenly by one last digit; that is rounding, not uneven sampling.
+func TestCSVPrintedTimeRounding(t *testing.T) {
+	var sb strings.Builder
+	sb.WriteString("time (s),a\n")
+	for i := 0; i < 50; i++ {
+		fmt.Fprintf(&sb, "%.2e,%d\n", float64(i)*1.0416667e-5, i) // 96 kHz printed as 1.04e-05, 2.08e-05, ...
+	}
+	rec, err := readCSVString(t, sb.String(), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rec.Warnings) != 0 || math.Abs(rec.SampleRateHz-96000)/96000 > 0.01 {
+		t.Fatalf("rate %v, warnings %q", rec.SampleRateHz, rec.Warnings)
+	}
+	// a lost sample in integer milliseconds is reported although the
+	// printing resolution equals the step
+	rec, err = readCSVString(t, "time (ms),a\n0,1\n1,2\n2,3\n4,4\n5,5\n", Options{})
+	if err != nil || len(rec.Warnings) != 1 {
+		t.Errorf("lost sample: %v, warnings %q", err, rec.Warnings)
+	}
+	if q := printQuantum([]byte("-1.2340e-03")); math.Abs(q-1e-7) > 1e-20 {
+		t.Errorf("printQuantum = %v, want 1e-7", q)
 	}
 }
