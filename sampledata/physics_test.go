@@ -1,6 +1,8 @@
 package sampledata
 
 import (
+	"context"
+	"errors"
 	"math"
 	"runtime"
 	"testing"
@@ -447,5 +449,33 @@ func TestQuantisation(t *testing.T) {
 		if got := float64(q.quantise(c.in)); math.Abs(got-c.want) > 1e-7 {
 			t.Errorf("quantise(%g) = %g, want %g", c.in, got, c.want)
 		}
+	}
+}
+
+// TestCancel checks that a cancelled context stops the simulation.
+func TestCancel(t *testing.T) {
+	ctx, cancel := context.WithCancel(t.Context())
+	cancel()
+	if _, _, err := Simulate(ctx, DemoRig(), "parcel", SimOptions{}); !errors.Is(err, context.Canceled) {
+		t.Fatalf("err = %v, want context.Canceled", err)
+	}
+}
+
+// TestDelayMean checks delay_mean_deg against its definition, the mean over
+// apertures of delay_deg + aperture_offsets_deg[k] (the least-squares
+// delay with zero offsets).
+func TestDelayMean(t *testing.T) {
+	r := DemoRig()
+	r.DurationS = 0.5
+	_, truth, err := Simulate(t.Context(), r, "bars", SimOptions{Seed: 6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mean := 0.0
+	for _, o := range truth.ApertureOffsetsDeg {
+		mean += (truth.DelayDeg + o) / float64(len(truth.ApertureOffsetsDeg))
+	}
+	if math.Abs(mean-truth.DelayMeanDeg) > 1e-12 {
+		t.Errorf("delay_mean_deg %g, mean of delay + offsets %g", truth.DelayMeanDeg, mean)
 	}
 }

@@ -106,9 +106,10 @@ type Motion struct {
 	SpeedVariationPct float64 `json:"speed_variation_pct" rig:"optional"`
 	PauseCount        int     `json:"pause_count" rig:"optional"`
 	PauseS            float64 `json:"pause_s" rig:"optional"`
-	// Stepper: MMPerStep per step; each step is a pulse StepPulseS long and
-	// StepLevelV high on the steps channel, and the head moves the step in
-	// the following StepPulseS.
+	// Stepper: MMPerStep per step, the steps evenly spread over the stroke;
+	// each step is a pulse StepPulseS long and StepLevelV high on the steps
+	// channel (with the index sensor's rise time), and the head moves the
+	// step while the pulse is high.
 	MMPerStep  float64 `json:"mm_per_step" rig:"optional"`
 	StepPulseS float64 `json:"step_pulse_s" rig:"optional"`
 	StepLevelV float64 `json:"step_level_v" rig:"optional"`

@@ -56,6 +56,9 @@ type Truth struct {
 
 	DelayDeg           float64   `json:"delay_deg"`
 	ApertureOffsetsDeg []float64 `json:"aperture_offsets_deg"`
+	// DelayMeanDeg is lead_deg plus the mean aperture error: the delay that
+	// fits all lines best when the aperture offsets are left at zero.
+	DelayMeanDeg float64 `json:"delay_mean_deg"`
 	// ApertureErrorsDeg are the physical errors of the wheel's apertures;
 	// FirstWheelAperture is the wheel aperture that makes line 0.
 	ApertureErrorsDeg  []float64 `json:"aperture_errors_deg"`
@@ -206,6 +209,10 @@ func newTruth(rig Rig, scene SceneModel, opts SimOptions, wheel *wheelPath, moti
 	}
 	j0 := t.FirstWheelAperture
 	t.DelayDeg = rig.Index.LeadDeg + apertureError(rig, j0)
+	t.DelayMeanDeg = rig.Index.LeadDeg
+	for j := 0; j < apertures; j++ {
+		t.DelayMeanDeg += apertureError(rig, j) / float64(apertures)
+	}
 	t.ApertureOffsetsDeg = make([]float64, apertures)
 	for k := range t.ApertureOffsetsDeg {
 		t.ApertureOffsetsDeg[k] = apertureError(rig, (j0+k)%apertures) - apertureError(rig, j0)
