@@ -352,7 +352,12 @@ func (ws *Workstation) finishBuild(r recipe.Recipe, value any, err error, supers
 	ws.good = settings{Recipe: cloneRecipe(r), Tone: ws.cur.Tone}
 	if !superseded {
 		ws.lastBuild = elapsed
-		ws.stage.SetText(fmt.Sprintf("Built in %d ms", elapsed.Milliseconds()))
+		note := fmt.Sprintf("Built in %d ms", elapsed.Milliseconds())
+		if ws.afterBuild != "" {
+			note = ws.afterBuild + " · " + note
+			ws.afterBuild = ""
+		}
+		ws.stage.SetText(note)
 	}
 }
 
@@ -538,10 +543,11 @@ func (ws *Workstation) EstimateOffsets() {
 					return
 				}
 				offsets, _ := value.([]float64)
+				ws.afterBuild = "Aperture offsets estimated: " + formatList(offsets, "%.2f°")
 				ws.change("estimate offsets", func(r *recipe.Recipe) {
 					r.Sweep.ApertureOffsetsDeg = append([]float64(nil), offsets...)
 				})
-				ws.stage.SetText("Aperture offsets estimated: " + formatList(offsets, "%.3f°"))
+				ws.stage.SetText(ws.afterBuild)
 			})
 		},
 	})

@@ -229,8 +229,10 @@ func (v *ImageView) pointerAt(pos fyne.Position) Pointer {
 }
 
 // Scrolled zooms about the pointer: one wheel step is a factor of 1.25.
+// Drivers report a notch as anything from 10 to over 30 units, and a
+// touchpad as many small deltas, so a delta counts as at most one step.
 func (v *ImageView) Scrolled(ev *fyne.ScrollEvent) {
-	steps := float64(ev.Scrolled.DY) / 10
+	steps := math.Max(-1, math.Min(1, float64(ev.Scrolled.DY)/10))
 	if steps == 0 {
 		return
 	}
@@ -284,7 +286,7 @@ func (v *ImageView) MouseOut() {
 	}
 }
 
-// Cursor shows a hand over the view, which can be dragged.
+// Cursor shows a crosshair over the view, for pointing at features.
 func (v *ImageView) Cursor() desktop.Cursor { return desktop.CrosshairCursor }
 
 // CreateRenderer makes the view's renderer.
@@ -292,6 +294,8 @@ func (v *ImageView) CreateRenderer() fyne.WidgetRenderer {
 	r := &imageViewRenderer{view: v}
 	r.raster = canvas.NewRaster(r.paint)
 	r.raster.ScaleMode = canvas.ImageScalePixels
+	r.backing = canvas.NewRectangle(color.NRGBA{A: 0x90})
+	r.backing.CornerRadius = 3
 	r.bar = canvas.NewRectangle(color.White)
 	r.barEdge = canvas.NewRectangle(color.Black)
 	r.barText = canvas.NewText("", color.White)
@@ -306,6 +310,7 @@ type imageViewRenderer struct {
 	view          *ImageView
 	raster        *canvas.Raster
 	bar, barEdge  *canvas.Rectangle
+	backing       *canvas.Rectangle
 	barText       *canvas.Text
 	empty         *canvas.Text
 	lastBarLength float64
@@ -347,7 +352,7 @@ func (r *imageViewRenderer) layoutBar() {
 	zoom, size, hasFrame := v.zoom, v.size, v.frame != nil
 	v.mu.Unlock()
 	show := hasFrame && zoom > 0 && size.Width > 40
-	r.bar.Hidden, r.barEdge.Hidden, r.barText.Hidden = !show, !show, !show
+	r.bar.Hidden, r.barEdge.Hidden, r.barText.Hidden, r.backing.Hidden = !show, !show, !show, !show
 	r.empty.Hidden = hasFrame
 	if !show {
 		return
@@ -364,6 +369,8 @@ func (r *imageViewRenderer) layoutBar() {
 	ts := r.barText.MinSize()
 	r.barText.Move(fyne.NewPos(x, y-ts.Height-1))
 	r.barText.Resize(ts)
+	r.backing.Move(fyne.NewPos(x-6, y-ts.Height-4))
+	r.backing.Resize(fyne.NewSize(max(w, ts.Width)+12, ts.Height+16))
 }
 
 func formatMM(mm float64) string {
@@ -381,13 +388,14 @@ func (r *imageViewRenderer) Refresh() {
 	r.layoutBar()
 	r.barText.Refresh()
 	r.raster.Refresh()
+	canvas.Refresh(r.backing)
 	canvas.Refresh(r.bar)
 	canvas.Refresh(r.barEdge)
 	canvas.Refresh(r.empty)
 }
 
 func (r *imageViewRenderer) Objects() []fyne.CanvasObject {
-	return []fyne.CanvasObject{r.raster, r.empty, r.barEdge, r.bar, r.barText}
+	return []fyne.CanvasObject{r.raster, r.empty, r.backing, r.barEdge, r.bar, r.barText}
 }
 
 func (r *imageViewRenderer) Destroy() {}

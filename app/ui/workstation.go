@@ -53,6 +53,7 @@ type Workstation struct {
 	problem    string
 	buildSeq   int
 	lastBuild  time.Duration
+	afterBuild string // a note to show with the next finished build
 
 	view     *ImageView
 	strip    *TraceStrip
