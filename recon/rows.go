@@ -255,8 +255,11 @@ func findRows(ctx context.Context, rec rowsInput, p rowsParams) (*rowsResult, er
 		res.levelMax = math.Max(res.levelMax, v)
 		res.y[j] = cal.at(v)
 	}
-	if lo, hi := cal.level[0], cal.level[len(cal.level)-1]; res.levelMin < lo-0.25*(hi-lo) || res.levelMax > hi+0.25*(hi-lo) {
-		res.warnings = append(res.warnings, fmt.Sprintf("the %s channel %s runs from %s to %s, well outside rows.calibration (%s to %s): measure two head positions and their levels and write them in rows.calibration",
+	// A calibration that covers less than half of the levels seen was
+	// most likely written for another sensor or left at its default.
+	lo, hi := cal.level[0], cal.level[len(cal.level)-1]
+	if overlap := math.Min(hi, res.levelMax) - math.Max(lo, res.levelMin); overlap < 0.5*(res.levelMax-res.levelMin) {
+		res.warnings = append(res.warnings, fmt.Sprintf("the %s channel %s runs from %s to %s, mostly outside rows.calibration (%s to %s): measure two head positions and their levels and write them in rows.calibration",
 			p.Source, rec.name, level(res.levelMin, rec.unit), level(res.levelMax, rec.unit), level(lo, rec.unit), level(hi, rec.unit)))
 	}
 	yMin, yMax := minMax(res.y)
