@@ -42,6 +42,10 @@ type signalTraits struct {
 	// deviation: about 2·sin(π f/fs) for a tone of frequency f, √2 for white
 	// noise, near 0 for a slow, band-limited signal.
 	roughness float64
+	// toneLike is how well the channel fits a steady carrier tone (a
+	// position read as the amplitude of a tone): its mean crossings come
+	// at a steady pace and its roughness is that of a sine at that pace.
+	toneLike float64
 }
 
 // measureTraits measures one channel.
@@ -120,6 +124,7 @@ func measureTraits(s []float32) signalTraits {
 			state = false
 		}
 	}
+	t.toneLike = toneFit(s, mean, math.Sqrt(variance), t.roughness)
 	t.twoLevel = float64(near) / n
 	t.middle = float64(mid) / n
 	t.edges = len(rising)
@@ -142,6 +147,43 @@ func measureTraits(s []float32) signalTraits {
 	return t
 }
 
+// toneFit scores a signal as a steady tone: rising crossings of the mean
+// (with a hysteresis of a fifth of the standard deviation) evenly spaced,
+// and a roughness within 25 % of 2·sin(π f/fs), the closed form for a
+// sine at the crossing rate f.
+func toneFit(s []float32, mean, std, roughness float64) float64 {
+	var crossings []int
+	state := false
+	hi, lo := mean+0.2*std, mean-0.2*std
+	for i, v := range s {
+		x := float64(v)
+		if !state && x > hi {
+			state = true
+			crossings = append(crossings, i)
+		} else if state && x < lo {
+			state = false
+		}
+	}
+	if len(crossings) < 20 {
+		return 0
+	}
+	var sum, sumSq float64
+	gaps := len(crossings) - 1
+	for i := 1; i < len(crossings); i++ {
+		g := float64(crossings[i] - crossings[i-1])
+		sum += g
+		sumSq += g * g
+	}
+	gm := sum / float64(gaps)
+	cv := math.Sqrt(math.Max(0, sumSq/float64(gaps)-gm*gm)) / gm
+	if gm < 3 {
+		return 0
+	}
+	sine := 2 * math.Sin(math.Pi/gm) // roughness of a sine with period gm samples
+	ratio := roughness / sine
+	return clamp01(1-cv/0.05) * clamp01(1-math.Abs(ratio-1)/0.25)
+}
+
 // clamp01 limits x to [0, 1].
 func clamp01(x float64) float64 { return math.Max(0, math.Min(1, x)) }
 
@@ -159,12 +201,13 @@ func (t signalTraits) smoothScore() float64 {
 	if t.constant {
 		return 0
 	}
-	return clamp01(1-t.roughness/0.05) * (1 - t.pulseScore())
+	return math.Max(clamp01(1-t.roughness/0.05), t.toneLike) * (1 - t.pulseScore())
 }
 
 // GuessRoles guesses each channel's role from its samples alone: the index
 // is the most regular train of sharp two-level pulses, other pulse trains
-// are step pulses, the position is the smoothest remaining signal, and the
+// are step pulses, the position is the smoothest remaining signal (or a
+// steady carrier tone, whose amplitude carries the position), and the
 // detector is the busiest remaining one. Constant channels stay unknown.
 // The recipe's channel choice always overrides these guesses.
 func GuessRoles(rec *Recording) []RoleGuess {
@@ -223,7 +266,7 @@ func GuessRoles(rec *Recording) []RoleGuess {
 		if t.constant {
 			return 0
 		}
-		return clamp01(t.roughness/0.1) * (1 - t.pulseScore())
+		return clamp01(t.roughness/0.1) * (1 - t.pulseScore()) * (1 - t.toneLike)
 	}); c >= 0 && best > 0 {
 		guesses[c] = RoleGuess{c, RoleDetector, confidence(best, second)}
 		taken[c] = true

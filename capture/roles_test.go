@@ -64,3 +64,22 @@ func TestRoughnessClosedForm(t *testing.T) {
 		t.Fatalf("roughness %v, want %v", got, want)
 	}
 }
+
+// TestGuessRolesTone: a position read as the amplitude of a carrier tone
+// (slowly changing amplitude) is the position, not the detector.
+func TestGuessRolesTone(t *testing.T) {
+	det, idx, _ := scannerLike(48000, 2, 2)
+	tone := make([]float32, len(det))
+	for i := range tone {
+		tt := float64(i) / 48000
+		amp := 0.2 + 0.1*tt // the head moves: the amplitude grows
+		tone[i] = float32(amp * math.Sin(2*math.Pi*1500*tt))
+	}
+	rec := &Recording{SampleRateHz: 48000, Channels: []Channel{{Samples: det}, {Samples: idx}, {Samples: tone}}}
+	got := GuessRoles(rec)
+	for c, want := range []string{RoleDetector, RoleIndex, RolePosition} {
+		if got[c].Role != want {
+			t.Errorf("channel %d guessed %s (%.2f), want %s", c, got[c].Role, got[c].Confidence, want)
+		}
+	}
+}
