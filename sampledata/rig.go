@@ -313,7 +313,7 @@ func jsonError(data []byte, err error) error {
 		return fmt.Errorf("%d:%d: %v", line, col, syn)
 	case errors.As(err, &typ):
 		line, col := lineCol(data, typ.Offset)
-		return fmt.Errorf("%d:%d: %s is %s; allowed: a %s", line, col, typ.Field, typ.Value, typ.Type)
+		return fmt.Errorf("%d:%d: %s is %s; allowed: %s", line, col, typ.Field, typ.Value, typeWord(typ.Type))
 	case strings.HasPrefix(err.Error(), "json: unknown field "):
 		name := strings.TrimPrefix(err.Error(), "json: unknown field ")
 		return fmt.Errorf("unknown key %s (run \"spotloom simulate --print-rig\" for every key)", name)
@@ -321,6 +321,25 @@ func jsonError(data []byte, err error) error {
 		return fmt.Errorf("the rig file ends before the rig object does")
 	}
 	return err
+}
+
+// typeWord names a JSON value type in plain words.
+func typeWord(t reflect.Type) string {
+	switch t.Kind() {
+	case reflect.Float32, reflect.Float64:
+		return "a number"
+	case reflect.Int, reflect.Int64, reflect.Int32:
+		return "a whole number"
+	case reflect.String:
+		return "text in quotes"
+	case reflect.Slice:
+		return "a list [...]"
+	case reflect.Struct, reflect.Map:
+		return "an object {...}"
+	case reflect.Pointer:
+		return typeWord(t.Elem()) + " or null"
+	}
+	return t.String()
 }
 
 func lineCol(data []byte, offset int64) (line, col int) {

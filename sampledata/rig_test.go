@@ -114,7 +114,7 @@ func TestRigErrorsNameTheKeyAndRange(t *testing.T) {
 		{"position_sensor.kind", `"none"`, []string{"position_sensor.kind", "hand-driven head needs a position sensor"}},
 		{"wheel.aperture_errors_deg", "[0, 0.1]", []string{"wheel.aperture_errors_deg", "one value per aperture (6)"}},
 		{"wheel.spin_direction", `"cw"`, []string{`unknown key "spin_direction"`}},
-		{"wheel.rev_per_min", `"fast"`, []string{"wheel.rev_per_min", "float64"}},
+		{"wheel.rev_per_min", `"fast"`, []string{"wheel.rev_per_min is string", "allowed: a number"}},
 	}
 	for _, c := range cases {
 		_, err := ParseRig(rigWith(t, c.path, c.value))
