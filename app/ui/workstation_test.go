@@ -340,3 +340,33 @@ func TestAboutShowsSafetyCaution(t *testing.T) {
 		}
 	}
 }
+
+func TestFailedExportShowsDialogAndKeepsState(t *testing.T) {
+	ws, w := newTestWorkstation(t)
+	shown, before := ws.result, ws.cur.clone()
+	dir := filepath.Join(t.TempDir(), "missing-folder")
+	path := filepath.Join(dir, "frame.tiff")
+	ws.runExport(exportPlan(path, ws.result.Frames, exportOptions(ws)))
+	ws.Wait()
+	if !strings.Contains(ws.Problem(), "Cannot export") || w.Canvas().Overlays().Top() == nil {
+		t.Errorf("no dialog for an export into a missing folder (problem %q)", ws.Problem())
+	}
+	// The standard library sees no file and no folder left behind.
+	if _, err := os.Stat(dir); !os.IsNotExist(err) {
+		t.Errorf("the failed export left %s behind (%v)", dir, err)
+	}
+	if ws.result != shown || !sameSettings(ws.cur, before) {
+		t.Error("a failed export changed the image or the settings")
+	}
+}
+
+func TestExportPlanNumbersPNGFrames(t *testing.T) {
+	frames := []*recon.Frame{{}, {}, {}}
+	plan := exportPlan("/x/scan.png", frames, export.Options{})
+	if len(plan) != 3 || plan[0].path != "/x/scan-1.png" || plan[2].path != "/x/scan-3.png" {
+		t.Errorf("PNG plan %v", plan)
+	}
+	if plan := exportPlan("/x/scan.tiff", frames, export.Options{}); len(plan) != 1 || len(plan[0].frames) != 3 {
+		t.Errorf("a TIFF export of 3 frames should be one file of 3 pages, got %v", plan)
+	}
+}
