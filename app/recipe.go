@@ -6,6 +6,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"strings"
 
 	"spotloom/capture"
 	"spotloom/recon"
@@ -51,6 +52,10 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 	if *from != "" {
 		if r, err = recipe.Load(*from); err != nil {
 			return err
+		}
+		if err := r.Validate(); err != nil {
+			// One line on stderr, however many keys are wrong.
+			return fmt.Errorf("%s: %s", *from, strings.ReplaceAll(err.Error(), "\n", "; "))
 		}
 	}
 	if *apertures < 0 {

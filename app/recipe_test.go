@@ -1,0 +1,81 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"spotloom/recon/recipe"
+	"spotloom/sampledata"
+)
+
+// TestRecipeEveryFormat simulates a short capture in each file format,
+// runs "spotloom recipe" on it starting from the rig's recipe, and checks
+// the printed recipe: it parses strictly, validates, has every automatic
+// value filled in, and its delay is within 0.3° of the simulator's truth
+// (the truth's delay plus the mean aperture offset, since the offsets are
+// left empty).
+func TestRecipeEveryFormat(t *testing.T) {
+	dir := t.TempDir()
+	for _, ext := range []string{"wav", "csv", "raw"} {
+		capPath := filepath.Join(dir, "cap."+ext)
+		truthPath := filepath.Join(dir, "truth_"+ext+".json")
+		rigRecipe := filepath.Join(dir, "rig_"+ext+".recipe.json")
+		if code, _, errText := runSimulateCmd("--scene", "parcel", "--out", capPath, "--seconds", "6", "--truth", truthPath, "--recipe", rigRecipe); code != 0 {
+			t.Fatalf("%s: simulate exit %d: %s", ext, code, errText)
+		}
+		var out, errOut bytes.Buffer
+		if code := run([]string{"recipe", capPath, "--from", rigRecipe}, &out, &errOut); code != 0 {
+			t.Fatalf("%s: recipe exit %d: %s", ext, code, errOut.String())
+		}
+		r, err := recipe.Parse(out.Bytes())
+		if err != nil {
+			t.Fatalf("%s: printed recipe does not parse: %v\n%s", ext, err, out.String())
+		}
+		if err := r.Validate(); err != nil {
+			t.Errorf("%s: printed recipe does not validate: %v", ext, err)
+		}
+		if r.Timing.Threshold == nil || r.Timing.Hysteresis == nil || r.Sweep.DelayDeg == nil || r.Image.PitchMM <= 0 {
+			t.Fatalf("%s: automatic values left open:\n%s", ext, out.String())
+		}
+		var truth sampledata.Truth
+		data, err := os.ReadFile(truthPath)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := json.Unmarshal(data, &truth); err != nil {
+			t.Fatal(err)
+		}
+		mean := 0.0
+		for _, o := range truth.ApertureOffsetsDeg {
+			mean += o / float64(len(truth.ApertureOffsetsDeg))
+		}
+		if d := *r.Sweep.DelayDeg - (truth.DelayDeg + mean); math.Abs(d) > 0.3 {
+			t.Errorf("%s: delay %.3f°, truth %.3f° (+ mean offset %.3f°)", ext, *r.Sweep.DelayDeg, truth.DelayDeg, mean)
+		}
+	}
+}
+
+func TestRecipeErrors(t *testing.T) {
+	var out, errOut bytes.Buffer
+	if code := run([]string{"recipe"}, &out, &errOut); code != 2 {
+		t.Errorf("no file: exit %d, want 2", code)
+	}
+	errOut.Reset()
+	missing := filepath.Join(t.TempDir(), "nothing.wav")
+	if code := run([]string{"recipe", missing}, &out, &errOut); code != 1 || !strings.Contains(errOut.String(), "nothing.wav") {
+		t.Errorf("missing file: exit %d, %q", code, errOut.String())
+	}
+	errOut.Reset()
+	bad := filepath.Join(t.TempDir(), "bad.json")
+	if err := os.WriteFile(bad, []byte(`{"format": "spotloom-recipe/1", "sweep": {"law": "spiral"}}`), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if code := run([]string{"recipe", missing, "--from", bad}, &out, &errOut); code != 1 || !strings.Contains(errOut.String(), `"sweep.law" is "spiral": allowed values are uniform, sine, table`) {
+		t.Errorf("bad recipe: exit %d, %q", code, errOut.String())
+	}
+}
