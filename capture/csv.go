@@ -753,6 +753,9 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 					Expected: "a decimal number such as -1.25e-3" + map[bool]string{true: " or -1,25e-3", false: ""}[shape.decimalComma]}
 			}
 			if i == timeCol {
+				if opts.SampleRateHz > 0 {
+					continue // a given rate overrides the time column
+				}
 				t := v * timeScale
 				lastTime = append(lastTime[:0], f...)
 				if rows > 0 {

@@ -226,3 +226,12 @@ func TestCSVPrintedTimeRounding(t *testing.T) {
 		t.Errorf("printQuantum = %v, want 1e-7", q)
 	}
 }
+
+// TestCSVGivenRateOverridesTime: with a rate given, a broken time column
+// is not checked (it is still not read as a signal).
+func TestCSVGivenRateOverridesTime(t *testing.T) {
+	rec, err := readCSVString(t, "time,a\n0,1\n1,2\n0.5,3\n", Options{SampleRateHz: 10})
+	if err != nil || rec.SampleRateHz != 10 || len(rec.Channels) != 1 || rec.Frames() != 3 {
+		t.Fatalf("%v %+v", err, rec)
+	}
+}
