@@ -254,21 +254,29 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 	return shape, nil
 }
 
-// looksLikeUnits reports a row of short unit-like cells: "(s)", "[V]", "mV".
+// knownUnits are unit cells a units row may hold without brackets.
+var knownUnits = map[string]bool{
+	"s": true, "sec": true, "second": true, "seconds": true, "ms": true, "us": true, "µs": true, "μs": true, "ns": true, "min": true,
+	"v": true, "mv": true, "uv": true, "µv": true, "μv": true, "kv": true, "volt": true, "volts": true,
+	"a": true, "ma": true, "ua": true, "µa": true, "hz": true, "khz": true, "mm": true, "cm": true, "m": true,
+	"deg": true, "°": true, "%": true, "counts": true, "fs": true, "w": true, "mw": true, "-": true,
+}
+
+// looksLikeUnits reports a row of unit cells: "(s)", "[V]", "mV", "Volt".
 func looksLikeUnits(row []string) bool {
+	seen := false
 	for _, c := range row {
 		c = strings.TrimSpace(c)
 		if c == "" {
 			continue
 		}
-		if len(c) > 8 || strings.ContainsAny(c, " _:") {
-			return false
-		}
-		if _, ok := parseNumber([]byte(c), false); ok {
+		seen = true
+		bracketed := len(c) >= 2 && (c[0] == '(' && c[len(c)-1] == ')' || c[0] == '[' && c[len(c)-1] == ']')
+		if !bracketed && !knownUnits[strings.ToLower(c)] {
 			return false
 		}
 	}
-	return true
+	return seen
 }
 
 // splitNameUnit splits "CH1 (V)", "CH1 [V]" or "CH1/V" into name and unit.

@@ -235,3 +235,16 @@ func TestCSVGivenRateOverridesTime(t *testing.T) {
 		t.Fatalf("%v %+v", err, rec)
 	}
 }
+
+// TestCSVPreambleWithHeaderShape: a preamble row with as many fields as
+// the header is not taken for a names row above a units row.
+func TestCSVPreambleWithHeaderShape(t *testing.T) {
+	rec, err := readCSVString(t, "Model,Scope,4ch\nTime,CH1,CH2\n0,1,2\n1,3,4\n", Options{})
+	if err != nil || rec.Channels[0].Name != "CH1" || rec.Channels[0].Unit != "" {
+		t.Fatalf("%v %+v", err, rec.Channels)
+	}
+	rec, err = readCSVString(t, "Time,CH1,CH2\nSecond,Volt,mV\n0,1,2000\n1,3,4000\n", Options{})
+	if err != nil || rec.Channels[1].Name != "CH2" || rec.Channels[1].Unit != UnitVolt || rec.Channels[1].Samples[0] != 2 {
+		t.Fatalf("%v %+v", err, rec.Channels)
+	}
+}
