@@ -155,6 +155,13 @@ type ADC struct {
 	FullScaleV float64 `json:"full_scale_v"` // inputs clip at ±full_scale_v
 }
 
+// MaxSamples is the longest capture the simulator makes, in samples per
+// channel (it holds about 20 bytes per sample while it works).
+const MaxSamples = 100_000_000
+
+// minLineSamples is the fewest samples a line may span.
+const minLineSamples = 16
+
 // ApertureSpacingDeg is the nominal wheel angle between neighbouring apertures.
 func (r Rig) ApertureSpacingDeg() float64 {
 	if r.Wheel.ApertureCount <= 0 {
@@ -488,6 +495,10 @@ func (r Rig) check(c *checker) {
 	c.choice("format", r.Format, RigFormat)
 	c.num("sample_rate_hz", r.SampleRateHz, excl(0), incl(1e9), "Hz")
 	c.num("duration_s", r.DurationS, excl(0), incl(3600), "s")
+	if samples := r.DurationS * r.SampleRateHz; samples > MaxSamples && c.err == nil {
+		c.fail("duration_s", fmt.Sprintf("%g (%.3g samples at %g Hz)", r.DurationS, samples, r.SampleRateHz),
+			fmt.Sprintf("at most %g s at this rate (%g samples per channel)", MaxSamples/r.SampleRateHz, float64(MaxSamples)))
+	}
 	c.num("distance_mm", r.DistanceMM, excl(0), incl(1e5), "mm")
 	c.num("spot_fwhm_mm", r.SpotFWHMMM, excl(0), incl(1000), "mm")
 
@@ -513,6 +524,12 @@ func (r Rig) check(c *checker) {
 		if r.SampleRateHz < need {
 			c.fail("sample_rate_hz", fmt.Sprintf("%g (%.2f samples per spot width at the field edge)", r.SampleRateHz, r.SampleRateHz*r.SpotFWHMMM/vMax),
 				fmt.Sprintf("at least %.0f Hz for 2 samples per %g mm spot", math.Ceil(need), r.SpotFWHMMM))
+		}
+		// A line must span enough samples to be a line at all.
+		sweepS := r.FieldDeg / (w.RevPerMin * 6 * (1 + (w.WobblePct+4*w.RevJitterPct)/100))
+		if needLine := minLineSamples / sweepS; r.SampleRateHz < needLine {
+			c.fail("sample_rate_hz", fmt.Sprintf("%g (%.1f samples across the field)", r.SampleRateHz, r.SampleRateHz*sweepS),
+				fmt.Sprintf("at least %.0f Hz for %d samples across the %g° field", math.Ceil(needLine), minLineSamples, r.FieldDeg))
 		}
 	}
 	gap := spacing - r.FieldDeg
