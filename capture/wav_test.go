@@ -140,3 +140,20 @@ func TestWAVMissingPad(t *testing.T) {
 		t.Fatalf("with pad: %v", err)
 	}
 }
+
+// TestWAVChunksBeforeFmt: JUNK and bext chunks before fmt (as broadcast
+// and recorder files have), and fact/LIST between fmt and data.
+func TestWAVChunksBeforeFmt(t *testing.T) {
+	data := pcm16Data(8, 2)
+	file := riffWAVE(chunk("JUNK", make([]byte, 28)), chunk("bext", make([]byte, 602)), fmtChunk(1, 2, 48000, 16, nil),
+		chunk("fact", le(nil).u32(4)), chunk("LIST", le(nil).id("INFO").raw(chunk("ISFT", []byte("bench\x00")))), chunk("data", data),
+		chunk("PEAK", make([]byte, 24)))
+	rec, err := readWAVBytes(file)
+	if err != nil || rec.Frames() != 8 || len(rec.Channels) != 2 || rec.SampleRateHz != 48000 {
+		t.Fatalf("%v %+v", err, rec)
+	}
+	// frame 1 channel 0 is the third stored sample
+	if want := float32(intSample(2, 0, 16)) / 32768; rec.Channels[0].Samples[1] != want {
+		t.Fatalf("ch0[1] = %v, want %v", rec.Channels[0].Samples[1], want)
+	}
+}
