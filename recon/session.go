@@ -62,17 +62,17 @@ type Session struct {
 	timingResolvedKey string
 	timing            *timingResult
 	rowsKey           string
-	rows              *rowsResult
-	delayKey          string
-	delay             float64
-	delayWarn         []string
-	sineKey           string
-	sineDelay         float64
-	placeKey          string
-	place             *placement
-	gridKey           string
-	grid              *Result
-	chanStats         map[int]*channelStats
+	// rowsResolvedKey is the key with the carrier found written in.
+	rowsResolvedKey string
+	rows            *rowsResult
+	delayKey        string
+	delay           float64
+	delayWarn       []string
+	placeKey        string
+	place           *placement
+	gridKey         string
+	grid            *Result
+	chanStats       map[int]*channelStats
 	// runs counts how often each stage was computed (not reused), for
 	// tests of the caching.
 	runs map[string]int
@@ -264,7 +264,7 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 		p.Channel = ch.steps
 	}
 	k := key(p)
-	if s.rows != nil && s.rowsKey == k {
+	if s.rows != nil && (s.rowsKey == k || s.rowsResolvedKey == k) {
 		return s.rows, nil
 	}
 	in := rowsInput{n: s.rec.Frames(), rateHz: s.rec.SampleRateHz}
@@ -277,6 +277,10 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 		return nil, err
 	}
 	s.rows, s.rowsKey = rows, k
+	if p.Source == "tone" {
+		p.CarrierHz = &rows.carrier
+	}
+	s.rowsResolvedKey = key(p)
 	s.runs["rows"]++
 	return rows, nil
 }

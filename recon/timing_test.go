@@ -168,3 +168,31 @@ func TestCancel(t *testing.T) {
 		t.Error("a cancelled build returned no error")
 	}
 }
+
+// An index sensor that sticks high for half a second: the silence is not
+// filled with invented lines, and the report says when it happened.
+func TestIndexStuckForAWhile(t *testing.T) {
+	rig := baseRig()
+	rig.seconds = 3
+	rec := rig.recording()
+	idx := rec.Channels[1].Samples
+	for i := int(1.0 * rig.rateHz); i < int(1.5*rig.rateHz); i++ {
+		idx[i] = 5
+	}
+	res, err := NewSession(rec).Build(context.Background(), rig.recipe(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := strings.Join(res.Report.Warnings, " ")
+	if !strings.Contains(w, "no index pulses between 0.9") || !strings.Contains(w, "s and 1.5") {
+		t.Errorf("warnings %q", res.Report.Warnings)
+	}
+	for _, l := range res.Lines {
+		if l.EdgeS > 1.0 && l.EdgeS < 1.49 {
+			t.Errorf("line %d invented inside the silence at %.3f s", l.Number, l.EdgeS)
+		}
+	}
+	if res.Report.PulsesMissing != 0 {
+		t.Errorf("%d pulses filled in across a long silence", res.Report.PulsesMissing)
+	}
+}
