@@ -497,7 +497,7 @@ func (r Rig) check(c *checker) {
 	c.num("duration_s", r.DurationS, excl(0), incl(3600), "s")
 	if samples := r.DurationS * r.SampleRateHz; samples > MaxSamples && c.err == nil {
 		c.fail("duration_s", fmt.Sprintf("%g (%.3g samples at %g Hz)", r.DurationS, samples, r.SampleRateHz),
-			fmt.Sprintf("at most %g s at this rate (%g samples per channel)", MaxSamples/r.SampleRateHz, float64(MaxSamples)))
+			fmt.Sprintf("at most %.6g s at this rate (%g samples per channel)", MaxSamples/r.SampleRateHz, float64(MaxSamples)))
 	}
 	c.num("distance_mm", r.DistanceMM, excl(0), incl(1e5), "mm")
 	c.num("spot_fwhm_mm", r.SpotFWHMMM, excl(0), incl(1000), "mm")

@@ -109,6 +109,9 @@ func TestRigErrorsNameTheKeyAndRange(t *testing.T) {
 		// 5 mm spot, beam at the 15° field edge 500·ω/cos²15° ≈ 23.9 m/s at
 		// the fastest wheel speed: 2 samples per spot need ≈ 9.6 kHz.
 		{"sample_rate_hz", "5000", []string{"sample_rate_hz is 5000", "samples per spot width", "at least 9"}},
+		// 0.1° at 420 rev/min is swept in 40 µs: 3.8 samples at 96 kHz.
+		{"field_deg", "0.1", []string{"sample_rate_hz is 96000 (3.8 samples across the field)", "for 16 samples across the 0.1° field"}},
+		{"duration_s", "2000", []string{"duration_s is 2000 (1.92e+08 samples at 96000 Hz)", "at most 1041.67 s at this rate"}},
 		{"index.pulses_per_rev", "4", []string{"index.pulses_per_rev is 4", "1 (once per revolution) or 6"}},
 		{"motion.kind", `"rocket"`, []string{`motion.kind is "rocket"`, "hand, motor, stepper"}},
 		{"position_sensor.kind", `"none"`, []string{"position_sensor.kind", "hand-driven head needs a position sensor"}},
