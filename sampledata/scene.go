@@ -291,20 +291,33 @@ func (r *Raster) blur(sigmaXMM, sigmaYMM float64) {
 
 // bilinear samples the raster at (x,y) mm, clamping to the border.
 func (r *Raster) bilinear(x, y float64) float64 {
+	i00, i01, i10, i11, ax, ay := r.corners(x, y)
+	p := r.Pix
+	top := float64(p[i00]) + ax*float64(p[i01]-p[i00])
+	bottom := float64(p[i10]) + ax*float64(p[i11]-p[i10])
+	return top + ay*(bottom-top)
+}
+
+// corners returns the indices of the four pixels around (x,y) mm (top
+// left, top right, bottom left, bottom right) and the fractions along x and
+// down the rows, clamped to the raster.
+func (r *Raster) corners(x, y float64) (i00, i01, i10, i11 int, ax, ay float64) {
 	fc := (x - r.OriginXMM) / r.PitchMM
 	fr := (r.OriginYMM - y) / r.PitchMM
-	fc = math.Min(math.Max(fc, 0), float64(r.Width-1))
-	fr = math.Min(math.Max(fr, 0), float64(r.Height-1))
+	maxC, maxR := float64(r.Width-1), float64(r.Height-1)
+	if fc < 0 {
+		fc = 0
+	} else if fc > maxC {
+		fc = maxC
+	}
+	if fr < 0 {
+		fr = 0
+	} else if fr > maxR {
+		fr = maxR
+	}
 	c0, r0 := int(fc), int(fr)
 	c1, r1 := min(c0+1, r.Width-1), min(r0+1, r.Height-1)
-	ax, ay := fc-float64(c0), fr-float64(r0)
-	p00 := float64(r.Pix[r0*r.Width+c0])
-	p01 := float64(r.Pix[r0*r.Width+c1])
-	p10 := float64(r.Pix[r1*r.Width+c0])
-	p11 := float64(r.Pix[r1*r.Width+c1])
-	top := p00 + ax*(p01-p00)
-	bottom := p10 + ax*(p11-p10)
-	return top + ay*(bottom-top)
+	return r0*r.Width + c0, r0*r.Width + c1, r1*r.Width + c0, r1*r.Width + c1, fc - float64(c0), fr - float64(r0)
 }
 
 // Signed distances of the primitive shapes (negative inside).

