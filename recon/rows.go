@@ -413,6 +413,18 @@ func toneAmplitude(rec rowsInput, carrierHz *float64) ([]float64, int, float64, 
 			out[j] = 2 * cmplx.Abs(acc-complex(xs/ws, 0)*hz) / ws
 		}
 	}
+	// A window cut off by either end of the capture no longer spans whole
+	// carrier periods: those blocks take the nearest whole window's value.
+	firstWhole := (blockLen + blockLen/2) / blockLen
+	lastWhole := (len(x)-blockLen-blockLen/2)/blockLen - 1
+	if lastWhole >= firstWhole {
+		for j := 0; j < firstWhole && j < nb; j++ {
+			out[j] = out[firstWhole]
+		}
+		for j := lastWhole + 1; j < nb; j++ {
+			out[j] = out[lastWhole]
+		}
+	}
 	return out, blockLen, fc, nil
 }
 
