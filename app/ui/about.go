@@ -38,5 +38,5 @@ func (ws *Workstation) ShowAbout() {
 	body := container.NewVBox(head, text,
 		widget.NewLabelWithStyle("Radiation safety", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 		caution)
-	dialog.ShowCustom("About Spotloom", "Close", container.New(&minWidth{w: 480}, body), ws.win)
+	ws.showDialog(dialog.NewCustom("About Spotloom", "Close", container.New(&minWidth{w: 480}, body), ws.win))
 }

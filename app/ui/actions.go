@@ -506,6 +506,7 @@ func (ws *Workstation) updateUndo() {
 	if ws.menuUndo != nil {
 		ws.menuUndo.Disabled = !ws.hist.canUndo()
 		ws.menuRedo.Disabled = !ws.hist.canRedo()
+		ws.menuRedo2.Disabled = !ws.hist.canRedo()
 		ws.mainMenu.Refresh()
 	}
 }

@@ -50,7 +50,7 @@ func newNumberControl(name string, lo, hi, step float64, format string, onChange
 		}
 		return nil
 	}
-	entryBox := container.NewGridWrap(fyne.NewSize(86, c.entry.MinSize().Height), c.entry)
+	entryBox := container.NewGridWrap(fyne.NewSize(100, c.entry.MinSize().Height), c.entry)
 	c.box = container.NewBorder(c.label, nil, nil, entryBox, c.slider)
 	return c
 }

@@ -75,9 +75,12 @@ type Workstation struct {
 	redoButton  *widget.Button
 	menuUndo    *fyne.MenuItem
 	menuRedo    *fyne.MenuItem
+	menuRedo2   *fyne.MenuItem
 	recentMenu  *fyne.MenuItem
 	mainMenu    *fyne.MainMenu
 	leftBox     *fyne.Container
+	leftScroll  *container.Scroll
+	dialogs     []dialog.Dialog // messages shown, newest last
 }
 
 // relayout lays the side panels out again after their texts changed
@@ -85,6 +88,7 @@ type Workstation struct {
 func (ws *Workstation) relayout() {
 	if ws.leftBox != nil {
 		ws.leftBox.Refresh()
+		ws.leftScroll.Refresh()
 	}
 }
 
@@ -175,7 +179,8 @@ func (ws *Workstation) build() {
 	middle.Offset = 0.68
 
 	ws.leftBox = container.NewVBox(ws.source.object(), ws.controls.object())
-	left := container.New(fixedWidth{340}, container.NewVScroll(ws.leftBox))
+	ws.leftScroll = container.NewVScroll(ws.leftBox)
+	left := container.New(fixedWidth{340}, ws.leftScroll)
 	right := container.New(fixedWidth{260}, container.NewVScroll(ws.facts.object()))
 
 	ws.progress = widget.NewProgressBar()
@@ -223,6 +228,9 @@ func (ws *Workstation) buildMenu() {
 	ws.refreshRecentMenu()
 	ws.menuUndo = item("Undo", &fyne.ShortcutUndo{}, ws.Undo)
 	ws.menuRedo = item("Redo", &fyne.ShortcutRedo{}, ws.Redo)
+	// Both common redo keys; the second entry is labelled apart so the
+	// menu does not show the same name twice.
+	ws.menuRedo2 = item("Redo (other key)", short(fyne.KeyZ, ctrl|fyne.KeyModifierShift), ws.Redo)
 	file := fyne.NewMenu("File",
 		item("Open capture…", short(fyne.KeyO, ctrl), ws.ChooseCapture),
 		ws.recentMenu,
@@ -235,7 +243,7 @@ func (ws *Workstation) buildMenu() {
 	)
 	edit := fyne.NewMenu("Edit",
 		ws.menuUndo, ws.menuRedo,
-		item("Redo ", short(fyne.KeyZ, ctrl|fyne.KeyModifierShift), ws.Redo),
+		ws.menuRedo2,
 		fyne.NewMenuItemSeparator(),
 		item("Estimate aperture offsets", short(fyne.KeyK, ctrl), ws.EstimateOffsets),
 		item("Automatic tone", short(fyne.KeyT, ctrl), ws.AutoTone),
@@ -273,7 +281,7 @@ func (ws *Workstation) bindKeys() {
 		case fyne.KeyPageDown:
 			ws.showFrame(ws.frameIndex + 1)
 		case fyne.KeyEscape:
-			ws.Cancel()
+			ws.escape()
 		case fyne.KeyF1:
 			ws.ShowKeys()
 		}
@@ -308,7 +316,7 @@ func (ws *Workstation) ShowKeys() {
 		rows.Add(widget.NewLabelWithStyle(k, fyne.TextAlignTrailing, fyne.TextStyle{Monospace: true}))
 		rows.Add(widget.NewLabel(v))
 	}
-	dialog.ShowCustom("Keys", "Close", rows, ws.win)
+	ws.showDialog(dialog.NewCustom("Keys", "Close", rows, ws.win))
 }
 
 // showProblem tells the user what went wrong and what to try; nothing
@@ -324,8 +332,31 @@ func (ws *Workstation) showProblem(title, what, try string) {
 	icon := widget.NewIcon(theme.WarningIcon())
 	body := container.NewBorder(nil, nil, container.NewVBox(icon), nil, label)
 	sized := container.New(&minWidth{w: 460}, body)
-	dialog.ShowCustom(title, "OK", sized, ws.win)
+	ws.showDialog(dialog.NewCustom(title, "OK", sized, ws.win))
 	ws.stage.SetText(title)
+}
+
+// showDialog shows d and remembers it, so Escape can close it.
+func (ws *Workstation) showDialog(d dialog.Dialog) {
+	ws.dialogs = append(ws.dialogs, d)
+	d.SetOnClosed(func() {
+		for i, o := range ws.dialogs {
+			if o == d {
+				ws.dialogs = append(ws.dialogs[:i], ws.dialogs[i+1:]...)
+				break
+			}
+		}
+	})
+	d.Show()
+}
+
+// escape closes the newest message, or else stops the build.
+func (ws *Workstation) escape() {
+	if n := len(ws.dialogs); n > 0 {
+		ws.dialogs[n-1].Hide()
+		return
+	}
+	ws.Cancel()
 }
 
 // minWidth makes its content at least w wide (so long messages wrap at a
