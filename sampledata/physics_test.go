@@ -203,7 +203,10 @@ func TestSpotFWHM(t *testing.T) {
 	// to pitch²/4 of variance for a line midway between pixel centres
 	// (pitch = σ/3: at most 1.4 % of σ, plus the bilinear read-back), so
 	// each width is held to 2.5 % and their mean to 1.5 %.
-	probe := newSpotSampler(r, SceneModel{Name: "empty"}, 0, 0, -50, 50)
+	probe, err := newSpotSampler(r, SceneModel{Name: "empty"}, 0, 0, -50, 50)
+	if err != nil {
+		t.Fatal(err)
+	}
 	pitch := probe.centre.PitchMM
 	for _, theta := range []float64{0, thetaEdge} {
 		want := r.SpotFWHMMM / math.Cos(theta)
@@ -214,7 +217,10 @@ func TestSpotFWHM(t *testing.T) {
 			across := SceneModel{Name: "line along x", Shapes: []Shape{
 				shape("line", "foil", 1, 0, boxDistance(0, y0, 2000, 0.1, 0, 0), -1000, y0-0.05, 1000, y0+0.05),
 			}}
-			s := newSpotSampler(r, across, 0, 0, -50, 50)
+			s, err := newSpotSampler(r, across, 0, 0, -50, 50)
+			if err != nil {
+				t.Fatal(err)
+			}
 			profile := make([]float32, 2001)
 			for i := range profile {
 				profile[i] = float32(s.at(r.DistanceMM*math.Tan(theta), y0-10+float64(i)*0.01, math.Cos(theta)))

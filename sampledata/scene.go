@@ -111,15 +111,27 @@ type Raster struct {
 	Pix           []float32
 }
 
-// newRaster makes a raster covering [x0,x1]×[y0,y1] at the pitch.
-func newRaster(x0, x1, y0, y1, pitchMM float64) *Raster {
-	w := int(math.Ceil((x1-x0)/pitchMM)) + 1
-	h := int(math.Ceil((y1-y0)/pitchMM)) + 1
+// NewRaster makes a zeroed raster at the pitch whose pixel centres start at
+// (x0, y0) and reach at least (x1, y1) mm. It refuses a pitch that is not
+// above zero, an empty area and rasters of more than 30 million pixels.
+func NewRaster(x0, x1, y0, y1, pitchMM float64) (*Raster, error) {
+	if !(pitchMM > 0) || math.IsInf(pitchMM, 0) {
+		return nil, fmt.Errorf("raster pitch %g mm: expected above 0 mm", pitchMM)
+	}
+	if !(x1 >= x0) || !(y1 >= y0) {
+		return nil, fmt.Errorf("raster area x %g to %g, y %g to %g mm is empty", x0, x1, y0, y1)
+	}
+	wf := math.Ceil((x1-x0)/pitchMM) + 1
+	hf := math.Ceil((y1-y0)/pitchMM) + 1
+	if wf*hf > maxRasterPixel {
+		return nil, fmt.Errorf("raster of %.0f × %.0f pixels at %g mm is larger than %d pixels; use a coarser pitch", wf, hf, pitchMM, maxRasterPixel)
+	}
+	w, h := int(wf), int(hf)
 	return &Raster{
 		Width: w, Height: h, PitchMM: pitchMM,
 		OriginXMM: x0, OriginYMM: y0 + float64(h-1)*pitchMM,
 		Pix: make([]float32, w*h),
-	}
+	}, nil
 }
 
 // Render paints the scene into r, whose coordinates are scene coordinates
@@ -289,7 +301,10 @@ func (r *Raster) blur(sigmaXMM, sigmaYMM float64) {
 	})
 }
 
-// bilinear samples the raster at (x,y) mm, clamping to the border.
+// Sample reads the raster at (x,y) mm by bilinear interpolation between
+// the four nearest pixel centres, clamping to the border.
+func (r *Raster) Sample(x, y float64) float64 { return r.bilinear(x, y) }
+
 func (r *Raster) bilinear(x, y float64) float64 {
 	i00, i01, i10, i11, ax, ay := r.corners(x, y)
 	p := r.Pix

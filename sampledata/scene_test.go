@@ -18,7 +18,10 @@ func TestScenesRenderAtAnyPitch(t *testing.T) {
 		var means []float64
 		for _, pitch := range []float64{0.25, 1, 2} {
 			// Pixel edges at ±160 × ±240 mm for every pitch.
-			r := newRaster(-160+pitch/2, 160-pitch/2, -240+pitch/2, 240-pitch/2, pitch)
+			r, err := NewRaster(-160+pitch/2, 160-pitch/2, -240+pitch/2, 240-pitch/2, pitch)
+			if err != nil {
+				t.Fatal(err)
+			}
 			s.Render(r, 0, 0, 500)
 			sum := 0.0
 			lo, hi := 1.0, 0.0

@@ -129,7 +129,10 @@ func SimulateScene(ctx context.Context, rig Rig, scene SceneModel, opts SimOptio
 	// Place the scene's centre on the field axis at the middle of the travel.
 	yLo, yHi := motion.yRange(rig.Motion)
 	centreX, centreY := 0.0, (yLo+yHi)/2
-	sampler := newSpotSampler(rig, scene, centreX, centreY, yLo, yHi)
+	sampler, err := newSpotSampler(rig, scene, centreX, centreY, yLo, yHi)
+	if err != nil {
+		return nil, nil, err
+	}
 	progress(0.15)
 	if err := ctx.Err(); err != nil {
 		return nil, nil, err
@@ -171,9 +174,9 @@ func SimulateScene(ctx context.Context, rig Rig, scene SceneModel, opts SimOptio
 	truth := newTruth(rig, scene, opts, wheel, motion, fields, marks, n, centreX, centreY)
 	if opts.TruthPitchMM > 0 {
 		hw := rig.HalfWidthMM()
-		img := newRaster(-hw, hw, yLo, yHi, opts.TruthPitchMM)
-		if img.Width*img.Height > maxRasterPixel {
-			return nil, nil, fmt.Errorf("truth image at %g mm pitch would have %d × %d pixels; use a coarser pitch", opts.TruthPitchMM, img.Width, img.Height)
+		img, err := NewRaster(-hw, hw, yLo, yHi, opts.TruthPitchMM)
+		if err != nil {
+			return nil, nil, fmt.Errorf("truth image: %w", err)
 		}
 		scene.Render(img, centreX, centreY, rig.DistanceMM)
 		truth.setImage(img)
@@ -214,7 +217,7 @@ func (s *spotSampler) at(x, y, cos float64) float64 {
 
 // newSpotSampler renders and blurs the scene over the area the beam can
 // reach (the field at the target plane × the head's travel, plus 4σ).
-func newSpotSampler(rig Rig, scene SceneModel, offX, offY, yLo, yHi float64) *spotSampler {
+func newSpotSampler(rig Rig, scene SceneModel, offX, offY, yLo, yHi float64) (*spotSampler, error) {
 	sigma := rig.SpotSigmaMM()
 	dwell := rig.DistanceMM * rig.Wheel.RevPerMin * 2 * math.Pi / 60 / rig.SampleRateHz
 	sigmaX := math.Sqrt(sigma*sigma + dwell*dwell/12)
@@ -227,7 +230,10 @@ func newSpotSampler(rig Rig, scene SceneModel, offX, offY, yLo, yHi float64) *sp
 	if area := (x1 - x0) * (y1 - y0); area/(pitch*pitch) > maxRasterPixel/2 {
 		pitch = math.Sqrt(2 * area / maxRasterPixel)
 	}
-	centre := newRaster(x0, x1, y0, y1, pitch)
+	centre, err := NewRaster(x0, x1, y0, y1, pitch)
+	if err != nil {
+		return nil, fmt.Errorf("spot raster: %w", err)
+	}
 	scene.Render(centre, offX, offY, rig.DistanceMM)
 	s := &spotSampler{centre: centre}
 	// The pixel box of the area averaging adds pitch²/12 of variance.
@@ -241,7 +247,7 @@ func newSpotSampler(rig Rig, scene SceneModel, offX, offY, yLo, yHi float64) *sp
 		s.edgeWeight = 1 / (grow - 1)
 	}
 	blurFor(centre, sigmaX, sigma)
-	return s
+	return s, nil
 }
 
 // parallelChunks runs f on every chunk of [0,n) on all cores.

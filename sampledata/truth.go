@@ -109,8 +109,9 @@ type TruthLine struct {
 	RevPerMin   float64 `json:"rev_per_min"` // wheel speed at mid-field
 }
 
-// TruthImage describes the truth image: the scene's scatter yield
-// (area-averaged, not blurred) over the scanned area. Pixel (col,row) has
+// TruthImage describes the truth image: the scene's scatter yield over the
+// scanned area, area-averaged into each pixel, with each shape's own depth
+// factor but without the rig's cos²θ fall-off, spot or detector chain. Pixel (col,row) has
 // its centre at x = OriginXMM + col·PitchMM, y = OriginYMM − row·PitchMM;
 // a 16-bit value v means yield v/65535.
 type TruthImage struct {
