@@ -25,15 +25,14 @@ var kindSize = [...]int{kindInt8: 1, kindUint8: 1, kindInt16: 2, kindUint16: 2, 
 
 // decodeInto converts len(out) samples of one kind into float32, computing
 // out[i] = stored·scale + offset. Sample i starts at src[i*stride]. Each
-// kind and byte order has its own loop so the compiler keeps it tight.
+// kind and byte order has its own loop, with the byte order decided outside
+// it, so the compiler keeps each loop tight.
 func decodeInto(out []float32, src []byte, stride int, kind sampleKind, bigEndian bool, scale, offset float32) {
 	n := len(out)
 	if n == 0 {
 		return
 	}
-	size := kindSize[kind]
-	src = src[:(n-1)*stride+size] // one bounds check for the whole block
-	le, be := binary.LittleEndian, binary.BigEndian
+	src = src[:(n-1)*stride+kindSize[kind]] // one bounds check for the whole block
 	switch kind {
 	case kindInt8:
 		for i := range out {
@@ -43,87 +42,85 @@ func decodeInto(out []float32, src []byte, stride int, kind sampleKind, bigEndia
 		for i := range out {
 			out[i] = float32(src[i*stride])*scale + offset
 		}
-	case kindInt16:
-		if stride == 2 && !bigEndian {
-			src = src[:2*n]
+	case kindInt16, kindUint16:
+		signed := kind == kindInt16
+		switch {
+		case signed && !bigEndian:
 			for i := range out {
-				out[i] = float32(int16(uint16(src[2*i])|uint16(src[2*i+1])<<8))*scale + offset
+				j := i * stride
+				out[i] = float32(int16(uint16(src[j])|uint16(src[j+1])<<8))*scale + offset
+			}
+		case signed:
+			for i := range out {
+				j := i * stride
+				out[i] = float32(int16(uint16(src[j])<<8|uint16(src[j+1])))*scale + offset
+			}
+		case !bigEndian:
+			for i := range out {
+				j := i * stride
+				out[i] = float32(uint16(src[j])|uint16(src[j+1])<<8)*scale + offset
+			}
+		default:
+			for i := range out {
+				j := i * stride
+				out[i] = float32(uint16(src[j])<<8|uint16(src[j+1]))*scale + offset
+			}
+		}
+	case kindInt24:
+		if bigEndian {
+			for i := range out {
+				j := i * stride
+				u := uint32(src[j+2]) | uint32(src[j+1])<<8 | uint32(src[j])<<16
+				out[i] = float32(int32(u<<8)>>8)*scale + offset
 			}
 			return
 		}
 		for i := range out {
-			b := src[i*stride : i*stride+2]
-			var v uint16
-			if bigEndian {
-				v = be.Uint16(b)
-			} else {
-				v = le.Uint16(b)
-			}
-			out[i] = float32(int16(v))*scale + offset
-		}
-	case kindUint16:
-		for i := range out {
-			b := src[i*stride : i*stride+2]
-			var v uint16
-			if bigEndian {
-				v = be.Uint16(b)
-			} else {
-				v = le.Uint16(b)
-			}
-			out[i] = float32(v)*scale + offset
-		}
-	case kindInt24:
-		for i := range out {
-			b := src[i*stride : i*stride+3]
-			var u uint32
-			if bigEndian {
-				u = uint32(b[2]) | uint32(b[1])<<8 | uint32(b[0])<<16
-			} else {
-				u = uint32(b[0]) | uint32(b[1])<<8 | uint32(b[2])<<16
-			}
+			j := i * stride
+			u := uint32(src[j]) | uint32(src[j+1])<<8 | uint32(src[j+2])<<16
 			out[i] = float32(int32(u<<8)>>8)*scale + offset
 		}
-	case kindInt32:
-		for i := range out {
-			b := src[i*stride : i*stride+4]
-			var v uint32
+	case kindInt32, kindUint32, kindFloat32:
+		// Assemble the words of a batch first, then convert them in a
+		// plain loop: keeps both loops free of branches.
+		var words [256]uint32
+		for start := 0; start < n; start += len(words) {
+			w := words[:min(len(words), n-start)]
 			if bigEndian {
-				v = be.Uint32(b)
+				for i := range w {
+					j := (start + i) * stride
+					w[i] = uint32(src[j+3]) | uint32(src[j+2])<<8 | uint32(src[j+1])<<16 | uint32(src[j])<<24
+				}
 			} else {
-				v = le.Uint32(b)
+				for i := range w {
+					j := (start + i) * stride
+					w[i] = uint32(src[j]) | uint32(src[j+1])<<8 | uint32(src[j+2])<<16 | uint32(src[j+3])<<24
+				}
 			}
-			out[i] = float32(float64(int32(v))*float64(scale)) + offset
-		}
-	case kindUint32:
-		for i := range out {
-			b := src[i*stride : i*stride+4]
-			var v uint32
-			if bigEndian {
-				v = be.Uint32(b)
-			} else {
-				v = le.Uint32(b)
+			dst := out[start : start+len(w)]
+			switch kind {
+			case kindInt32:
+				for i, x := range w {
+					dst[i] = float32(float64(int32(x))*float64(scale)) + offset
+				}
+			case kindUint32:
+				for i, x := range w {
+					dst[i] = float32(float64(x)*float64(scale)) + offset
+				}
+			default:
+				for i, x := range w {
+					dst[i] = math.Float32frombits(x)*scale + offset
+				}
 			}
-			out[i] = float32(float64(v)*float64(scale)) + offset
-		}
-	case kindFloat32:
-		for i := range out {
-			b := src[i*stride : i*stride+4]
-			var v uint32
-			if bigEndian {
-				v = be.Uint32(b)
-			} else {
-				v = le.Uint32(b)
-			}
-			out[i] = math.Float32frombits(v)*scale + offset
 		}
 	case kindFloat64:
 		for i := range out {
-			b := src[i*stride : i*stride+8]
+			j := i * stride
 			var v uint64
 			if bigEndian {
-				v = be.Uint64(b)
+				v = binary.BigEndian.Uint64(src[j : j+8])
 			} else {
-				v = le.Uint64(b)
+				v = binary.LittleEndian.Uint64(src[j : j+8])
 			}
 			out[i] = float32(math.Float64frombits(v)*float64(scale) + float64(offset))
 		}

@@ -330,36 +330,6 @@ func wavConverter(f wavFormat) frameConverter {
 	}
 }
 
-// readBufferBytes is the size of the one read buffer a reader uses.
-const readBufferBytes = 1 << 18
-
-// readFrames reads frames interleaved frames of frameBytes bytes starting at
-// start, converting them block by block into dst.
-func readFrames(r io.ReaderAt, start, frames int64, frameBytes int, dst [][]float32, conv frameConverter, progress func(float64), format string) error {
-	perBlock := readBufferBytes / frameBytes
-	if perBlock < 1 {
-		perBlock = 1
-	}
-	buf := make([]byte, perBlock*frameBytes)
-	for done := int64(0); done < frames; {
-		n := int64(perBlock)
-		if frames-done < n {
-			n = frames - done
-		}
-		b := buf[:n*int64(frameBytes)]
-		off := start + done*int64(frameBytes)
-		if got, err := r.ReadAt(b, off); err != nil && !(errors.Is(err, io.EOF) && got == len(b)) {
-			return &FormatError{Format: format, Place: AtByte(off + int64(got)), Problem: "file ends early: " + err.Error(), Expected: fmt.Sprintf("%d more bytes", int64(len(b)-got))}
-		}
-		conv(dst, int(done), b)
-		done += n
-		if progress != nil {
-			progress(float64(done) / float64(frames))
-		}
-	}
-	return nil
-}
-
 // replaceNonFinite sets NaN and infinite samples to 0 and counts them.
 func replaceNonFinite(dst [][]float32) int {
 	n := 0
