@@ -80,13 +80,21 @@ const (
 // Gaussian of variance σx² + dwell²/12 − p²/12 along x and σy² − p²/12
 // along y (the p²/12 makes up for the pixel box of the area averaging),
 // then read back bilinearly; the resulting spot's FWHM is within 2.5 % of
-// the nominal one for any sub-pixel position, and within 1 % on average. With the beam off λ = dark_rate_cps/fs. Counts are Poisson
-// draws; then come the afterglow (exponential impulse response, time
-// constant afterglow_s), the amplifier's single-pole low-pass and the AC
-// coupling's single-pole high-pass, all discretised impulse-invariantly so
-// that a step entering at sample 0 reads 1 − exp(−(i+1)/(fs·τ)) at sample i;
-// then volts = gain·(rate in million photons/s) + offset + noise, and the
-// ADC quantises and clips every channel.
+// the nominal one for any sub-pixel position, and within 1 % on average.
+// With the beam off λ = dark_rate_cps/fs.
+//
+// Counts are Poisson draws; then come the afterglow (exponential impulse
+// response, time constant afterglow_s), the amplifier's single-pole
+// low-pass and the AC coupling's single-pole high-pass, all discretised
+// impulse-invariantly so that a step entering at sample 0 reads
+// 1 − exp(−(i+1)/(fs·τ)) at sample i; then volts = gain·(rate in million
+// photons/s) + offset + noise, and the ADC quantises and clips every
+// channel. The chain's lag (about afterglow_s + 1/(2π·low_pass_corner_hz),
+// 18 µs or 0.045° of wheel for the demo rig) is physical and is not in the
+// truth's delay, which is geometric.
+//
+// The scene's centre is placed on the field axis at the middle of the
+// head's travel (Truth.SceneCentreMM).
 func SimulateScene(ctx context.Context, rig Rig, scene SceneModel, opts SimOptions) (*capture.Recording, *Truth, error) {
 	if opts.DurationS > 0 {
 		rig.DurationS = opts.DurationS
@@ -126,7 +134,6 @@ func SimulateScene(ctx context.Context, rig Rig, scene SceneModel, opts SimOptio
 		return nil, nil, err
 	}
 
-	// Place the scene's centre on the field axis at the middle of the travel.
 	yLo, yHi := motion.yRange(rig.Motion)
 	centreX, centreY := 0.0, (yLo+yHi)/2
 	sampler, err := newSpotSampler(rig, scene, centreX, centreY, yLo, yHi)
