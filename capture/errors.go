@@ -9,8 +9,8 @@ import (
 )
 
 // Place says where in a file something was found: a byte offset for binary
-// formats, a line and column (both counted from 1) for text. The zero Place
-// means the file as a whole.
+// formats, a line and column (both counted from 1) for text. A Place with
+// Offset -1 and Line 0 means the file as a whole.
 type Place struct {
 	Offset int64 // byte offset, used when Line is 0; -1 means none
 	Line   int   // 1-based line, 0 when the place is a byte offset
@@ -26,6 +26,7 @@ func AtLine(line, column int) Place { return Place{Offset: -1, Line: line, Colum
 // wholeFile is the Place for facts about the file as a whole (its size).
 var wholeFile = Place{Offset: -1}
 
+// String gives "byte 36", "line 12:7", "line 12", or "" for the whole file.
 func (p Place) String() string {
 	switch {
 	case p.Line > 0 && p.Column > 0:
@@ -49,6 +50,7 @@ type FormatError struct {
 	Expected string // what was expected instead, may be ""
 }
 
+// Error gives the one-line message "PATH: FORMAT PLACE: PROBLEM; expected ...".
 func (e *FormatError) Error() string {
 	return describe(e.Path, e.Format, e.Place, e.Problem, e.Expected)
 }
@@ -63,6 +65,7 @@ type UnsupportedError struct {
 	Expected string // what is handled instead
 }
 
+// Error gives the one-line message "PATH: FORMAT PLACE: unsupported ...".
 func (e *UnsupportedError) Error() string {
 	return describe(e.Path, e.Format, e.Place, "unsupported "+e.Feature, e.Expected)
 }
