@@ -262,3 +262,61 @@ func TestPrintRig(t *testing.T) {
 		t.Errorf("printed rig: %s", stdout)
 	}
 }
+
+// TestSimulateWAVFullScale checks that a WAV of a rig with a 5 V ADC holds
+// volts/5 and that the recipe written beside it is in the same full-scale
+// units: the calibrated position channel matches the truth's y (to the
+// sensor's 2 mV noise and its quantisation).
+func TestSimulateWAVFullScale(t *testing.T) {
+	dir := t.TempDir()
+	rig := sampledata.DemoRig()
+	rig.ADC.FullScaleV = 5
+	rig.Position.OffsetV, rig.Position.VoltsPerMM, rig.Position.NonlinearityPct = 0.5, 0.01, 0
+	rigPath := filepath.Join(dir, "five-volt.rig.json")
+	if err := os.WriteFile(rigPath, rig.JSON(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "five.wav")
+	truthPath := filepath.Join(dir, "five.truth.json")
+	recipePath := filepath.Join(dir, "five.recipe.json")
+	code, _, stderr := runSimulateCmd("--rig", rigPath, "--scene", "parcel", "--out", out, "--seconds", "8",
+		"--truth", truthPath, "--truth-pitch", "4", "--recipe", recipePath, "--sample-type", "int24")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	rec, err := capture.Open(out, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := recipe.Load(recipePath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cal := r.Rows.Calibration
+	if cal[0] != [2]float64{0.1, 0} || cal[1] != [2]float64{0.9, 400} {
+		t.Fatalf("calibration %v, want [[0.1 0] [0.9 400]] (volts / 5)", cal)
+	}
+	var truth sampledata.Truth
+	data, _ := os.ReadFile(truthPath)
+	if err := json.Unmarshal(data, &truth); err != nil {
+		t.Fatal(err)
+	}
+	pos := rec.Channels[2].Samples
+	worst := 0.0
+	for _, l := range truth.Lines {
+		i := int((l.FieldStartS + l.FieldEndS) / 2 * rec.SampleRateHz)
+		if i+32 >= len(pos) {
+			break
+		}
+		sum := 0.0
+		for k := i - 32; k < i+32; k++ {
+			sum += float64(pos[k])
+		}
+		y := cal[0][1] + (sum/64-cal[0][0])*(cal[1][1]-cal[0][1])/(cal[1][0]-cal[0][0])
+		worst = math.Max(worst, math.Abs(y-l.YMM))
+	}
+	// 2 mV of noise averaged over 64 samples is 0.25 mV, 0.025 mm at 10 mV/mm.
+	if worst > 0.15 {
+		t.Errorf("calibrated WAV position off the truth by up to %.3f mm", worst)
+	}
+}
