@@ -314,7 +314,7 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		if sw.SinePeriodS != nil {
 			period = *sw.SinePeriodS * s.rec.SampleRateHz
 		}
-		d, err = estimateSineDelay(ctx, t, det, sw, period)
+		d, w, err = estimateSineDelay(ctx, t, det, sw, period)
 	} else {
 		d, w, err = estimateDelay(ctx, t, det, sw)
 	}

@@ -380,38 +380,118 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 // estimateSineDelay finds the phase delay of a resonant mirror by making
 // the forward and backward lines agree: with the wrong delay they shift in
 // opposite directions. It minimises the mean squared difference between
-// the two lines of each period, resampled onto common beam angles.
-func estimateSineDelay(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep, sinePeriod float64) (float64, error) {
-	cost := func(delay float64) float64 { return sineCost(t, det, s, sinePeriod, delay) }
+// the two lines of each period, resampled onto common beam angles: a
+// coarse search in 0.5° steps over −90° … 90° (a delay and the same plus
+// 180° only swap the two lines) on about 100 periods, then a golden-section
+// search within ±0.5° on about 400. A scene that is its own mirror image
+// across the field also matches 90° away (the lines then fold at the
+// centre of the swing instead of its ends); when both fit about equally,
+// the one within ±45° is kept and a warning says so.
+func estimateSineDelay(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep, sinePeriod float64) (float64, []string, error) {
+	coarse := newSineCost(t, det, s, sinePeriod, 100)
+	fine := newSineCost(t, det, s, sinePeriod, 400)
 	best, bestCost := 0.0, math.Inf(1)
-	for d := -45.0; d <= 45; d += 0.5 {
+	var costs []float64
+	for d := -90.0; d < 90; d += 0.5 {
 		if err := ctx.Err(); err != nil {
-			return 0, err
+			return 0, nil, err
 		}
-		if c := cost(d); c < bestCost {
+		c := coarse.at(d)
+		costs = append(costs, c)
+		if c < bestCost {
 			best, bestCost = d, c
 		}
 	}
-	// Golden-section refinement within ±0.5°.
+	if math.IsInf(bestCost, 1) {
+		return 0, nil, fmt.Errorf("the sine lines run past the capture: set sweep.delay_deg by hand")
+	}
+	var warns []string
+	other := best + 90
+	if other >= 90 {
+		other -= 180
+	}
+	// Both fit when each sits far below the typical mismatch.
+	if oc := coarse.at(other); oc < 0.25*median(costs) {
+		alt := other
+		if math.Abs(other) < math.Abs(best) {
+			best, alt = other, best
+		}
+		warns = append(warns, fmt.Sprintf("the scene looks the same mirrored across the field, so the sine delay could also be about %.1f° instead of the %.1f° kept (the one nearer 0°); if the image looks folded, set sweep.delay_deg", alt, best))
+	}
 	lo, hi := best-0.5, best+0.5
 	g := (math.Sqrt(5) - 1) / 2
 	x1, x2 := hi-g*(hi-lo), lo+g*(hi-lo)
-	c1, c2 := cost(x1), cost(x2)
+	c1, c2 := fine.at(x1), fine.at(x2)
 	for hi-lo > 0.005 {
 		if c1 < c2 {
 			hi, x2, c2 = x2, x1, c1
 			x1 = hi - g*(hi-lo)
-			c1 = cost(x1)
+			c1 = fine.at(x1)
 		} else {
 			lo, x1, c1 = x1, x2, c2
 			x2 = lo + g*(hi-lo)
-			c2 = cost(x2)
+			c2 = fine.at(x2)
 		}
 	}
-	if math.IsInf(bestCost, 1) {
-		return 0, fmt.Errorf("the sine lines run past the capture: set sweep.delay_deg by hand")
+	return (lo + hi) / 2, warns, nil
+}
+
+// sineCost measures how badly the forward and backward lines of sampled
+// periods disagree for a trial delay.
+type sineCost struct {
+	t          *timingResult
+	det        []float32
+	sinePeriod float64
+	stride     int
+	phi        []float64 // forward phase (degrees) of each common beam angle
+	fw, bw     []float64
+}
+
+func newSineCost(t *timingResult, det []float32, s recipe.Sweep, sinePeriod float64, periods int) *sineCost {
+	const nb = 128
+	c := &sineCost{t: t, det: det, sinePeriod: sinePeriod, stride: 1 + len(t.lines)/periods,
+		phi: make([]float64, nb), fw: make([]float64, nb), bw: make([]float64, nb)}
+	for k := range c.phi {
+		// Common beam angles: sin φ = v, forward φ = asin v, backward 180° − asin v.
+		v := -s.SineKeep + 2*s.SineKeep*(float64(k)+0.5)/nb
+		c.phi[k] = math.Asin(v) * 180 / math.Pi
 	}
-	return (lo + hi) / 2, nil
+	return c
+}
+
+// at is the mean squared difference of the mean-removed line pairs.
+func (c *sineCost) at(delay float64) float64 {
+	total, count := 0.0, 0
+	for i := 0; i < len(c.t.lines); i += c.stride {
+		lt := c.t.lines[i]
+		p := lt.period
+		if c.sinePeriod > 0 {
+			p = c.sinePeriod
+		}
+		ok := true
+		for k, phi := range c.phi {
+			fv, ok1 := sampleAt(c.det, lt.edge+(phi+delay)*p/360)
+			bv, ok2 := sampleAt(c.det, lt.edge+(180-phi+delay)*p/360)
+			if !ok1 || !ok2 {
+				ok = false
+				break
+			}
+			c.fw[k], c.bw[k] = fv, bv
+		}
+		if !ok {
+			continue
+		}
+		mf, mb := meanOf(c.fw), meanOf(c.bw)
+		for k := range c.fw {
+			d := (c.fw[k] - mf) - (c.bw[k] - mb)
+			total += d * d
+		}
+		count++
+	}
+	if count == 0 {
+		return math.Inf(1)
+	}
+	return total / float64(count)
 }
 
 // sampleAt interpolates x linearly at a fractional sample position.
@@ -430,46 +510,4 @@ func meanOf(v []float64) float64 {
 		s += x
 	}
 	return s / float64(len(v))
-}
-
-// sineCost is the mean squared difference between the forward and
-// backward lines of sampled periods, for a trial delay.
-func sineCost(t *timingResult, det []float32, s recipe.Sweep, sinePeriod, delay float64) float64 {
-	const nb = 256
-	stride := 1 + len(t.lines)/400
-	total, count := 0.0, 0
-	fw := make([]float64, nb)
-	bw := make([]float64, nb)
-	for i := 0; i < len(t.lines); i += stride {
-		lt := t.lines[i]
-		p := lt.period
-		if sinePeriod > 0 {
-			p = sinePeriod
-		}
-		ok := true
-		for k := 0; k < nb && ok; k++ {
-			// Common θ sample: sin φ = v, forward φ = asin v, backward 180 − asin v.
-			v := -s.SineKeep + 2*s.SineKeep*(float64(k)+0.5)/nb
-			phi := math.Asin(v) * 180 / math.Pi
-			sf := lt.edge + (phi+delay)*p/360
-			sb := lt.edge + (180-phi+delay)*p/360
-			fv, ok1 := sampleAt(det, sf)
-			bv, ok2 := sampleAt(det, sb)
-			ok = ok1 && ok2
-			fw[k], bw[k] = fv, bv
-		}
-		if !ok {
-			continue
-		}
-		mf, mb := meanOf(fw), meanOf(bw)
-		for k := range fw {
-			d := (fw[k] - mf) - (bw[k] - mb)
-			total += d * d
-		}
-		count++
-	}
-	if count == 0 {
-		return math.Inf(1)
-	}
-	return total / float64(count)
 }

@@ -3,6 +3,7 @@ package recon
 import (
 	"context"
 	"math"
+	"strings"
 	"testing"
 
 	"spotloom/capture"
@@ -83,7 +84,11 @@ func sineRecipe(fieldDeg, distance, speed float64) recipe.Recipe {
 // and the delay are found.
 func TestSineLaw(t *testing.T) {
 	const period, delay = 2e-3, 12.0
-	rec := sineRecording(200e3, period, 40, delay, 300, 1.2, 100, dotScene(20, 3))
+	// Dots shifted 5 mm off the field axis, so the scene is not its own
+	// mirror image (see TestSineSymmetricScene).
+	dots := dotScene(20, 3)
+	scene := func(x, y float64) float64 { return dots(x-5, y) }
+	rec := sineRecording(200e3, period, 40, delay, 300, 1.2, 100, scene)
 	s := NewSession(rec)
 	res, err := s.Build(context.Background(), sineRecipe(40, 300, 100), nil)
 	if err != nil {
@@ -172,5 +177,22 @@ func TestReverse(t *testing.T) {
 				t.Fatalf("(%d,%d): %g, mirrored %g", col, row, va, vb)
 			}
 		}
+	}
+}
+
+// A scene that is its own mirror image across the field cannot tell the
+// sine delay from the same ±90°: the build keeps the one nearer 0° and
+// says so.
+func TestSineSymmetricScene(t *testing.T) {
+	rec := sineRecording(200e3, 2e-3, 40, 12, 300, 1.2, 100, dotScene(20, 3))
+	res, err := NewSession(rec).Build(context.Background(), sineRecipe(40, 300, 100), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := res.Report.DelayDeg; math.Abs(d-12) > 0.3 {
+		t.Errorf("delay %g°, want 12°", d)
+	}
+	if !strings.Contains(strings.Join(res.Report.Warnings, " "), "could also be about -7") {
+		t.Errorf("no warning about the mirrored delay: %q", res.Report.Warnings)
 	}
 }
