@@ -136,3 +136,34 @@ func TestMissingLayoutShowsExample(t *testing.T) {
 		t.Fatalf("err = %v, want a message with an example layout", err)
 	}
 }
+
+// TestLargeWAVParallel reads a file large enough to be split between
+// workers and checks every sample and the progress.
+func TestLargeWAVParallel(t *testing.T) {
+	const frames = parallelMinBytes/6 + 12345 // 3 channels × 2 bytes
+	rec := testRecording(3, frames, 96000)
+	var buf bytes.Buffer
+	if err := WriteWAV(&buf, rec, "int16"); err != nil {
+		t.Fatal(err)
+	}
+	last := 0.0
+	got, err := readWAV(bytes.NewReader(buf.Bytes()), int64(buf.Len()), Options{Progress: func(f float64) {
+		if f < last {
+			t.Errorf("progress fell from %v to %v", last, f)
+		}
+		last = f
+	}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if last != 1 {
+		t.Errorf("progress ended at %v", last)
+	}
+	for c := range rec.Channels {
+		for i, v := range rec.Channels[c].Samples {
+			if g := got.Channels[c].Samples[i]; g != quantize(v, 16) {
+				t.Fatalf("ch%d[%d] = %v, want %v", c, i, g, quantize(v, 16))
+			}
+		}
+	}
+}
