@@ -89,3 +89,32 @@ func TestResultIsACopy(t *testing.T) {
 		t.Error("the cached frame was changed through a result")
 	}
 }
+
+// Progress names the stages in order, with fractions from 0 to 1.
+func TestProgress(t *testing.T) {
+	rig := baseRig()
+	var stages []string
+	last := map[string]float64{}
+	_, err := NewSession(rig.recording()).Build(context.Background(), rig.recipe(), func(stage string, f float64) {
+		if f < 0 || f > 1 || f < last[stage] {
+			t.Errorf("%s: fraction %g after %g", stage, f, last[stage])
+		}
+		last[stage] = f
+		if len(stages) == 0 || stages[len(stages)-1] != stage {
+			stages = append(stages, stage)
+		}
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []string{"timing", "rows", "delay", "placement", "gridding"}
+	if len(stages) != len(want) {
+		t.Fatalf("stages %v, want %v", stages, want)
+	}
+	for i := range want {
+		if stages[i] != want[i] || last[want[i]] != 1 {
+			t.Errorf("stages %v (last fractions %v), want %v each ending at 1", stages, last, want)
+			break
+		}
+	}
+}

@@ -188,16 +188,19 @@ type gridStats struct {
 
 // gridInput is everything one frame is made from.
 type gridInput struct {
-	det          []float32
-	lines        []placedLine // the lines of this frame
-	sweep        *sweepMap
-	rows         *rowsResult
-	pitch        float64
-	invert       bool
-	fill         int
-	clipHi       float32
-	clipLo       float32 // -Inf when the low end cannot clip
-	yTop, yBotom float64 // frame extent in y, mm
+	det           []float32
+	lines         []placedLine // the lines of this frame
+	sweep         *sweepMap
+	rows          *rowsResult
+	pitch         float64
+	invert        bool
+	fill          int
+	clipHi        float32
+	clipLo        float32 // -Inf when the low end cannot clip
+	yTop, yBottom float64 // frame extent in y, mm
+	// progress, when not nil, gets the fraction of lines done; it is
+	// called from one goroutine at a time.
+	progress func(fraction float64)
 }
 
 // gridFrame accumulates every beam-on sample of the lines into the frame
@@ -209,9 +212,9 @@ func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, er
 	// The grid covers the x and y extent and is centred on it, so a
 	// reversed sweep gives the exact mirror image.
 	cols := int(math.Ceil((in.sweep.xMax-in.sweep.xMin)/p-1e-9)) + 1
-	rows := int(math.Ceil((in.yTop-in.yBotom)/p-1e-9)) + 1
+	rows := int(math.Ceil((in.yTop-in.yBottom)/p-1e-9)) + 1
 	x0 := (in.sweep.xMin+in.sweep.xMax)/2 - float64(cols-1)/2*p
-	yTop := (in.yTop+in.yBotom)/2 + float64(rows-1)/2*p
+	yTop := (in.yTop+in.yBottom)/2 + float64(rows-1)/2*p
 	in.yTop = yTop
 	if float64(cols)*float64(rows) > maxPixels {
 		return nil, st, nil, fmt.Errorf("the frame would be %d × %d pixels at image.pitch_mm %g: raise pitch_mm", cols, rows, p)
@@ -223,6 +226,17 @@ func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, er
 	clipped := make([]bool, len(in.lines))
 	ties := make([]int, len(in.lines))
 	var wg sync.WaitGroup
+	var progMu sync.Mutex
+	done := 0
+	report := func(n int) {
+		if in.progress == nil {
+			return
+		}
+		progMu.Lock()
+		done += n
+		in.progress(float64(done) / float64(len(in.lines)))
+		progMu.Unlock()
+	}
 	chunk := (len(in.lines) + w - 1) / w
 	for k := 0; k < w; k++ {
 		sums[k] = make([]float64, npx)
@@ -232,8 +246,13 @@ func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, er
 		go func(sum, wt []float64, a, b int) {
 			defer wg.Done()
 			for i := a; i < b; i++ {
-				if (i-a)%64 == 0 && ctx.Err() != nil {
-					return
+				if (i-a)%64 == 0 {
+					if ctx.Err() != nil {
+						return
+					}
+					if i > a {
+						report(64)
+					}
 				}
 				var t int
 				clipped[i], t = splatLine(in, &in.lines[i], sum, wt, cols, rows, x0)

@@ -463,7 +463,7 @@ func (s *Session) Build(ctx context.Context, r recipe.Recipe, progress Progress)
 		return cloneResult(s.grid, rs.r), nil
 	}
 	progress.report("gridding", 0)
-	res, err := s.gridStage(ctx, rs, t, rows, pl, warns)
+	res, err := s.gridStage(ctx, rs, t, rows, pl, warns, progress)
 	if err != nil {
 		return nil, err
 	}
@@ -489,7 +489,7 @@ func cloneResult(res *Result, r recipe.Recipe) *Result {
 	return out
 }
 
-func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, rows *rowsResult, pl *placement, warns []string) (*Result, error) {
+func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, rows *rowsResult, pl *placement, warns []string, progress Progress) (*Result, error) {
 	r := rs.r
 	rate := s.rec.SampleRateHz
 	det := s.rec.Channels[rs.ch.detector].Samples
@@ -591,7 +591,8 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 		f, st, _, err := gridFrame(ctx, gridInput{
 			det: det, lines: g, sweep: pl.sweep, rows: rows, pitch: r.Image.PitchMM,
 			invert: r.Signal.Invert, fill: r.Image.FillGapsPx, clipHi: hi, clipLo: clipLo,
-			yTop: yTop, yBotom: yBottom,
+			yTop: yTop, yBottom: yBottom,
+			progress: func(f float64) { progress.report("gridding", (float64(gi)+f)/float64(len(groups))) },
 		})
 		if err != nil {
 			return nil, err

@@ -196,3 +196,33 @@ func TestIndexStuckForAWhile(t *testing.T) {
 		t.Errorf("%d pulses filled in across a long silence", res.Report.PulsesMissing)
 	}
 }
+
+// Falling edges of an inverted index signal time the same lines as the
+// rising edges of the plain one (the pulse's trailing edge of the plain
+// signal is its leading edge when inverted).
+func TestFallingEdge(t *testing.T) {
+	rig := baseRig()
+	plain := rig.recording()
+	inv := rig.recording()
+	for i, v := range inv.Channels[1].Samples {
+		inv.Channels[1].Samples[i] = 5 - v
+	}
+	a, err := NewSession(plain).Build(context.Background(), rig.recipe(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := rig.recipe()
+	r.Timing.Edge = "falling"
+	b, err := NewSession(inv).Build(context.Background(), r, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(a.Lines) != len(b.Lines) {
+		t.Fatalf("%d and %d lines", len(a.Lines), len(b.Lines))
+	}
+	for i := range a.Lines {
+		if d := math.Abs(a.Lines[i].EdgeS - b.Lines[i].EdgeS); d > 1e-7 {
+			t.Errorf("line %d: edges %.7f and %.7f s", i, a.Lines[i].EdgeS, b.Lines[i].EdgeS)
+		}
+	}
+}
