@@ -15,9 +15,10 @@ type motionPath struct {
 	// mmPerStep with a raised-cosine profile while the step pulse is high.
 	startMM, mmPerStep, stepPulseS float64
 	stepS                          []float64
-	// strokeStartS[k] is when stroke k begins to move (its rest before it
-	// belongs to the previous stroke, the first rest to stroke 0).
+	// strokeStartS[k] is when planned stroke k begins to move.
 	strokeStartS []float64
+	// reversalsS are the times the head starts moving the other way.
+	reversalsS []float64
 }
 
 // planStep is the plan resolution of hand and motor motion.
@@ -56,38 +57,43 @@ func newMotionPath(m Motion, durationS float64, rng *rand.Rand) *motionPath {
 		if k%2 == 1 {
 			dir = -1
 		}
-		speed := strokeSpeedProfile(m, rng)
-		total := 0.0
-		for _, v := range speed {
-			total += v
-		}
+		steps := strokeSteps(m, rng)
 		i0 := int(math.Round(t0 / planStep))
 		cum := 0.0
-		for j, v := range speed {
-			cum += v
+		for j, d := range steps {
+			cum += d
 			if i := i0 + j + 1; i < n {
-				p.y[i] = pos + dir*m.TravelMM*cum/total
+				p.y[i] = pos + dir*cum
 			}
 		}
+		speed := steps
 		pos += dir * m.TravelMM
 		for i := i0 + len(speed) + 1; i < n; i++ {
 			p.y[i] = pos
 		}
 	}
+	p.findReversals()
 	return p
 }
 
-// strokeSpeedProfile returns relative speeds at planStep for one stroke.
-// A motor moves at constant speed. A hand speeds up and slows down over
-// about half a second at the ends, wanders around its mean speed by a sum of
-// slow random sinusoids (0.2 to 1.5 Hz) with RMS SpeedVariationPct, and
-// stops for each pause with a smooth dip.
-func strokeSpeedProfile(m Motion, rng *rand.Rand) []float64 {
+// backStepS is how long a hand's back-step takes (the head stops, moves
+// back and stops again).
+const backStepS = 0.6
+
+// strokeSteps returns the head's movement in mm in each planStep of one
+// stroke; they add up to TravelMM. A motor moves at constant speed. A hand
+// speeds up and slows down over about half a second at the ends, wanders
+// around its mean speed by a sum of slow random sinusoids (0.2 to 1.5 Hz)
+// with RMS SpeedVariationPct, stops for each pause with a smooth dip, and
+// for each back-step stops, moves BackStepMM backwards with a raised-cosine
+// speed over backStepS, and goes on. Pauses and back-steps are put in equal
+// shares of the middle 80 % of the stroke, at a random place in each.
+func strokeSteps(m Motion, rng *rand.Rand) []float64 {
 	n := max(int(math.Round(m.StrokeS/planStep)), 1)
 	v := make([]float64, n)
 	if m.Kind == MotionMotor {
 		for i := range v {
-			v[i] = 1
+			v[i] = m.TravelMM / float64(n)
 		}
 		return v
 	}
@@ -99,15 +105,29 @@ func strokeSpeedProfile(m Motion, rng *rand.Rand) []float64 {
 	}
 	amp := m.SpeedVariationPct / 100 * math.Sqrt(2.0/waves)
 	ramp := math.Min(0.5, m.StrokeS/4)
-	type pause struct{ centre, half float64 }
-	var pauses []pause
-	for k := 0; k < m.PauseCount; k++ {
-		// Pauses sit in the middle 80 % of the stroke, one per equal share.
-		share := 0.8 * m.StrokeS / float64(m.PauseCount)
-		c := 0.1*m.StrokeS + share*(float64(k)+0.25+0.5*rng.Float64())
-		pauses = append(pauses, pause{c, m.PauseS / 2})
+	type stop struct {
+		centre, half float64
+		back         bool
 	}
+	var stops []stop
+	events := m.PauseCount + m.BackStepCount
+	for k := 0; k < events; k++ {
+		share := 0.8 * m.StrokeS / float64(events)
+		c := 0.1*m.StrokeS + share*(float64(k)+0.25+0.5*rng.Float64())
+		if k < m.PauseCount {
+			stops = append(stops, stop{c, m.PauseS / 2, false})
+		} else {
+			stops = append(stops, stop{c, backStepS / 2, true})
+		}
+	}
+	// Back-steps interleave with pauses rather than all coming last.
+	rng.Shuffle(len(stops), func(a, b int) {
+		stops[a].half, stops[b].half = stops[b].half, stops[a].half
+		stops[a].back, stops[b].back = stops[b].back, stops[a].back
+	})
 	const taper = 0.15
+	back := make([]float64, n)
+	backTotal := 0.0
 	for i := range v {
 		t := (float64(i) + 0.5) * planStep
 		env := 1.0
@@ -121,16 +141,33 @@ func strokeSpeedProfile(m Motion, rng *rand.Rand) []float64 {
 			mod += amp * math.Sin(2*math.Pi*freq[k]*t+phase[k])
 		}
 		mod = math.Max(mod, 0.2)
-		for _, p := range pauses {
-			d := math.Abs(t-p.centre) - p.half
+		for _, st := range stops {
+			d := math.Abs(t-st.centre) - st.half
 			switch {
 			case d <= 0:
 				mod = 0
+				if st.back {
+					// Raised-cosine backward speed over the stop.
+					u := (t - st.centre + st.half) / (2 * st.half)
+					back[i] = math.Sin(math.Pi*u) * math.Sin(math.Pi*u)
+					backTotal += back[i]
+				}
 			case d < taper:
 				mod *= smoothRamp(d / taper)
 			}
 		}
 		v[i] = env * mod
+	}
+	forward := 0.0
+	for _, x := range v {
+		forward += x
+	}
+	backMM := float64(m.BackStepCount) * m.BackStepMM
+	for i := range v {
+		v[i] *= (m.TravelMM + backMM) / forward
+		if backTotal > 0 {
+			v[i] -= backMM * back[i] / backTotal
+		}
 	}
 	return v
 }
@@ -175,15 +212,36 @@ func (p *motionPath) at(t float64) float64 {
 	return p.y[i] + a*(p.y[i+1]-p.y[i])
 }
 
-// stroke is the number of the stroke at time t.
+// stroke is the number of the pass at time t: how many times the head has
+// reversed before t (a rest or pause between two movements the same way is
+// no reversal; a back-step is two).
 func (p *motionPath) stroke(t float64) int {
 	k := 0
-	for i, s := range p.strokeStartS {
-		if t >= s {
-			k = i
+	for _, r := range p.reversalsS {
+		if r <= t {
+			k++
 		}
 	}
 	return k
+}
+
+// findReversals lists the times where the head starts moving the other way.
+func (p *motionPath) findReversals() {
+	if p.kind == MotionStepper {
+		return
+	}
+	lastDir := 0.0
+	for i := 1; i < len(p.y); i++ {
+		d := p.y[i] - p.y[i-1]
+		if math.Abs(d) < 1e-12 {
+			continue
+		}
+		dir := math.Copysign(1, d)
+		if lastDir != 0 && dir != lastDir {
+			p.reversalsS = append(p.reversalsS, float64(i-1)*p.dtS)
+		}
+		lastDir = dir
+	}
 }
 
 // yRange is the smallest and largest position over the capture.

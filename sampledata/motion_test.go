@@ -171,3 +171,38 @@ func TestPositionSensor(t *testing.T) {
 		}
 	}
 }
+
+// TestBackSteps checks the hand's back-steps: each moves the head back by
+// back_step_mm (two reversals), the stroke still ends at the far end, and
+// the truth numbers the passes by reversals.
+func TestBackSteps(t *testing.T) {
+	r := DemoRig()
+	r.Motion.BackStepCount, r.Motion.BackStepMM = 2, 15
+	_, truth, err := Simulate(t.Context(), r, "parcel", SimOptions{Seed: 12})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(truth.ReversalsS) != 4 {
+		t.Fatalf("%d reversals, want 4: %v", len(truth.ReversalsS), truth.ReversalsS)
+	}
+	last := truth.Lines[len(truth.Lines)-1]
+	if last.YMM != 400 || last.Stroke != 4 {
+		t.Errorf("last line at %g mm in pass %d, want 400 mm in pass 4", last.YMM, last.Stroke)
+	}
+	// The depth of each back-step: the highest y before the reversal minus
+	// the lowest after it, from the lines (0.8 mm apart at most).
+	for k := 0; k < 4; k += 2 {
+		top, bottom := 0.0, 1e9
+		for _, l := range truth.Lines {
+			if l.Stroke == k {
+				top = math.Max(top, l.YMM)
+			}
+			if l.Stroke == k+1 {
+				bottom = math.Min(bottom, l.YMM)
+			}
+		}
+		if d := top - bottom; math.Abs(d-15) > 1 {
+			t.Errorf("back-step %d moved %.2f mm back, want 15 mm", k/2+1, d)
+		}
+	}
+}

@@ -100,12 +100,16 @@ type Motion struct {
 	StrokeCount int     `json:"stroke_count"`
 	StartRestS  float64 `json:"start_rest_s"`
 	TurnRestS   float64 `json:"turn_rest_s" rig:"optional"`
-	// SpeedVariationPct is the RMS speed change of a hand stroke around its
-	// smooth mean profile; PauseCount pauses of PauseS each are put at random
-	// places in each stroke.
+	// Hand: SpeedVariationPct is the RMS speed change of a stroke around
+	// its smooth mean profile; PauseCount pauses of PauseS each are put at
+	// random places in each stroke.
 	SpeedVariationPct float64 `json:"speed_variation_pct" rig:"optional"`
 	PauseCount        int     `json:"pause_count" rig:"optional"`
 	PauseS            float64 `json:"pause_s" rig:"optional"`
+	// BackStepCount times in each stroke the hand stops, moves BackStepMM
+	// back over 0.6 s and goes on (a reversal within the stroke).
+	BackStepCount int     `json:"back_step_count" rig:"optional"`
+	BackStepMM    float64 `json:"back_step_mm" rig:"optional"`
 	// Stepper: MMPerStep per step, the steps evenly spread over the stroke;
 	// each step is a pulse StepPulseS long and StepLevelV high on the steps
 	// channel (with the index sensor's rise time), and the head moves the
@@ -578,6 +582,19 @@ func (r Rig) check(c *checker) {
 	case MotionHand:
 		c.num("motion.speed_variation_pct", m.SpeedVariationPct, incl(0), incl(60), "%")
 		c.num("motion.pause_count", float64(m.PauseCount), incl(0), incl(20), "")
+		c.num("motion.back_step_count", float64(m.BackStepCount), incl(0), incl(20), "")
+		c.num("motion.back_step_mm", m.BackStepMM, incl(0), incl(m.TravelMM/4), "mm (a quarter of the travel)")
+		// Pauses and back-steps share the middle 80 % of the stroke; each
+		// must fit in half its share.
+		if events := m.PauseCount + m.BackStepCount; events > 0 {
+			share := 0.8 * m.StrokeS / float64(events)
+			longest := math.Max(m.PauseS, backStepS) + 0.3
+			if longest > share/2 && c.err == nil {
+				most := int(0.4 * m.StrokeS / longest)
+				c.fail("motion.pause_count", fmt.Sprintf("%d with %d back-steps", m.PauseCount, m.BackStepCount),
+					fmt.Sprintf("at most %d pauses and back-steps together in a %g s stroke", most, m.StrokeS))
+			}
+		}
 		c.num("motion.pause_s", m.PauseS, incl(0), incl(m.StrokeS/float64(2*(m.PauseCount+1))), "s (half the stroke shared among the pauses)")
 	case MotionStepper:
 		c.num("motion.mm_per_step", m.MMPerStep, excl(0), incl(math.Max(m.TravelMM/2, 0)), "mm")

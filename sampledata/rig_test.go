@@ -112,6 +112,10 @@ func TestRigErrorsNameTheKeyAndRange(t *testing.T) {
 		// 0.1° at 420 rev/min is swept in 40 µs: 3.8 samples at 96 kHz.
 		{"field_deg", "0.1", []string{"sample_rate_hz is 96000 (3.8 samples across the field)", "for 16 samples across the 0.1° field"}},
 		{"duration_s", "2000", []string{"duration_s is 2000 (1.92e+08 samples at 96000 Hz)", "at most 1041.67 s at this rate"}},
+		// Each stop takes at most 0.6 s (a back-step) plus 0.3 s of tapers and
+		// must fit in half its share of 80 % of 12 s: 0.4·12/0.9 → 5.
+		{"motion.pause_count", "10", []string{"motion.pause_count is 10 with 0 back-steps", "at most 5 pauses and back-steps together"}},
+		{"motion.back_step_mm", "150", []string{"motion.back_step_mm is 150", "from 0 to 100 mm"}},
 		{"index.pulses_per_rev", "4", []string{"index.pulses_per_rev is 4", "1 (once per revolution) or 6"}},
 		{"motion.kind", `"rocket"`, []string{`motion.kind is "rocket"`, "hand, motor, stepper"}},
 		{"position_sensor.kind", `"none"`, []string{"position_sensor.kind", "hand-driven head needs a position sensor"}},

@@ -70,6 +70,8 @@ type Truth struct {
 	// edge in the capture.
 	IndexEdgesS []float64   `json:"index_edges_s"`
 	Lines       []TruthLine `json:"lines"`
+	// ReversalsS are the times the head starts moving the other way.
+	ReversalsS []float64 `json:"reversals_s"`
 	// StepsS are the start times of the stepper's steps (stepper only).
 	StepsS []float64 `json:"steps_s,omitempty"`
 
@@ -95,7 +97,9 @@ type TruthLine struct {
 	Number        int `json:"number"`
 	Aperture      int `json:"aperture"`       // recipe aperture: number mod apertures
 	WheelAperture int `json:"wheel_aperture"` // physical aperture of the wheel
-	Stroke        int `json:"stroke"`         // pass of the head, from 0
+	// Stroke is the pass of the head at mid-field: the number of times the
+	// head reversed before then (so a back-step starts two new passes).
+	Stroke int `json:"stroke"`
 	// EdgeS is the time of the rising index edge that announces the line
 	// (with one pulse per revolution, the revolution's pulse).
 	EdgeS float64 `json:"edge_s"`
@@ -146,6 +150,7 @@ func newTruth(rig Rig, scene SceneModel, opts SimOptions, wheel *wheelPath, moti
 		LineRateHz:       rig.LineRateHz(),
 		SweepMS:          rig.SweepS() * 1000,
 		StepsS:           motion.stepS,
+		ReversalsS:       append([]float64{}, motion.reversalsS...),
 	}
 	for i, name := range rig.channelNames() {
 		t.Channels[name] = i
