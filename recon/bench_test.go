@@ -20,6 +20,7 @@ func BenchmarkBuildFull(b *testing.B) {
 	}
 	samples := rec.Frames() * len(rec.Channels)
 	b.SetBytes(int64(samples) * 4)
+	b.ReportAllocs()
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		res, err := NewSession(rec).Build(context.Background(), rig.Recipe(), nil)
@@ -45,6 +46,7 @@ func BenchmarkDelayChange(b *testing.B) {
 		b.Fatal(err)
 	}
 	base := *r.Sweep.DelayDeg
+	b.ReportAllocs()
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		r.Sweep.DelayDeg = recipe.Float(base + 0.05*float64(i%2+1))
