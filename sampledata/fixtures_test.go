@@ -23,6 +23,7 @@ func fixtureRigs() map[string]Rig {
 		NonlinearityPct: 0.3, NoiseV: 0.001, CarrierHz: 1500}
 	tone.Detector.ACCouplingCornerHz = 5
 	tone.Motion.StartRestS, tone.Motion.StrokeS, tone.Motion.StrokeCount, tone.Motion.TurnRestS = 1, 8, 2, 1
+	tone.Motion.BackStepCount, tone.Motion.BackStepMM = 1, 20
 
 	motor := DemoRig()
 	motor.Name = "motor carriage at constant speed, once-per-revolution index"
