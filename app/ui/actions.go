@@ -340,6 +340,13 @@ func (ws *Workstation) finishBuild(r recipe.Recipe, value any, err error, supers
 		if what == "" {
 			what = "These settings"
 		}
+		if len(ws.dialogs) > 0 {
+			// A message is already up (say, while a slider is dragged on):
+			// say it in the status line instead of stacking dialogs.
+			ws.problem = "Cannot build with these settings: " + err.Error()
+			ws.stage.SetText(ws.problem)
+			return
+		}
 		ws.showProblem("Cannot build with these settings", fmt.Sprintf("%s could not be used: %v.", what, err),
 			"change the value back or pick another one; the image and the settings it was made with are restored.")
 		return

@@ -43,6 +43,7 @@ func snapshot(path string, r *recipe.Recipe, opts Options) (image.Image, error) 
 	a.Settings().SetTheme(snapshotTheme())
 	w := a.NewWindow("Spotloom")
 	ws := New(a, w, opts)
+	w.SetPadded(false) // the status bar then reaches the bottom edge
 	w.Resize(SnapshotSize)
 	if path == "" {
 		ws.OpenDemoWithRecipe(r)

@@ -10,6 +10,7 @@ import (
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/canvas"
+	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
 
@@ -32,6 +33,18 @@ var (
 	traceEdge      = color.NRGBA{R: 0xff, G: 0x50, B: 0x70, A: 0xff}
 	traceThreshold = color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0x90}
 )
+
+// TraceLegend says what the marks of the strip mean.
+func TraceLegend() fyne.CanvasObject {
+	item := func(c color.Color, text string) fyne.CanvasObject {
+		t := canvas.NewText(text, theme.Color(theme.ColorNameForeground))
+		t.TextSize = theme.CaptionTextSize()
+		return container.NewHBox(swatch(c), t)
+	}
+	return container.NewHBox(
+		item(traceFieldBar, "field of view"), item(traceBaseBar, "baseline"),
+		item(traceEdge, "index edge"), item(traceThreshold, "threshold"))
+}
 
 // traceLane is one signal of the strip.
 type traceLane struct {
@@ -170,8 +183,9 @@ func (t *TraceStrip) placeWindow() {
 	if l.Repaired {
 		repaired = " (edge filled in)"
 	}
-	t.caption = fmt.Sprintf("Line %d of %d · aperture %d · stroke %d · edge at %.4f s%s · y %.1f mm",
-		l.Number, len(t.lines), l.Aperture, l.Stroke, l.EdgeS, repaired, l.YMM)
+	t.caption = fmt.Sprintf("Line %d of %d · aperture %d · stroke %d · edge at %.4f s%s · field %.2f–%.2f ms after the edge · y %.1f mm",
+		l.Number, len(t.lines), l.Aperture, l.Stroke, l.EdgeS, repaired,
+		1000*(l.FieldStartS-l.EdgeS), 1000*(l.FieldEndS-l.EdgeS), l.YMM)
 }
 
 // CreateRenderer makes the strip's renderer.
@@ -184,9 +198,6 @@ func (t *TraceStrip) CreateRenderer() fyne.WidgetRenderer {
 		r.labels[i] = canvas.NewText("", traceColours[i])
 		r.labels[i].TextSize = theme.CaptionTextSize()
 	}
-	r.legend = canvas.NewText("blue: field of view   orange: baseline   red: index edges   white: threshold", theme.Color(theme.ColorNameDisabled))
-	r.legend.TextSize = theme.CaptionTextSize()
-	r.legend.Alignment = fyne.TextAlignTrailing
 	return r
 }
 
@@ -194,7 +205,6 @@ type traceRenderer struct {
 	strip   *TraceStrip
 	raster  *canvas.Raster
 	caption *canvas.Text
-	legend  *canvas.Text
 	labels  [3]*canvas.Text
 	size    fyne.Size
 }
@@ -206,9 +216,7 @@ func (r *traceRenderer) Layout(size fyne.Size) {
 	r.raster.Move(fyne.NewPos(0, traceHeader))
 	r.raster.Resize(fyne.NewSize(size.Width, size.Height-traceHeader))
 	r.caption.Move(fyne.NewPos(4, 1))
-	r.caption.Resize(fyne.NewSize(size.Width*0.6, traceHeader-2))
-	r.legend.Move(fyne.NewPos(size.Width*0.4, 1))
-	r.legend.Resize(fyne.NewSize(size.Width*0.6-4, traceHeader-2))
+	r.caption.Resize(fyne.NewSize(size.Width-8, traceHeader-2))
 	laneH := (size.Height - traceHeader) / 3
 	for i, l := range r.labels {
 		l.Move(fyne.NewPos(6, traceHeader+float32(i)*laneH+2))
@@ -235,7 +243,6 @@ func (r *traceRenderer) Refresh() {
 	s.mu.Unlock()
 	r.Layout(r.size)
 	r.caption.Refresh()
-	r.legend.Refresh()
 	for _, l := range r.labels {
 		l.Refresh()
 	}
@@ -243,7 +250,7 @@ func (r *traceRenderer) Refresh() {
 }
 
 func (r *traceRenderer) Objects() []fyne.CanvasObject {
-	return []fyne.CanvasObject{r.raster, r.caption, r.legend, r.labels[0], r.labels[1], r.labels[2]}
+	return []fyne.CanvasObject{r.raster, r.caption, r.labels[0], r.labels[1], r.labels[2]}
 }
 
 func (r *traceRenderer) Destroy() {}

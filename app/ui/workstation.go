@@ -171,8 +171,8 @@ func (ws *Workstation) build() {
 		widget.NewButtonWithIcon("", theme.MoveDownIcon(), func() { ws.stepLine(1) }),
 		container.NewGridWrap(fyne.NewSize(90, ws.lineEntry.MinSize().Height), ws.lineEntry),
 		ws.followCheck,
-		widget.NewLabel("click the image to hold a line"),
 	)
+	stripBar = container.NewBorder(nil, nil, stripBar, TraceLegend())
 	imageArea := container.NewBorder(viewBar, nil, nil, nil, ws.view)
 	stripArea := container.NewBorder(stripBar, nil, nil, nil, ws.strip)
 	middle := container.NewVSplit(imageArea, stripArea)
@@ -205,7 +205,14 @@ func (ws *Workstation) build() {
 	)
 	line := canvas.NewRectangle(theme.Color(theme.ColorNameSeparator))
 	line.SetMinSize(fyne.NewSize(1, 1))
-	content := container.NewBorder(container.NewVBox(top, line), container.NewVBox(widget.NewSeparator(), status), left, right, middle)
+	// The status bar is painted last over an opaque ground, so nothing of
+	// a scrolled panel can show through it (the software painter of the
+	// snapshot does not clip text).
+	topBox := container.NewVBox(top, line)
+	statusGround := canvas.NewRectangle(theme.Color(theme.ColorNameBackground))
+	statusBox := container.NewStack(statusGround, container.NewVBox(widget.NewSeparator(), status))
+	inner := container.NewBorder(nil, nil, left, right, middle)
+	content := container.New(layout.NewBorderLayout(topBox, statusBox, nil, nil), inner, topBox, statusBox)
 	ws.win.SetContent(content)
 	ws.buildMenu()
 	ws.bindKeys()
