@@ -131,11 +131,12 @@ func WriteWAV(w io.Writer, rec *Recording, sampleType string) error {
 // each channel, scaleOf gives the scale and offset of the stored values
 // (v = stored·scale + offset), so stored = (v − offset)/scale.
 func writeInterleaved(bw *bufio.Writer, rec *Recording, kind sampleKind, bigEndian bool, scaleOf func(c int) (scale, offset float64)) error {
+	enc := newSampleEncoder(kind, bigEndian, len(rec.Channels), scaleOf)
 	frames := rec.Frames()
 	buf := make([]byte, 0, 1<<16)
 	for i := 0; i < frames; i++ {
 		for c := range rec.Channels {
-			buf = appendSample(buf, kind, bigEndian, rec.Channels[c].Samples[i], scaleOf, c)
+			buf = enc.append(buf, c, rec.Channels[c].Samples[i])
 		}
 		if len(buf) >= 1<<16-8*MaxRawChannels {
 			if _, err := bw.Write(buf); err != nil {
@@ -148,45 +149,87 @@ func writeInterleaved(bw *bufio.Writer, rec *Recording, kind sampleKind, bigEndi
 	return err
 }
 
-// appendSample encodes one value, rounding to nearest and clipping integers.
-func appendSample(buf []byte, kind sampleKind, bigEndian bool, v float32, scaleOf func(int) (float64, float64), c int) []byte {
-	scale, offset := scaleOf(c)
-	x := (float64(v) - offset) / scale
-	var order binary.AppendByteOrder = binary.LittleEndian
-	if bigEndian {
-		order = binary.BigEndian
-	}
-	clip := func(lo, hi float64) float64 {
-		x = math.Round(x)
-		if x != x {
-			return 0
-		}
-		return math.Max(lo, math.Min(hi, x))
+// sampleEncoder turns values back into stored samples of one kind.
+type sampleEncoder struct {
+	kind      sampleKind
+	bigEndian bool
+	inverse   []float64 // 1/scale per channel
+	offset    []float64
+	lo, hi    float64 // the kind's integer range
+}
+
+func newSampleEncoder(kind sampleKind, bigEndian bool, channels int, scaleOf func(int) (float64, float64)) *sampleEncoder {
+	e := &sampleEncoder{kind: kind, bigEndian: bigEndian, inverse: make([]float64, channels), offset: make([]float64, channels)}
+	for c := range e.inverse {
+		s, o := scaleOf(c)
+		e.inverse[c], e.offset[c] = 1/s, o
 	}
 	switch kind {
 	case kindInt8:
-		return append(buf, byte(int8(clip(math.MinInt8, math.MaxInt8))))
+		e.lo, e.hi = math.MinInt8, math.MaxInt8
 	case kindUint8:
-		return append(buf, byte(clip(0, math.MaxUint8)))
+		e.lo, e.hi = 0, math.MaxUint8
 	case kindInt16:
-		return order.AppendUint16(buf, uint16(int16(clip(math.MinInt16, math.MaxInt16))))
+		e.lo, e.hi = math.MinInt16, math.MaxInt16
 	case kindUint16:
-		return order.AppendUint16(buf, uint16(clip(0, math.MaxUint16)))
+		e.lo, e.hi = 0, math.MaxUint16
 	case kindInt24:
-		u := uint32(int32(clip(-1<<23, 1<<23-1)))
-		if bigEndian {
+		e.lo, e.hi = -1<<23, 1<<23-1
+	case kindInt32:
+		e.lo, e.hi = math.MinInt32, math.MaxInt32
+	case kindUint32:
+		e.lo, e.hi = 0, math.MaxUint32
+	}
+	return e
+}
+
+// append encodes value v of channel c, rounding to nearest and clipping
+// integers to their range (NaN becomes 0).
+func (e *sampleEncoder) append(buf []byte, c int, v float32) []byte {
+	x := (float64(v) - e.offset[c]) * e.inverse[c]
+	switch e.kind {
+	case kindFloat32:
+		return e.put32(buf, math.Float32bits(float32(x)))
+	case kindFloat64:
+		if e.bigEndian {
+			return binary.BigEndian.AppendUint64(buf, math.Float64bits(x))
+		}
+		return binary.LittleEndian.AppendUint64(buf, math.Float64bits(x))
+	}
+	x = math.Round(x)
+	switch {
+	case x != x:
+		x = 0
+	case x < e.lo:
+		x = e.lo
+	case x > e.hi:
+		x = e.hi
+	}
+	switch e.kind {
+	case kindInt8, kindUint8:
+		return append(buf, byte(int64(x)))
+	case kindInt16, kindUint16:
+		u := uint16(int64(x))
+		if e.bigEndian {
+			return append(buf, byte(u>>8), byte(u))
+		}
+		return append(buf, byte(u), byte(u>>8))
+	case kindInt24:
+		u := uint32(int64(x))
+		if e.bigEndian {
 			return append(buf, byte(u>>16), byte(u>>8), byte(u))
 		}
 		return append(buf, byte(u), byte(u>>8), byte(u>>16))
-	case kindInt32:
-		return order.AppendUint32(buf, uint32(int32(clip(math.MinInt32, math.MaxInt32))))
-	case kindUint32:
-		return order.AppendUint32(buf, uint32(clip(0, math.MaxUint32)))
-	case kindFloat32:
-		return order.AppendUint32(buf, math.Float32bits(float32(x)))
-	default:
-		return order.AppendUint64(buf, math.Float64bits(x))
+	default: // int32, uint32
+		return e.put32(buf, uint32(int64(x)))
 	}
+}
+
+func (e *sampleEncoder) put32(buf []byte, u uint32) []byte {
+	if e.bigEndian {
+		return binary.BigEndian.AppendUint32(buf, u)
+	}
+	return binary.LittleEndian.AppendUint32(buf, u)
 }
 
 // WriteRaw writes rec as bare samples following layout: the header bytes
@@ -219,10 +262,11 @@ func WriteRaw(w io.Writer, rec *Recording, layout RawLayout) error {
 			return fmt.Errorf("write raw: %w", err)
 		}
 	} else {
+		enc := newSampleEncoder(kind, big, len(rec.Channels), scaleOf)
 		buf := make([]byte, 0, 1<<16)
 		for c, ch := range rec.Channels {
 			for _, v := range ch.Samples {
-				buf = appendSample(buf, kind, big, v, scaleOf, c)
+				buf = enc.append(buf, c, v)
 				if len(buf) >= 1<<16-8 {
 					bw.Write(buf)
 					buf = buf[:0]
