@@ -10,6 +10,8 @@ import (
 	"os"
 	"sort"
 	"strings"
+
+	_ "spotloom/app/internal/localefix" // before Fyne reads the locale
 )
 
 // command is one sub-command. Each lives in its own file and registers
