@@ -14,8 +14,13 @@ import (
 // sample almost a pixel away does not claim a pixel it barely touches.
 const minCoverWeight = 0.05
 
-// maxPixels bounds the size of one frame.
-const maxPixels = 64 << 20
+// maxPixels bounds the size of one frame (4096 × 4096), and so the
+// accumulators (16 bytes a pixel).
+const maxPixels = 16 << 20
+
+// maxSplitPixels is the largest frame whose accumulators are kept once per
+// worker; a larger one is gridded by a single goroutine to bound memory.
+const maxSplitPixels = 4 << 20
 
 // workers is the number of goroutines the parallel stages use.
 func workers() int { return max(1, runtime.GOMAXPROCS(0)) }
@@ -221,6 +226,9 @@ func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, er
 	}
 	npx := cols * rows
 	w := min(workers(), max(1, len(in.lines)/64))
+	if npx > maxSplitPixels {
+		w = 1
+	}
 	sums := make([][]float64, w)
 	weights := make([][]float64, w)
 	clipped := make([]bool, len(in.lines))

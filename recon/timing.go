@@ -38,6 +38,9 @@ func Otsu(values []float32) OtsuResult {
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for i := 0; i < n; i += stride {
 		v := float64(values[i])
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			continue
+		}
 		if v < lo {
 			lo = v
 		}
@@ -46,7 +49,7 @@ func Otsu(values []float32) OtsuResult {
 		}
 	}
 	res := OtsuResult{Min: lo, Max: hi, Threshold: lo, LowMean: lo, HighMean: hi}
-	if !(hi > lo) {
+	if !(hi > lo) || math.IsInf(hi-lo, 0) {
 		return res
 	}
 	var hist [otsuBins]float64
@@ -54,6 +57,9 @@ func Otsu(values []float32) OtsuResult {
 	scale := otsuBins / (hi - lo)
 	for i := 0; i < n; i += stride {
 		v := float64(values[i])
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			continue
+		}
 		b := int((v - lo) * scale)
 		if b >= otsuBins {
 			b = otsuBins - 1
