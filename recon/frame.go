@@ -43,10 +43,10 @@ type Report struct {
 	DelayDeg      float64  `json:"delay_deg"`      // resolved sweep.delay_deg
 	Threshold     float64  `json:"threshold"`      // resolved timing.threshold
 	Strokes       int      `json:"strokes"`        // passes of the head found
-	Columns       int      `json:"columns"`        // of the first frame
-	Rows          int      `json:"rows"`           // of the first frame
+	Columns       int      `json:"columns"`        // of the first frame (a frame's own report: of that frame)
+	Rows          int      `json:"rows"`           // of the first frame (a frame's own report: of that frame)
 	PitchMM       float64  `json:"pitch_mm"`
-	Coverage      float64  `json:"coverage"` // fraction of pixels with data, all frames
+	Coverage      float64  `json:"coverage"` // fraction of pixels with data, all frames (a frame's own report: that frame)
 	Warnings      []string `json:"warnings"` // plain sentences
 
 	PulsesMissing int `json:"pulses_missing"` // index pulses filled in

@@ -128,5 +128,8 @@ func TestStrokesSplit(t *testing.T) {
 		if f.Stroke != i {
 			t.Errorf("frame %d is stroke %d", i, f.Stroke)
 		}
+		if f.Report.Columns != f.Width || f.Report.Rows != f.Height || !(f.Report.Coverage > 0.9) {
+			t.Errorf("frame %d report %d × %d coverage %g, frame %d × %d", i, f.Report.Columns, f.Report.Rows, f.Report.Coverage, f.Width, f.Height)
+		}
 	}
 }

@@ -577,6 +577,7 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 	}
 	res := &Result{Recipe: r}
 	totalClipped, totalGapRows, covered, pixels := 0, 0, 0, 0
+	var frameCover []float64
 	for gi, g := range groups {
 		if len(g) == 0 {
 			return nil, fmt.Errorf("rows.strokes %s: no lines in the first stroke", r.Rows.Strokes)
@@ -602,6 +603,7 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 		totalGapRows += st.gapRows
 		covered += st.covered
 		pixels += f.Width * f.Height
+		frameCover = append(frameCover, float64(st.covered)/float64(f.Width*f.Height))
 		res.Frames = append(res.Frames, f)
 		if gi == 0 {
 			rep.Columns, rep.Rows = f.Width, f.Height
@@ -618,8 +620,10 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 	}
 	rep.Warnings = append([]string{}, warns...)
 	res.Report = rep
-	for _, f := range res.Frames {
+	// Each frame's report describes that frame's own size and coverage.
+	for i, f := range res.Frames {
 		f.Report = rep
+		f.Report.Columns, f.Report.Rows, f.Report.Coverage = f.Width, f.Height, frameCover[i]
 		f.Report.Warnings = slices.Clone(rep.Warnings)
 		f.Recipe = r
 	}
