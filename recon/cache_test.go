@@ -118,3 +118,19 @@ func TestProgress(t *testing.T) {
 		}
 	}
 }
+
+// Null channels are taken from the role guess: the simulator's channel
+// order (detector, index, position) is found.
+func TestAutomaticChannels(t *testing.T) {
+	rig := baseRig()
+	r := rig.recipe()
+	r.Channels = recipe.Channels{}
+	s := NewSession(rig.recording())
+	got, err := s.Resolve(context.Background(), r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got.Channels.Detector != "0" || got.Channels.Index != "1" || got.Channels.Position != "2" {
+		t.Errorf("channels %+v, want detector 0, index 1, position 2", got.Channels)
+	}
+}

@@ -8,11 +8,15 @@ import (
 )
 
 // guessChannel picks the channel for a role the recipe leaves null, from
-// capture.GuessRoles: the most confident channel given that role.
-func guessChannel(rec *capture.Recording, role string) (int, error) {
+// capture.GuessRoles (run once per session): the most confident channel
+// given that role.
+func (s *Session) guessChannel(role string) (int, error) {
+	if s.roles == nil {
+		s.roles = capture.GuessRoles(s.rec)
+	}
 	best, conf := -1, -1.0
 	var seen []string
-	for _, g := range capture.GuessRoles(rec) {
+	for _, g := range s.roles {
 		seen = append(seen, fmt.Sprintf("%d=%s", g.Channel, g.Role))
 		if g.Role == role && g.Confidence > conf {
 			best, conf = g.Channel, g.Confidence

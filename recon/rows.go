@@ -137,7 +137,7 @@ type rowsResult struct {
 
 // at interpolates y at a (fractional) sample position.
 func (r *rowsResult) at(s float64) float64 {
-	p := (s-float64(r.blockLen)/2)/float64(r.blockLen) + 0
+	p := (s - float64(r.blockLen)/2) / float64(r.blockLen)
 	if p <= 0 {
 		return r.y[0]
 	}

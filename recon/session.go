@@ -73,6 +73,7 @@ type Session struct {
 	gridKey         string
 	grid            *Result
 	chanStats       map[int]*channelStats
+	roles           []capture.RoleGuess // the capture's guessed roles, once needed
 	// runs counts how often each stage was computed (not reused), for
 	// tests of the caching.
 	runs map[string]int
@@ -118,7 +119,7 @@ func (s *Session) resolveChannels(r *recipe.Recipe) (channels, error) {
 			if !need[role] {
 				continue
 			}
-			g, err := guessChannel(s.rec, role)
+			g, err := s.guessChannel(role)
 			if err != nil {
 				return c, err
 			}
