@@ -52,6 +52,7 @@ type ImageView struct {
 	toned   []uint8 // grey per frame pixel after tone; 0 where no data
 	covered []bool
 	fit     bool
+	autoFit bool // fit again on resize until the user zooms or pans
 	zoom    float32 // fyne units per mm
 	centreX float64 // mm at the centre of the view
 	centreY float64
@@ -60,7 +61,7 @@ type ImageView struct {
 
 // NewImageView returns an empty view that fits frames to its size.
 func NewImageView() *ImageView {
-	v := &ImageView{fit: true, zoom: 1}
+	v := &ImageView{fit: true, autoFit: true, zoom: 1}
 	v.ExtendBaseWidget(v)
 	return v
 }
@@ -74,7 +75,7 @@ func (v *ImageView) SetFrame(f *recon.Frame, t recon.Tone) {
 	v.tone = t
 	v.retone()
 	if old == nil || f == nil || !sameExtent(old, f) {
-		v.fit = true
+		v.fit, v.autoFit = true, true
 	}
 	v.mu.Unlock()
 	v.Refresh()
@@ -125,7 +126,7 @@ func (v *ImageView) retone() {
 // ZoomFit fits the whole frame into the view.
 func (v *ImageView) ZoomFit() {
 	v.mu.Lock()
-	v.fit = true
+	v.fit, v.autoFit = true, true
 	v.mu.Unlock()
 	v.Refresh()
 	v.zoomChanged()
@@ -135,6 +136,7 @@ func (v *ImageView) ZoomFit() {
 func (v *ImageView) ZoomBy(factor float32) {
 	v.mu.Lock()
 	v.applyFit()
+	v.autoFit = false
 	v.zoomAbout(factor, v.size.Width/2, v.size.Height/2)
 	v.mu.Unlock()
 	v.Refresh()
@@ -145,6 +147,7 @@ func (v *ImageView) ZoomBy(factor float32) {
 func (v *ImageView) ZoomPixels() {
 	v.mu.Lock()
 	v.applyFit()
+	v.autoFit = false
 	if v.frame != nil && v.frame.PitchXMM > 0 {
 		v.zoom = float32(1 / v.frame.PitchXMM)
 	}
@@ -238,6 +241,7 @@ func (v *ImageView) Scrolled(ev *fyne.ScrollEvent) {
 	}
 	v.mu.Lock()
 	v.applyFit()
+	v.autoFit = false
 	v.zoomAbout(float32(math.Pow(1.25, steps)), ev.Position.X, ev.Position.Y)
 	v.mu.Unlock()
 	v.Refresh()
@@ -248,6 +252,7 @@ func (v *ImageView) Scrolled(ev *fyne.ScrollEvent) {
 func (v *ImageView) Dragged(ev *fyne.DragEvent) {
 	v.mu.Lock()
 	v.applyFit()
+	v.autoFit = false
 	if v.zoom > 0 {
 		v.centreX -= float64(ev.Dragged.DX / v.zoom)
 		v.centreY += float64(ev.Dragged.DY / v.zoom)
@@ -318,11 +323,19 @@ type imageViewRenderer struct {
 
 func (r *imageViewRenderer) Layout(size fyne.Size) {
 	r.view.mu.Lock()
+	refit := false
 	if r.view.size != size {
-		// Keep the centre when the view changes size.
+		// A view the user has not zoomed keeps fitting; otherwise the
+		// centre stays where it was.
 		r.view.size = size
+		if r.view.autoFit && r.view.frame != nil {
+			r.view.fit, refit = true, true
+		}
 	}
 	r.view.mu.Unlock()
+	if refit {
+		defer r.view.zoomChanged()
+	}
 	r.raster.Resize(size)
 	r.raster.Move(fyne.NewPos(0, 0))
 	r.empty.Resize(fyne.NewSize(size.Width, 30))

@@ -141,6 +141,7 @@ func (ws *Workstation) build() {
 
 	ws.readout = widget.NewLabel("")
 	ws.readout.TextStyle = fyne.TextStyle{Monospace: true}
+	ws.readout.Truncation = fyne.TextTruncateEllipsis // never widens the window
 	ws.zoomLabel = widget.NewLabel("")
 	ws.frameLabel = widget.NewLabel("frame 1 of 1")
 	ws.prevFrame = widget.NewButtonWithIcon("", theme.NavigateBackIcon(), func() { ws.showFrame(ws.frameIndex - 1) })
@@ -158,7 +159,7 @@ func (ws *Workstation) build() {
 		ws.prevFrame, fixed(104, ws.frameLabel), ws.nextFrame,
 		widget.NewSeparator(),
 	)
-	viewBar = container.NewBorder(nil, nil, viewBar, nil, ws.readout)
+
 
 	ws.lineEntry = widget.NewEntry()
 	ws.lineEntry.SetPlaceHolder("line")
@@ -172,7 +173,8 @@ func (ws *Workstation) build() {
 		container.NewGridWrap(fyne.NewSize(90, ws.lineEntry.MinSize().Height), ws.lineEntry),
 		ws.followCheck,
 	)
-	stripBar = container.NewBorder(nil, nil, stripBar, TraceLegend())
+	// The legend scrolls rather than widening the window when it is narrow.
+	stripBar = container.NewBorder(nil, nil, stripBar, nil, container.NewHScroll(container.NewHBox(layout.NewSpacer(), TraceLegend())))
 	imageArea := container.NewBorder(viewBar, nil, nil, nil, ws.view)
 	stripArea := container.NewBorder(stripBar, nil, nil, nil, ws.strip)
 	middle := container.NewVSplit(imageArea, stripArea)
@@ -188,8 +190,10 @@ func (ws *Workstation) build() {
 	ws.cancel = widget.NewButtonWithIcon("Cancel", theme.CancelIcon(), ws.Cancel)
 	ws.cancel.Disable()
 	ws.progress.Hide()
-	status := container.NewBorder(nil, nil, ws.stage,
-		container.NewHBox(container.NewGridWrap(fyne.NewSize(220, ws.progress.MinSize().Height), ws.progress), ws.cancel))
+	ws.stage.Truncation = fyne.TextTruncateEllipsis
+	status := container.NewBorder(nil, nil, nil,
+		container.NewHBox(container.NewGridWrap(fyne.NewSize(220, ws.progress.MinSize().Height), ws.progress), ws.cancel),
+		container.NewGridWithColumns(2, ws.stage, ws.readout))
 
 	ws.undoButton = widget.NewButtonWithIcon("Undo", theme.ContentUndoIcon(), ws.Undo)
 	ws.redoButton = widget.NewButtonWithIcon("Redo", theme.ContentRedoIcon(), ws.Redo)
@@ -412,7 +416,7 @@ func (ws *Workstation) pointerMoved(p Pointer) {
 	if p.Covered {
 		value = fmt.Sprintf("%.4g", p.Value)
 	}
-	ws.readout.SetText(fmt.Sprintf("x %7.1f mm  y %7.1f mm  px %d,%d  value %s", p.XMM, p.YMM, p.Col, p.Row, value))
+	ws.readout.SetText(fmt.Sprintf("%s · x %.1f y %.1f mm · px %d,%d", value, p.XMM, p.YMM, p.Col, p.Row))
 	if ws.followLine {
 		ws.showLineAt(p.YMM)
 	}
