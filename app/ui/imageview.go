@@ -52,7 +52,7 @@ type ImageView struct {
 	toned   []uint8 // grey per frame pixel after tone; 0 where no data
 	covered []bool
 	fit     bool
-	autoFit bool // fit again on resize until the user zooms or pans
+	autoFit bool    // fit again on resize until the user zooms or pans
 	zoom    float32 // fyne units per mm
 	centreX float64 // mm at the centre of the view
 	centreY float64

@@ -160,7 +160,6 @@ func (ws *Workstation) build() {
 		widget.NewSeparator(),
 	)
 
-
 	ws.lineEntry = widget.NewEntry()
 	ws.lineEntry.SetPlaceHolder("line")
 	ws.lineEntry.OnSubmitted = func(s string) { ws.chooseLineNumber(s) }
