@@ -74,8 +74,8 @@ func Open(path string, opts Options) (*Recording, error) {
 
 // decode picks the reader for a file of the given size and name (used for
 // its extension and in hints) and reads it. layout, when not nil, is the raw
-// layout given or found beside the file; it is used unless the file is a
-// WAV and no layout was given in opts.
+// layout given or found beside the file; a found one is used unless the file
+// is a WAV, or text named as text (.csv, .txt, ...).
 func decode(r io.ReaderAt, size int64, name string, layout *RawLayout, opts Options) (*Recording, error) {
 	ext := strings.ToLower(filepath.Ext(name))
 	if size == 0 {
@@ -88,7 +88,7 @@ func decode(r io.ReaderAt, size int64, name string, layout *RawLayout, opts Opti
 	var rec *Recording
 	var err error
 	switch {
-	case opts.Layout != nil || (layout != nil && !isWAV(head)):
+	case opts.Layout != nil || (layout != nil && !isWAV(head) && !isNamedText(ext, head, size)):
 		rec, err = readRaw(r, size, *layout, opts)
 	case isWAV(head):
 		rec, err = readWAV(r, size, opts)
@@ -117,6 +117,13 @@ func decode(r io.ReaderAt, size int64, name string, layout *RawLayout, opts Opti
 		return nil, &FormatError{Format: rec.Source.Format, Place: wholeFile, Problem: err.Error()}
 	}
 	return rec, nil
+}
+
+// isNamedText reports whether a file is a text capture by both its name and
+// its content, so a layout file that happens to lie beside a CSV export does
+// not turn it into raw samples. A layout given explicitly still wins.
+func isNamedText(ext string, head []byte, size int64) bool {
+	return textExtensions[ext] && looksLikeText(head, size <= sniffBytes)
 }
 
 // unwrapPathError drops the path an *fs.PathError repeats, since the caller

@@ -46,7 +46,19 @@ type signalTraits struct {
 	// position read as the amplitude of a tone): its mean crossings come
 	// at a steady pace and its roughness is that of a sine at that pace.
 	toneLike float64
+	// highNoise is the standard deviation of the samples on the high level
+	// over the span between the levels: near 0 for an index sensor's clean
+	// logic level, larger for a detector's photon noise.
+	highNoise float64
+	// slowRoughness is the roughness of the signal averaged over blocks of
+	// slowBlock samples: white sensor noise drops by √slowBlock, a slow
+	// position signal keeps its shape, so it tells a slow signal with a
+	// little noise from a busy one.
+	slowRoughness float64
 }
+
+// slowBlock is the block length of slowRoughness.
+const slowBlock = 64
 
 // measureTraits measures one channel.
 func measureTraits(s []float32) signalTraits {
@@ -78,6 +90,7 @@ func measureTraits(s []float32) signalTraits {
 		return t
 	}
 	t.roughness = math.Sqrt(diffSq/(n-1)) / math.Sqrt(variance)
+	t.slowRoughness = blockRoughness(s, slowBlock)
 	// Levels from a 1024-bin histogram, robust to a few outliers.
 	const bins = 1024
 	var hist [bins]int
@@ -103,7 +116,8 @@ func measureTraits(s []float32) signalTraits {
 		span = hi - lo
 		low, high = lo, hi
 	}
-	var near, mid int
+	var near, mid, highCount int
+	var highSum, highSumSq float64
 	rising := make([]int, 0, 64)
 	state := false
 	upper, lower := low+0.6*span, low+0.4*span
@@ -111,6 +125,11 @@ func measureTraits(s []float32) signalTraits {
 		x := float64(v)
 		if x <= low+0.15*span || x >= high-0.15*span {
 			near++
+		}
+		if x >= high-0.15*span {
+			highCount++
+			highSum += x
+			highSumSq += x * x
 		}
 		if x > low+0.3*span && x < low+0.7*span {
 			mid++
@@ -126,6 +145,10 @@ func measureTraits(s []float32) signalTraits {
 	}
 	t.toneLike = toneFit(s, mean, math.Sqrt(variance), t.roughness)
 	t.twoLevel = float64(near) / n
+	if highCount > 1 {
+		m := highSum / float64(highCount)
+		t.highNoise = math.Sqrt(math.Max(0, highSumSq/float64(highCount)-m*m)) / span
+	}
 	t.middle = float64(mid) / n
 	t.edges = len(rising)
 	if len(rising) >= 3 {
@@ -145,6 +168,39 @@ func measureTraits(s []float32) signalTraits {
 		t.edgeSpread = 1
 	}
 	return t
+}
+
+// blockRoughness is the roughness (RMS first difference over standard
+// deviation) of the means of consecutive blocks of the given length; 0 when
+// there are too few blocks to tell.
+func blockRoughness(s []float32, block int) float64 {
+	nb := len(s) / block
+	if nb < 8 {
+		return math.Inf(1)
+	}
+	means := make([]float64, nb)
+	var sum float64
+	for b := range means {
+		var acc float64
+		for _, v := range s[b*block : (b+1)*block] {
+			acc += float64(v)
+		}
+		means[b] = acc / float64(block)
+		sum += means[b]
+	}
+	mean := sum / float64(nb)
+	var variance, diffSq float64
+	for b, m := range means {
+		variance += (m - mean) * (m - mean)
+		if b > 0 {
+			d := m - means[b-1]
+			diffSq += d * d
+		}
+	}
+	if variance <= 0 {
+		return math.Inf(1)
+	}
+	return math.Sqrt(diffSq/float64(nb-1)) / math.Sqrt(variance/float64(nb))
 }
 
 // toneFit scores a signal as a steady tone: rising crossings of the mean
@@ -201,7 +257,12 @@ func (t signalTraits) smoothScore() float64 {
 	if t.constant {
 		return 0
 	}
-	return math.Max(clamp01(1-t.roughness/0.05), t.toneLike) * (1 - t.pulseScore())
+	// A slow signal has small roughness at full rate, or (with sensor
+	// noise on it) at least after block averaging. The same limit on the
+	// averaged signal is a bandwidth bound slowBlock times tighter, so it
+	// still rejects a detector's busy signal and white noise (√2).
+	slow := math.Max(clamp01(1-t.roughness/0.05), clamp01(1-t.slowRoughness/0.05))
+	return math.Max(slow, t.toneLike) * (1 - t.pulseScore())
 }
 
 // GuessRoles guesses each channel's role from its samples alone: the index
@@ -245,31 +306,64 @@ func GuessRoles(rec *Recording) []RoleGuess {
 	confidence := func(best, second float64) float64 { return clamp01(best * (1 - 0.5*second/best)) }
 
 	if c, best, second := pick(func(c int) float64 {
-		return traits[c].pulseScore() * (1 - 0.5*math.Min(traits[c].edgeSpread, 1))
+		// An index sensor gives clean levels; a detector that happens to
+		// be two-level (an edge card) carries photon noise on its high
+		// level, which shows as roughness.
+		t := traits[c]
+		return t.pulseScore() * (1 - 0.5*math.Min(t.edgeSpread, 1)) * (1 - 0.5*clamp01(t.highNoise/0.02))
 	}); c >= 0 && best >= 0.3 {
 		guesses[c] = RoleGuess{c, RoleIndex, confidence(best, second)}
 		taken[c] = true
 	}
-	// Further pulse trains are step pulses.
-	for c := 0; c < n; c++ {
-		if !taken[c] && traits[c].pulseScore() >= 0.5 {
-			guesses[c] = RoleGuess{c, RoleSteps, 0.7 * traits[c].pulseScore()}
-			taken[c] = true
+	indexEdges := 0
+	for c := range guesses {
+		if guesses[c].Role == RoleIndex {
+			indexEdges = traits[c].edges
 		}
 	}
-	if c, best, second := pick(func(c int) float64 { return traits[c].smoothScore() }); c >= 0 && best >= 0.3 {
+	isPulse := func(c int) bool { return traits[c].pulseScore() >= 0.5 }
+	if c, best, second := pick(func(c int) float64 {
+		if isPulse(c) {
+			return 0
+		}
+		return traits[c].smoothScore()
+	}); c >= 0 && best >= 0.3 {
 		guesses[c] = RoleGuess{c, RolePosition, confidence(best, second)}
 		taken[c] = true
 	}
 	if c, best, second := pick(func(c int) float64 {
 		t := traits[c]
-		if t.constant {
+		if t.constant || isPulse(c) {
 			return 0
 		}
 		return clamp01(t.roughness/0.1) * (1 - t.pulseScore()) * (1 - t.toneLike)
 	}); c >= 0 && best > 0 {
 		guesses[c] = RoleGuess{c, RoleDetector, confidence(best, second)}
 		taken[c] = true
+	} else if indexEdges > 0 {
+		// Every capture has a detector. When none of the busy kind is left,
+		// a scene of few, large contrasts (an edge card, a bar target) makes
+		// the detector itself a two-level pulse train: one beam-on burst per
+		// line, so about as many edges as the index has. Step pulses keep
+		// their own pace.
+		c, _, _ := pick(func(c int) float64 {
+			if !isPulse(c) || traits[c].edges == 0 {
+				return 0
+			}
+			ratio := math.Abs(math.Log(float64(traits[c].edges) / float64(indexEdges)))
+			return 1 / (1 + ratio)
+		})
+		if c >= 0 {
+			guesses[c] = RoleGuess{c, RoleDetector, 0.5 * traits[c].pulseScore()}
+			taken[c] = true
+		}
+	}
+	// Further pulse trains are step pulses.
+	for c := 0; c < n; c++ {
+		if !taken[c] && isPulse(c) {
+			guesses[c] = RoleGuess{c, RoleSteps, 0.7 * traits[c].pulseScore()}
+			taken[c] = true
+		}
 	}
 	sort.Slice(guesses, func(i, j int) bool { return guesses[i].Channel < guesses[j].Channel })
 	return guesses

@@ -83,3 +83,74 @@ func TestGuessRolesTone(t *testing.T) {
 		}
 	}
 }
+
+// TestGuessRolesTwoLevelDetector: a scene of one large contrast (an edge
+// card) makes the detector a two-level burst per line, which looks like a
+// pulse train. It must still be the detector, not a steps channel; a real
+// steps channel beside it keeps its own pace and stays steps.
+func TestGuessRolesTwoLevelDetector(t *testing.T) {
+	const rate, seconds, lineHz, stepHz = 48000.0, 2.0, 88.0, 613.0
+	n := int(rate * seconds)
+	rng := rand.New(rand.NewPCG(3, 9))
+	det, idx, pos, steps := make([]float32, n), make([]float32, n), make([]float32, n), make([]float32, n)
+	for i := range det {
+		tm := float64(i) / rate
+		phase := math.Mod(tm*lineHz, 1)
+		if phase < 0.1 {
+			idx[i] = 4.8
+		}
+		// beam in the field from 20 % to 70 % of the line, bright card on
+		// the first half of the field
+		if phase > 0.2 && phase < 0.45 {
+			det[i] = 2.5
+		}
+		// photon noise on the bright part, a little electronics noise elsewhere
+		det[i] += float32((0.002 + 0.02*float64(det[i])) * rng.NormFloat64())
+		pos[i] = float32(1 + 0.8*tm)
+		if math.Mod(tm*stepHz, 1) < 0.2 {
+			steps[i] = 3.3
+		}
+	}
+	cases := []struct {
+		name  string
+		chans [][]float32
+		want  []string
+	}{
+		{"with position", [][]float32{det, idx, pos}, []string{RoleDetector, RoleIndex, RolePosition}},
+		{"with steps", [][]float32{steps, det, idx}, []string{RoleSteps, RoleDetector, RoleIndex}},
+	}
+	for _, tc := range cases {
+		rec := &Recording{SampleRateHz: rate}
+		for _, s := range tc.chans {
+			rec.Channels = append(rec.Channels, Channel{Samples: s})
+		}
+		for c, g := range GuessRoles(rec) {
+			if g.Role != tc.want[c] {
+				t.Errorf("%s: channel %d guessed %s (%.2f), want %s", tc.name, c, g.Role, g.Confidence, tc.want[c])
+			}
+		}
+	}
+}
+
+// TestGuessRolesNoisySlowPosition: a head that moved only a little during a
+// short capture leaves a position signal whose sensor noise is comparable
+// to its swing. Block averaging must still find it slow, while a channel of
+// white noise (roughness √2, the closed form for independent samples) is
+// never taken for a position.
+func TestGuessRolesNoisySlowPosition(t *testing.T) {
+	det, idx, _ := scannerLike(48000, 2, 5)
+	rng := rand.New(rand.NewPCG(11, 12))
+	pos, noise := make([]float32, len(det)), make([]float32, len(det))
+	for i := range pos {
+		tm := float64(i) / 48000
+		pos[i] = float32(-0.75+0.04*tm) + float32(0.01*rng.NormFloat64())
+		noise[i] = float32(rng.NormFloat64())
+	}
+	rec := &Recording{SampleRateHz: 48000, Channels: []Channel{{Samples: det}, {Samples: idx}, {Samples: pos}}}
+	if g := GuessRoles(rec)[2]; g.Role != RolePosition {
+		t.Errorf("slow noisy position guessed %s (%.2f)", g.Role, g.Confidence)
+	}
+	if tr := measureTraits(noise); tr.smoothScore() > 0.05 {
+		t.Errorf("white noise scores %.2f as a slow signal (roughness %.3f, block roughness %.3f)", tr.smoothScore(), tr.roughness, tr.slowRoughness)
+	}
+}

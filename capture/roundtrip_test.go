@@ -167,3 +167,43 @@ func TestLargeWAVParallel(t *testing.T) {
 		}
 	}
 }
+
+// TestCSVBesideLayoutStaysCSV: a layout file that lies beside a CSV export
+// (say, from a raw capture of the same name) must not turn the text into raw
+// samples; only a layout given explicitly does.
+func TestCSVBesideLayoutStaysCSV(t *testing.T) {
+	rec := testRecording(3, 200, 10000)
+	dir := t.TempDir()
+	p := filepath.Join(dir, "cap.csv")
+	var buf bytes.Buffer
+	if err := WriteCSV(&buf, rec, []string{"made by a test"}); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(p, buf.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	l := RawLayout{SampleType: "int16", Channels: 3, Interleaved: true, SampleRateHz: 10000}
+	if err := WriteLayoutFile(filepath.Join(dir, "cap.layout.json"), l); err != nil {
+		t.Fatal(err)
+	}
+	got, err := Open(p, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got.Source.Format != "csv" || got.Frames() != 200 {
+		t.Fatalf("found layout overrode the CSV: format %q, %d frames", got.Source.Format, got.Frames())
+	}
+	// The rate comes from the CSV's own time column (10 kHz, written above).
+	if math.Abs(got.SampleRateHz-10000) > 1e-6*10000 {
+		t.Errorf("rate %g Hz, want 10000", got.SampleRateHz)
+	}
+	// Given explicitly, the layout is obeyed: the text is read as int16
+	// frames (and here fails on its size, which is not whole frames).
+	forced, err := Open(p, Options{Layout: &l})
+	switch {
+	case err == nil && forced.Source.Format != "raw":
+		t.Errorf("explicit layout: format %q, want raw", forced.Source.Format)
+	case err != nil && !strings.Contains(err.Error(), "raw"):
+		t.Errorf("explicit layout: %v, want a raw reader's error", err)
+	}
+}
