@@ -258,10 +258,11 @@ func (t signalTraits) smoothScore() float64 {
 		return 0
 	}
 	// A slow signal has small roughness at full rate, or (with sensor
-	// noise on it) at least after block averaging. The same limit on the
-	// averaged signal is a bandwidth bound slowBlock times tighter, so it
-	// still rejects a detector's busy signal and white noise (√2).
-	slow := math.Max(clamp01(1-t.roughness/0.05), clamp01(1-t.slowRoughness/0.05))
+	// noise on it) at least after block averaging. A limit of 0.15 on the
+	// averaged signal bounds its bandwidth to a few per cent of the block
+	// rate (2·sin(πf/fb) < 0.15), well below a line rate's structure in a
+	// detector signal, and far below white noise (√2).
+	slow := math.Max(clamp01(1-t.roughness/0.05), clamp01(1-t.slowRoughness/0.15))
 	return math.Max(slow, t.toneLike) * (1 - t.pulseScore())
 }
 
