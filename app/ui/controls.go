@@ -20,20 +20,23 @@ type controlPanel struct {
 	ws    *Workstation
 	quiet bool
 
-	delay       *numberControl
-	delayAuto   *widget.Button
-	delayNote   *widget.Label
-	offsetsBox  *fyne.Container
-	offsets     []*numberControl
-	estimate    *widget.Button
-	field       *numberControl
-	distance    *numberControl
-	projection  *widget.Select
-	pitch       *numberControl
-	calibration *widget.Entry
-	calApply    *widget.Button
-	rowsNote    *widget.Label
-	strokes     *widget.Select
+	threshold     *numberControl
+	thresholdAuto *widget.Button
+	edge          *widget.Select
+	delay         *numberControl
+	delayAuto     *widget.Button
+	delayNote     *widget.Label
+	offsetsBox    *fyne.Container
+	offsets       []*numberControl
+	estimate      *widget.Button
+	field         *numberControl
+	distance      *numberControl
+	projection    *widget.Select
+	pitch         *numberControl
+	calibration   *widget.Entry
+	calApply      *widget.Button
+	rowsNote      *widget.Label
+	strokes       *widget.Select
 
 	window    *numberControl
 	level     *numberControl
@@ -74,6 +77,18 @@ func keyFor(name string, keys, names []string) string {
 
 func newControlPanel(ws *Workstation) *controlPanel {
 	c := &controlPanel{ws: ws}
+	c.threshold = newNumberControl("Index threshold", 0, 1, 0, "%.4g", func(v float64) {
+		ws.change("threshold", func(r *recipe.Recipe) { r.Timing.Threshold = recipe.Float(v) })
+	})
+	c.thresholdAuto = widget.NewButton("Find automatically", func() {
+		ws.change("threshold auto", func(r *recipe.Recipe) { r.Timing.Threshold = nil })
+	})
+	c.edge = widget.NewSelect([]string{"rising", "falling"}, func(e string) {
+		if c.quiet {
+			return
+		}
+		ws.change("edge", func(r *recipe.Recipe) { r.Timing.Edge = e })
+	})
 	c.delay = newNumberControl("Delay after the index edge (°)", 0, 90, 0.01, "%.2f", func(v float64) {
 		ws.change("delay", func(r *recipe.Recipe) { r.Sweep.DelayDeg = recipe.Float(v) })
 	})
@@ -150,6 +165,7 @@ func newControlPanel(ws *Workstation) *controlPanel {
 	c.box = container.NewVBox(
 		widget.NewSeparator(),
 		heading("Line alignment"),
+		c.threshold.box, container.NewHBox(c.thresholdAuto, widget.NewLabel("edge"), c.edge),
 		c.delay.box, container.NewHBox(c.delayAuto), c.delayNote,
 		widget.NewLabel("Aperture offsets (°)"),
 		c.offsetsBox, c.estimate,
@@ -239,6 +255,8 @@ func (c *controlPanel) show(s settings, res *Result) {
 		c.delayAuto.Disable()
 	}
 
+	c.showThreshold(r, resolved, res)
+
 	apertures := resolved.Sweep.Apertures
 	if r.Sweep.Law == "sine" {
 		apertures = 0
@@ -270,6 +288,34 @@ func (c *controlPanel) show(s settings, res *Result) {
 		frame = res.Frames[min(c.ws.frameIndex, len(res.Frames)-1)]
 	}
 	c.showToneQuiet(s.Tone, frame)
+}
+
+// showThreshold shows the index threshold, its range being the index
+// channel's span, and the edge polarity.
+func (c *controlPanel) showThreshold(r, resolved recipe.Recipe, res *Result) {
+	if _, idx, _ := c.ws.roleChannels(resolved); idx >= 0 && c.ws.rec != nil {
+		span := channelRange(c.ws.rec, idx)
+		if span[1] > span[0] {
+			c.threshold.slider.Step = (span[1] - span[0]) / 1000
+			c.threshold.setRange(span[0], span[1])
+		}
+	}
+	switch {
+	case r.Timing.Threshold != nil:
+		c.threshold.set(*r.Timing.Threshold)
+		c.thresholdAuto.Enable()
+	case resolved.Timing.Threshold != nil:
+		c.threshold.set(*resolved.Timing.Threshold)
+		c.thresholdAuto.Disable()
+	default:
+		c.threshold.set(res.Report.Threshold)
+		c.thresholdAuto.Disable()
+	}
+	edge := r.Timing.Edge
+	if edge == "" {
+		edge = resolved.Timing.Edge
+	}
+	c.edge.SetSelected(edge)
 }
 
 func rowsDescription(rows recipe.Rows) string {

@@ -370,3 +370,27 @@ func TestExportPlanNumbersPNGFrames(t *testing.T) {
 		t.Errorf("a TIFF export of 3 frames should be one file of 3 pages, got %v", plan)
 	}
 }
+
+func TestThresholdControlReachesTheEngine(t *testing.T) {
+	ws, _ := newTestWorkstation(t)
+	lines := ws.result.Report.Lines
+	_, idx, _ := ws.roleChannels(ws.result.Recipe)
+	span := channelRange(ws.rec, idx)
+	// Any threshold between the index pulse's low and high levels crosses
+	// every pulse once, so the number of lines cannot change; at 30 % and
+	// 70 % of the swing both levels are well clear of the noise.
+	for _, frac := range []float64{0.3, 0.7} {
+		level := span[0] + frac*(span[1]-span[0])
+		ws.controls.threshold.typed(fmt.Sprintf("%.5f", level))
+		ws.Wait()
+		if p := ws.Problem(); p != "" {
+			t.Fatalf("threshold %.3f refused: %s", level, p)
+		}
+		if got := ws.result.Report.Threshold; math.Abs(got-level) > 1e-4 {
+			t.Errorf("the build used threshold %.5f, want %.5f", got, level)
+		}
+		if got := ws.result.Report.Lines; got != lines {
+			t.Errorf("threshold at %.0f %% of the swing found %d lines, the automatic one %d", 100*frac, got, lines)
+		}
+	}
+}
