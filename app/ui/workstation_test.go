@@ -2,6 +2,7 @@ package ui
 
 import (
 	"bytes"
+	"context"
 	"fmt"
 	"image"
 	"math"
@@ -16,8 +17,10 @@ import (
 	"golang.org/x/image/tiff"
 	"gonum.org/v1/gonum/stat"
 
+	"spotloom/capture"
 	"spotloom/recon"
 	"spotloom/recon/export"
+	"spotloom/recon/recipe"
 )
 
 // newTestWorkstation opens the demo in a headless window.
@@ -392,5 +395,56 @@ func TestThresholdControlReachesTheEngine(t *testing.T) {
 		if got := ws.result.Report.Lines; got != lines {
 			t.Errorf("threshold at %.0f %% of the swing found %d lines, the automatic one %d", 100*frac, got, lines)
 		}
+	}
+}
+
+// slowEngine builds the first time and then waits for cancellation, like a
+// build too long to sit through.
+type slowEngine struct {
+	Engine
+	builds  int
+	started chan struct{}
+}
+
+func (e *slowEngine) Build(ctx context.Context, r recipe.Recipe, progress func(string, float64)) (*Result, error) {
+	e.builds++
+	if e.builds == 1 {
+		return e.Engine.Build(ctx, r, progress)
+	}
+	e.started <- struct{}{}
+	<-ctx.Done()
+	return nil, ctx.Err()
+}
+
+func TestCancelKeepsImageAndSettings(t *testing.T) {
+	a := test.NewTempApp(t)
+	w := a.NewWindow("Spotloom test")
+	slow := &slowEngine{started: make(chan struct{}, 1)}
+	ws := New(a, w, Options{NewEngine: func(rec *capture.Recording) Engine {
+		slow.Engine = NewSessionEngine(rec)
+		return slow
+	}})
+	w.Resize(fyne.NewSize(1280, 800))
+	ws.OpenDemo()
+	ws.Wait()
+	if ws.result == nil {
+		t.Fatalf("demo did not open: %s", ws.Problem())
+	}
+	shown, before := ws.result, ws.cur.clone()
+	ws.controls.delay.typed(fmt.Sprintf("%.3f", ws.result.Report.DelayDeg+3))
+	<-slow.started
+	if !ws.work.busy() {
+		t.Fatal("the build is not running")
+	}
+	ws.Cancel()
+	ws.Wait()
+	if ws.result != shown {
+		t.Error("cancelling replaced the image")
+	}
+	if !sameSettings(ws.cur, before) {
+		t.Error("cancelling left the settings of the build that never finished")
+	}
+	if ws.Problem() != "" || w.Canvas().Overlays().Top() != nil {
+		t.Errorf("cancelling is not a problem, got %q", ws.Problem())
 	}
 }
