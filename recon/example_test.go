@@ -25,7 +25,7 @@ func ExampleSession_Build() {
 	}
 	rep := res.Report
 	fmt.Printf("%d lines at %.0f lines/s, %.0f rev/min\n", rep.Lines, rep.LineRateHz, rep.RPMMean)
-	fmt.Printf("delay %.1f°, frame %d × %d at %g mm\n", rep.DelayDeg, rep.Columns, rep.Rows, rep.PitchMM)
+	fmt.Printf("delay %.0f°, frame %d × %d at %g mm\n", rep.DelayDeg, rep.Columns, rep.Rows, rep.PitchMM)
 
 	r := res.Recipe
 	d := *r.Sweep.DelayDeg + 0.5
@@ -35,9 +35,9 @@ func ExampleSession_Build() {
 		fmt.Println(err)
 		return
 	}
-	fmt.Printf("delay %.1f°\n", again.Report.DelayDeg)
+	fmt.Printf("delay moved by %.2f°, same %d lines\n", again.Report.DelayDeg-rep.DelayDeg, len(again.Lines))
 	// Output:
 	// 840 lines at 42 lines/s, 420 rev/min
-	// delay 8.9°, frame 269 × 402 at 1 mm
-	// delay 9.4°
+	// delay 9°, frame 269 × 402 at 1 mm
+	// delay moved by 0.50°, same 840 lines
 }

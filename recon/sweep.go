@@ -318,33 +318,41 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 	}
 	start := cross(bestStart-1, bestStart)
 	// The half-way crossing marks where the bright part of the scene
-	// starts; the beam enters the field where the profile first leaves the
-	// beam-off level, which a dim background (air) shows as a small step.
-	// Walk back from the bright run while the profile stays clearly above
-	// the beam-off level, then take the middle of that small step.
+	// starts; the beam enters the field at the first step up of the
+	// profile, which a dim background (air) shows as a small one. A step
+	// survives AC coupling and drift, which bend the beam-off level but
+	// change it only slowly, so the search is for the earliest rise well
+	// above the bin-to-bin noise (6 σ, σ from the median absolute step)
+	// in the beam-off stretch before the bright run; the start is the
+	// middle of that rise.
 	offLen := bins - bestLen
 	if offLen > 20 {
-		var offVals, diffs []float64
-		for i := bestLen + offLen/10; i < bestLen+offLen-offLen/10; i++ {
-			b := (bestStart + i) % bins
-			offVals = append(offVals, prof[b])
-			diffs = append(diffs, math.Abs(prof[(b+1)%bins]-prof[b]))
+		at := func(b int) float64 { return prof[((b%bins)+bins)%bins] }
+		steps := make([]float64, bins)
+		for b := range steps {
+			steps[b] = math.Abs(at(b+1) - at(b))
 		}
-		// Local beam-off level: the part of the off stretch nearest the start.
-		near := offVals[len(offVals)*3/4:]
-		offLevel := median(near)
-		sigma := 1.4826 * median(diffs) / math.Sqrt2
-		limit := offLevel + 6*sigma
-		b := bestStart - 1
-		for k := 0; k < offLen/2 && prof[(b+bins)%bins] > limit; k++ {
-			b--
+		limit := 6 * 1.4826 * median(steps)
+		edge := -1
+		for b := bestStart - offLen*8/10; b < bestStart; b++ {
+			if at(b+1)-at(b) > limit {
+				edge = b
+				break
+			}
 		}
-		if b < bestStart-1 {
-			// Bins b+1 … are above the off level; b is the last off bin.
-			step := median([]float64{prof[(b+2+bins)%bins], prof[(b+3+bins)%bins], prof[(b+4+bins)%bins]})
-			half := offLevel + (step-offLevel)/2
-			for j := b; j < b+4; j++ {
-				lo, hi := prof[(j+bins)%bins], prof[(j+1+bins)%bins]
+		if edge >= 0 {
+			// The beam switches on within a bin or two (the detector's
+			// response); a slower rise after it is the scene's own edge,
+			// blurred by the spot, and is not part of the step.
+			riseEnd := edge + 1
+			if at(edge+2)-at(edge+1) > 0.5*(at(edge+1)-at(edge)) {
+				riseEnd = edge + 2
+			}
+			before := median([]float64{at(edge), at(edge - 1), at(edge - 2)})
+			after := at(riseEnd)
+			half := (before + after) / 2
+			for j := edge; j < riseEnd; j++ {
+				lo, hi := at(j), at(j+1)
 				if lo < half && hi >= half {
 					start = (float64(j) + 0.5 + (half-lo)/(hi-lo)) * binDeg
 					break
