@@ -415,7 +415,7 @@ func (ws *Workstation) pointerMoved(p Pointer) {
 	if p.Covered {
 		value = fmt.Sprintf("%.4g", p.Value)
 	}
-	ws.readout.SetText(fmt.Sprintf("%s · x %.1f y %.1f mm · px %d,%d", value, p.XMM, p.YMM, p.Col, p.Row))
+	ws.readout.SetText(fmt.Sprintf("value %s · x %.1f y %.1f mm · px %d,%d", value, p.XMM, p.YMM, p.Col, p.Row))
 	if ws.followLine {
 		ws.showLineAt(p.YMM)
 	}
