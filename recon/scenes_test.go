@@ -104,3 +104,47 @@ func TestEveryPositionSource(t *testing.T) {
 		}
 	}
 }
+
+// One index pulse per revolution: lines at equal fractions of it, the
+// delay and offsets measured as the truth defines them for that case
+// (offset k after delay + k·360°/apertures), every line found.
+func TestOnePulsePerRevolutionAgainstTruth(t *testing.T) {
+	ctx := context.Background()
+	rig := sampledata.DemoRig()
+	rig.DurationS = 8
+	rig.Index.PulsesPerRev = 1
+	rig.Position.NonlinearityPct = 0 // the two-point calibration cannot know a bow
+	rec, truth, err := sampledata.Simulate(ctx, rig, "dot-grid", sampledata.SimOptions{Seed: 4})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := NewSession(rec)
+	r := rig.Recipe()
+	off, err := EstimateApertureOffsets(ctx, s, r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r.Sweep.ApertureOffsetsDeg = off
+	res, err := s.Build(ctx, r, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k := range off {
+		got := res.Report.DelayDeg + off[k]
+		want := truth.DelayDeg + truth.ApertureOffsetsDeg[k]
+		if math.Abs(got-want) > 0.3 {
+			t.Errorf("aperture %d field starts %.3f° after its line start, truth %.3f°", k, got, want)
+		}
+	}
+	if len(res.Lines) != len(truth.Lines) {
+		t.Errorf("%d lines, truth %d", len(res.Lines), len(truth.Lines))
+	}
+	if e := math.Abs(res.Report.RPMMean-truth.RevPerMinMean) / truth.RevPerMinMean; e > 0.002 {
+		t.Errorf("rpm %.3f, truth %.3f", res.Report.RPMMean, truth.RevPerMinMean)
+	}
+	rms, sx, sy, n := truthDotFit(t, res.Frames[0], truth.Dots, truth.DotDiameterMM)
+	t.Logf("one pulse per revolution: %d dots, rms %.3f mm, scale %.5f %.5f, offsets %.3f (truth %.3f)", n, rms, sx, sy, off, truth.ApertureOffsetsDeg)
+	if rms > 0.5 || math.Abs(sx-1) > 0.005 {
+		t.Errorf("rms %.3f mm, scale x %.5f", rms, sx)
+	}
+}

@@ -463,14 +463,21 @@ func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit s
 			}
 		}
 	default:
-		// One pulse per revolution: lines at equal fractions of it.
-		for i := 0; i < n-1; i++ {
+		// One pulse per revolution: lines at equal fractions of it. The
+		// last pulse's revolution takes the period before it, and keeps
+		// the lines that start inside the capture.
+		for i := 0; i < n; i++ {
 			if gapAfter[i] {
 				continue
 			}
 			rev := period(i)
-			res.revPeriods = append(res.revPeriods, rev)
+			if i < n-1 {
+				res.revPeriods = append(res.revPeriods, rev)
+			}
 			for k := 0; k < p.Apertures; k++ {
+				if start := res.edges[i] + float64(k)*rev/float64(p.Apertures); start >= float64(len(x)) {
+					break
+				}
 				res.lines = append(res.lines, lineTiming{
 					edge:     res.edges[i] + float64(k)*rev/float64(p.Apertures),
 					period:   rev / float64(p.Apertures),
