@@ -36,80 +36,16 @@ func EstimateApertureOffsets(ctx context.Context, s *Session, r recipe.Recipe) (
 	t := s.timing
 	det := s.rec.Channels[rs.ch.detector].Samples
 	sw := rs.r.Sweep
-	spacing := apertureSpacingDeg(sw)
-	const margin = 3.0 // degrees searched either way
-	const binDeg = 0.02
-	from := *sw.DelayDeg - margin
-	nb := int((sw.FieldDeg + 2*margin) / binDeg)
-	maxLag := int(margin / binDeg)
-	profile := func(lt lineTiming, dst []float64) bool {
-		for b := range dst {
-			alpha := from + (float64(b)+0.5)*binDeg
-			v, ok := sampleAt(det, lt.edge+alpha/spacing*lt.period)
-			if !ok {
-				return false
-			}
-			dst[b] = v
-		}
-		return true
+	// Coarse: 0.1° steps over ±3°; fine: 0.02° steps within ±0.16° of the
+	// coarse peak. Both use the same pairs of lines.
+	const margin = 3.0
+	coarse, err := offsetCorrelation(ctx, t, det, sw, n, 0.1, make([]float64, n), margin)
+	if err != nil {
+		return nil, err
 	}
-	corr := make([][]float64, n) // corr[k][lag]: aperture k against k+1
-	for k := range corr {
-		corr[k] = make([]float64, 2*maxLag+1)
-	}
-	a := make([]float64, nb)
-	b := make([]float64, nb)
-	used := make([]int, n)
-	stride := 1 + len(t.lines)/4000
-	for i := 0; i+1 < len(t.lines); i += stride {
-		if i%512 == 0 && ctx.Err() != nil {
-			return nil, ctx.Err()
-		}
-		l0, l1 := t.lines[i], t.lines[i+1]
-		if l1.aperture != (l0.aperture+1)%n || !profile(l0, a) || !profile(l1, b) {
-			continue
-		}
-		// Normalised correlation of the middle of a with b shifted by lag.
-		lo, hi := maxLag, nb-maxLag
-		ma, sa := meanStd(a[lo:hi])
-		if sa == 0 {
-			continue
-		}
-		for lag := -maxLag; lag <= maxLag; lag++ {
-			mb, sb := meanStd(b[lo+lag : hi+lag])
-			if sb == 0 {
-				continue
-			}
-			c := 0.0
-			for j := lo; j < hi; j++ {
-				c += (a[j] - ma) * (b[j+lag] - mb)
-			}
-			corr[l0.aperture][lag+maxLag] += c / (sa * sb * float64(hi-lo))
-		}
-		used[l0.aperture]++
-	}
-	diffs := make([]float64, n)
-	for k := 0; k < n; k++ {
-		if used[k] == 0 {
-			return nil, fmt.Errorf("no pair of lines from apertures %d and %d could be compared: the capture is too short", k, (k+1)%n)
-		}
-		c := corr[k]
-		best := 0
-		for j := range c {
-			if c[j] > c[best] {
-				best = j
-			}
-		}
-		if c[best]/float64(used[k]) < 0.3 {
-			return nil, fmt.Errorf("neighbouring lines from apertures %d and %d do not match (correlation %.2f): the scene has too little detail across the field to measure offsets", k, (k+1)%n, c[best]/float64(used[k]))
-		}
-		d := 0.0
-		if best > 0 && best < len(c)-1 {
-			if den := c[best-1] - 2*c[best] + c[best+1]; den != 0 {
-				d = 0.5 * (c[best-1] - c[best+1]) / den
-			}
-		}
-		diffs[k] = (float64(best-maxLag) + d) * binDeg
+	diffs, err := offsetCorrelation(ctx, t, det, sw, n, 0.02, coarse, 0.16)
+	if err != nil {
+		return nil, err
 	}
 	closing := 0.0
 	for _, d := range diffs {
@@ -133,4 +69,97 @@ func meanStd(v []float64) (float64, float64) {
 		s += (x - m) * (x - m)
 	}
 	return m, math.Sqrt(s / float64(len(v)))
+}
+
+// offsetCorrelation returns, for each aperture k, the lag (degrees) that
+// best aligns the detector profiles of lines from aperture k+1 with those
+// of the lines from aperture k just before them: the normalised
+// cross-correlation, summed over up to about 1000 pairs, is searched in
+// steps of binDeg within ±halfDeg of centre[k], and its peak refined by a
+// parabola through the three best points.
+func offsetCorrelation(ctx context.Context, t *timingResult, det []float32, sw recipe.Sweep, n int, binDeg float64, centre []float64, halfDeg float64) ([]float64, error) {
+	spacing := apertureSpacingDeg(sw)
+	maxShift := 0.0
+	for _, c := range centre {
+		maxShift = math.Max(maxShift, math.Abs(c))
+	}
+	maxLag := int(math.Ceil((halfDeg + maxShift) / binDeg))
+	half := int(math.Ceil(halfDeg / binDeg))
+	from := *sw.DelayDeg - float64(maxLag)*binDeg
+	nb := int(sw.FieldDeg/binDeg) + 2*maxLag
+	profile := func(lt lineTiming, dst []float64) bool {
+		for b := range dst {
+			alpha := from + (float64(b)+0.5)*binDeg
+			v, ok := sampleAt(det, lt.edge+alpha/spacing*lt.period)
+			if !ok {
+				return false
+			}
+			dst[b] = v
+		}
+		return true
+	}
+	corr := make([][]float64, n) // corr[k][j]: lag = centre lag − half + j
+	for k := range corr {
+		corr[k] = make([]float64, 2*half+1)
+	}
+	centreLag := make([]int, n)
+	for k := range centreLag {
+		centreLag[k] = int(math.Round(centre[k] / binDeg))
+	}
+	a := make([]float64, nb)
+	b := make([]float64, nb)
+	used := make([]int, n)
+	stride := 1 + len(t.lines)/1000
+	lo, hi := maxLag, nb-maxLag
+	for i := 0; i+1 < len(t.lines); i += stride {
+		if i%256 == 0 && ctx.Err() != nil {
+			return nil, ctx.Err()
+		}
+		l0, l1 := t.lines[i], t.lines[i+1]
+		if l1.aperture != (l0.aperture+1)%n || !profile(l0, a) || !profile(l1, b) {
+			continue
+		}
+		k := l0.aperture
+		ma, sa := meanStd(a[lo:hi])
+		if sa == 0 {
+			continue
+		}
+		for j := range corr[k] {
+			lag := centreLag[k] - half + j
+			mb, sb := meanStd(b[lo+lag : hi+lag])
+			if sb == 0 {
+				continue
+			}
+			c := 0.0
+			for q := lo; q < hi; q++ {
+				c += (a[q] - ma) * (b[q+lag] - mb)
+			}
+			corr[k][j] += c / (sa * sb * float64(hi-lo))
+		}
+		used[k]++
+	}
+	out := make([]float64, n)
+	for k := 0; k < n; k++ {
+		if used[k] == 0 {
+			return nil, fmt.Errorf("no pair of lines from apertures %d and %d could be compared: the capture is too short", k, (k+1)%n)
+		}
+		c := corr[k]
+		best := 0
+		for j := range c {
+			if c[j] > c[best] {
+				best = j
+			}
+		}
+		if r := c[best] / float64(used[k]); r < 0.3 {
+			return nil, fmt.Errorf("neighbouring lines from apertures %d and %d do not match (correlation %.2f): the scene has too little detail across the field to measure offsets", k, (k+1)%n, r)
+		}
+		d := 0.0
+		if best > 0 && best < len(c)-1 {
+			if den := c[best-1] - 2*c[best] + c[best+1]; den != 0 {
+				d = 0.5 * (c[best-1] - c[best+1]) / den
+			}
+		}
+		out[k] = (float64(centreLag[k]-half+best) + d) * binDeg
+	}
+	return out, nil
 }
