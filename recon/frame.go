@@ -36,7 +36,7 @@ type Report struct {
 	Lines         int      `json:"lines"`          // lines placed
 	LinesRepaired int      `json:"lines_repaired"` // lines whose index edge was filled in
 	Revolutions   int      `json:"revolutions"`    // complete revolutions timed
-	RPMMean       float64  `json:"rpm_mean"`       // 60 / mean revolution period
+	RPMMean       float64  `json:"rpm_mean"`       // 60 / mean revolution period (0 for the sine law)
 	RPMSpreadPct  float64  `json:"rpm_spread_pct"` // standard deviation of the per-revolution rev/min, % of the mean
 	SweepMS       float64  `json:"sweep_ms"`       // time the beam spends inside the field per line
 	LineRateHz    float64  `json:"line_rate_hz"`   // lines per second

@@ -22,7 +22,9 @@ func (p Progress) report(stage string, fraction float64) {
 	}
 }
 
-// Line is one sweep of the beam as the build found it.
+// Line is one sweep of the beam as the build found it. Aperture counts
+// lines modulo sweep.apertures (for the sine law: 0 for a forward line, 1
+// for a backward one); Stroke is the pass of the head, from 0.
 type Line struct {
 	Number, Aperture, Stroke int
 	// EdgeS is the time of the line's index edge (or the start of its
