@@ -3,6 +3,8 @@ package recon
 import (
 	"context"
 	"maps"
+	"math"
+	"strings"
 	"testing"
 
 	"spotloom/recon/recipe"
@@ -132,5 +134,34 @@ func TestAutomaticChannels(t *testing.T) {
 	}
 	if got.Channels.Detector != "0" || got.Channels.Index != "1" || got.Channels.Position != "2" {
 		t.Errorf("channels %+v, want detector 0, index 1, position 2", got.Channels)
+	}
+}
+
+// A scene that sends nothing back shows no detail, not even the field's
+// edges, to measure aperture offsets from: the error says so instead of
+// returning noise.
+func TestOffsetsNeedDetail(t *testing.T) {
+	rig := baseRig()
+	rig.scene = func(x, y float64) float64 { return 0 }
+	r := rig.recipe()
+	_, err := EstimateApertureOffsets(context.Background(), NewSession(rig.recording()), r)
+	if err == nil || !strings.Contains(err.Error(), "no beam-on stretch") {
+		t.Errorf("dark scene, automatic delay: %v", err)
+	}
+	r.Sweep.DelayDeg = recipe.Float(rig.delayDeg)
+	_, err = EstimateApertureOffsets(context.Background(), NewSession(rig.recording()), r)
+	if err == nil || !strings.Contains(err.Error(), "too little detail") {
+		t.Errorf("dark scene: %v", err)
+	}
+	// The dot grid has detail: offsets come back, one per aperture,
+	// near the rig's (zero) offsets.
+	off, err := EstimateApertureOffsets(context.Background(), NewSession(baseRig().recording()), baseRig().recipe())
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k, o := range off {
+		if math.Abs(o) > 0.05 {
+			t.Errorf("aperture %d offset %.3f°, the rig has none", k, o)
+		}
 	}
 }

@@ -74,7 +74,7 @@ func meanStd(v []float64) (float64, float64) {
 // offsetCorrelation returns, for each aperture k, the lag (degrees) that
 // best aligns the detector profiles of lines from aperture k+1 with those
 // of the lines from aperture k just before them: the normalised
-// cross-correlation, summed over up to about 1000 pairs, is searched in
+// cross-correlation, pooled over up to about 1000 pairs, is searched in
 // steps of binDeg within ±halfDeg of centre[k], and its peak refined by a
 // parabola through the three best points.
 func offsetCorrelation(ctx context.Context, t *timingResult, det []float32, sw recipe.Sweep, n int, binDeg float64, centre []float64, halfDeg float64) ([]float64, error) {
@@ -98,9 +98,15 @@ func offsetCorrelation(ctx context.Context, t *timingResult, det []float32, sw r
 		}
 		return true
 	}
+	// Pooled over the pairs: the covariance and the variances are summed
+	// before normalising, so pairs of lines that meet no detail (a sparse
+	// scene) add little either way.
 	corr := make([][]float64, n) // corr[k][j]: lag = centre lag − half + j
+	varB := make([][]float64, n)
+	varA := make([]float64, n)
 	for k := range corr {
 		corr[k] = make([]float64, 2*half+1)
+		varB[k] = make([]float64, 2*half+1)
 	}
 	centreLag := make([]int, n)
 	for k := range centreLag {
@@ -121,20 +127,17 @@ func offsetCorrelation(ctx context.Context, t *timingResult, det []float32, sw r
 		}
 		k := l0.aperture
 		ma, sa := meanStd(a[lo:hi])
-		if sa == 0 {
-			continue
-		}
+		m := float64(hi - lo)
+		varA[k] += sa * sa * m
 		for j := range corr[k] {
 			lag := centreLag[k] - half + j
 			mb, sb := meanStd(b[lo+lag : hi+lag])
-			if sb == 0 {
-				continue
-			}
 			c := 0.0
 			for q := lo; q < hi; q++ {
 				c += (a[q] - ma) * (b[q+lag] - mb)
 			}
-			corr[k][j] += c / (sa * sb * float64(hi-lo))
+			corr[k][j] += c
+			varB[k][j] += sb * sb * m
 		}
 		used[k]++
 	}
@@ -144,13 +147,20 @@ func offsetCorrelation(ctx context.Context, t *timingResult, det []float32, sw r
 			return nil, fmt.Errorf("no pair of lines from apertures %d and %d could be compared: the capture is too short", k, (k+1)%n)
 		}
 		c := corr[k]
+		for j := range c {
+			if den := math.Sqrt(varA[k] * varB[k][j]); den > 0 {
+				c[j] /= den
+			} else {
+				c[j] = 0
+			}
+		}
 		best := 0
 		for j := range c {
 			if c[j] > c[best] {
 				best = j
 			}
 		}
-		if r := c[best] / float64(used[k]); r < 0.3 {
+		if r := c[best]; r < 0.3 {
 			return nil, fmt.Errorf("neighbouring lines from apertures %d and %d do not match (correlation %.2f): the scene has too little detail across the field to measure offsets", k, (k+1)%n, r)
 		}
 		d := 0.0

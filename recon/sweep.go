@@ -283,8 +283,15 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 	}
 	off := q(0.5 * (1 - fon))
 	on := q(1 - 0.5*fon)
-	if !(on > off) {
-		return 0, nil, fmt.Errorf("the detector shows no beam-on stretch within the lines: set sweep.delay_deg by hand")
+	// The beam-on and beam-off levels must differ by far more than the
+	// bin-to-bin noise of the profile (σ from the median absolute step).
+	steps := make([]float64, bins)
+	for b := range steps {
+		steps[b] = math.Abs(prof[(b+1)%bins] - prof[b])
+	}
+	noise := 1.4826 * median(steps) / math.Sqrt2
+	if !(on-off > 10*noise) {
+		return 0, nil, fmt.Errorf("the detector shows no beam-on stretch within the lines (its mean level against wheel angle stays within %.2g of %.3g): check channels.detector, or set sweep.delay_deg by hand", on-off, off)
 	}
 	mid := (off + on) / 2
 	// Longest circular run above mid.
