@@ -17,6 +17,7 @@ import (
 	"unicode/utf16"
 
 	"spotloom/recon"
+	"spotloom/recon/recipe"
 )
 
 // Options says how frames are written.
@@ -451,8 +452,9 @@ type sidecarTone struct {
 	Invert bool    `json:"invert"`
 }
 
-// SidecarFormat is the "format" value of every sidecar.
-const SidecarFormat = "spotloom-export/1"
+// SidecarFormat is the "format" value of every sidecar; recipe.Parse reads
+// the recipe out of such a file.
+const SidecarFormat = recipe.SidecarFormat
 
 func sidecarBytes(path string, pages []page, s settings, opts Options, now time.Time, recipeJSON []byte) ([]byte, error) {
 	var noData any = opts.NoData

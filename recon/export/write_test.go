@@ -213,6 +213,15 @@ func TestSidecar(t *testing.T) {
 	if !bytes.Equal(r.JSON(), f.Recipe.JSON()) {
 		t.Errorf("recipe differs:\n%s\nwant\n%s", r.JSON(), f.Recipe.JSON())
 	}
+	// The whole sidecar is also a recipe file: recipe.Parse takes the
+	// recipe out of it, so "build --recipe F.recipe.json" rebuilds F.
+	whole, err := recipe.Parse(data)
+	if err != nil {
+		t.Fatalf("sidecar as a recipe file: %v", err)
+	}
+	if !bytes.Equal(whole.JSON(), f.Recipe.JSON()) {
+		t.Errorf("recipe read from the whole sidecar differs:\n%s\nwant\n%s", whole.JSON(), f.Recipe.JSON())
+	}
 	if sc.Format != SidecarFormat || sc.File != "scan.tiff" || sc.Report.RPMMean != 333.3 || len(sc.Report.Warnings) != 1 {
 		t.Errorf("sidecar %+v", sc)
 	}

@@ -55,7 +55,25 @@ func Default() Recipe {
 // naming the key and the keys allowed beside it, a wrong type names the key
 // and the line:column. Keys that are absent keep their Default value. Parse
 // does not call Validate.
+//
+// The sidecar an export writes beside its image (format SidecarFormat)
+// holds the recipe under its "recipe" key; Parse reads that recipe, so an
+// export's sidecar rebuilds its frame directly.
 func Parse(data []byte) (Recipe, error) {
+	var outer struct {
+		Format string          `json:"format"`
+		Recipe json.RawMessage `json:"recipe"`
+	}
+	if json.Unmarshal(data, &outer) == nil && outer.Format == SidecarFormat {
+		if len(outer.Recipe) == 0 || bytes.Equal(bytes.TrimSpace(outer.Recipe), []byte("null")) {
+			return Recipe{}, fmt.Errorf("recipe: export sidecar (%q) has no \"recipe\" key", SidecarFormat)
+		}
+		r, err := Parse(outer.Recipe)
+		if err != nil {
+			return Recipe{}, fmt.Errorf("in the \"recipe\" of an export sidecar: %w", err)
+		}
+		return r, nil
+	}
 	if err := checkKeys(data, reflect.TypeOf(Recipe{}), ""); err != nil {
 		return Recipe{}, err
 	}

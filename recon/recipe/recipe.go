@@ -10,6 +10,11 @@ import (
 // RecipeFormat is the value of the "format" key of every recipe file.
 const RecipeFormat = "spotloom-recipe/1"
 
+// SidecarFormat is the value of the "format" key of the sidecar written
+// beside every export (F.recipe.json): the recipe under "recipe", the build
+// report under "report", and what the export did.
+const SidecarFormat = "spotloom-export/1"
+
 // ChannelRef names a channel of a capture: a channel number or a channel
 // name. In JSON it is a number, a string, or null (not used / automatic).
 type ChannelRef string

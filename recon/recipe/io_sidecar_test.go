@@ -1,0 +1,29 @@
+package recipe
+
+import (
+	"bytes"
+	"strings"
+	"testing"
+)
+
+// TestParseExportSidecar: an export's sidecar holds the recipe under
+// "recipe"; Parse reads it from there, and says so when it is missing or bad.
+func TestParseExportSidecar(t *testing.T) {
+	want := Default()
+	want.Sweep.Apertures = 6
+	side := []byte(`{"format": "` + SidecarFormat + `", "file": "f.tiff", "recipe": ` + string(want.JSON()) + `, "report": {"lines": 3}}`)
+	got, err := Parse(side)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(got.JSON(), want.JSON()) {
+		t.Errorf("got\n%s\nwant\n%s", got.JSON(), want.JSON())
+	}
+	if _, err := Parse([]byte(`{"format": "` + SidecarFormat + `", "file": "f.tiff"}`)); err == nil || !strings.Contains(err.Error(), `no "recipe"`) {
+		t.Errorf("sidecar without a recipe: %v", err)
+	}
+	bad := []byte(`{"format": "` + SidecarFormat + `", "recipe": {"format": "` + RecipeFormat + `", "sweep": {"colour": 1}}}`)
+	if _, err := Parse(bad); err == nil || !strings.Contains(err.Error(), "colour") || !strings.Contains(err.Error(), "sidecar") {
+		t.Errorf("sidecar with a bad recipe: %v", err)
+	}
+}
