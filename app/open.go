@@ -27,15 +27,23 @@ the built-in demo capture when no FILE is given. Without --recipe the window
 uses FILE-without-extension.recipe.json when it exists, else settings with the
 channel roles guessed from the capture.
 
+The capture flags (--rate, --layout, --raw ...) say how to read FILE, as
+for "spotloom probe": a CSV without a time column needs --rate.
+
 With --snapshot the window is rendered without a display (software renderer)
 to a PNG once the first image is built, and the command exits: for
 documentation and tests.`
 
 func runOpen(args []string, _, stderr io.Writer) error {
-	fs := newFlagSet("open", "open [FILE] [--recipe R.json] [--snapshot OUT.png]", openDescription, stderr)
+	fs := newFlagSet("open", "open [FILE] [--recipe R.json] [--rate HZ | --layout L.json | --raw TYPE ...] [--snapshot OUT.png]", openDescription, stderr)
 	recipePath := fs.String("recipe", "", "build with this recipe `R.json`")
 	snapshot := fs.String("snapshot", "", "render the window to `OUT.png` and exit")
+	cf := addCaptureFlags(fs)
 	positional, err := parseFlags(fs, args)
+	if err != nil {
+		return err
+	}
+	copts, err := cf.options()
 	if err != nil {
 		return err
 	}
@@ -57,7 +65,7 @@ func runOpen(args []string, _, stderr io.Writer) error {
 		}
 		r = &loaded
 	}
-	opts := ui.Options{Icon: assets.Icon}
+	opts := ui.Options{Icon: assets.Icon, Capture: copts}
 	if *snapshot != "" {
 		img, err := ui.Snapshot(file, r, opts)
 		if err != nil {
@@ -79,7 +87,7 @@ func runOpen(args []string, _, stderr io.Writer) error {
 	if file == "" {
 		ws.OpenDemoWithRecipe(r)
 	} else {
-		ws.OpenFile(file, r)
+		ws.OpenFileWith(file, copts, r)
 	}
 	w.ShowAndRun()
 	return nil

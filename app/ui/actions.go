@@ -86,6 +86,12 @@ func (ws *Workstation) OpenFile(path string, r *recipe.Recipe) {
 	ws.openWith(path, capture.Options{}, r)
 }
 
+// OpenFileWith is OpenFile reading the capture with copts: a sample rate
+// for a CSV without a time column, or a raw layout.
+func (ws *Workstation) OpenFileWith(path string, copts capture.Options, r *recipe.Recipe) {
+	ws.openWith(path, copts, r)
+}
+
 func (ws *Workstation) openWith(path string, copts capture.Options, given *recipe.Recipe) {
 	open, newEngine := ws.openFunc(), ws.engineFunc()
 	current := cloneRecipe(ws.cur.Recipe)

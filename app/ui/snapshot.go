@@ -49,7 +49,7 @@ func snapshot(path string, r *recipe.Recipe, opts Options) (image.Image, error) 
 		ws.OpenDemoWithRecipe(r)
 		ws.Wait()
 	} else {
-		ws.OpenFile(path, r)
+		ws.OpenFileWith(path, opts.Capture, r)
 		ws.Wait()
 	}
 	if ws.result == nil {

@@ -25,6 +25,10 @@ type Options struct {
 	Open      OpenFunc   // reads a capture; nil means capture.Open
 	NewEngine EngineFunc // makes the engine for a capture; nil means recon.NewSession
 	Icon      fyne.Resource
+	// Capture says how to read the file named on the command line (its
+	// rate, a raw layout); files opened later from the window are read
+	// with their own settings.
+	Capture capture.Options
 }
 
 // Workstation is the Spotloom window: the source and controls on the
