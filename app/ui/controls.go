@@ -29,6 +29,9 @@ type controlPanel struct {
 	offsetsBox    *fyne.Container
 	offsets       []*numberControl
 	estimate      *widget.Button
+	apertures     *numberControl
+	pulses        *widget.Select
+	law           *widget.Select
 	field         *numberControl
 	distance      *numberControl
 	projection    *widget.Select
@@ -55,7 +58,23 @@ var (
 	projectionKeys  = []string{"flat", "angular"}
 	strokeNames     = []string{"merge all passes", "one frame per pass", "first pass only"}
 	strokeKeys      = []string{"merge", "split", "first"}
+	pulseNames      = []string{"one per aperture", "one per revolution"}
+	lawNames        = []string{"spinning wheel or polygon (uniform)", "resonant mirror (sine)", "measured table"}
+	lawKeys         = []string{"uniform", "sine", "table"}
 )
+
+// setApertures sets the wheel's aperture count, keeping one index pulse
+// per aperture when that is how the index was read, and dropping aperture
+// offsets that no longer fit the count.
+func setApertures(r *recipe.Recipe, n int) {
+	if r.Timing.PulsesPerRev != 1 {
+		r.Timing.PulsesPerRev = n
+	}
+	if len(r.Sweep.ApertureOffsetsDeg) != 0 && len(r.Sweep.ApertureOffsetsDeg) != n {
+		r.Sweep.ApertureOffsetsDeg = []float64{}
+	}
+	r.Sweep.Apertures = n
+}
 
 func nameFor(key string, keys, names []string) string {
 	for i, k := range keys {
@@ -100,6 +119,31 @@ func newControlPanel(ws *Workstation) *controlPanel {
 	c.offsetsBox = container.NewVBox()
 	c.estimate = widget.NewButton("Estimate offsets from the image", ws.EstimateOffsets)
 
+	c.apertures = newNumberControl("Apertures on the wheel", 1, 24, 1, "%.0f", func(v float64) {
+		n := int(math.Round(v))
+		if n < 1 {
+			return
+		}
+		ws.change("apertures", func(r *recipe.Recipe) { setApertures(r, n) })
+	})
+	c.pulses = widget.NewSelect(pulseNames, func(name string) {
+		if c.quiet {
+			return
+		}
+		ws.change("index pulses", func(r *recipe.Recipe) {
+			if name == pulseNames[1] {
+				r.Timing.PulsesPerRev = 1
+			} else {
+				r.Timing.PulsesPerRev = r.Sweep.Apertures
+			}
+		})
+	})
+	c.law = widget.NewSelect(lawNames, func(name string) {
+		if c.quiet {
+			return
+		}
+		ws.change("sweep law", func(r *recipe.Recipe) { r.Sweep.Law = keyFor(name, lawKeys, lawNames) })
+	})
 	c.field = newNumberControl("Field of view (°)", 1, 120, 0.1, "%.2f", func(v float64) {
 		if v <= 0 {
 			return
@@ -171,6 +215,9 @@ func newControlPanel(ws *Workstation) *controlPanel {
 		c.offsetsBox, c.estimate,
 		widget.NewSeparator(),
 		heading("Sweep geometry"),
+		widget.NewLabel("Sweep"), c.law,
+		c.apertures.box,
+		widget.NewLabel("Index pulses"), c.pulses,
 		c.field.box, c.distance.box,
 		widget.NewLabel("Projection"), c.projection,
 		c.pitch.box,
@@ -263,6 +310,20 @@ func (c *controlPanel) show(s settings, res *Result) {
 	}
 	c.showOffsets(apertures, r.Sweep.ApertureOffsetsDeg)
 
+	c.law.SetSelected(nameFor(r.Sweep.Law, lawKeys, lawNames))
+	c.apertures.set(float64(r.Sweep.Apertures))
+	if r.Timing.PulsesPerRev == 1 && r.Sweep.Apertures > 1 {
+		c.pulses.SetSelected(pulseNames[1])
+	} else {
+		c.pulses.SetSelected(pulseNames[0])
+	}
+	// A resonant mirror has one index pulse per period and no apertures.
+	c.apertures.enable(r.Sweep.Law != "sine")
+	if r.Sweep.Law == "sine" {
+		c.pulses.Disable()
+	} else {
+		c.pulses.Enable()
+	}
 	c.field.set(r.Sweep.FieldDeg)
 	c.distance.set(r.Sweep.DistanceMM)
 	c.projection.SetSelected(nameFor(r.Sweep.Projection, projectionKeys, projectionNames))

@@ -448,3 +448,33 @@ func TestCancelKeepsImageAndSettings(t *testing.T) {
 		t.Errorf("cancelling is not a problem, got %q", ws.Problem())
 	}
 }
+
+// TestApertureControlReachesTheEngine: the aperture count turns the line
+// rate into wheel speed. Closed form: rev/min = 60 · line rate / apertures
+// with one index pulse per aperture, so telling the window 4 apertures for
+// the demo's 6-aperture wheel reads 6/4 of its speed, and 6 restores it.
+func TestApertureControlReachesTheEngine(t *testing.T) {
+	ws, _ := newTestWorkstation(t)
+	rep := ws.result.Report
+	if ws.result.Recipe.Sweep.Apertures != 6 {
+		t.Fatalf("demo recipe has %d apertures, want the demo rig's 6", ws.result.Recipe.Sweep.Apertures)
+	}
+	for _, n := range []int{4, 6} {
+		ws.controls.apertures.typed(fmt.Sprint(n))
+		ws.Wait()
+		if p := ws.Problem(); p != "" {
+			t.Fatalf("%d apertures refused: %s", n, p)
+		}
+		r := ws.result.Recipe
+		if r.Sweep.Apertures != n || r.Timing.PulsesPerRev != n {
+			t.Fatalf("recipe has %d apertures, %d pulses per rev; want %d and %d", r.Sweep.Apertures, r.Timing.PulsesPerRev, n, n)
+		}
+		want := 60 * rep.LineRateHz / float64(n)
+		if got := ws.result.Report.RPMMean; math.Abs(got-want) > 0.002*want {
+			t.Errorf("%d apertures: %.2f rev/min, want 60·%.3f/%d = %.2f", n, got, rep.LineRateHz, n, want)
+		}
+	}
+	if got := ws.result.Report.RPMMean; math.Abs(got-rep.RPMMean) > 1e-6*rep.RPMMean {
+		t.Errorf("back at 6 apertures: %.4f rev/min, first build %.4f", got, rep.RPMMean)
+	}
+}
