@@ -43,6 +43,11 @@ type csvShape struct {
 	headerLine   int      // 0 when there is no header
 	trailingDrop bool     // every row ends in a delimiter: drop the empty last field
 	avgRowBytes  float64  // mean length of the sniffed data rows, 0 if unknown
+	// dataCols are the fields that hold samples, in order: all of them,
+	// or fewer when metadata columns stand beside the data.
+	dataCols []int
+	facts    []columnFacts // per field, for the data columns
+	meta     []csvMeta     // sample interval or rate statements, in file order
 }
 
 // delimName names a delimiter for messages.
@@ -104,7 +109,8 @@ func splitSampleLines(head []byte, complete bool) []sampleLine {
 	return lines
 }
 
-// sniffCSV finds the delimiter, header and first data row.
+// sniffCSV finds the delimiter, the data columns, the header and the first
+// data row, and collects the sample rate statements of the preamble.
 func sniffCSV(head []byte, complete bool) (csvShape, error) {
 	lines := splitSampleLines(head, complete)
 	// Blank lines carry no shape.
@@ -140,22 +146,55 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 			}
 		}
 	}
+	// When most lines are not rows of numbers, the samples may stand in
+	// some columns beside metadata columns (empty or text in most rows).
+	if 2*bestScore < len(idx) {
+		if cs, score := sniffDataColumns(lines, idx); score > bestScore {
+			best, bestScore = cs, score
+		}
+	}
 	if bestScore == 0 {
 		return csvShape{}, &FormatError{Format: "csv", Place: AtLine(lines[idx[0]].line, 0), Problem: fmt.Sprintf("no line in the first %d bytes is a row of numbers (first line %q)", len(head), clip(string(lines[idx[0]].text), 60)),
 			Expected: "rows of numbers separated by commas, semicolons, tabs or spaces"}
 	}
 	shape := best
-	split := func(i int) [][]byte {
-		fields, _, err := splitRecord(lines[i].text, shape.delim, nil, nil)
-		if err != nil {
-			return nil
+	if shape.dataCols == nil {
+		shape.dataCols = make([]int, shape.fields)
+		for i := range shape.dataCols {
+			shape.dataCols[i] = i
 		}
-		return dropTrailingEmpty(fields, shape.delim)
+	}
+	plain := len(shape.dataCols) == shape.fields // no metadata columns
+	isData := make([]bool, shape.fields)
+	for _, c := range shape.dataCols {
+		isData[c] = true
+	}
+	split := func(i int) ([][]byte, []int) {
+		fields, cols, err := splitRecord(lines[i].text, shape.delim, nil, nil)
+		if err != nil {
+			return nil, nil
+		}
+		fields = dropTrailingEmpty(fields, shape.delim)
+		return fields, cols[:len(fields)]
+	}
+	isNumber := func(f []byte) bool {
+		_, ok := parseNumber(f, shape.decimalComma)
+		return ok
 	}
 	numbers := func(fields [][]byte) int {
 		n := 0
 		for _, f := range fields {
-			if _, ok := parseNumber(f, shape.decimalComma); ok {
+			if isNumber(f) {
+				n++
+			}
+		}
+		return n
+	}
+	// dataNumbers counts the numbers in the data columns of a row.
+	dataNumbers := func(fields [][]byte) int {
+		n := 0
+		for _, c := range shape.dataCols {
+			if c < len(fields) && isNumber(fields[c]) {
 				n++
 			}
 		}
@@ -164,8 +203,8 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 	// The data start at the first run of numeric rows with the data's field
 	// count (three rows, or fewer at the end of the sample) ...
 	numericRow := func(i int) bool {
-		f := split(i)
-		return len(f) == shape.fields && numbers(f) == len(f)
+		f, _ := split(i)
+		return len(f) == shape.fields && dataNumbers(f) == len(shape.dataCols)
 	}
 	start := -1
 	for k := range idx {
@@ -195,13 +234,19 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 	// another field count. Those are read as data so that the error names
 	// them, rather than being skipped as preamble.
 	for start > 0 {
-		f := split(idx[start-1])
+		f, _ := split(idx[start-1])
 		if f == nil && shape.delim != whitespaceDelim {
 			// a quoting error: judge the row by its bare delimiter split
 			f = bytes.Split(lines[idx[start-1]].text, []byte{shape.delim})
 		}
-		nums := numbers(f)
-		if len(f) == 0 || !(len(f) == shape.fields && nums > 0 || nums == len(f)) {
+		var damaged bool
+		if plain {
+			nums := numbers(f)
+			damaged = len(f) > 0 && (len(f) == shape.fields && nums > 0 || nums == len(f))
+		} else {
+			damaged = len(f) == shape.fields && dataNumbers(f) > 0
+		}
+		if !damaged {
 			break
 		}
 		start--
@@ -215,43 +260,251 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 	if last := lines[len(lines)-1]; len(lines) > first+1 {
 		shape.avgRowBytes = float64(last.offset-lines[first].offset) / float64(len(lines)-1-first)
 	}
-	// Header: the non-blank row just before the data, with as many fields.
-	header := func(k int) []string {
+	// Header: a non-blank row just before the data with at least as many
+	// fields and no number in the data columns. Cells past the data's
+	// field count, or in metadata columns, are kept for key/value pairs.
+	type headerRow struct {
+		cells [][]byte
+		cols  []int
+		line  int
+	}
+	header := func(k int) *headerRow {
 		if k < 0 {
 			return nil
 		}
-		fields, _, err := splitRecord(lines[idx[k]].text, shape.delim, nil, nil)
-		if err != nil {
+		f, cols := split(idx[k])
+		if len(f) < shape.fields || dataNumbers(f) > 0 {
 			return nil
 		}
-		fields = dropTrailingEmpty(fields, shape.delim)
-		if len(fields) != shape.fields || numbers(fields) > 0 {
-			return nil
-		}
-		out := make([]string, len(fields))
-		for i, f := range fields {
-			out[i] = strings.TrimSpace(string(f))
+		return &headerRow{f, cols, lines[idx[k]].line}
+	}
+	dataCells := func(h *headerRow) []string {
+		out := make([]string, len(shape.dataCols))
+		for i, c := range shape.dataCols {
+			out[i] = strings.TrimSpace(string(h.cells[c]))
 		}
 		return out
 	}
+	// otherCells are the cells of a row outside the data columns.
+	otherCells := func(f [][]byte, cols []int) ([][]byte, []int) {
+		var of [][]byte
+		var oc []int
+		for j := range f {
+			if j >= shape.fields || !isData[j] {
+				of, oc = append(of, f[j]), append(oc, cols[j])
+			}
+		}
+		return of, oc
+	}
+	// A header row longer than the data rows must name a sample interval
+	// or rate among its extra cells ("X,CH1,CH2,Start,Increment"); any
+	// other longer row (a sentence split at its spaces) is preamble.
+	statesRate := func(h *headerRow) bool {
+		of, _ := otherCells(h.cells, h.cols)
+		for _, c := range of {
+			if key, _ := normalizeMetaKey(string(c)); metaKeys[key] != 0 {
+				return true
+			}
+		}
+		return false
+	}
 	shape.names = make([]string, shape.fields)
 	shape.units = make([]string, shape.fields)
-	if h := header(start - 1); h != nil {
-		if u := header(start - 2); u != nil && looksLikeUnits(h) {
-			// names row, then a units row
-			copy(shape.names, u)
-			for i := range h {
-				shape.units[i] = strings.Trim(h[i], "()[] ")
+	preambleEnd := start // idx position of the first header or data row
+	h, u := header(start-1), header(start-2)
+	if h == nil || u != nil && !(len(u.cells) == shape.fields && len(h.cells) == shape.fields || statesRate(u)) {
+		u = nil
+	}
+	if h != nil && u == nil && len(h.cells) != shape.fields && !statesRate(h) {
+		h = nil
+	}
+	if h != nil {
+		if u != nil && looksLikeUnits(dataCells(h)) {
+			// names row, then a units row; cells beyond the data are keys
+			// over their values ("Start,Increment" over "-0.01,1e-05")
+			for _, c := range shape.dataCols {
+				shape.names[c] = strings.TrimSpace(string(u.cells[c]))
+				shape.units[c] = strings.Trim(strings.TrimSpace(string(h.cells[c])), "()[] ")
 			}
-			shape.headerLine = lines[idx[start-2]].line
+			for j := range min(len(u.cells), len(h.cells)) {
+				if j < shape.fields && isData[j] {
+					continue
+				}
+				key, unit := normalizeMetaKey(string(u.cells[j]))
+				if kind, ok := metaKeys[key]; ok && len(bytes.TrimSpace(h.cells[j])) > 0 {
+					shape.meta = append(shape.meta, newMeta(kind, string(u.cells[j]), string(h.cells[j]), unit, h.line, h.cols[j], shape.decimalComma))
+				}
+			}
+			shape.headerLine = u.line
+			preambleEnd = start - 2
 		} else {
-			for i, cell := range h {
-				shape.names[i], shape.units[i] = splitNameUnit(cell)
+			for i, cell := range dataCells(h) {
+				shape.names[shape.dataCols[i]], shape.units[shape.dataCols[i]] = splitNameUnit(cell)
 			}
-			shape.headerLine = lines[idx[start-1]].line
+			of, oc := otherCells(h.cells, h.cols)
+			shape.meta = scanMetaCells(of, oc, h.line, shape.decimalComma, shape.meta)
+			shape.headerLine = h.line
+			preambleEnd = start - 1
 		}
 	}
+	// Statements in the preamble come before those beside the data.
+	var meta []csvMeta
+	for _, i := range idx[:preambleEnd] {
+		meta = scanMetaLine(lines[i].text, lines[i].line, shape.delim, shape.decimalComma, meta)
+	}
+	shape.meta = append(meta, shape.meta...)
+	// Metadata columns beside the sniffed data rows, and what the data
+	// columns of those rows look like.
+	var values [][]float64
+	var lastText [][]byte
+	for _, i := range idx[start:] {
+		f, cols := split(i)
+		if !plain && len(f) == shape.fields {
+			of, oc := otherCells(f, cols)
+			shape.meta = scanMetaCells(of, oc, lines[i].line, shape.decimalComma, shape.meta)
+		}
+		if len(f) != shape.fields || len(values) >= sniffFactRows {
+			continue
+		}
+		row := make([]float64, len(shape.dataCols))
+		ok := true
+		for k, c := range shape.dataCols {
+			v, isNum := parseNumber(f[c], shape.decimalComma)
+			if !isNum {
+				ok = false
+				break
+			}
+			row[k] = v
+		}
+		if ok {
+			values = append(values, row)
+			lastText = lastText[:0]
+			for _, c := range shape.dataCols {
+				lastText = append(lastText, f[c])
+			}
+		}
+	}
+	shape.facts = make([]columnFacts, shape.fields)
+	for k, c := range shape.dataCols {
+		var q float64
+		if len(lastText) > k {
+			q = printQuantum(lastText[k])
+		}
+		shape.facts[c] = columnFactsOf(values, k, q)
+	}
 	return shape, nil
+}
+
+// sniffFactRows is how many sniffed data rows columnFacts looks at.
+const sniffFactRows = 4096
+
+// sniffDataColumns looks for data columns among metadata columns: under
+// each delimiter the rows with the most common field count are taken, the
+// columns numeric in more than half of those rows are the data columns,
+// and the score is the number of rows whose data columns all hold numbers.
+// Only a split that leaves at least one column out counts.
+func sniffDataColumns(lines []sampleLine, idx []int) (csvShape, int) {
+	best, bestScore := csvShape{}, 0
+	for _, d := range []byte{',', ';', '\t'} {
+		decimalComma := d != ','
+		rows := make([][][]byte, len(idx))
+		counts := map[int]int{}
+		for k, i := range idx {
+			fields, _, err := splitRecord(lines[i].text, d, nil, nil)
+			if err != nil {
+				continue
+			}
+			rows[k] = dropTrailingEmpty(fields, d)
+			counts[len(rows[k])]++
+		}
+		n, nRows := 0, 0
+		for c, r := range counts {
+			if r > nRows || r == nRows && c > n {
+				n, nRows = c, r
+			}
+		}
+		if n < 2 || n > MaxRawChannels*4 {
+			continue
+		}
+		numeric := make([]int, n)
+		for _, f := range rows {
+			if len(f) != n {
+				continue
+			}
+			for j, cell := range f {
+				if _, ok := parseNumber(cell, decimalComma); ok {
+					numeric[j]++
+				}
+			}
+		}
+		var cols []int
+		for j, m := range numeric {
+			if 2*m > nRows {
+				cols = append(cols, j)
+			}
+		}
+		if len(cols) == 0 || len(cols) == n {
+			continue
+		}
+		score := 0
+		for _, f := range rows {
+			if len(f) != n {
+				continue
+			}
+			all := true
+			for _, j := range cols {
+				if _, ok := parseNumber(f[j], decimalComma); !ok {
+					all = false
+					break
+				}
+			}
+			if all {
+				score++
+			}
+		}
+		if score > bestScore {
+			best, bestScore = csvShape{delim: d, decimalComma: decimalComma, fields: n, dataCols: cols}, score
+		}
+	}
+	return best, bestScore
+}
+
+// columnFacts describe one data column over the sniffed rows.
+type columnFacts struct {
+	rows        int     // sniffed rows
+	rising      bool    // every value above the one before
+	even        bool    // rising in equal steps (within 1 % or the printing)
+	step        float64 // mean step
+	integers    bool    // every value a whole number
+	consecutive bool    // whole numbers rising by exactly 1
+}
+
+// columnFactsOf works out the facts of column k of values; quantum is the
+// printing resolution of its last cell.
+func columnFactsOf(values [][]float64, k int, quantum float64) columnFacts {
+	f := columnFacts{rows: len(values), rising: len(values) >= 2, integers: len(values) > 0}
+	minStep, maxStep := math.Inf(1), math.Inf(-1)
+	for i, row := range values {
+		v := row[k]
+		if v != math.Trunc(v) || math.Abs(v) > 1<<53 {
+			f.integers = false
+		}
+		if i == 0 {
+			continue
+		}
+		step := v - values[i-1][k]
+		if !(step > 0) {
+			f.rising = false
+		}
+		minStep, maxStep = math.Min(minStep, step), math.Max(maxStep, step)
+	}
+	if f.rising {
+		f.step = (values[len(values)-1][k] - values[0][k]) / float64(len(values)-1)
+		tolerance := math.Max(0.01*f.step, math.Min(1.5*quantum, 0.5*f.step))
+		f.even = maxStep-f.step <= tolerance && f.step-minStep <= tolerance
+		f.consecutive = f.integers && minStep == 1 && maxStep == 1
+	}
+	return f
 }
 
 // knownUnits are unit cells a units row may hold without brackets.
@@ -260,6 +513,7 @@ var knownUnits = map[string]bool{
 	"v": true, "mv": true, "uv": true, "µv": true, "μv": true, "kv": true, "volt": true, "volts": true,
 	"a": true, "ma": true, "ua": true, "µa": true, "hz": true, "khz": true, "mm": true, "cm": true, "m": true,
 	"deg": true, "°": true, "%": true, "counts": true, "fs": true, "w": true, "mw": true, "-": true,
+	"sequence": true, "samples": true, "points": true, "pts": true, "#": true,
 }
 
 // looksLikeUnits reports a row of unit cells: "(s)", "[V]", "mV", "Volt".
@@ -657,32 +911,111 @@ func (s *csvScanner) record() (rec []byte, line int, offset int64, ok bool, err 
 	}
 }
 
+// Column roles in streamCSV besides channel numbers (0 and up).
+const (
+	roleSkip      = -1 // metadata column: not read
+	roleTime      = -2 // the time column the rate comes from
+	roleTimeCheck = -3 // another time column, compared with the first
+	roleCounter   = -4 // sample counter: 0, 1, 2 ...
+)
+
+// counterNames are header names of a sample-counter column.
+var counterNames = map[string]bool{"x": true, "sequence": true, "seq": true, "index": true, "idx": true, "sample": true, "samples": true,
+	"no": true, "no.": true, "nr": true, "nr.": true, "n": true, "#": true, "point": true, "points": true, "sample no": true, "sample no.": true, "sample number": true, "sample index": true}
+
+// counterUnits are unit cells of a sample-counter column.
+var counterUnits = map[string]bool{"sequence": true, "samples": true, "sample": true, "points": true, "pts": true, "#": true, "index": true, "count": true, "counts": true}
+
+// isCounterColumn reports a column that counts samples: named as a counter
+// (or with a counter unit) and holding rising whole numbers, or holding
+// whole numbers rising by exactly 1 under a name that is not time. A time
+// unit in the header makes it a time column instead.
+func isCounterColumn(name, unit string, f columnFacts) bool {
+	if strings.TrimSpace(unit) != "" && timeUnitSeconds(unit) != 0 {
+		return false
+	}
+	n, u := strings.ToLower(strings.TrimSpace(name)), strings.ToLower(strings.TrimSpace(unit))
+	if (counterNames[n] || counterUnits[u]) && f.integers && f.rising {
+		return true
+	}
+	return !isTimeName(name) && f.consecutive && f.rows >= 3
+}
+
 // streamCSV reads the data rows described by shape from r, which starts at
 // the first data row.
 func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recording, error) {
-	timeCol := -1
-	for i, n := range shape.names {
-		if isTimeName(n) {
-			timeCol = i
-			break
-		}
-	}
-	// Without a header, the first column is time when it rises at an even
-	// pace over the first rows and no rate was given.
+	given := opts.SampleRateHz > 0
 	noHeader := shape.headerLine == 0
-	if timeCol < 0 && noHeader && opts.SampleRateHz <= 0 && shape.fields >= 2 {
-		timeCol = 0
-	}
-	timeScale := 1.0
-	if timeCol >= 0 {
-		timeScale = timeUnitSeconds(shape.units[timeCol])
-		if timeScale == 0 {
-			return nil, &UnsupportedError{Format: "csv", Place: AtLine(shape.headerLine, 0), Feature: fmt.Sprintf("time unit %q", shape.units[timeCol]), Expected: "s, ms, us, ns or min"}
+	data := shape.dataCols
+	timeCol, counterCol := -1, -1
+	var checkCols []int
+	for _, i := range data {
+		if isTimeName(shape.names[i]) {
+			if timeCol < 0 {
+				timeCol = i
+			} else {
+				checkCols = append(checkCols, i)
+			}
 		}
 	}
-	nsig := shape.fields
+	stated, badMeta, metaWarnings := resolveMeta(shape.meta)
+	if timeCol < 0 && len(data) >= 2 {
+		first := data[0]
+		f := shape.facts[first]
+		switch {
+		case isCounterColumn(shape.names[first], shape.units[first], f):
+			counterCol = first
+		case noHeader && !given && (f.rising || stated == nil):
+			// Without a header, the first column is time, unless it does
+			// not rise and the file states its rate. Several channels may
+			// each carry their own time column: time, value, time, value.
+			timeCol = first
+			checkCols = pairedTimeColumns(shape)
+		}
+	}
+	rateSource := ""
+	if !given && timeCol < 0 {
+		// The rate must come from what the file states.
+		if badMeta != nil {
+			return nil, &FormatError{Format: "csv", Place: badMeta.place(), Problem: fmt.Sprintf("the sample %s %q is %q, not a positive number in a known unit", kindName(badMeta.kind), badMeta.key, badMeta.raw),
+				Expected: badMeta.expected()}
+		}
+		switch {
+		case stated != nil:
+			rateSource = "the stated " + kindName(stated.kind) + " " + stated.describe()
+		case counterCol >= 0:
+			return nil, &FormatError{Format: "csv", Place: AtLine(shape.dataLine, 0), Problem: fmt.Sprintf("%s counts samples (0, 1, 2 ...) and the file states no sample interval or rate, so the sample rate is unknown", columnName(shape, counterCol)),
+				Expected: "a line such as \"Sample interval,1e-05\" or \"Sample rate,96000\" in the file, or the rate given with the command (--rate HZ)"}
+		default:
+			return nil, &FormatError{Format: "csv", Place: AtLine(max(shape.headerLine, 1), 0), Problem: "no time column and no sample rate", Expected: "a column named time (with its unit, e.g. \"time (s)\"), a line such as \"Sample interval,1e-05\", or a sample rate given with the command"}
+		}
+	}
+	role := make([]int, shape.fields)
+	timeScale := make([]float64, shape.fields)
+	for i := range role {
+		role[i] = roleSkip
+	}
+	for _, i := range append([]int{timeCol}, checkCols...) {
+		if i < 0 {
+			continue
+		}
+		role[i] = roleTimeCheck
+		timeScale[i] = timeUnitSeconds(shape.units[i])
+		if timeScale[i] == 0 {
+			return nil, &UnsupportedError{Format: "csv", Place: AtLine(shape.headerLine, 0), Feature: fmt.Sprintf("time unit %q", shape.units[i]), Expected: "s, ms, us, ns or min"}
+		}
+	}
 	if timeCol >= 0 {
-		nsig--
+		role[timeCol] = roleTime
+	}
+	if counterCol >= 0 {
+		role[counterCol] = roleCounter
+	}
+	nsig := 0
+	for _, i := range data {
+		if role[i] == roleSkip {
+			nsig++
+		}
 	}
 	if nsig < 1 {
 		return nil, &FormatError{Format: "csv", Place: AtLine(shape.dataLine, 0), Problem: "rows hold only a time column", Expected: "at least one signal column"}
@@ -691,14 +1024,12 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 		return nil, &UnsupportedError{Format: "csv", Place: AtLine(shape.dataLine, 0), Feature: fmt.Sprintf("%d columns", nsig), Expected: fmt.Sprintf("at most %d signal columns", MaxRawChannels)}
 	}
 	rec := &Recording{Channels: make([]Channel, 0, nsig), Source: Source{Format: "csv", SampleType: "text"}}
-	colChan := make([]int, shape.fields) // field → channel, -1 for time
 	scale := make([]float64, shape.fields)
-	for i := range shape.names {
-		scale[i] = 1
-		if i == timeCol {
-			colChan[i] = -1
+	for _, i := range data {
+		if role[i] != roleSkip {
 			continue
 		}
+		scale[i] = 1
 		name, unit := shape.names[i], shape.units[i]
 		if name == "" {
 			name = fmt.Sprintf("ch%d", len(rec.Channels))
@@ -706,7 +1037,7 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 		if f, ok := voltUnits[strings.ToLower(unit)]; ok {
 			scale[i], unit = f, UnitVolt
 		}
-		colChan[i] = len(rec.Channels)
+		role[i] = len(rec.Channels)
 		rec.Channels = append(rec.Channels, Channel{Name: name, Unit: unit})
 	}
 	// Reserve the samples from the size of the data and the sniffed rows'
@@ -722,18 +1053,17 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 	sc := &csvScanner{r: r, buf: make([]byte, readBufferBytes), line: shape.dataLine}
 	var fields [][]byte
 	var cols []int
-	var t0, tPrev, minStep, maxStep float64
+	var t0, tPrev, tRow, minStep, maxStep float64
 	var lastTime []byte // the last time cell, for its printing resolution
+	var checkDiff float64
+	checkLine, checkField := 0, 0
+	var counterPrev float64
+	gaps, gapLine := 0, 0
+	var gapFrom, gapTo float64
 	rows := 0
 	nonFinite := 0
 	var consumed int64
 	nextProgress := int64(1 << 20)
-	names := func(i int) string {
-		if shape.names[i] != "" {
-			return fmt.Sprintf("column %q (field %d)", shape.names[i], i+1)
-		}
-		return fmt.Sprintf("field %d", i+1)
-	}
 	for {
 		text, line, _, ok, err := sc.record()
 		if err != nil {
@@ -755,21 +1085,36 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 				Expected: fmt.Sprintf("%d %s-separated fields in every row", shape.fields, delimName(shape.delim))}
 		}
 		for i, f := range fields {
+			ch := role[i]
+			if ch == roleSkip {
+				continue
+			}
 			v, ok := parseNumber(f, shape.decimalComma)
 			if !ok {
-				return nil, &FormatError{Format: "csv", Place: AtLine(line, cols[i]), Problem: fmt.Sprintf("cell %q in %s is not a number", clip(string(f), 40), names(i)),
+				return nil, &FormatError{Format: "csv", Place: AtLine(line, cols[i]), Problem: fmt.Sprintf("cell %q in %s is not a number", clip(string(f), 40), columnName(shape, i)),
 					Expected: "a decimal number such as -1.25e-3" + map[bool]string{true: " or -1,25e-3", false: ""}[shape.decimalComma]}
 			}
-			if i == timeCol {
-				if opts.SampleRateHz > 0 {
-					continue // a given rate overrides the time column
+			if ch >= 0 {
+				x := float32(v * scale[i])
+				if x-x != 0 { // NaN, ±Inf, or beyond float32
+					nonFinite++
+					x = 0
 				}
-				t := v * timeScale
+				c := &rec.Channels[ch]
+				c.Samples = append(c.Samples, x)
+				continue
+			}
+			if given {
+				continue // a given rate overrides the time and counter columns
+			}
+			switch ch {
+			case roleTime:
+				t := v * timeScale[i]
 				lastTime = append(lastTime[:0], f...)
 				if rows > 0 {
 					step := t - tPrev
 					if !(step > 0) {
-						return nil, &FormatError{Format: "csv", Place: AtLine(line, cols[i]), Problem: fmt.Sprintf("time %g s does not come after the previous row's %g s", t, tPrev), Expected: timeExpectation(noHeader && timeCol == 0)}
+						return nil, &FormatError{Format: "csv", Place: AtLine(line, cols[i]), Problem: fmt.Sprintf("time %g s does not come after the previous row's %g s", t, tPrev), Expected: timeExpectation(noHeader && timeCol == data[0])}
 					}
 					if rows == 1 || step < minStep {
 						minStep = step
@@ -780,16 +1125,31 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 				} else {
 					t0 = t
 				}
-				tPrev = t
-				continue
+				tPrev, tRow = t, t
+			case roleTimeCheck:
+				if d := math.Abs(v*timeScale[i] - tRow); d > checkDiff || math.IsNaN(d) && checkLine == 0 {
+					checkDiff, checkLine, checkField = d, line, i
+				}
+			case roleCounter:
+				if v != math.Trunc(v) || math.Abs(v) > 1<<53 {
+					return nil, &FormatError{Format: "csv", Place: AtLine(line, cols[i]), Problem: fmt.Sprintf("sample counter %q in %s is not a whole number", clip(string(f), 40), columnName(shape, i)),
+						Expected: "a sample counter rising by 1 from row to row"}
+				}
+				if rows > 0 {
+					step := v - counterPrev
+					if !(step > 0) {
+						return nil, &FormatError{Format: "csv", Place: AtLine(line, cols[i]), Problem: fmt.Sprintf("sample counter %.0f does not come after the previous row's %.0f", v, counterPrev),
+							Expected: "a sample counter rising by 1 from row to row"}
+					}
+					if step != 1 {
+						if gaps == 0 {
+							gapLine, gapFrom, gapTo = line, counterPrev, v
+						}
+						gaps++
+					}
+				}
+				counterPrev = v
 			}
-			x := float32(v * scale[i])
-			if x-x != 0 { // NaN, ±Inf, or beyond float32
-				nonFinite++
-				x = 0
-			}
-			c := &rec.Channels[colChan[i]]
-			c.Samples = append(c.Samples, x)
 		}
 		rows++
 		consumed = sc.offset
@@ -801,32 +1161,53 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 	if rows == 0 {
 		return nil, &FormatError{Format: "csv", Place: AtLine(shape.dataLine, 0), Problem: "no data rows", Expected: "rows of numbers after the header"}
 	}
+	ratePlace := AtLine(shape.dataLine, 0)
 	switch {
-	case opts.SampleRateHz > 0:
+	case given:
 		rec.SampleRateHz = opts.SampleRateHz
 	case timeCol >= 0 && rows >= 2:
+		rateSource = "the time column"
 		meanStep := (tPrev - t0) / float64(rows-1)
-		// Ten significant digits: the time column is printed text, and its
-		// last-bit noise should not show up as 499999.99999999994 Hz.
-		rec.SampleRateHz, _ = strconv.ParseFloat(strconv.FormatFloat(1/meanStep, 'g', 10, 64), 64)
+		rec.SampleRateHz = tenDigits(1 / meanStep)
 		// Steps that differ from the mean by more than 1 % are reported,
 		// unless the difference is only the rounding of the printed times.
 		// The last cell shows the resolution (a leading "0" would not);
 		// half a step is always reported, since that is a lost or doubled
 		// sample whatever the printing.
-		rounding := math.Min(1.5*printQuantum(lastTime)*timeScale, 0.5*meanStep)
+		rounding := math.Min(1.5*printQuantum(lastTime)*timeScale[timeCol], 0.5*meanStep)
 		tolerance := math.Max(0.01*meanStep, rounding)
 		if maxStep-meanStep > tolerance || meanStep-minStep > tolerance {
 			rec.Warnings = append(rec.Warnings, fmt.Sprintf("time steps range from %.6g s to %.6g s around a mean of %.6g s (more than 1%% uneven); samples are treated as evenly spaced at %.6g Hz",
 				minStep, maxStep, meanStep, rec.SampleRateHz))
 		}
+		if checkLine > 0 && !(checkDiff <= tolerance) {
+			rec.Warnings = append(rec.Warnings, fmt.Sprintf("the time columns disagree: %s differs from %s by up to %.6g s (line %d), more than 1%% of a step; the first time column is used",
+				columnName(shape, checkField), columnName(shape, timeCol), checkDiff, checkLine))
+		}
+		if stated != nil && math.Abs(stated.hz-rec.SampleRateHz) > 0.01*rec.SampleRateHz {
+			rec.Warnings = append(rec.Warnings, fmt.Sprintf("the file states a sample %s of %s, which gives %.10g Hz, but the time column gives %.10g Hz (more than 1%% apart); the time column is used",
+				kindName(stated.kind), stated.describe(), stated.hz, rec.SampleRateHz))
+		}
+		if badMeta != nil {
+			rec.Warnings = append(rec.Warnings, fmt.Sprintf("the sample %s %s is not a positive number in a known unit and was ignored; the time column gives the rate", kindName(badMeta.kind), badMeta.describe()))
+		}
+		metaWarnings = nil // the time column decides
 	case timeCol >= 0:
 		return nil, &FormatError{Format: "csv", Place: AtLine(shape.dataLine, 0), Problem: "one data row cannot give a sample rate", Expected: "two or more rows, or a sample rate given with the command"}
 	default:
-		return nil, &FormatError{Format: "csv", Place: AtLine(max(shape.headerLine, 1), 0), Problem: "no time column and no sample rate", Expected: "a column named time (with its unit, e.g. \"time (s)\") or a sample rate given with the command"}
+		// checked before reading: the file states its rate
+		rec.SampleRateHz = tenDigits(stated.hz)
+		ratePlace = stated.place()
+	}
+	if !given {
+		rec.Warnings = append(rec.Warnings, metaWarnings...)
+	}
+	if gaps > 0 {
+		rec.Warnings = append(rec.Warnings, fmt.Sprintf("the sample counter in %s jumps from %.0f to %.0f at line %d (%d jumps in all: lost or skipped samples); samples are treated as evenly spaced at %.6g Hz",
+			columnName(shape, counterCol), gapFrom, gapTo, gapLine, gaps, rec.SampleRateHz))
 	}
 	if !(rec.SampleRateHz > 0) || rec.SampleRateHz > MaxSampleRateHz || math.IsInf(rec.SampleRateHz, 0) {
-		return nil, &FormatError{Format: "csv", Place: AtLine(shape.dataLine, 0), Problem: fmt.Sprintf("time column gives a sample rate of %g Hz", rec.SampleRateHz), Expected: fmt.Sprintf("a rate above 0 and at most %g Hz", MaxSampleRateHz)}
+		return nil, &FormatError{Format: "csv", Place: ratePlace, Problem: fmt.Sprintf("%s gives a sample rate of %g Hz", rateSource, rec.SampleRateHz), Expected: fmt.Sprintf("a rate above 0 and at most %g Hz", MaxSampleRateHz)}
 	}
 	if nonFinite > 0 {
 		rec.Warnings = append(rec.Warnings, fmt.Sprintf("%d cells were NaN, infinite or beyond the float32 range and were set to 0", nonFinite))
@@ -835,6 +1216,64 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 		opts.Progress(1)
 	}
 	return rec, nil
+}
+
+// tenDigits rounds a rate to ten significant digits: it comes from printed
+// text, and last-bit noise should not show up as 499999.99999999994 Hz.
+func tenDigits(hz float64) float64 {
+	v, _ := strconv.ParseFloat(strconv.FormatFloat(hz, 'g', 10, 64), 64)
+	return v
+}
+
+// kindName names what a stated value is.
+func kindName(k csvMetaKind) string {
+	if k == metaRate {
+		return "rate"
+	}
+	return "interval"
+}
+
+// columnName names field i for messages.
+func columnName(shape csvShape, i int) string {
+	if shape.names[i] != "" {
+		return fmt.Sprintf("column %q (field %d)", shape.names[i], i+1)
+	}
+	return fmt.Sprintf("field %d", i+1)
+}
+
+// pairedTimeColumns finds the time columns of a headerless file whose
+// channels each carry their own: the data columns alternate time, value,
+// time, value; every time column rises in even steps about as long as the
+// first one's (within 10 %), and the value columns do not all do so. It
+// returns the time columns after the first.
+func pairedTimeColumns(shape csvShape) []int {
+	data := shape.dataCols
+	if len(data) < 4 || len(data)%2 != 0 {
+		return nil
+	}
+	first := shape.facts[data[0]]
+	if !first.even {
+		return nil
+	}
+	valuesEven := true
+	var times []int
+	for k, c := range data {
+		f := shape.facts[c]
+		if k%2 == 1 {
+			valuesEven = valuesEven && f.even
+			continue
+		}
+		if !f.even || math.Abs(f.step-first.step) > 0.1*first.step {
+			return nil
+		}
+		if k > 0 {
+			times = append(times, c)
+		}
+	}
+	if valuesEven {
+		return nil
+	}
+	return times
 }
 
 // timeExpectation says what a time column must do, and how to read a
