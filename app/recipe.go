@@ -27,7 +27,8 @@ the guessed roles, the index threshold and hysteresis, the delay from the
 detector's beam-on stretch, and a pixel pitch near the line spacing. The
 geometry (apertures, field, distance) and the position calibration keep the
 values of --from, or the defaults, and are worth checking by hand; what
-looks wrong is said on stderr.
+looks wrong is said on stderr. Without --from, a capture with no position
+channel gets rows.source "steps" when it has step pulses, else "even".
 `
 
 func runRecipe(args []string, stdout, stderr io.Writer) error {
@@ -74,6 +75,9 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
+	if *from == "" {
+		r.Rows.Source = rowsSourceFor(capture.GuessRoles(rec))
+	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
 	// A trial build resolves every value and finds what looks wrong (a
@@ -89,4 +93,21 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 	}
 	_, err = stdout.Write(res.Recipe.JSON())
 	return err
+}
+
+// rowsSourceFor picks the cross-scan source a starting recipe uses: the
+// position channel when one is seen, else step pulses, else an even motion
+// (whose speed the engine then assumes and says so).
+func rowsSourceFor(guesses []capture.RoleGuess) string {
+	has := map[string]bool{}
+	for _, g := range guesses {
+		has[g.Role] = true
+	}
+	switch {
+	case has[capture.RolePosition]:
+		return "position"
+	case has[capture.RoleSteps]:
+		return "steps"
+	}
+	return "even"
 }

@@ -79,3 +79,43 @@ func TestRecipeErrors(t *testing.T) {
 		t.Errorf("bad recipe: exit %d, %q", code, errOut.String())
 	}
 }
+
+// TestRecipeWithoutPositionChannel: a two-channel capture (detector and
+// index, the head driven at an unknown steady speed) gets a starting
+// recipe with an even motion, and stderr says the speed was assumed.
+func TestRecipeWithoutPositionChannel(t *testing.T) {
+	dir := t.TempDir()
+	rig := sampledata.DemoRig()
+	rig.DurationS = 5
+	rig.Motion.Kind = sampledata.MotionMotor
+	rig.Motion.StrokeS = 5
+	rig.Motion.StartRestS = 0
+	rig.Motion.PauseCount = 0
+	rig.Position.Kind = sampledata.SensorNone
+	rigPath := filepath.Join(dir, "motor.rig.json")
+	data, err := json.Marshal(rig)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(rigPath, data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	capPath := filepath.Join(dir, "two.wav")
+	if code, _, errText := runSimulateCmd("--scene", "parcel", "--rig", rigPath, "--out", capPath); code != 0 {
+		t.Fatalf("simulate exit %d: %s", code, errText)
+	}
+	var out, errOut bytes.Buffer
+	if code := run([]string{"recipe", capPath, "--apertures", "6"}, &out, &errOut); code != 0 {
+		t.Fatalf("recipe exit %d: %s", code, errOut.String())
+	}
+	r, err := recipe.Parse(out.Bytes())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Rows.Source != "even" || r.Rows.SpeedMMS == nil || *r.Rows.SpeedMMS <= 0 || r.Channels.Position.IsSet() {
+		t.Errorf("rows %+v, position %q: want source even with a resolved speed and no position channel", r.Rows, r.Channels.Position)
+	}
+	if !strings.Contains(errOut.String(), "speed_mm_s is null") {
+		t.Errorf("stderr does not say the speed was assumed: %q", errOut.String())
+	}
+}

@@ -194,6 +194,11 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 		}
 		r.Sweep.SinePeriodS = recipe.Float(median(periods) / s.rec.SampleRateHz)
 	}
+	if r.Rows.Source == "even" && r.Rows.SpeedMMS == nil {
+		speed, w := automaticSpeed(t, r, s.rec.SampleRateHz)
+		r.Rows.SpeedMMS = recipe.Float(speed)
+		warns = append(warns, w)
+	}
 	progress.report("rows", 0)
 	rows, err := s.rowsStage(ctx, r, ch)
 	if err != nil {
@@ -651,4 +656,29 @@ func gapWarning(lines []placedLine, pitch float64, fill, gapRows int) string {
 		return fmt.Sprintf("%d rows have gaps where no line passed", gapRows)
 	}
 	return fmt.Sprintf("the head moved faster than one line per row between %.1f s and %.1f s: %d rows have gaps", from, to, gapRows)
+}
+
+// automaticSpeed is the head speed assumed when the recipe gives neither a
+// position channel nor a speed: one pitch (1 mm when the pitch is
+// automatic) per line, so every line gets its own row. The picture is then
+// whole but its cross-scan scale is only as true as that guess, which the
+// warning says.
+func automaticSpeed(t *timingResult, r recipe.Recipe, rateHz float64) (float64, string) {
+	periods := make([]float64, len(t.lines))
+	for i, l := range t.lines {
+		periods[i] = l.period
+	}
+	lineRate := 1.0
+	if len(periods) > 0 && median(periods) > 0 {
+		lineRate = rateHz / median(periods)
+	}
+	if r.Sweep.Law == "sine" {
+		lineRate *= 2 // a forward and a backward line per period
+	}
+	pitch := r.Image.PitchMM
+	if pitch <= 0 {
+		pitch = 1
+	}
+	speed := pitch * lineRate
+	return speed, fmt.Sprintf("rows.speed_mm_s is null and there is no position channel: the head is taken to move one pitch (%.3g mm) per line, %.4g mm/s; give its real speed for a true cross-scan scale", pitch, speed)
 }

@@ -184,6 +184,12 @@ func withGuessedRoles(r recipe.Recipe, rec *capture.Recording) recipe.Recipe {
 		if r.Rows.Source == "steps" || r.Rows.Source == "even" {
 			r.Rows.Source = "position"
 		}
+	} else if n, err := strconv.Atoi(string(r.Channels.Position)); err != nil || n < 0 || n >= len(rec.Channels) || used[n] {
+		// The settings' position channel is not in this capture (or is
+		// the index): leave it out rather than build from a wrong one.
+		r.Channels.Position = ""
+	} else {
+		used[n] = true
 	}
 	det, ok := best("detector")
 	if !ok {
@@ -202,6 +208,10 @@ func withGuessedRoles(r recipe.Recipe, rec *capture.Recording) recipe.Recipe {
 		if ch, ok := best("steps"); ok {
 			r.Channels.Steps = ref(ch)
 			r.Rows.Source = "steps"
+		} else if r.Rows.Source == "position" || r.Rows.Source == "tone" {
+			// No cross-scan signal at all: an even motion, whose speed the
+			// engine assumes (one pitch per line) and says so.
+			r.Rows.Source = "even"
 		}
 	}
 	return r

@@ -89,7 +89,7 @@ func TestValidateNamesKeyAndAllowedValues(t *testing.T) {
 		{func(r *Recipe) { r.Sweep.FieldDeg = 100 }, `"sweep.field_deg" is 100° but 4 apertures are 90° apart`},
 		{func(r *Recipe) { r.Timing.PulsesPerRev = 3 }, `"timing.pulses_per_rev" is 3: allowed values are 4`},
 		{func(r *Recipe) { r.Rows.Calibration = nil }, `"rows.calibration" has 0 points`},
-		{func(r *Recipe) { r.Rows.Source = "even" }, `"rows.speed_mm_s" is null: source even needs`},
+		{func(r *Recipe) { r.Rows.Source = "even"; r.Rows.SpeedMMS = Float(0) }, `"rows.speed_mm_s" is 0`},
 		{func(r *Recipe) { r.Sweep.Law = "table" }, `"sweep.table" has 0 points`},
 		{func(r *Recipe) { r.Sweep.ApertureOffsetsDeg = []float64{1} }, `"sweep.aperture_offsets_deg" has 1 values`},
 		{func(r *Recipe) { r.Image.PitchMM = -1 }, `"image.pitch_mm" is -1`},

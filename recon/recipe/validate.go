@@ -137,9 +137,6 @@ func (r Recipe) Validate() error {
 	if finite("rows.speed_mm_s", w.SpeedMMS) && *w.SpeedMMS == 0 {
 		bad("rows.speed_mm_s", "is 0: expected the head speed in mm/s (negative for a downward pass)")
 	}
-	if w.Source == "even" && w.SpeedMMS == nil {
-		bad("rows.speed_mm_s", "is null: source even needs the head speed in mm/s")
-	}
 	oneOf("rows.strokes", w.Strokes, StrokeModes)
 
 	// signal, image
