@@ -169,12 +169,16 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 	for _, c := range shape.dataCols {
 		isData[c] = true
 	}
+	// Rows are split as the streaming pass splits them: a trailing
+	// delimiter's empty field is dropped when it is one field too many.
 	split := func(i int) ([][]byte, []int) {
 		fields, cols, err := splitRecord(lines[i].text, shape.delim, nil, nil)
 		if err != nil {
 			return nil, nil
 		}
-		fields = dropTrailingEmpty(fields, shape.delim)
+		if len(fields) == shape.fields+1 {
+			fields = dropTrailingEmpty(fields, shape.delim)
+		}
 		return fields, cols[:len(fields)]
 	}
 	isNumber := func(f []byte) bool {
@@ -240,10 +244,13 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 			f = bytes.Split(lines[idx[start-1]].text, []byte{shape.delim})
 		}
 		var damaged bool
-		if plain {
+		switch {
+		case len(scanMetaCells(f, make([]int, len(f)), 0, shape.decimalComma, nil)) > 0:
+			// "Sample interval,1e-05" above two columns of data
+		case plain:
 			nums := numbers(f)
 			damaged = len(f) > 0 && (len(f) == shape.fields && nums > 0 || nums == len(f))
-		} else {
+		default:
 			damaged = len(f) == shape.fields && dataNumbers(f) > 0
 		}
 		if !damaged {
@@ -402,7 +409,9 @@ const sniffFactRows = 4096
 // each delimiter the rows with the most common field count are taken, the
 // columns numeric in more than half of those rows are the data columns,
 // and the score is the number of rows whose data columns all hold numbers.
-// Only a split that leaves at least one column out counts.
+// Only a split that leaves at least one column out counts. Rows are not
+// trimmed of a trailing delimiter: its empty column is one more metadata
+// column, so rows whose last metadata cell is empty keep their count.
 func sniffDataColumns(lines []sampleLine, idx []int) (csvShape, int) {
 	best, bestScore := csvShape{}, 0
 	for _, d := range []byte{',', ';', '\t'} {
@@ -414,8 +423,8 @@ func sniffDataColumns(lines []sampleLine, idx []int) (csvShape, int) {
 			if err != nil {
 				continue
 			}
-			rows[k] = dropTrailingEmpty(fields, d)
-			counts[len(rows[k])]++
+			rows[k] = fields
+			counts[len(fields)]++
 		}
 		n, nRows := 0, 0
 		for c, r := range counts {
@@ -477,6 +486,7 @@ type columnFacts struct {
 	step        float64 // mean step
 	integers    bool    // every value a whole number
 	consecutive bool    // whole numbers rising by exactly 1
+	mostlyByOne bool    // more than half of the steps are +1
 }
 
 // columnFactsOf works out the facts of column k of values; quantum is the
@@ -484,6 +494,7 @@ type columnFacts struct {
 func columnFactsOf(values [][]float64, k int, quantum float64) columnFacts {
 	f := columnFacts{rows: len(values), rising: len(values) >= 2, integers: len(values) > 0}
 	minStep, maxStep := math.Inf(1), math.Inf(-1)
+	ones := 0
 	for i, row := range values {
 		v := row[k]
 		if v != math.Trunc(v) || math.Abs(v) > 1<<53 {
@@ -493,11 +504,15 @@ func columnFactsOf(values [][]float64, k int, quantum float64) columnFacts {
 			continue
 		}
 		step := v - values[i-1][k]
+		if step == 1 {
+			ones++
+		}
 		if !(step > 0) {
 			f.rising = false
 		}
 		minStep, maxStep = math.Min(minStep, step), math.Max(maxStep, step)
 	}
+	f.mostlyByOne = len(values) >= 2 && 2*ones > len(values)-1
 	if f.rising {
 		f.step = (values[len(values)-1][k] - values[0][k]) / float64(len(values)-1)
 		tolerance := math.Max(0.01*f.step, math.Min(1.5*quantum, 0.5*f.step))
@@ -927,15 +942,16 @@ var counterNames = map[string]bool{"x": true, "sequence": true, "seq": true, "in
 var counterUnits = map[string]bool{"sequence": true, "samples": true, "sample": true, "points": true, "pts": true, "#": true, "index": true, "count": true, "counts": true}
 
 // isCounterColumn reports a column that counts samples: named as a counter
-// (or with a counter unit) and holding rising whole numbers, or holding
-// whole numbers rising by exactly 1 under a name that is not time. A time
-// unit in the header makes it a time column instead.
+// (or with a counter unit) and holding numbers that mostly step by 1 (the
+// streaming pass reports the rows that do not), or holding whole
+// numbers rising by exactly 1 under a name that is not time. A column with
+// any other unit (a time unit, volts) is not a counter.
 func isCounterColumn(name, unit string, f columnFacts) bool {
-	if strings.TrimSpace(unit) != "" && timeUnitSeconds(unit) != 0 {
+	n, u := strings.ToLower(strings.TrimSpace(name)), strings.ToLower(strings.Trim(strings.TrimSpace(unit), "()[] "))
+	if u != "" && !counterUnits[u] {
 		return false
 	}
-	n, u := strings.ToLower(strings.TrimSpace(name)), strings.ToLower(strings.TrimSpace(unit))
-	if (counterNames[n] || counterUnits[u]) && f.integers && f.rising {
+	if (counterNames[n] || counterUnits[u]) && f.mostlyByOne {
 		return true
 	}
 	return !isTimeName(name) && f.consecutive && f.rows >= 3
@@ -955,6 +971,15 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 				timeCol = i
 			} else {
 				checkCols = append(checkCols, i)
+			}
+		}
+	}
+	if timeCol < 0 {
+		// no time name: the first column with a time unit ("X (s)")
+		for _, i := range data {
+			if u := strings.TrimSpace(shape.units[i]); u != "" && timeUnitSeconds(u) != 0 {
+				timeCol = i
+				break
 			}
 		}
 	}

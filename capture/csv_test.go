@@ -248,3 +248,108 @@ func TestCSVPreambleWithHeaderShape(t *testing.T) {
 		t.Fatalf("%v %+v", err, rec.Channels)
 	}
 }
+
+// TestCSVStatedRateKeys reads the sample rate from preamble lines in the
+// documented key spellings. Expected rates are 1/interval with the SI
+// prefixes of the SI Brochure (BIPM, 9th edition, table 7: k = 1e3,
+// M = 1e6, m = 1e-3, µ = 1e-6).
+func TestCSVStatedRateKeys(t *testing.T) {
+	for _, tc := range []struct {
+		preamble string
+		delim    string
+		want     float64
+	}{
+		{"Sample Interval,1e-05", ",", 1 / 1e-5},
+		{"sampling period;2,0E-06", ";", 1 / 2e-6},
+		{"Sample rate,96000", ",", 96000},
+		{"Sample Rate (Hz),96000", ",", 96000},
+		{"SAMPLE RATE [kHz],96", ",", 96 * 1e3},
+		{"dt = 1e-5", ",", 1 / 1e-5},
+		{"# Sample rate: 48000", ",", 48000},
+		{"Sample interval,10,us", ",", 1 / (10 * 1e-6)},
+		{"Sample interval: 10 us", "\t", 1 / (10 * 1e-6)},
+		{"Δt = 2 ms", ",", 1 / (2 * 1e-3)},
+		{"X increment,5e-7", ",", 1 / 5e-7},
+		{"fs,1.5,MS/s", ",", 1.5 * 1e6},
+		{"Sampling frequency;25;kHz", ";", 25 * 1e3},
+	} {
+		text := tc.preamble + "\nA" + tc.delim + "B\n"
+		for i := 0; i < 5; i++ {
+			text += fmt.Sprintf("%d%s%d\n", (i*7)%5, tc.delim, i%2)
+		}
+		rec, err := readCSVString(t, text, Options{})
+		if err != nil {
+			t.Errorf("%q: %v", tc.preamble, err)
+			continue
+		}
+		if math.Abs(rec.SampleRateHz-tc.want) > 1e-9*tc.want || len(rec.Warnings) != 0 || len(rec.Channels) != 2 {
+			t.Errorf("%q: %v Hz, %d channels, warnings %q; want %v Hz", tc.preamble, rec.SampleRateHz, len(rec.Channels), rec.Warnings, tc.want)
+		}
+	}
+	// keys outside the set say nothing about the rate
+	if _, err := readCSVString(t, "Record length,1000\nA,B\n3,1\n1,0\n4,1\n", Options{}); err == nil || !strings.Contains(err.Error(), "no time column") {
+		t.Errorf("unknown key: %v", err)
+	}
+}
+
+// TestCSVStatedRateUnusable: a stated rate that is not a positive number
+// is an error when the rate must come from it, and a warning when a time
+// column gives the rate.
+func TestCSVStatedRateUnusable(t *testing.T) {
+	_, err := readCSVString(t, "Sample rate,auto\nA,B\n3,1\n1,0\n4,1\n", Options{})
+	var fe *FormatError
+	if !errors.As(err, &fe) || fe.Place.String() != "line 1:13" || !strings.Contains(err.Error(), `"auto"`) {
+		t.Errorf("text rate: %v", err)
+	}
+	rec, err := readCSVString(t, "Sample rate,-5\ntime,A\n0,1\n1,0\n2,1\n", Options{})
+	if err != nil || rec.SampleRateHz != 1 || len(rec.Warnings) != 1 || !strings.Contains(rec.Warnings[0], "ignored") {
+		t.Errorf("negative rate beside a time column: %v %+v", err, rec)
+	}
+	// within 1 % of the time column: no warning (1/1.005e-3 = 995.0 Hz
+	// against 1000 Hz is 0.5 % apart)
+	rec, err = readCSVString(t, "Sample interval,1.005e-3\ntime,A\n0,1\n0.001,0\n0.002,1\n", Options{})
+	if err != nil || len(rec.Warnings) != 0 {
+		t.Errorf("0.5 %% apart: %v %+v", err, rec)
+	}
+}
+
+// TestCSVSampleCounter checks the counter column: dropped as a signal,
+// rate from the stated interval or the command, errors at the cell that
+// breaks the count, and no 1 Hz guess.
+func TestCSVSampleCounter(t *testing.T) {
+	// headerless consecutive integers and a stated interval: 1/1e-4 Hz
+	rec, err := readCSVString(t, "Sample interval,1e-4\n0,0.5\n1,0.25\n2,0.125\n3,0\n", Options{})
+	if err != nil || math.Abs(rec.SampleRateHz-1e4) > 1e-6 || len(rec.Channels) != 1 || rec.Channels[0].Samples[1] != 0.25 {
+		t.Errorf("headerless counter: %v %+v", err, rec)
+	}
+	// a given rate: the counter is still not a signal
+	rec, err = readCSVString(t, "Sample,det\n0,1\n1,2\n2,3\n", Options{SampleRateHz: 250})
+	if err != nil || rec.SampleRateHz != 250 || len(rec.Channels) != 1 || rec.Channels[0].Name != "det" {
+		t.Errorf("counter with a given rate: %v %+v", err, rec)
+	}
+	// a time unit makes a column of whole numbers a time column: 1/1 ms
+	rec, err = readCSVString(t, "Index (ms),det\n0,1\n1,2\n2,3\n", Options{})
+	if err != nil || math.Abs(rec.SampleRateHz-1000) > 1e-9 || len(rec.Channels) != 1 {
+		t.Errorf("whole numbers in ms: %v %+v", err, rec)
+	}
+	for _, tc := range []struct{ name, text, place, words string }{
+		{"no interval", "0,0.5\n1,0.25\n2,0.125\n", "line 1", "sample rate is unknown"},
+		{"backwards", "Sample interval,1e-4\nNo,det\n0,1\n1,2\n2,3\n1,4\n", "line 6:1", "does not come after"},
+		{"not whole", "Sample interval,1e-4\nNo,det\n0,1\n1,2\n2,3\n3.5,4\n", "line 6:1", "not a whole number"},
+	} {
+		_, err := readCSVString(t, tc.text, Options{})
+		var fe *FormatError
+		if !errors.As(err, &fe) || fe.Place.String() != tc.place || !strings.Contains(err.Error(), tc.words) || !strings.Contains(err.Error(), "expected") {
+			t.Errorf("%s: %v; want %s and %q", tc.name, err, tc.place, tc.words)
+		}
+	}
+}
+
+// TestCSVTextColumnIgnored: a column of notes, text in most rows, is
+// metadata beside the samples and is not read.
+func TestCSVTextColumnIgnored(t *testing.T) {
+	rec, err := readCSVString(t, "time,det,note\n0,1,start\n0.5,2,\n1.0,3,beam on\n1.5,4,\n2.0,5,end\n", Options{})
+	if err != nil || rec.SampleRateHz != 2 || len(rec.Channels) != 1 || rec.Channels[0].Name != "det" || rec.Frames() != 5 {
+		t.Fatalf("%v %+v", err, rec)
+	}
+}
