@@ -14,13 +14,23 @@ import (
 // streaming pass over the rest:
 //
 //  1. sniff: the first sniffCSVBytes are split into lines; the delimiter is
-//     the candidate under which the last lines of that sample are all
-//     numbers with the same field count (the most fields wins).
-//  2. the first run of numeric rows starts the data; the non-numeric row
-//     before it is the header (and a units row may sit between the two);
-//     anything before that is preamble.
+//     the candidate under which the most lines are all numbers with the
+//     same field count (the most fields wins). When most lines are not,
+//     the samples may stand beside metadata: under the most common field
+//     count, the columns numeric in more than half of the rows are the
+//     data columns, and the others (key/value metadata in the leading
+//     columns of the first rows, empty or text later) are not read.
+//  2. the first run of rows with numbers in every data column starts the
+//     data; the row before it is the header (a units row may sit between
+//     the two, and header cells past the data columns may name a sample
+//     interval whose value stands in the units row); anything before that
+//     is preamble, searched for sample interval or rate statements
+//     (csvmeta.go).
 //  3. the data rows are streamed from a fixed-size buffer straight into
-//     float32 slices.
+//     float32 slices. The rate comes from the time column (a time name or
+//     unit, or the first column of a headerless file), else from the
+//     stated interval or rate; a sample-counter first column (0, 1, 2 ...)
+//     is checked for gaps and never taken for time.
 
 // sniffCSVBytes is how much of a text file is looked at to find its shape.
 const sniffCSVBytes = 1 << 16
