@@ -1215,7 +1215,10 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 			rec.Warnings = append(rec.Warnings, fmt.Sprintf("time steps range from %.6g s to %.6g s around a mean of %.6g s (more than 1%% uneven); samples are treated as evenly spaced at %.6g Hz",
 				minStep, maxStep, meanStep, rec.SampleRateHz))
 		}
-		if checkLine > 0 && !(checkDiff <= tolerance) {
+		// Time columns printed alike differ by at most their last digit;
+		// a quarter of a step is always reported.
+		checkTolerance := math.Max(0.01*meanStep, math.Min(printQuantum(lastTime)*timeScale[timeCol], 0.25*meanStep))
+		if checkLine > 0 && !(checkDiff <= checkTolerance) {
 			rec.Warnings = append(rec.Warnings, fmt.Sprintf("the time columns disagree: %s differs from %s by up to %.6g s (line %d), more than 1%% of a step; the first time column is used",
 				columnName(shape, checkField), columnName(shape, timeCol), checkDiff, checkLine))
 		}

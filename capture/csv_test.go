@@ -270,7 +270,8 @@ func TestCSVStatedRateKeys(t *testing.T) {
 		{"Sample interval: 10 us", "\t", 1 / (10 * 1e-6)},
 		{"Δt = 2 ms", ",", 1 / (2 * 1e-3)},
 		{"X increment,5e-7", ",", 1 / 5e-7},
-		{"fs,1.5,MS/s", ",", 1.5 * 1e6},
+		{"Sampling rate,1.5,MS/s", ",", 1.5 * 1e6},
+		{"FS,10", ",", 0}, // full scale, not a rate
 		{"Sampling frequency;25;kHz", ";", 25 * 1e3},
 	} {
 		text := tc.preamble + "\nA" + tc.delim + "B\n"
@@ -278,6 +279,12 @@ func TestCSVStatedRateKeys(t *testing.T) {
 			text += fmt.Sprintf("%d%s%d\n", (i*7)%5, tc.delim, i%2)
 		}
 		rec, err := readCSVString(t, text, Options{})
+		if tc.want == 0 {
+			if err == nil || !strings.Contains(err.Error(), "no time column") {
+				t.Errorf("%q: %v, want no rate", tc.preamble, err)
+			}
+			continue
+		}
 		if err != nil {
 			t.Errorf("%q: %v", tc.preamble, err)
 			continue
@@ -350,6 +357,32 @@ func TestCSVSampleCounter(t *testing.T) {
 func TestCSVTextColumnIgnored(t *testing.T) {
 	rec, err := readCSVString(t, "time,det,note\n0,1,start\n0.5,2,\n1.0,3,beam on\n1.5,4,\n2.0,5,end\n", Options{})
 	if err != nil || rec.SampleRateHz != 2 || len(rec.Channels) != 1 || rec.Channels[0].Name != "det" || rec.Frames() != 5 {
+		t.Fatalf("%v %+v", err, rec)
+	}
+}
+
+// TestCSVTimeColumnPerChannel: channels that each carry their own named
+// time column keep one time column; columns that differ by more than 1 %
+// of a step are reported.
+func TestCSVTimeColumnPerChannel(t *testing.T) {
+	text := "TIME,CH1,TIME,CH2\n0,1,0,5\n0.001,2,0.001,0\n0.002,3,0.002,5\n0.003,4,0.003,0\n"
+	rec, err := readCSVString(t, text, Options{})
+	if err != nil || len(rec.Channels) != 2 || rec.Channels[1].Name != "CH2" || math.Abs(rec.SampleRateHz-1000) > 1e-6 || len(rec.Warnings) != 0 {
+		t.Fatalf("%v %+v", err, rec)
+	}
+	// the second time column runs half a step late at line 4
+	rec, err = readCSVString(t, strings.Replace(text, "0.002,3,0.002", "0.002,3,0.0025", 1), Options{})
+	if err != nil || len(rec.Warnings) != 1 || !strings.Contains(rec.Warnings[0], "disagree") || !strings.Contains(rec.Warnings[0], "line 4") {
+		t.Fatalf("%v %q", err, rec.Warnings)
+	}
+}
+
+// TestCSVStatedIntervalInHeaderCells: key and value side by side in header
+// cells past the data ("X,CH1,Start,-0.01,Increment,1e-05") also give the
+// rate, 1/1e-05 Hz.
+func TestCSVStatedIntervalInHeaderCells(t *testing.T) {
+	rec, err := readCSVString(t, "X,CH1,Start,-0.01,Increment,1e-05\n0,0.5\n1,0.25\n2,0\n", Options{})
+	if err != nil || math.Abs(rec.SampleRateHz-1e5) > 1e-6 || len(rec.Channels) != 1 || rec.Channels[0].Name != "CH1" || rec.Frames() != 3 {
 		t.Fatalf("%v %+v", err, rec)
 	}
 }

@@ -23,7 +23,7 @@ import (
 //	  sampling period, interval, increment, x increment, time increment,
 //	  time step, dt, delta t, Δt
 //	rate (hertz):       sample rate, sampling rate, sample frequency,
-//	  sampling frequency, fs
+//	  sampling frequency ("fs" is left out: it also names full scale)
 //
 // An interval may carry s, ms, us, µs, ns or min; a rate Hz, kHz, MHz, GHz
 // or S/s, kS/s, MS/s, GS/s (also written Sa/s or sps); either in brackets
@@ -42,7 +42,7 @@ var metaKeys = map[string]csvMetaKind{
 	"sampleinterval": metaInterval, "samplinginterval": metaInterval, "sampleperiod": metaInterval, "samplingperiod": metaInterval,
 	"interval": metaInterval, "increment": metaInterval, "xincrement": metaInterval, "timeincrement": metaInterval,
 	"timestep": metaInterval, "dt": metaInterval, "deltat": metaInterval, "δt": metaInterval,
-	"samplerate": metaRate, "samplingrate": metaRate, "samplefrequency": metaRate, "samplingfrequency": metaRate, "fs": metaRate,
+	"samplerate": metaRate, "samplingrate": metaRate, "samplefrequency": metaRate, "samplingfrequency": metaRate,
 }
 
 // csvMeta is one recognised key and its value.
