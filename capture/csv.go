@@ -159,7 +159,7 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 	// When most lines are not rows of numbers, the samples may stand in
 	// some columns beside metadata columns (empty or text in most rows).
 	if 2*bestScore < len(idx) {
-		if cs, score := sniffDataColumns(lines, idx); score > bestScore {
+		if cs, score := sniffDataColumns(lines, idx); score > 2*bestScore {
 			best, bestScore = cs, score
 		}
 	}
@@ -465,7 +465,11 @@ func sniffDataColumns(lines []sampleLine, idx []int) (csvShape, int) {
 		if len(cols) == 0 || len(cols) == n {
 			continue
 		}
+		// The score counts the rows with numbers in every data column; in
+		// those rows each other column must be empty or text in most, or
+		// it is a data column with damaged cells (or the split is wrong).
 		score := 0
+		other := make([]int, n) // numbers in the other columns of scored rows
 		for _, f := range rows {
 			if len(f) != n {
 				continue
@@ -477,8 +481,19 @@ func sniffDataColumns(lines []sampleLine, idx []int) (csvShape, int) {
 					break
 				}
 			}
-			if all {
-				score++
+			if !all {
+				continue
+			}
+			score++
+			for j, cell := range f {
+				if _, ok := parseNumber(cell, decimalComma); ok && 2*numeric[j] <= nRows {
+					other[j]++
+				}
+			}
+		}
+		for _, m := range other {
+			if 2*m > score {
+				score = 0
 			}
 		}
 		if score > bestScore {

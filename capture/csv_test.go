@@ -322,7 +322,8 @@ func TestCSVStatedRateUnusable(t *testing.T) {
 
 // TestCSVSampleCounter checks the counter column: dropped as a signal,
 // rate from the stated interval or the command, errors at the cell that
-// breaks the count, and no 1 Hz guess.
+// breaks the count, and no 1 Hz guess. Rates are the closed form
+// 1/interval.
 func TestCSVSampleCounter(t *testing.T) {
 	// headerless consecutive integers and a stated interval: 1/1e-4 Hz
 	rec, err := readCSVString(t, "Sample interval,1e-4\n0,0.5\n1,0.25\n2,0.125\n3,0\n", Options{})
@@ -353,7 +354,8 @@ func TestCSVSampleCounter(t *testing.T) {
 }
 
 // TestCSVTextColumnIgnored: a column of notes, text in most rows, is
-// metadata beside the samples and is not read.
+// metadata beside the samples and is not read. The rate is the closed form
+// 1/(0.5 s) = 2 Hz.
 func TestCSVTextColumnIgnored(t *testing.T) {
 	rec, err := readCSVString(t, "time,det,note\n0,1,start\n0.5,2,\n1.0,3,beam on\n1.5,4,\n2.0,5,end\n", Options{})
 	if err != nil || rec.SampleRateHz != 2 || len(rec.Channels) != 1 || rec.Channels[0].Name != "det" || rec.Frames() != 5 {
@@ -363,7 +365,7 @@ func TestCSVTextColumnIgnored(t *testing.T) {
 
 // TestCSVTimeColumnPerChannel: channels that each carry their own named
 // time column keep one time column; columns that differ by more than 1 %
-// of a step are reported.
+// of a step are reported. The rate is the closed form 1/(0.001 s).
 func TestCSVTimeColumnPerChannel(t *testing.T) {
 	text := "TIME,CH1,TIME,CH2\n0,1,0,5\n0.001,2,0.001,0\n0.002,3,0.002,5\n0.003,4,0.003,0\n"
 	rec, err := readCSVString(t, text, Options{})
@@ -383,6 +385,16 @@ func TestCSVTimeColumnPerChannel(t *testing.T) {
 func TestCSVStatedIntervalInHeaderCells(t *testing.T) {
 	rec, err := readCSVString(t, "X,CH1,Start,-0.01,Increment,1e-05\n0,0.5\n1,0.25\n2,0\n", Options{})
 	if err != nil || math.Abs(rec.SampleRateHz-1e5) > 1e-6 || len(rec.Channels) != 1 || rec.Channels[0].Name != "CH1" || rec.Frames() != 3 {
+		t.Fatalf("%v %+v", err, rec)
+	}
+}
+
+// TestCSVShortFileNotMetadataColumns: a short file whose preamble lines
+// outnumber its data rows keeps its time column (its numbers in the first
+// column are data, not metadata). Rate: the closed form 1/(0.001 s).
+func TestCSVShortFileNotMetadataColumns(t *testing.T) {
+	rec, err := readCSVString(t, "Instrument,bench scope\nSample interval,1e-3\ntime (s),detector (V)\n0,0.5\n0.001,0.25\n", Options{})
+	if err != nil || math.Abs(rec.SampleRateHz-1000) > 1e-9 || len(rec.Channels) != 1 || rec.Channels[0].Name != "detector" || rec.Frames() != 2 {
 		t.Fatalf("%v %+v", err, rec)
 	}
 }
