@@ -1256,8 +1256,8 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 		rec.Warnings = append(rec.Warnings, metaWarnings...)
 	}
 	if gaps > 0 {
-		rec.Warnings = append(rec.Warnings, fmt.Sprintf("the sample counter in %s jumps from %.0f to %.0f at line %d (%d jumps in all: lost or skipped samples); samples are treated as evenly spaced at %.6g Hz",
-			columnName(shape, counterCol), gapFrom, gapTo, gapLine, gaps, rec.SampleRateHz))
+		rec.Warnings = append(rec.Warnings, fmt.Sprintf("the sample counter in %s jumps from %.0f to %.0f at line %d (%s in all: lost or skipped samples); samples are treated as evenly spaced at %.6g Hz",
+			columnName(shape, counterCol), gapFrom, gapTo, gapLine, plural(gaps, "jump"), rec.SampleRateHz))
 	}
 	if !(rec.SampleRateHz > 0) || rec.SampleRateHz > MaxSampleRateHz || math.IsInf(rec.SampleRateHz, 0) {
 		return nil, &FormatError{Format: "csv", Place: ratePlace, Problem: fmt.Sprintf("%s gives a sample rate of %g Hz", rateSource, rec.SampleRateHz), Expected: fmt.Sprintf("a rate above 0 and at most %g Hz", MaxSampleRateHz)}
@@ -1276,6 +1276,14 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 func tenDigits(hz float64) float64 {
 	v, _ := strconv.ParseFloat(strconv.FormatFloat(hz, 'g', 10, 64), 64)
 	return v
+}
+
+// plural gives "1 jump" or "3 jumps".
+func plural(n int, word string) string {
+	if n == 1 {
+		return "1 " + word
+	}
+	return fmt.Sprintf("%d %ss", n, word)
 }
 
 // kindName names what a stated value is.
