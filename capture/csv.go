@@ -1035,9 +1035,9 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 			rateSource = "the stated " + kindName(stated.kind) + " " + stated.describe()
 		case counterCol >= 0:
 			return nil, &FormatError{Format: "csv", Place: AtLine(shape.dataLine, 0), Problem: fmt.Sprintf("%s counts samples (0, 1, 2 ...) and the file states no sample interval or rate, so the sample rate is unknown", columnName(shape, counterCol)),
-				Expected: "a line such as \"Sample interval,1e-05\" or \"Sample rate,96000\" in the file, or the rate given with the command (--rate HZ)"}
+				Expected: "a line such as \"Sample interval,1e-05\" or \"Sample rate,96000\" in the file, or the rate given with the command (--rate HZ)", Err: ErrNoSampleRate}
 		default:
-			return nil, &FormatError{Format: "csv", Place: AtLine(max(shape.headerLine, 1), 0), Problem: "no time column and no sample rate", Expected: "a column named time (with its unit, e.g. \"time (s)\"), a line such as \"Sample interval,1e-05\", or a sample rate given with the command"}
+			return nil, &FormatError{Format: "csv", Place: AtLine(max(shape.headerLine, 1), 0), Problem: "no time column and no sample rate", Expected: "a column named time (with its unit, e.g. \"time (s)\"), a line such as \"Sample interval,1e-05\", or a sample rate given with the command", Err: ErrNoSampleRate}
 		}
 	}
 	role := make([]int, shape.fields)

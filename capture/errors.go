@@ -48,12 +48,18 @@ type FormatError struct {
 	Place    Place
 	Problem  string // what was seen
 	Expected string // what was expected instead, may be ""
+	// Err, when set, is a sentinel such as ErrNoSampleRate that callers
+	// can test with errors.Is to offer a remedy; it is not in the message.
+	Err error
 }
 
 // Error gives the one-line message "PATH: FORMAT PLACE: PROBLEM; expected ...".
 func (e *FormatError) Error() string {
 	return describe(e.Path, e.Format, e.Place, e.Problem, e.Expected)
 }
+
+// Unwrap returns the sentinel the error carries, if any.
+func (e *FormatError) Unwrap() error { return e.Err }
 
 // UnsupportedError reports a file that is valid for its format but uses a
 // feature Spotloom does not read (a compressed WAV, an unknown sample type).
@@ -96,6 +102,11 @@ func describe(path, format string, place Place, problem, expected string) string
 // ErrNoLayout is wrapped by the error Open returns for a binary file that
 // has no layout: neither Options.Layout nor a NAME.layout.json sidecar.
 var ErrNoLayout = errors.New("raw capture has no layout")
+
+// ErrNoSampleRate is wrapped by the error Open returns for a text capture
+// that has no time column and states no sample interval or rate: it reads
+// with Options.SampleRateHz set.
+var ErrNoSampleRate = errors.New("capture has no sample rate")
 
 // withPath fills in the file name of typed errors made by readers that only
 // see an io.ReaderAt.

@@ -2,6 +2,7 @@ package capture
 
 import (
 	"bytes"
+	"errors"
 	"math"
 	"os"
 	"path/filepath"
@@ -205,5 +206,26 @@ func TestCSVBesideLayoutStaysCSV(t *testing.T) {
 		t.Errorf("explicit layout: format %q, want raw", forced.Source.Format)
 	case err != nil && !strings.Contains(err.Error(), "raw"):
 		t.Errorf("explicit layout: %v, want a raw reader's error", err)
+	}
+}
+
+// TestNoRateIsASentinel: both ways a text capture can lack a rate (no time
+// column; a sample counter with no interval anywhere) wrap ErrNoSampleRate,
+// so the window can ask for the rate, and a given rate reads the file.
+func TestNoRateIsASentinel(t *testing.T) {
+	for name, text := range map[string]string{
+		"no time column": "a,b\n1,2\n3,4\n5,6\n7,8\n",
+		"bare counter":   "Sequence,CH1\n0,0.5\n1,0.6\n2,0.7\n3,0.8\n",
+	} {
+		p := writeTemp(t, "cap.csv", []byte(text))
+		_, err := Open(p, Options{})
+		if !errors.Is(err, ErrNoSampleRate) {
+			t.Errorf("%s: %v, want an error wrapping ErrNoSampleRate", name, err)
+			continue
+		}
+		rec, err := Open(p, Options{SampleRateHz: 1000})
+		if err != nil || rec.SampleRateHz != 1000 || rec.Frames() != 4 {
+			t.Errorf("%s with a rate: %v", name, err)
+		}
 	}
 }

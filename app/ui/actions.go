@@ -258,6 +258,10 @@ func (ws *Workstation) openFailed(path string, err error) {
 		ws.problem = "Cannot read " + name + ": " + err.Error()
 		ws.stage.SetText("Cannot read " + name + " without its layout")
 		ws.askRawLayout(path)
+	case path != "" && errors.Is(err, capture.ErrNoSampleRate):
+		ws.problem = "Cannot read " + name + ": " + err.Error()
+		ws.stage.SetText("Cannot read " + name + " without its sample rate")
+		ws.askSampleRate(path)
 	default:
 		var bf *buildFailed
 		if errors.As(err, &bf) {

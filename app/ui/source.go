@@ -281,3 +281,30 @@ func readLayoutForm(sampleType, byteOrder, channels string, interleaved bool, he
 	}
 	return l, nil
 }
+
+// askSampleRate asks for the sample rate of a text capture that has no
+// time column and names no rate, then opens it again with that rate.
+func (ws *Workstation) askSampleRate(path string) {
+	rate := widget.NewEntry()
+	rate.SetPlaceHolder("e.g. 200000")
+	why := widget.NewLabel(filepath.Base(path) + " has no time column and names no sample interval, " +
+		"so the time between samples is unknown. Give the rate the logger or scope sampled at.")
+	why.Wrapping = fyne.TextWrapWord
+	items := []*widget.FormItem{
+		widget.NewFormItem("", why),
+		widget.NewFormItem("Sample rate (Hz)", rate),
+	}
+	d := dialog.NewForm("Sample rate", "Open", "Cancel", items, func(ok bool) {
+		if !ok {
+			return
+		}
+		hz, err := parseNumber(rate.Text)
+		if err != nil || hz <= 0 || hz > capture.MaxSampleRateHz {
+			ws.showProblem("Cannot use this rate", fmt.Sprintf("%q is not a rate above 0 Hz and at most %g Hz.", rate.Text, capture.MaxSampleRateHz), "type the rate in hertz and open again.")
+			return
+		}
+		ws.openWith(path, capture.Options{SampleRateHz: hz}, nil)
+	}, ws.win)
+	d.Resize(fyne.NewSize(520, 260))
+	d.Show()
+}

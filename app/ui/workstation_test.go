@@ -3,6 +3,7 @@ package ui
 import (
 	"bytes"
 	"context"
+	"errors"
 	"fmt"
 	"image"
 	"math"
@@ -476,5 +477,50 @@ func TestApertureControlReachesTheEngine(t *testing.T) {
 	}
 	if got := ws.result.Report.RPMMean; math.Abs(got-rep.RPMMean) > 1e-6*rep.RPMMean {
 		t.Errorf("back at 6 apertures: %.4f rev/min, first build %.4f", got, rep.RPMMean)
+	}
+}
+
+// TestTextWithoutRateAsksForIt: a logger export with no time column cannot
+// be read until its rate is known. The window asks for the rate instead of
+// showing a bare error, and the capture opens once a rate is given.
+func TestTextWithoutRateAsksForIt(t *testing.T) {
+	ws, w := newTestWorkstation(t)
+	shown := ws.result
+	// 0.3 s at 20 kHz: a 50 Hz line rate index (10 % duty), a detector that
+	// is on for half of each line, and a slow position ramp.
+	var b strings.Builder
+	b.WriteString("detector,index,position\n")
+	const rate = 20000.0
+	for i := 0; i < 6000; i++ {
+		phase := math.Mod(float64(i)/rate*50, 1)
+		idx, det := 0.0, 0.01
+		if phase < 0.1 {
+			idx = 5
+		}
+		if phase > 0.3 && phase < 0.8 {
+			det = 1 + 0.5*math.Sin(40*phase)
+		}
+		fmt.Fprintf(&b, "%.4f,%.1f,%.5f\n", det, idx, 0.5+float64(i)/6000)
+	}
+	path := filepath.Join(t.TempDir(), "logger.csv")
+	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := capture.Open(path, capture.Options{}); !errors.Is(err, capture.ErrNoSampleRate) {
+		t.Fatalf("capture.Open: %v, want an error wrapping ErrNoSampleRate", err)
+	}
+	ws.OpenFile(path, nil)
+	ws.Wait()
+	if w.Canvas().Overlays().Top() == nil || !strings.Contains(ws.stage.Text, "sample rate") {
+		t.Fatalf("no rate question: status %q", ws.stage.Text)
+	}
+	if ws.result != shown {
+		t.Fatal("the image changed before the rate was given")
+	}
+	// What the form's Open button does with 20000 typed in.
+	ws.openWith(path, capture.Options{SampleRateHz: rate}, nil)
+	ws.Wait()
+	if ws.rec == nil || ws.rec.SampleRateHz != rate || ws.sourcePath != path {
+		t.Fatalf("capture not opened with the rate given: %v", ws.Problem())
 	}
 }
