@@ -24,6 +24,8 @@ func TestProbeBadFiles(t *testing.T) {
 		"compressed.wav": "byte 20", "not_riff.wav": "byte 0", "not_number.csv": "line 4:7",
 		"ragged.csv": "line 3", "time_backwards.csv": "line 4:1", "empty.csv": "empty",
 		"odd_size.bin": "byte 60", "no_layout.bin": "layout", "unknown.xyz": "byte 0",
+		"counter_increment_negative.csv": "line 2:34", "counter_increment_text.csv": "line 2:34",
+		"counter_increment_zero.csv": "line 2:34", "counter_no_interval.csv": "line 3",
 	}
 	for name, place := range places {
 		path := filepath.Join(captureFixtures, "bad", name)

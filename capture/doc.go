@@ -10,7 +10,10 @@
 // uses github.com/go-audio/wav to walk the chunks and read the fmt fields,
 // and converts the data chunk in bulk itself. The CSV reader follows RFC
 // 4180 for quoting and streams, so its memory is the float32 samples plus a
-// read buffer. Every size written in a header is compared with the real
+// read buffer. Besides plain exports it reads samples that sit beside
+// columns of metadata, a sample counter with a start/increment pair, and
+// sample intervals or rates stated in the preamble (csvmeta.go lists the
+// key spellings). Every size written in a header is compared with the real
 // size of the file before anything is allocated from it, and bad input
 // gives a FormatError or UnsupportedError that names the file, the place
 // (byte offset or line:column) and what was expected.
