@@ -89,6 +89,11 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 		return fmt.Errorf("%s: %w", path, err)
 	}
 	for _, w := range res.Report.Warnings {
+		if w == recon.WarnNegativeDetector && *from == "" {
+			res.Recipe.Signal.Invert = true
+			fmt.Fprintf(stderr, "spotloom recipe: %s: the detector is negative-going: signal.invert is set, so more scatter shows brighter\n", path)
+			continue
+		}
 		fmt.Fprintf(stderr, "spotloom recipe: %s: %s\n", path, w)
 	}
 	_, err = stdout.Write(res.Recipe.JSON())

@@ -49,6 +49,11 @@ type Result struct {
 	Lines  []Line        // every line found, in time order
 }
 
+// WarnNegativeDetector is the warning a build gives when the automatic
+// delay found the detector's beam-on level below its beam-off level and
+// signal.invert is off; tools that write a starting recipe set invert.
+const WarnNegativeDetector = "the detector is negative-going (its beam-on level lies below its beam-off level): set signal.invert to true so that more scatter shows brighter"
+
 // Session holds one recording and the cached results of each stage, so a
 // changed parameter re-runs only the stages that depend on it: timing
 // (index channel and timing keys), rows (position keys), delay estimate,
@@ -70,6 +75,7 @@ type Session struct {
 	delayKey        string
 	delay           float64
 	delayWarn       []string
+	delayNegative   bool // the detector's beam-on level lies below its beam-off level
 	placeKey        string
 	place           *placement
 	gridKey         string
@@ -217,6 +223,9 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 		}
 		warns = append(warns, w...)
 		r.Sweep.DelayDeg = recipe.Float(d)
+		if s.delayNegative && !r.Signal.Invert {
+			warns = append(warns, WarnNegativeDetector)
+		}
 		progress.report("delay", 1)
 	}
 	if r.Image.PitchMM == 0 {
@@ -317,6 +326,7 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 	var d float64
 	var w []string
 	var err error
+	s.delayNegative = false
 	if sw.Law == "sine" {
 		period := 0.0
 		if sw.SinePeriodS != nil {
@@ -324,7 +334,7 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		}
 		d, w, err = estimateSineDelay(ctx, t, det, sw, period)
 	} else {
-		d, w, err = estimateDelay(ctx, t, det, sw)
+		d, s.delayNegative, w, err = estimateDelay(ctx, t, det, sw)
 	}
 	if err != nil {
 		return 0, nil, err

@@ -228,9 +228,15 @@ func lineWindow(lt lineTiming, n int) (int, int) {
 // by its offset), rises where the beam enters the field. The start is the
 // half-way crossing between the beam-off and beam-on levels, interpolated
 // between bins.
-func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep) (float64, []string, error) {
+//
+// A detector may be negative-going (a photomultiplier's anode pulls its
+// output down): the beam-on stretch is then below the beam-off level.
+// Which side is beam-on is told by the spread of the samples in each bin:
+// beam-on bins carry photon noise and scene contrast, beam-off bins only
+// the dark level. negative reports that the profile was turned over.
+func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep) (delay float64, negative bool, warns []string, err error) {
 	if len(t.lines) == 0 {
-		return 0, nil, fmt.Errorf("no lines to find the delay from")
+		return 0, false, nil, fmt.Errorf("no lines to find the delay from")
 	}
 	spacing := apertureSpacingDeg(s)
 	periods := make([]float64, len(t.lines))
@@ -240,6 +246,7 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 	pMed := median(periods)
 	bins := int(math.Min(3600, math.Max(90, pMed/2)))
 	sum := make([]float64, bins)
+	sumSq := make([]float64, bins)
 	cnt := make([]float64, bins)
 	// About 1000 lines, spread over the capture, average the noise down
 	// far enough.
@@ -247,7 +254,7 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 	for i := 0; i < len(t.lines); i += stride {
 		if i%256 == 0 {
 			if err := ctx.Err(); err != nil {
-				return 0, nil, err
+				return 0, false, nil, err
 			}
 		}
 		lt := t.lines[i]
@@ -264,18 +271,28 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 			if b < 0 {
 				b += bins
 			}
-			sum[b] += float64(det[j])
+			v := float64(det[j])
+			sum[b] += v
+			sumSq[b] += v * v
 			cnt[b]++
 		}
 	}
 	prof := make([]float64, bins)
+	spread := make([]float64, bins)
 	for b := range prof {
 		if cnt[b] == 0 {
-			return 0, nil, fmt.Errorf("lines are too short to find the delay (%d samples per line)", int(pMed))
+			return 0, false, nil, fmt.Errorf("lines are too short to find the delay (%d samples per line)", int(pMed))
 		}
 		prof[b] = sum[b] / cnt[b]
+		spread[b] = math.Max(0, sumSq[b]/cnt[b]-prof[b]*prof[b])
 	}
 	fon := s.FieldDeg / spacing
+	negative = beamOnIsLow(prof, spread, fon)
+	if negative {
+		for b := range prof {
+			prof[b] = -prof[b]
+		}
+	}
 	sorted := slices.Clone(prof)
 	slices.Sort(sorted)
 	q := func(f float64) float64 {
@@ -291,7 +308,7 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 	}
 	noise := 1.4826 * median(steps) / math.Sqrt2
 	if !(on-off > 10*noise) {
-		return 0, nil, fmt.Errorf("the detector shows no beam-on stretch within the lines (its mean level against wheel angle stays within %.2g of %.3g): check channels.detector, or set sweep.delay_deg by hand", on-off, off)
+		return 0, false, nil, fmt.Errorf("the detector shows no beam-on stretch within the lines (its mean level against wheel angle stays within %.2g of %.3g): check channels.detector, or set sweep.delay_deg by hand", on-off, off)
 	}
 	mid := (off + on) / 2
 	// Longest circular run above mid.
@@ -310,7 +327,7 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		}
 	}
 	if bestStart < 0 || bestLen >= bins {
-		return 0, nil, fmt.Errorf("the detector shows no beam-off stretch within the lines: set sweep.delay_deg by hand, or check sweep.apertures")
+		return 0, false, nil, fmt.Errorf("the detector shows no beam-off stretch within the lines: set sweep.delay_deg by hand, or check sweep.apertures")
 	}
 	binDeg := spacing / float64(bins)
 	// Crossing between bin bestStart-1 (below) and bestStart (above); bin
@@ -376,8 +393,7 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 	}
 	end := (float64(endBin-1) + 0.5 + f) * binDeg
 	width := end - start
-	delay := math.Mod(start, spacing)
-	var warns []string
+	delay = math.Mod(start, spacing)
 	if math.Abs(width-s.FieldDeg) > 0.2*s.FieldDeg {
 		// The beam is on for field/spacing of each line whatever the
 		// recipe says; if field_deg is right, that fraction gives the
@@ -389,7 +405,7 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		}
 		warns = append(warns, fmt.Sprintf("the detector's beam-on stretch lasts %.1f° of wheel rotation but sweep.field_deg is %g°: check field_deg and apertures%s, or set sweep.delay_deg by hand", width, s.FieldDeg, hint))
 	}
-	return delay, warns, nil
+	return delay, negative, warns, nil
 }
 
 // estimateSineDelay finds the phase delay of a resonant mirror by making
@@ -525,4 +541,29 @@ func meanOf(v []float64) float64 {
 		s += x
 	}
 	return s / float64(len(v))
+}
+
+// beamOnIsLow reports whether the beam-on part of a folded detector
+// profile lies below its beam-off part. The fraction fon of the bins with
+// the largest spread (the variance of the samples that fell in them) is
+// taken as beam-on; it compares the mean level of the two groups.
+func beamOnIsLow(prof, spread []float64, fon float64) bool {
+	sorted := slices.Clone(spread)
+	slices.Sort(sorted)
+	cut := sorted[min(len(sorted)-1, max(0, int((1-fon)*float64(len(sorted)))))]
+	var onSum, offSum float64
+	var onN, offN int
+	for b, v := range prof {
+		if spread[b] > cut {
+			onSum += v
+			onN++
+		} else {
+			offSum += v
+			offN++
+		}
+	}
+	if onN == 0 || offN == 0 {
+		return false
+	}
+	return onSum/float64(onN) < offSum/float64(offN)
 }

@@ -3,8 +3,10 @@ package recon
 import (
 	"context"
 	"math"
+	"slices"
 	"testing"
 
+	"spotloom/recon/recipe"
 	"spotloom/sampledata"
 )
 
@@ -213,12 +215,23 @@ func TestParcelACCoupled(t *testing.T) {
 // nearest pixel: both grids have a 1 mm pitch).
 func parcelCorrelation(t *testing.T, rig sampledata.Rig) (float64, *Result, *sampledata.Truth) {
 	t.Helper()
+	return parcelCorrelationWith(t, rig, nil)
+}
+
+// parcelCorrelationWith is parcelCorrelation with the rig's recipe changed
+// by edit first (when not nil).
+func parcelCorrelationWith(t *testing.T, rig sampledata.Rig, edit func(*recipe.Recipe)) (float64, *Result, *sampledata.Truth) {
+	t.Helper()
 	ctx := context.Background()
 	rec, truth, err := sampledata.Simulate(ctx, rig, "parcel", sampledata.SimOptions{Seed: sampledata.DemoSeed, TruthPitchMM: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
-	res, err := NewSession(rec).Build(ctx, rig.Recipe(), nil)
+	r := rig.Recipe()
+	if edit != nil {
+		edit(&r)
+	}
+	res, err := NewSession(rec).Build(ctx, r, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -248,6 +261,38 @@ func parcelCorrelation(t *testing.T, rig sampledata.Rig) (float64, *Result, *sam
 	c := pearson(a, b)
 	t.Logf("correlation %.4f over %d pixels; delay %.3f° (truth %.3f° + offsets); warnings %q", c, len(a), res.Report.DelayDeg, truth.DelayDeg, res.Report.Warnings)
 	return c, res, truth
+}
+
+// A negative-going detector (a photomultiplier anode pulling its output
+// down): the automatic delay still finds the field start within 0.3° of
+// the truth and warns that signal.invert is off; with invert on, the image
+// correlates with the truth raster as well as a positive detector's does.
+func TestParcelNegativeDetector(t *testing.T) {
+	rig := sampledata.DemoRig()
+	rig.Detector.GainVPerMCPS = -rig.Detector.GainVPerMCPS
+	rig.Detector.OffsetV = -rig.Detector.OffsetV
+	c, res, truth := parcelCorrelationWith(t, rig, nil)
+	if d := res.Report.DelayDeg - truth.DelayDeg; math.Abs(d) > 0.3 {
+		t.Errorf("negative detector: delay %.3f°, truth %.3f°", res.Report.DelayDeg, truth.DelayDeg)
+	}
+	if !slices.Contains(res.Report.Warnings, WarnNegativeDetector) {
+		t.Errorf("no negative-detector warning: %q", res.Report.Warnings)
+	}
+	if c > -0.9 {
+		t.Errorf("not inverted: correlation %.3f, want ≤ −0.9 (a negative image)", c)
+	}
+	c, res, _ = parcelCorrelationWith(t, rig, func(r *recipe.Recipe) { r.Signal.Invert = true })
+	if c < 0.9 {
+		t.Errorf("inverted: correlation %.3f, want ≥ 0.9", c)
+	}
+	if slices.Contains(res.Report.Warnings, WarnNegativeDetector) {
+		t.Errorf("negative-detector warning with invert on")
+	}
+	// A positive detector is never called negative.
+	_, res, _ = parcelCorrelation(t, sampledata.DemoRig())
+	if slices.Contains(res.Report.Warnings, WarnNegativeDetector) {
+		t.Errorf("positive detector called negative")
+	}
 }
 
 // pearson is the sample correlation coefficient.

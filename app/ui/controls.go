@@ -40,6 +40,8 @@ type controlPanel struct {
 	calApply      *widget.Button
 	rowsNote      *widget.Label
 	strokes       *widget.Select
+	signalInvert  *widget.Check
+	baseline      *widget.Select
 
 	window    *numberControl
 	level     *numberControl
@@ -61,6 +63,8 @@ var (
 	pulseNames      = []string{"one per aperture", "one per revolution"}
 	lawNames        = []string{"spinning wheel or polygon (uniform)", "resonant mirror (sine)", "measured table"}
 	lawKeys         = []string{"uniform", "sine", "table"}
+	baselineNames   = []string{"from the beam-off interval", "none (keep the raw level)"}
+	baselineKeys    = []string{"beam-off", "none"}
 )
 
 // setApertures sets the wheel's aperture count, keeping one index pulse
@@ -182,6 +186,19 @@ func newControlPanel(ws *Workstation) *controlPanel {
 		ws.change("strokes", func(r *recipe.Recipe) { r.Rows.Strokes = keyFor(name, strokeKeys, strokeNames) })
 	})
 
+	c.signalInvert = widget.NewCheck("Negative-going detector: invert the signal", func(on bool) {
+		if c.quiet {
+			return
+		}
+		ws.change("invert signal", func(r *recipe.Recipe) { r.Signal.Invert = on })
+	})
+	c.baseline = widget.NewSelect(baselineNames, func(name string) {
+		if c.quiet {
+			return
+		}
+		ws.change("baseline", func(r *recipe.Recipe) { r.Signal.Baseline = keyFor(name, baselineKeys, baselineNames) })
+	})
+
 	c.window = newNumberControl("Window", 0, 1, 0, "%.4g", func(v float64) {
 		ws.changeTone("window", func(t *recon.Tone) { t.Window = math.Max(v, 0) })
 	})
@@ -227,6 +244,10 @@ func newControlPanel(ws *Workstation) *controlPanel {
 		widget.NewLabel("Calibration: position level → mm, one pair a line"),
 		c.calibration, c.calApply,
 		widget.NewLabel("Passes of the head"), c.strokes,
+		widget.NewSeparator(),
+		heading("Detector signal"),
+		c.signalInvert,
+		widget.NewLabel("Baseline"), c.baseline,
 		widget.NewSeparator(),
 		heading("Tone"),
 		c.window.box, c.level.box, c.gamma.box,
@@ -343,6 +364,8 @@ func (c *controlPanel) show(s settings, res *Result) {
 	}
 	c.rowsNote.SetText(rowsDescription(r.Rows))
 	c.strokes.SetSelected(nameFor(r.Rows.Strokes, strokeKeys, strokeNames))
+	c.signalInvert.SetChecked(r.Signal.Invert)
+	c.baseline.SetSelected(nameFor(r.Signal.Baseline, baselineKeys, baselineNames))
 
 	var frame *recon.Frame
 	if len(res.Frames) > 0 {

@@ -524,3 +524,33 @@ func TestTextWithoutRateAsksForIt(t *testing.T) {
 		t.Fatalf("capture not opened with the rate given: %v", ws.Problem())
 	}
 }
+
+// TestSignalInvertNegatesTheFrame: inverting the detector signal negates
+// every baseline-removed sample, and gridding is linear in the samples, so
+// every covered pixel of the new frame is the negative of the old one
+// (closed form: grid(−x) = −grid(x)).
+func TestSignalInvertNegatesTheFrame(t *testing.T) {
+	ws, _ := newTestWorkstation(t)
+	before := ws.result.Frames[0]
+	pix := framePixels(before)
+	ws.controls.signalInvert.SetChecked(true)
+	ws.Wait()
+	if p := ws.Problem(); p != "" {
+		t.Fatalf("invert refused: %s", p)
+	}
+	after := ws.result.Frames[0]
+	if !ws.result.Recipe.Signal.Invert || !sameExtent(before, after) {
+		t.Fatalf("invert %v, same extent %v", ws.result.Recipe.Signal.Invert, sameExtent(before, after))
+	}
+	var worst, scale float64
+	for i, v := range after.Pix {
+		if !after.Covered[i] {
+			continue
+		}
+		worst = math.Max(worst, math.Abs(float64(v+pix[i])))
+		scale = math.Max(scale, math.Abs(float64(pix[i])))
+	}
+	if worst > 1e-5*scale {
+		t.Errorf("inverted frame differs from the negated one by up to %g (frame scale %g)", worst, scale)
+	}
+}
