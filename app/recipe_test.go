@@ -119,3 +119,36 @@ func TestRecipeWithoutPositionChannel(t *testing.T) {
 		t.Errorf("stderr does not say the speed was assumed: %q", errOut.String())
 	}
 }
+
+// TestRecipeSetsInvertForNegativeDetector: a starting recipe for a
+// negative-going detector turns signal.invert on and says so.
+func TestRecipeSetsInvertForNegativeDetector(t *testing.T) {
+	dir := t.TempDir()
+	rig := sampledata.DemoRig()
+	rig.DurationS = 6
+	rig.Detector.GainVPerMCPS = -rig.Detector.GainVPerMCPS
+	rig.Detector.OffsetV = -rig.Detector.OffsetV
+	data, err := json.Marshal(rig)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rigPath := filepath.Join(dir, "neg.rig.json")
+	if err := os.WriteFile(rigPath, data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	capPath := filepath.Join(dir, "neg.wav")
+	if code, _, errText := runSimulateCmd("--scene", "parcel", "--rig", rigPath, "--out", capPath); code != 0 {
+		t.Fatalf("simulate exit %d: %s", code, errText)
+	}
+	var out, errOut bytes.Buffer
+	if code := run([]string{"recipe", capPath, "--apertures", "6"}, &out, &errOut); code != 0 {
+		t.Fatalf("recipe exit %d: %s", code, errOut.String())
+	}
+	r, err := recipe.Parse(out.Bytes())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !r.Signal.Invert || !strings.Contains(errOut.String(), "signal.invert is set") {
+		t.Errorf("invert %v, stderr %q", r.Signal.Invert, errOut.String())
+	}
+}
