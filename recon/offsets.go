@@ -34,7 +34,10 @@ func EstimateApertureOffsets(ctx context.Context, s *Session, r recipe.Recipe) (
 		return []float64{0}, nil
 	}
 	t := s.timing
-	det := s.rec.Channels[rs.ch.detector].Samples
+	det, _, err := s.detector(ctx, rs.ch.detector, rs.r.Signal)
+	if err != nil {
+		return nil, err
+	}
 	sw := rs.r.Sweep
 	// Coarse: 0.1° steps over ±3°; fine: 0.02° steps within ±0.16° of the
 	// coarse peak. Both use the same pairs of lines.

@@ -75,7 +75,10 @@ type Session struct {
 	delayKey        string
 	delay           float64
 	delayWarn       []string
-	delayNegative   bool // the detector's beam-on level lies below its beam-off level
+	delayNegative   bool          // the detector's beam-on level lies below its beam-off level
+	acKey           string        // channel and corner of acDet
+	acDet           []float32     // the detector with its AC coupling undone
+	acStats         *channelStats // statistics of acDet
 	placeKey        string
 	place           *placement
 	gridKey         string
@@ -317,12 +320,16 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		Offsets  []float64
 		Keep     float64
 		Period   *float64
-	}{s.timingKey, ch.detector, sw.Law, sw.FieldDeg, sw.Apertures, sw.ApertureOffsetsDeg, sw.SineKeep, sw.SinePeriodS}
+		AC       float64
+	}{s.timingKey, ch.detector, sw.Law, sw.FieldDeg, sw.Apertures, sw.ApertureOffsetsDeg, sw.SineKeep, sw.SinePeriodS, r.Signal.ACCornerHz}
 	k := key(p)
 	if s.delayKey == k {
 		return s.delay, s.delayWarn, nil
 	}
-	det := s.rec.Channels[ch.detector].Samples
+	det, _, derr := s.detector(ctx, ch.detector, r.Signal)
+	if derr != nil {
+		return 0, nil, derr
+	}
 	var d float64
 	var w []string
 	var err error
@@ -398,7 +405,8 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		Sweep    recipe.Sweep
 		Detector int
 		Baseline string
-	}{s.timingKey, sw, ch.detector, r.Signal.Baseline}
+		AC       float64
+	}{s.timingKey, sw, ch.detector, r.Signal.Baseline, r.Signal.ACCornerHz}
 	k := key(p)
 	if s.place != nil && s.placeKey == k {
 		return s.place, nil
@@ -412,7 +420,10 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 	if sw.Law == "sine" && sw.SinePeriodS != nil {
 		period = *sw.SinePeriodS * rate
 	}
-	det := s.rec.Channels[ch.detector].Samples
+	det, st, err := s.detector(ctx, ch.detector, r.Signal)
+	if err != nil {
+		return nil, err
+	}
 	pl := &placement{sweep: m, lines: placeLines(t, sw, *sw.DelayDeg, period, len(det), rate)}
 	if len(pl.lines) == 0 {
 		return nil, fmt.Errorf("no line has its field inside the capture: check sweep.delay_deg (%g°) and sweep.field_deg", *sw.DelayDeg)
@@ -422,10 +433,6 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 	case sw.Law == "sine":
 		pl.warnings = append(pl.warnings, "the sine law has no beam-off interval, so no baseline was removed; set signal.baseline to none to silence this")
 	default:
-		st, err := s.stats(ctx, ch.detector)
-		if err != nil {
-			return nil, err
-		}
 		if err := baselineLines(ctx, det, st, pl.lines); err != nil {
 			return nil, err
 		}
@@ -440,6 +447,27 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 }
 
 // stats returns the cached whole-channel statistics.
+// detector returns the detector samples the stages work on, and their
+// statistics: the recorded channel, or with signal.ac_corner_hz set, the
+// channel with that high-pass undone (computed once per corner).
+func (s *Session) detector(ctx context.Context, ch int, sig recipe.Signal) ([]float32, *channelStats, error) {
+	if sig.ACCornerHz <= 0 {
+		st, err := s.stats(ctx, ch)
+		return s.rec.Channels[ch].Samples, st, err
+	}
+	k := fmt.Sprint(ch, "/", sig.ACCornerHz)
+	if s.acKey != k {
+		det := undoHighPass(s.rec.Channels[ch].Samples, sig.ACCornerHz, s.rec.SampleRateHz)
+		st, err := newChannelStats(ctx, det)
+		if err != nil {
+			return nil, nil, err
+		}
+		s.acDet, s.acStats, s.acKey = det, st, k
+		s.runs["ac"]++
+	}
+	return s.acDet, s.acStats, nil
+}
+
 func (s *Session) stats(ctx context.Context, ch int) (*channelStats, error) {
 	if st, ok := s.chanStats[ch]; ok {
 		return st, nil
@@ -510,8 +538,7 @@ func cloneResult(res *Result, r recipe.Recipe) *Result {
 func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, rows *rowsResult, pl *placement, warns []string, progress Progress) (*Result, error) {
 	r := rs.r
 	rate := s.rec.SampleRateHz
-	det := s.rec.Channels[rs.ch.detector].Samples
-	st, err := s.stats(ctx, rs.ch.detector)
+	det, st, err := s.detector(ctx, rs.ch.detector, r.Signal)
 	if err != nil {
 		return nil, err
 	}

@@ -26,7 +26,8 @@ func (r Rig) channelNames() []string {
 // points, at motion.start_mm and at the end of position_sensor.range_mm;
 // the sensor's non-linearity is not in it, as a builder would not know
 // it), the carrier frequency for a tone sensor, mm per step for a stepper,
-// the speed for a motor without a sensor, and a 1 mm pitch. Everything the
+// the speed for a motor without a sensor, the detector's AC-coupling corner
+// (the builder knows the recorder's input), and a 1 mm pitch. Everything the
 // engine finds automatically (threshold, hysteresis, delay, sine period,
 // carrier strength) is left nil, and the aperture offsets are left empty.
 func (r Rig) Recipe() recipe.Recipe {
@@ -81,7 +82,7 @@ func (r Rig) Recipe() recipe.Recipe {
 			Table:              [][2]float64{},
 		},
 		Rows:   rows,
-		Signal: recipe.Signal{Baseline: "beam-off"},
+		Signal: recipe.Signal{Baseline: "beam-off", ACCornerHz: r.Detector.ACCouplingCornerHz},
 		Image:  recipe.Image{PitchMM: 1.0, FillGapsPx: 2},
 	}
 }

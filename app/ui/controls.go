@@ -41,6 +41,7 @@ type controlPanel struct {
 	rowsNote      *widget.Label
 	strokes       *widget.Select
 	signalInvert  *widget.Check
+	acCorner      *numberControl
 	baseline      *widget.Select
 
 	window    *numberControl
@@ -192,6 +193,12 @@ func newControlPanel(ws *Workstation) *controlPanel {
 		}
 		ws.change("invert signal", func(r *recipe.Recipe) { r.Signal.Invert = on })
 	})
+	c.acCorner = newNumberControl("AC coupling to undo (Hz, 0 = DC coupled)", 0, 100, 0.5, "%.1f", func(v float64) {
+		if v < 0 {
+			return
+		}
+		ws.change("ac coupling", func(r *recipe.Recipe) { r.Signal.ACCornerHz = v })
+	})
 	c.baseline = widget.NewSelect(baselineNames, func(name string) {
 		if c.quiet {
 			return
@@ -247,6 +254,7 @@ func newControlPanel(ws *Workstation) *controlPanel {
 		widget.NewSeparator(),
 		heading("Detector signal"),
 		c.signalInvert,
+		c.acCorner.box,
 		widget.NewLabel("Baseline"), c.baseline,
 		widget.NewSeparator(),
 		heading("Tone"),
@@ -365,6 +373,7 @@ func (c *controlPanel) show(s settings, res *Result) {
 	c.rowsNote.SetText(rowsDescription(r.Rows))
 	c.strokes.SetSelected(nameFor(r.Rows.Strokes, strokeKeys, strokeNames))
 	c.signalInvert.SetChecked(r.Signal.Invert)
+	c.acCorner.set(r.Signal.ACCornerHz)
 	c.baseline.SetSelected(nameFor(r.Signal.Baseline, baselineKeys, baselineNames))
 
 	var frame *recon.Frame

@@ -105,6 +105,10 @@ type Rows struct {
 type Signal struct {
 	Baseline string `json:"baseline"` // "beam-off" or "none"
 	Invert   bool   `json:"invert"`
+	// ACCornerHz is the corner of the single-pole high-pass the detector
+	// went through on its way to the recorder (a sound card's input, an
+	// AC-coupled scope channel); the engine undoes it. 0 = DC coupled.
+	ACCornerHz float64 `json:"ac_corner_hz"`
 }
 
 // Image controls the output grid.

@@ -141,6 +141,9 @@ func (r Recipe) Validate() error {
 
 	// signal, image
 	oneOf("signal.baseline", r.Signal.Baseline, Baselines)
+	if c := r.Signal.ACCornerHz; math.IsNaN(c) || math.IsInf(c, 0) || c < 0 || c > 1000 {
+		bad("signal.ac_corner_hz", "is %g: expected 0 (DC coupled) or the high-pass corner in Hz, up to 1000", c)
+	}
 	if math.IsNaN(r.Image.PitchMM) || r.Image.PitchMM < 0 || math.IsInf(r.Image.PitchMM, 0) {
 		bad("image.pitch_mm", "is %g: expected a pixel size above 0 mm, or 0 for automatic", r.Image.PitchMM)
 	}
