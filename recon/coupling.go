@@ -30,3 +30,4 @@ func undoHighPass(y []float32, cornerHz, rateHz float64) []float32 {
 	}
 	return x
 }
+

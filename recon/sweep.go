@@ -239,53 +239,11 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		return 0, false, nil, fmt.Errorf("no lines to find the delay from")
 	}
 	spacing := apertureSpacingDeg(s)
-	periods := make([]float64, len(t.lines))
-	for i, lt := range t.lines {
-		periods[i] = lt.period
+	prof, spread, err := foldLines(ctx, t, det, s)
+	if err != nil {
+		return 0, false, nil, err
 	}
-	pMed := median(periods)
-	bins := int(math.Min(3600, math.Max(90, pMed/2)))
-	sum := make([]float64, bins)
-	sumSq := make([]float64, bins)
-	cnt := make([]float64, bins)
-	// About 1000 lines, spread over the capture, average the noise down
-	// far enough.
-	stride := 1 + len(t.lines)/1000
-	for i := 0; i < len(t.lines); i += stride {
-		if i%256 == 0 {
-			if err := ctx.Err(); err != nil {
-				return 0, false, nil, err
-			}
-		}
-		lt := t.lines[i]
-		off := 0.0
-		if lt.aperture < len(s.ApertureOffsetsDeg) {
-			off = s.ApertureOffsetsDeg[lt.aperture]
-		}
-		from, to := lineWindow(lt, len(det))
-		k := float64(bins) / lt.period
-		b0 := -off / spacing * float64(bins)
-		for j := from; j < to; j++ {
-			b := int(math.Floor((float64(j)-lt.edge)*k + b0))
-			b %= bins
-			if b < 0 {
-				b += bins
-			}
-			v := float64(det[j])
-			sum[b] += v
-			sumSq[b] += v * v
-			cnt[b]++
-		}
-	}
-	prof := make([]float64, bins)
-	spread := make([]float64, bins)
-	for b := range prof {
-		if cnt[b] == 0 {
-			return 0, false, nil, fmt.Errorf("lines are too short to find the delay (%d samples per line)", int(pMed))
-		}
-		prof[b] = sum[b] / cnt[b]
-		spread[b] = math.Max(0, sumSq[b]/cnt[b]-prof[b]*prof[b])
-	}
+	bins := len(prof)
 	fon := s.FieldDeg / spacing
 	negative = beamOnIsLow(prof, spread, fon)
 	if negative {
@@ -566,4 +524,60 @@ func beamOnIsLow(prof, spread []float64, fon float64) bool {
 		return false
 	}
 	return onSum/float64(onN) < offSum/float64(offN)
+}
+
+// foldLines folds about a thousand lines, spread over the capture, onto one
+// line of wheel angle (each aperture shifted by its offset): the mean
+// detector level in each angle bin, and the spread (variance) of the
+// samples that fell in it.
+func foldLines(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep) (prof, spread []float64, err error) {
+	spacing := apertureSpacingDeg(s)
+	periods := make([]float64, len(t.lines))
+	for i, lt := range t.lines {
+		periods[i] = lt.period
+	}
+	pMed := median(periods)
+	bins := int(math.Min(3600, math.Max(90, pMed/2)))
+	sum := make([]float64, bins)
+	sumSq := make([]float64, bins)
+	cnt := make([]float64, bins)
+	// About 1000 lines, spread over the capture, average the noise down
+	// far enough.
+	stride := 1 + len(t.lines)/1000
+	for i := 0; i < len(t.lines); i += stride {
+		if i%256 == 0 {
+			if err := ctx.Err(); err != nil {
+				return nil, nil, err
+			}
+		}
+		lt := t.lines[i]
+		off := 0.0
+		if lt.aperture < len(s.ApertureOffsetsDeg) {
+			off = s.ApertureOffsetsDeg[lt.aperture]
+		}
+		from, to := lineWindow(lt, len(det))
+		k := float64(bins) / lt.period
+		b0 := -off / spacing * float64(bins)
+		for j := from; j < to; j++ {
+			b := int(math.Floor((float64(j)-lt.edge)*k + b0))
+			b %= bins
+			if b < 0 {
+				b += bins
+			}
+			v := float64(det[j])
+			sum[b] += v
+			sumSq[b] += v * v
+			cnt[b]++
+		}
+	}
+	prof = make([]float64, bins)
+	spread = make([]float64, bins)
+	for b := range prof {
+		if cnt[b] == 0 {
+			return nil, nil, fmt.Errorf("lines are too short to find the delay (%d samples per line)", int(pMed))
+		}
+		prof[b] = sum[b] / cnt[b]
+		spread[b] = math.Max(0, sumSq[b]/cnt[b]-prof[b]*prof[b])
+	}
+	return prof, spread, nil
 }
