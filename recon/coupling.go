@@ -30,4 +30,3 @@ func undoHighPass(y []float32, cornerHz, rateHz float64) []float32 {
 	}
 	return x
 }
-
