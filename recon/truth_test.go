@@ -6,13 +6,19 @@ import (
 	"slices"
 	"testing"
 
+	"gonum.org/v1/gonum/stat"
+
 	"spotloom/recon/recipe"
 	"spotloom/sampledata"
 )
 
 // These tests check the engine against the simulator's ground truth
 // (sampledata.Truth): true dot centres, true wheel speed, true delay and
-// offsets, and the true scene raster.
+// offsets, and the true scene raster. The truth itself is analytic: dot
+// centres are the scene's closed-form grid, the wheel speed and delay are
+// the rig's numbers, and the raster is the scene's shapes rendered without
+// the scanner. The fit and the correlation are cross-checked with gonum's
+// stat package, an independent library.
 
 // handRig is the demo rig with a hand-driven head making three strokes
 // (two reversals), a 0.5 % speed wobble and aperture errors of ±0.3°. The
@@ -95,7 +101,20 @@ func truthDotFit(t *testing.T, f *Frame, dots [][2]float64, diameter float64) (r
 		ex, ey := mx[i]-tx[i]-dx, my[i]-ty[i]-dy
 		ss += ex*ex + ey*ey
 	}
-	return math.Sqrt(ss / float64(n)), lineSlope(tx, mx), lineSlope(ty, my), n
+	scaleX, scaleY = lineSlope(tx, mx), lineSlope(ty, my)
+	// The scale is the least-squares slope of measured against true
+	// centres; gonum's stat.LinearRegression (an independent library)
+	// must give the same slope.
+	for _, c := range []struct {
+		name     string
+		tr, ms   []float64
+		ourSlope float64
+	}{{"x", tx, mx, scaleX}, {"y", ty, my, scaleY}} {
+		if _, beta := stat.LinearRegression(c.tr, c.ms, nil, false); math.Abs(beta-c.ourSlope) > 1e-9 {
+			t.Fatalf("%s scale %.12f, gonum stat.LinearRegression gives %.12f", c.name, c.ourSlope, beta)
+		}
+	}
+	return math.Sqrt(ss / float64(n)), scaleX, scaleY, n
 }
 
 func lineSlope(a, b []float64) float64 {
@@ -259,6 +278,11 @@ func parcelCorrelationWith(t *testing.T, rig sampledata.Rig, edit func(*recipe.R
 		}
 	}
 	c := pearson(a, b)
+	// Cross-check the correlation with gonum's stat.Correlation (an
+	// independent library).
+	if g := stat.Correlation(a, b, nil); math.Abs(g-c) > 1e-9 {
+		t.Fatalf("correlation %.12f, gonum stat.Correlation gives %.12f", c, g)
+	}
 	t.Logf("correlation %.4f over %d pixels; delay %.3f° (truth %.3f° + offsets); warnings %q", c, len(a), res.Report.DelayDeg, truth.DelayDeg, res.Report.Warnings)
 	return c, res, truth
 }
