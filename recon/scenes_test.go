@@ -9,7 +9,8 @@ import (
 )
 
 // Every built-in scene builds with the demo rig's recipe, with the delay
-// and speed found within the limits of the truth.
+// and speed found within the limits of the truth (the rig's own
+// numbers), and the report's line rate agrees with the closed form.
 func TestEveryScene(t *testing.T) {
 	for _, name := range sampledata.SceneNames() {
 		rig := sampledata.DemoRig()
@@ -34,6 +35,13 @@ func TestEveryScene(t *testing.T) {
 		}
 		if rep.Lines != len(truth.Lines) {
 			t.Errorf("%s: %d lines, truth %d", name, rep.Lines, len(truth.Lines))
+		}
+		// Closed form for a wheel with one index pulse per aperture: line
+		// rate = apertures × rev/min / 60, here from the report's own two
+		// figures, which the engine measures separately (lines from the
+		// line periods, rev/min from whole revolutions).
+		if want := float64(r.Sweep.Apertures) * rep.RPMMean / 60; math.Abs(rep.LineRateHz-want) > 0.002*want {
+			t.Errorf("%s: line rate %.3f/s, apertures × rpm / 60 = %.3f/s", name, rep.LineRateHz, want)
 		}
 	}
 }
