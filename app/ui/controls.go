@@ -39,6 +39,9 @@ type controlPanel struct {
 	calibration   *widget.Entry
 	calApply      *widget.Button
 	rowsNote      *widget.Label
+	rowsSource    *widget.Select
+	speed         *numberControl
+	mmPerStep     *numberControl
 	strokes       *widget.Select
 	signalInvert  *widget.Check
 	acCorner      *numberControl
@@ -64,6 +67,8 @@ var (
 	pulseNames      = []string{"one per aperture", "one per revolution"}
 	lawNames        = []string{"spinning wheel or polygon (uniform)", "resonant mirror (sine)", "measured table"}
 	lawKeys         = []string{"uniform", "sine", "table"}
+	rowsSourceNames = []string{"position level (DC)", "carrier tone amplitude", "step pulses", "even speed (no sensor)"}
+	rowsSourceKeys  = []string{"position", "tone", "steps", "even"}
 	baselineNames   = []string{"from the beam-off interval", "none (keep the raw level)"}
 	baselineKeys    = []string{"beam-off", "none"}
 )
@@ -180,6 +185,24 @@ func newControlPanel(ws *Workstation) *controlPanel {
 	c.calApply = widget.NewButton("Apply calibration", c.applyCalibration)
 	c.rowsNote = widget.NewLabel("")
 	c.rowsNote.Wrapping = fyne.TextWrapWord
+	c.rowsSource = widget.NewSelect(rowsSourceNames, func(name string) {
+		if c.quiet {
+			return
+		}
+		ws.change("rows source", func(r *recipe.Recipe) { r.Rows.Source = keyFor(name, rowsSourceKeys, rowsSourceNames) })
+	})
+	c.speed = newNumberControl("Head speed (mm/s)", 1, 500, 0.5, "%.1f", func(v float64) {
+		if v == 0 {
+			return
+		}
+		ws.change("head speed", func(r *recipe.Recipe) { r.Rows.SpeedMMS = recipe.Float(v) })
+	})
+	c.mmPerStep = newNumberControl("Travel per step (mm)", 0.001, 5, 0.001, "%.4g", func(v float64) {
+		if v == 0 {
+			return
+		}
+		ws.change("travel per step", func(r *recipe.Recipe) { r.Rows.MMPerStep = recipe.Float(v) })
+	})
 	c.strokes = widget.NewSelect(strokeNames, func(name string) {
 		if c.quiet {
 			return
@@ -247,7 +270,9 @@ func newControlPanel(ws *Workstation) *controlPanel {
 		c.pitch.box,
 		widget.NewSeparator(),
 		heading("Cross-scan"),
+		widget.NewLabel("Rows from"), c.rowsSource,
 		c.rowsNote,
+		c.speed.box, c.mmPerStep.box,
 		widget.NewLabel("Calibration: position level → mm, one pair a line"),
 		c.calibration, c.calApply,
 		widget.NewLabel("Passes of the head"), c.strokes,
@@ -370,7 +395,16 @@ func (c *controlPanel) show(s settings, res *Result) {
 		c.calibration.Disable()
 		c.calApply.Disable()
 	}
-	c.rowsNote.SetText(rowsDescription(r.Rows))
+	c.rowsNote.SetText(rowsDescription(resolved.Rows))
+	c.rowsSource.SetSelected(nameFor(r.Rows.Source, rowsSourceKeys, rowsSourceNames))
+	if v := resolved.Rows.SpeedMMS; v != nil {
+		c.speed.set(*v)
+	}
+	if v := resolved.Rows.MMPerStep; v != nil {
+		c.mmPerStep.set(*v)
+	}
+	c.speed.enable(r.Rows.Source == "even")
+	c.mmPerStep.enable(r.Rows.Source == "steps")
 	c.strokes.SetSelected(nameFor(r.Rows.Strokes, strokeKeys, strokeNames))
 	c.signalInvert.SetChecked(r.Signal.Invert)
 	c.acCorner.set(r.Signal.ACCornerHz)

@@ -554,3 +554,29 @@ func TestSignalInvertNegatesTheFrame(t *testing.T) {
 		t.Errorf("inverted frame differs from the negated one by up to %g (frame scale %g)", worst, scale)
 	}
 }
+
+// TestEvenSpeedControl: with rows at an even speed the frame spans speed ×
+// capture duration in y (closed form: rows = v·T / pitch, within the grid's
+// edge rows), and a new speed rescales it.
+func TestEvenSpeedControl(t *testing.T) {
+	ws, _ := newTestWorkstation(t)
+	ws.controls.rowsSource.SetSelected(rowsSourceNames[3])
+	ws.Wait()
+	for _, v := range []float64{10, 20} {
+		ws.controls.speed.typed(fmt.Sprint(v))
+		ws.Wait()
+		if p := ws.Problem(); p != "" {
+			t.Fatalf("speed %g refused: %s", v, p)
+		}
+		r := ws.result.Recipe
+		if r.Rows.Source != "even" || r.Rows.SpeedMMS == nil || *r.Rows.SpeedMMS != v {
+			t.Fatalf("rows %+v, want even at %g mm/s", r.Rows, v)
+		}
+		f := ws.result.Frames[0]
+		lines := ws.result.Lines
+		span := v * (lines[len(lines)-1].FieldEndS - lines[0].FieldStartS)
+		if want := span / f.PitchYMM; math.Abs(float64(f.Height)-want) > 3 {
+			t.Errorf("%g mm/s: frame %d rows high, want about v·T/pitch = %.1f", v, f.Height, want)
+		}
+	}
+}
