@@ -92,31 +92,12 @@ func TestRecipeWithoutPositionChannel(t *testing.T) {
 	rig.Motion.StartRestS = 0
 	rig.Motion.PauseCount = 0
 	rig.Position.Kind = sampledata.SensorNone
-	rigPath := filepath.Join(dir, "motor.rig.json")
-	data, err := json.Marshal(rig)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(rigPath, data, 0o644); err != nil {
-		t.Fatal(err)
-	}
-	capPath := filepath.Join(dir, "two.wav")
-	if code, _, errText := runSimulateCmd("--scene", "parcel", "--rig", rigPath, "--out", capPath); code != 0 {
-		t.Fatalf("simulate exit %d: %s", code, errText)
-	}
-	var out, errOut bytes.Buffer
-	if code := run([]string{"recipe", capPath, "--apertures", "6"}, &out, &errOut); code != 0 {
-		t.Fatalf("recipe exit %d: %s", code, errOut.String())
-	}
-	r, err := recipe.Parse(out.Bytes())
-	if err != nil {
-		t.Fatal(err)
-	}
+	r, errText := startingRecipe(t, dir, "two", rig)
 	if r.Rows.Source != "even" || r.Rows.SpeedMMS == nil || *r.Rows.SpeedMMS <= 0 || r.Channels.Position.IsSet() {
 		t.Errorf("rows %+v, position %q: want source even with a resolved speed and no position channel", r.Rows, r.Channels.Position)
 	}
-	if !strings.Contains(errOut.String(), "speed_mm_s is null") {
-		t.Errorf("stderr does not say the speed was assumed: %q", errOut.String())
+	if !strings.Contains(errText, "speed_mm_s is null") {
+		t.Errorf("stderr does not say the speed was assumed: %q", errText)
 	}
 }
 
@@ -128,15 +109,26 @@ func TestRecipeSetsInvertForNegativeDetector(t *testing.T) {
 	rig.DurationS = 6
 	rig.Detector.GainVPerMCPS = -rig.Detector.GainVPerMCPS
 	rig.Detector.OffsetV = -rig.Detector.OffsetV
+	r, errText := startingRecipe(t, dir, "neg", rig)
+	if !r.Signal.Invert || !strings.Contains(errText, "signal.invert is set") {
+		t.Errorf("invert %v, stderr %q", r.Signal.Invert, errText)
+	}
+}
+
+// startingRecipe simulates a parcel capture NAME.wav with rig in dir and
+// runs "spotloom recipe" on it with no starting recipe (the demo wheel's 6
+// apertures given), returning the printed recipe and stderr.
+func startingRecipe(t *testing.T, dir, name string, rig sampledata.Rig) (recipe.Recipe, string) {
+	t.Helper()
 	data, err := json.Marshal(rig)
 	if err != nil {
 		t.Fatal(err)
 	}
-	rigPath := filepath.Join(dir, "neg.rig.json")
+	rigPath := filepath.Join(dir, name+".rig.json")
 	if err := os.WriteFile(rigPath, data, 0o644); err != nil {
 		t.Fatal(err)
 	}
-	capPath := filepath.Join(dir, "neg.wav")
+	capPath := filepath.Join(dir, name+".wav")
 	if code, _, errText := runSimulateCmd("--scene", "parcel", "--rig", rigPath, "--out", capPath); code != 0 {
 		t.Fatalf("simulate exit %d: %s", code, errText)
 	}
@@ -148,7 +140,5 @@ func TestRecipeSetsInvertForNegativeDetector(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !r.Signal.Invert || !strings.Contains(errOut.String(), "signal.invert is set") {
-		t.Errorf("invert %v, stderr %q", r.Signal.Invert, errOut.String())
-	}
+	return r, errOut.String()
 }
