@@ -5,6 +5,7 @@ import (
 	"compress/zlib"
 	"encoding/binary"
 	"fmt"
+	"image"
 	"io"
 	"math"
 	"testing"
@@ -178,4 +179,17 @@ func decodeLZW(coded []byte) ([]byte, error) {
 	r := lzw.NewReader(bytes.NewReader(coded), lzw.MSB, 8)
 	defer r.Close()
 	return io.ReadAll(r)
+}
+
+// grayAt is the sample at (col,row) of a decoded 8- or 16-bit gray image.
+func grayAt(t *testing.T, img image.Image, col, row int) uint32 {
+	t.Helper()
+	switch m := img.(type) {
+	case *image.Gray:
+		return uint32(m.GrayAt(col, row).Y)
+	case *image.Gray16:
+		return uint32(m.Gray16At(col, row).Y)
+	}
+	t.Fatalf("decoded as %T, want 8- or 16-bit gray", img)
+	return 0
 }

@@ -5,7 +5,6 @@ import (
 	"encoding/binary"
 	"encoding/json"
 	"hash/crc32"
-	"image"
 	"image/png"
 	"math"
 	"testing"
@@ -63,15 +62,7 @@ func TestPNGDecodedByImagePNG(t *testing.T) {
 					want = uint32(math.Round(tone.Map(v) * full))
 				}
 				col, row := i%f.Width, i/f.Width
-				var got uint32
-				switch m := img.(type) {
-				case *image.Gray:
-					got = uint32(m.GrayAt(col, row).Y)
-				case *image.Gray16:
-					got = uint32(m.Gray16At(col, row).Y)
-				default:
-					t.Fatalf("depth %d decoded as %T", depth, img)
-				}
+				got := grayAt(t, img, col, row)
 				if got != want {
 					t.Fatalf("depth %d: pixel (%d,%d) = %d, want %d", depth, col, row, got, want)
 				}

@@ -55,15 +55,7 @@ func TestTIFFIntegerDecodedByXImage(t *testing.T) {
 					if ok {
 						want = uint32(math.Round(tone.Map(v) * full))
 					}
-					var got uint32
-					switch m := img.(type) {
-					case *image.Gray:
-						got = uint32(m.GrayAt(col, row).Y)
-					case *image.Gray16:
-						got = uint32(m.Gray16At(col, row).Y)
-					default:
-						t.Fatalf("depth %d: decoded as %T", depth, img)
-					}
+					got := grayAt(t, img, col, row)
 					if got != want && bad < 5 {
 						bad++
 						t.Errorf("depth %d %s: pixel (%d,%d) = %d, want %d", depth, comp, col, row, got, want)
