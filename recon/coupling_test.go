@@ -1,7 +1,9 @@
 package recon
 
 import (
+	"context"
 	"math"
+	"strings"
 	"testing"
 
 	"spotloom/recon/recipe"
@@ -59,5 +61,34 @@ func TestParcelACCoupledAboveLineRate(t *testing.T) {
 	}
 	if d := res.Report.DelayDeg - truth.DelayDeg; math.Abs(d) > 0.3 {
 		t.Errorf("delay %.3f°, truth %.3f°", res.Report.DelayDeg, truth.DelayDeg)
+	}
+}
+
+// TestClippingSeenThroughACCorrection: clipping is a property of the
+// recording, so it is still found on the recorded samples when the engine
+// works on a copy with the AC coupling undone.
+func TestClippingSeenThroughACCorrection(t *testing.T) {
+	rig := sampledata.DemoRig()
+	rig.DurationS = 8
+	rig.Detector.ACCouplingCornerHz = 20
+	rig.Detector.OffsetV = 0
+	rig.Detector.GainVPerMCPS *= 4 // drives the bright parts past the ADC's full scale
+	rec, _, err := sampledata.Simulate(context.Background(), rig, "parcel", sampledata.SimOptions{Seed: 6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := NewSession(rec).Build(context.Background(), rig.Recipe(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Recipe.Signal.ACCornerHz != 20 {
+		t.Fatalf("recipe corner %g Hz, want the rig's 20", res.Recipe.Signal.ACCornerHz)
+	}
+	found := false
+	for _, w := range res.Report.Warnings {
+		found = found || strings.Contains(w, "clipped")
+	}
+	if !found {
+		t.Errorf("no clipping warning: %q", res.Report.Warnings)
 	}
 }

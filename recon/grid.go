@@ -193,7 +193,10 @@ type gridStats struct {
 
 // gridInput is everything one frame is made from.
 type gridInput struct {
-	det           []float32
+	det []float32
+	// recorded, when not nil, is the detector as recorded, for the
+	// clipping test, when det is a corrected copy (AC coupling undone).
+	recorded      []float32
 	lines         []placedLine // the lines of this frame
 	sweep         *sweepMap
 	rows          *rowsResult
@@ -387,8 +390,12 @@ func splatLine(in gridInput, l *placedLine, sum, wt []float64, cols, rows int, x
 	}
 	ties := 0
 	prev := float32(math.NaN())
+	clipTest := det
+	if in.recorded != nil {
+		clipTest = in.recorded[first:last]
+	}
 	for k, raw := range det {
-		if raw >= in.clipHi || raw <= in.clipLo {
+		if c := clipTest[k]; c >= in.clipHi || c <= in.clipLo {
 			run++
 			if run >= 3 {
 				clipped = true

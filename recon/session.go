@@ -538,7 +538,14 @@ func cloneResult(res *Result, r recipe.Recipe) *Result {
 func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, rows *rowsResult, pl *placement, warns []string, progress Progress) (*Result, error) {
 	r := rs.r
 	rate := s.rec.SampleRateHz
-	det, st, err := s.detector(ctx, rs.ch.detector, r.Signal)
+	det, _, err := s.detector(ctx, rs.ch.detector, r.Signal)
+	if err != nil {
+		return nil, err
+	}
+	// Clipping is a property of the recording: test the recorded samples
+	// against the recorded range, even when det is a corrected copy.
+	recorded := s.rec.Channels[rs.ch.detector].Samples
+	st, err := s.stats(ctx, rs.ch.detector)
 	if err != nil {
 		return nil, err
 	}
@@ -635,7 +642,7 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 			}
 		}
 		f, st, _, err := gridFrame(ctx, gridInput{
-			det: det, lines: g, sweep: pl.sweep, rows: rows, pitch: r.Image.PitchMM,
+			det: det, recorded: recorded, lines: g, sweep: pl.sweep, rows: rows, pitch: r.Image.PitchMM,
 			invert: r.Signal.Invert, fill: r.Image.FillGapsPx, clipHi: hi, clipLo: clipLo,
 			yTop: yTop, yBottom: yBottom,
 			progress: func(f float64) { progress.report("gridding", (float64(gi)+f)/float64(len(groups))) },
