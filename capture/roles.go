@@ -111,6 +111,24 @@ func measureTraits(s []float32) signalTraits {
 		return hi
 	}
 	low, high := percentile(0.01), percentile(0.99)
+	if high-low < 0.25*(hi-low) {
+		// A pulse train of very low duty (an index pulse once per
+		// revolution, a degree wide) spends less than 1 % of the time
+		// high: its high level is the mean of the samples in the upper
+		// half of the range, if there are enough of them to be a level.
+		mid := low + 0.5*(hi-low)
+		var sumHigh float64
+		nHigh := 0
+		for _, v := range s {
+			if float64(v) > mid {
+				sumHigh += float64(v)
+				nHigh++
+			}
+		}
+		if nHigh >= 16 {
+			high = sumHigh / float64(nHigh)
+		}
+	}
 	span := high - low
 	if span <= 0 {
 		span = hi - lo

@@ -154,3 +154,32 @@ func TestGuessRolesNoisySlowPosition(t *testing.T) {
 		t.Errorf("white noise scores %.2f as a slow signal (roughness %.3f, block roughness %.3f)", tr.smoothScore(), tr.roughness, tr.slowRoughness)
 	}
 }
+
+// TestGuessRolesOncePerRevolution: an index pulse one degree wide once per
+// revolution is high for 1/360 of the time, less than the 1 % that the
+// level percentiles see; it must still be found as the index.
+func TestGuessRolesOncePerRevolution(t *testing.T) {
+	const rate, seconds, revHz = 48000.0, 3.0, 10.0
+	n := int(rate * seconds)
+	rng := rand.New(rand.NewPCG(21, 22))
+	det, idx := make([]float32, n), make([]float32, n)
+	for i := range det {
+		tm := float64(i) / rate
+		turn := math.Mod(tm*revHz, 1)
+		if turn < 1.0/360 {
+			idx[i] = 0.8
+		}
+		idx[i] += float32(0.005 * rng.NormFloat64())
+		if math.Mod(turn*6, 1) < 0.5 { // six apertures, beam on half of each
+			det[i] = float32(0.3 + 0.2*math.Sin(2*math.Pi*3*tm) + 0.05*rng.NormFloat64())
+		}
+	}
+	_, _, pos := scannerLike(rate, seconds, 4)
+	rec := &Recording{SampleRateHz: rate, Channels: []Channel{{Samples: det}, {Samples: idx}, {Samples: pos}}}
+	want := []string{RoleDetector, RoleIndex, RolePosition}
+	for c, g := range GuessRoles(rec) {
+		if g.Role != want[c] {
+			t.Errorf("channel %d guessed %s (%.2f), want %s", c, g.Role, g.Confidence, want[c])
+		}
+	}
+}
