@@ -7,6 +7,7 @@ import (
 	"slices"
 
 	"gonum.org/v1/gonum/interp"
+	"gonum.org/v1/gonum/stat"
 
 	"spotloom/recon/recipe"
 )
@@ -245,7 +246,7 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 	}
 	bins := len(prof)
 	fon := s.FieldDeg / spacing
-	negative = beamOnIsLow(prof, spread, fon)
+	negative = beamOnIsLow(prof, spread)
 	if negative {
 		for b := range prof {
 			prof[b] = -prof[b]
@@ -265,6 +266,22 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		steps[b] = math.Abs(prof[(b+1)%bins] - prof[b])
 	}
 	noise := 1.4826 * median(steps) / math.Sqrt2
+	if !(on-off > 10*noise) {
+		// field_deg may be wrong (a default, or the wrong aperture count):
+		// then the quantiles above miss the beam-off stretch. Measure the
+		// beam-on fraction instead, as the bins well above the lowest
+		// level, and take the levels from that.
+		floor := q(0.01)
+		above := 0
+		for _, v := range prof {
+			if v > floor+10*noise {
+				above++
+			}
+		}
+		if f := float64(above) / float64(bins); f > 0.02 && f < 0.98 {
+			off, on = q(0.5*(1-f)), q(1-0.5*f)
+		}
+	}
 	if !(on-off > 10*noise) {
 		return 0, false, nil, fmt.Errorf("the detector shows no beam-on stretch within the lines (its mean level against wheel angle stays within %.2g of %.3g): check channels.detector, or set sweep.delay_deg by hand", on-off, off)
 	}
@@ -502,28 +519,28 @@ func meanOf(v []float64) float64 {
 }
 
 // beamOnIsLow reports whether the beam-on part of a folded detector
-// profile lies below its beam-off part. The fraction fon of the bins with
-// the largest spread (the variance of the samples that fell in them) is
-// taken as beam-on; it compares the mean level of the two groups.
-func beamOnIsLow(prof, spread []float64, fon float64) bool {
+// profile lies below its beam-off part. Photon noise grows with the
+// signal, so across the bins of a positive detector the spread (the
+// variance of the samples in a bin) rises with the level, and across those
+// of a negative-going one it falls. The bins at the field's edges, whose
+// spread is that of the step itself, are left out (the top 5 % by
+// spread). Without a clear trend (no photon noise to tell by), the usual
+// polarity is kept.
+func beamOnIsLow(prof, spread []float64) bool {
 	sorted := slices.Clone(spread)
 	slices.Sort(sorted)
-	cut := sorted[min(len(sorted)-1, max(0, int((1-fon)*float64(len(sorted)))))]
-	var onSum, offSum float64
-	var onN, offN int
-	for b, v := range prof {
-		if spread[b] > cut {
-			onSum += v
-			onN++
-		} else {
-			offSum += v
-			offN++
+	cut := sorted[min(len(sorted)-1, int(0.95*float64(len(sorted))))]
+	var level, noise []float64
+	for b, v := range spread {
+		if v <= cut {
+			level = append(level, prof[b])
+			noise = append(noise, v)
 		}
 	}
-	if onN == 0 || offN == 0 {
+	if len(level) < 8 {
 		return false
 	}
-	return onSum/float64(onN) < offSum/float64(offN)
+	return stat.Correlation(level, noise, nil) < -0.5
 }
 
 // foldLines folds about a thousand lines, spread over the capture, onto one

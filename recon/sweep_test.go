@@ -196,3 +196,31 @@ func TestSineSymmetricScene(t *testing.T) {
 		t.Errorf("no warning about the mirrored delay: %q", res.Report.Warnings)
 	}
 }
+
+// TestDelayWithWrongFieldAngle: a recipe whose field_deg is too small (a
+// default left in place) must not hide the beam-off stretch. A wheel of 8
+// apertures (45° apart) sweeping 40° leaves only 5° of beam-off; with the
+// recipe saying 30°, the delay is still found (the synthetic rig's own
+// delay, a closed-form input) and the mismatch is reported.
+func TestDelayWithWrongFieldAngle(t *testing.T) {
+	w := baseRig()
+	w.apertures, w.fieldDeg, w.delayDeg, w.pulseDeg = 8, 40, 2.5, 1
+	w.scene = func(x, y float64) float64 { return 0.05 } // a dim, even sheet
+	rec := w.recording()
+	r := w.recipe()
+	r.Sweep.FieldDeg = 30
+	res, err := NewSession(rec).Build(context.Background(), r, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := res.Report.DelayDeg; math.Abs(d-w.delayDeg) > 0.2 {
+		t.Errorf("delay %.3f°, the rig's %.3f°", d, w.delayDeg)
+	}
+	warned := false
+	for _, m := range res.Report.Warnings {
+		warned = warned || strings.Contains(m, "beam-on stretch lasts")
+	}
+	if !warned {
+		t.Errorf("no field mismatch warning: %q", res.Report.Warnings)
+	}
+}
