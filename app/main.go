@@ -33,6 +33,15 @@ func register(c command) {
 	commands[c.name] = c
 }
 
+// oneLine shows an error whose text has several lines (a recipe with more
+// than one bad key) on one line, keeping what it wraps for errors.As.
+type oneLine struct{ err error }
+
+func (e oneLine) Error() string {
+	return strings.ReplaceAll(strings.TrimSpace(e.err.Error()), "\n", "; ")
+}
+func (e oneLine) Unwrap() error { return e.err }
+
 // usageError marks bad usage (exit status 2).
 type usageError struct{ msg string }
 
@@ -62,10 +71,20 @@ func newFlagSet(name, synopsis, description string, stderr io.Writer) *flag.Flag
 // parseFlags parses args, allowing flags after positional arguments
 // ("spotloom probe FILE --json"). It returns the positional arguments.
 func parseFlags(fs *flag.FlagSet, args []string) ([]string, error) {
+	// The flag package prints its error and the whole usage on a bad flag;
+	// keep it quiet so the error is one line, and show the usage only when
+	// it was asked for.
+	out := fs.Output()
+	fs.SetOutput(io.Discard)
+	usage := fs.Usage
+	fs.Usage = func() {}
+	defer func() { fs.SetOutput(out); fs.Usage = usage }()
 	var positional []string
 	for {
 		if err := fs.Parse(args); err != nil {
 			if errors.Is(err, flag.ErrHelp) {
+				fs.SetOutput(out)
+				usage()
 				return nil, flag.ErrHelp
 			}
 			return nil, usageError{err.Error()}
@@ -130,12 +149,16 @@ func run(args []string, stdout, stderr io.Writer) int {
 }
 
 func finish(name string, err error, stderr io.Writer) int {
+	if err != nil && !errors.Is(err, flag.ErrHelp) {
+		// One line on stderr, however many problems the error lists.
+		err = oneLine{err}
+	}
 	var ue usageError
 	switch {
 	case err == nil, errors.Is(err, flag.ErrHelp):
 		return 0
 	case errors.As(err, &ue):
-		fmt.Fprintf(stderr, "spotloom %s: %s (see \"spotloom %s --help\")\n", name, ue.msg, name)
+		fmt.Fprintf(stderr, "spotloom %s: %s (see \"spotloom %s --help\")\n", name, strings.ReplaceAll(ue.msg, "\n", "; "), name)
 		return 2
 	default:
 		fmt.Fprintf(stderr, "spotloom %s: %s\n", name, err)

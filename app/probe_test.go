@@ -141,3 +141,35 @@ func TestProbeTable(t *testing.T) {
 		}
 	}
 }
+
+// TestBadUsageIsOneLine: an unknown flag or a bad flag value is one line on
+// stderr and exit 2, not the whole help; --help still prints the help.
+func TestBadUsageIsOneLine(t *testing.T) {
+	for _, args := range [][]string{{"build", "--bogus"}, {"probe", "--rate", "abc", "x.wav"}, {"simulate", "--seconds", "x"}} {
+		var stdout, stderr bytes.Buffer
+		code := run(args, &stdout, &stderr)
+		if code != 2 || strings.Count(stderr.String(), "\n") != 1 {
+			t.Errorf("%q: exit %d, stderr %q; want exit 2 and one line", args, code, stderr.String())
+		}
+	}
+	var stdout, stderr bytes.Buffer
+	if code := run([]string{"probe", "--help"}, &stdout, &stderr); code != 0 || !strings.Contains(stderr.String(), "usage: spotloom probe") || !strings.Contains(stderr.String(), "-json") {
+		t.Errorf("--help: exit %d, %q", code, stderr.String())
+	}
+}
+
+// TestRecipeErrorsAreOneLine: a recipe with several bad keys gives one
+// line on stderr naming each of them.
+func TestRecipeErrorsAreOneLine(t *testing.T) {
+	dir := t.TempDir()
+	bad := filepath.Join(dir, "bad.json")
+	if err := os.WriteFile(bad, []byte(`{"format": "spotloom-recipe/1", "sweep": {"field_deg": 200, "projection": "x"}}`), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var stdout, stderr bytes.Buffer
+	code := run([]string{"build", filepath.Join(captureFixtures, "pcm_s16_stereo.wav"), "--recipe", bad, "--out", filepath.Join(dir, "f.tiff")}, &stdout, &stderr)
+	msg := stderr.String()
+	if code != 1 || strings.Count(msg, "\n") != 1 || !strings.Contains(msg, "sweep.field_deg") || !strings.Contains(msg, "sweep.projection") {
+		t.Errorf("exit %d, stderr %q; want exit 1, one line naming both keys", code, msg)
+	}
+}

@@ -23,7 +23,15 @@ func (s *Session) guessChannel(role string) (int, error) {
 		}
 	}
 	if best < 0 {
-		return -1, fmt.Errorf("channels.%s is null and no channel looks like a %s channel (guessed roles: %s): name it in the recipe", role, role, strings.Join(seen, ", "))
+		return -1, fmt.Errorf("channels.%s is null and no channel looks like %s %s channel (guessed roles: %s): name it in the recipe", role, article(role), role, strings.Join(seen, ", "))
 	}
 	return best, nil
+}
+
+// article is "an" before a vowel, else "a".
+func article(word string) string {
+	if word != "" && strings.ContainsRune("aeiou", rune(word[0])) {
+		return "an"
+	}
+	return "a"
 }

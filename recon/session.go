@@ -142,6 +142,18 @@ func (s *Session) resolveChannels(r *recipe.Recipe) (channels, error) {
 		}
 		*out[role] = i
 	}
+	// One channel cannot carry two signals.
+	seen := map[int]string{}
+	for _, role := range []string{"detector", "index", "position", "steps"} {
+		i := *out[role]
+		if i < 0 {
+			continue
+		}
+		if other, dup := seen[i]; dup {
+			return c, fmt.Errorf("channels.%s and channels.%s both name channel %d: each role needs its own channel", other, role, i)
+		}
+		seen[i] = role
+	}
 	return c, nil
 }
 

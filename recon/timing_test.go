@@ -142,6 +142,11 @@ func TestBadInputs(t *testing.T) {
 		t.Errorf("missing channel: %v", err)
 	}
 	r = rig.recipe()
+	r.Channels.Position = r.Channels.Detector
+	if _, err := NewSession(good).Build(ctx, r, nil); err == nil || !strings.Contains(err.Error(), "both name channel 0") {
+		t.Errorf("one channel in two roles: %v", err)
+	}
+	r = rig.recipe()
 	r.Sweep.FieldDeg = 100
 	if _, err := NewSession(good).Build(ctx, r, nil); err == nil || !strings.Contains(err.Error(), "sweep.field_deg") || !strings.Contains(err.Error(), "90° apart") {
 		t.Errorf("field wider than the aperture spacing: %v", err)
