@@ -214,6 +214,12 @@ func checkDestination(path string, force bool) error {
 	} else if !st.IsDir() {
 		return fmt.Errorf("%s: %s is not a folder", path, dir)
 	}
+	for _, p := range []string{path, SidecarPath(path)} {
+		if st, err := os.Stat(p); err == nil && st.IsDir() {
+			// Not even --force replaces a folder.
+			return fmt.Errorf("%s is a folder: give a file name, such as %s", p, filepath.Join(p, "frame"+filepath.Ext(path)))
+		}
+	}
 	if !force {
 		if _, err := os.Lstat(path); err == nil {
 			return fmt.Errorf("%s %w", path, ErrExists)

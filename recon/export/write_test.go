@@ -373,3 +373,23 @@ func TestAutoWindowKeepsGamma(t *testing.T) {
 		t.Errorf("pixel at the automatic level = %d, want %d", got, want)
 	}
 }
+
+// TestOutputThatIsAFolder: an output path naming an existing folder is
+// refused with a plain message, with or without Force, and the folder is
+// left as it was.
+func TestOutputThatIsAFolder(t *testing.T) {
+	dir := t.TempDir()
+	folder := filepath.Join(dir, "out.png")
+	if err := os.Mkdir(folder, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	for _, force := range []bool{false, true} {
+		err := Write(folder, []*recon.Frame{testFrame(8, 6, 1)}, Options{Depth: 8, Force: force})
+		if err == nil || !strings.Contains(err.Error(), "is a folder") {
+			t.Errorf("force %v: %v, want a refusal naming the folder", force, err)
+		}
+		if st, err := os.Stat(folder); err != nil || !st.IsDir() {
+			t.Fatalf("force %v: the folder is gone: %v", force, err)
+		}
+	}
+}

@@ -203,6 +203,16 @@ func checkKeys(data []byte, t reflect.Type, path string) error {
 		if !ok {
 			return fmt.Errorf("recipe: unknown key %q in %s: allowed keys are %s", join(path, k), where, strings.Join(names, ", "))
 		}
+		// null means "find it automatically", which only the pointer keys
+		// (and channel references) can be; a null elsewhere would quietly
+		// keep the default.
+		if bytes.Equal(bytes.TrimSpace(obj[k]), []byte("null")) {
+			switch ft.Kind() {
+			case reflect.Pointer, reflect.String:
+			default:
+				return fmt.Errorf("recipe: key %q is null, but it cannot be found automatically: give a value", join(path, k))
+			}
+		}
 		if err := checkKeys(obj[k], ft, join(path, k)); err != nil {
 			return err
 		}

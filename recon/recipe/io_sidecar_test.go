@@ -27,3 +27,17 @@ func TestParseExportSidecar(t *testing.T) {
 		t.Errorf("sidecar with a bad recipe: %v", err)
 	}
 }
+
+// TestNullOnlyWhereAutomatic: null means "find it automatically", which a
+// distance cannot be; Parse says so instead of keeping the default, and
+// still takes null where the value is found automatically.
+func TestNullOnlyWhereAutomatic(t *testing.T) {
+	_, err := Parse([]byte(`{"format": "` + RecipeFormat + `", "sweep": {"distance_mm": null}}`))
+	if err == nil || !strings.Contains(err.Error(), `"sweep.distance_mm" is null`) {
+		t.Errorf("distance null: %v", err)
+	}
+	r, err := Parse([]byte(`{"format": "` + RecipeFormat + `", "sweep": {"delay_deg": null}, "channels": {"position": null}}`))
+	if err != nil || r.Sweep.DelayDeg != nil || r.Channels.Position.IsSet() {
+		t.Errorf("automatic nulls: %v %+v", err, r.Channels)
+	}
+}
