@@ -32,10 +32,13 @@ channel gets rows.source "steps" when it has step pulses, else "even".
 `
 
 func runRecipe(args []string, stdout, stderr io.Writer) error {
-	fs := newFlagSet("recipe FILE [--from R.json] > R.json", "recipe FILE", recipeHelp, stderr)
+	fs := newFlagSet("recipe", "recipe FILE [--from R.json] [--apertures N] [--pulses-per-rev N] [--field DEG] [--distance MM] > R.json", recipeHelp, stderr)
 	cf := addCaptureFlags(fs)
 	from := fs.String("from", "", "start from this recipe `file` and resolve its automatic (null) values")
 	apertures := fs.Int("apertures", 0, "the wheel's aperture `count` (also the index pulses per revolution unless --from says 1)")
+	pulses := fs.Int("pulses-per-rev", 0, "index pulses per wheel revolution: the aperture count, or 1 for a once-per-revolution sensor")
+	field := fs.Float64("field", 0, "the field of view in `degrees` of beam swing")
+	distance := fs.Float64("distance", 0, "the source-to-scene distance in `mm`")
 	rest, err := parseFlags(fs, args)
 	if err != nil {
 		return err
@@ -67,6 +70,21 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 			r.Timing.PulsesPerRev = *apertures
 		}
 		r.Sweep.Apertures = *apertures
+	}
+	if *pulses < 0 || *field < 0 || *distance < 0 {
+		return usagef("--pulses-per-rev, --field and --distance take positive values")
+	}
+	if *pulses > 0 {
+		r.Timing.PulsesPerRev = *pulses
+	}
+	if *field > 0 {
+		r.Sweep.FieldDeg = *field
+	}
+	if *distance > 0 {
+		r.Sweep.DistanceMM = *distance
+	}
+	if err := r.Validate(); err != nil {
+		return usagef("%s", strings.ReplaceAll(err.Error(), "\n", "; "))
 	}
 	prog := newProgress(stderr)
 	opts.Progress = func(f float64) { prog.Report("reading", f) }

@@ -524,8 +524,9 @@ func meanOf(v []float64) float64 {
 // variance of the samples in a bin) rises with the level, and across those
 // of a negative-going one it falls. The bins at the field's edges, whose
 // spread is that of the step itself, are left out (the top 5 % by
-// spread). Without a clear trend (no photon noise to tell by), the usual
-// polarity is kept.
+// spread). Without a clear trend (no photon noise to tell by), the side
+// of the profile with more structure is beam-on, and failing that the
+// usual polarity is kept.
 func beamOnIsLow(prof, spread []float64) bool {
 	sorted := slices.Clone(spread)
 	slices.Sort(sorted)
@@ -540,7 +541,33 @@ func beamOnIsLow(prof, spread []float64) bool {
 	if len(level) < 8 {
 		return false
 	}
-	return stat.Correlation(level, noise, nil) < -0.5
+	switch c := stat.Correlation(level, noise, nil); {
+	case c < -0.5:
+		return true
+	case c > 0.5:
+		return false
+	}
+	// No photon noise to tell by (a simulated or heavily filtered signal):
+	// the beam-off level is flat, while the mean over many lines of the
+	// beam-on stretch follows the scene. The side with clearly more
+	// structure is beam-on; the bins near the half-way level (the edges)
+	// are left out.
+	sorted = slices.Clone(prof)
+	slices.Sort(sorted)
+	lo, hi := sorted[len(sorted)/20], sorted[len(sorted)-1-len(sorted)/20]
+	var low, high []float64
+	for _, v := range prof {
+		switch {
+		case v < lo+0.25*(hi-lo):
+			low = append(low, v)
+		case v > hi-0.25*(hi-lo):
+			high = append(high, v)
+		}
+	}
+	if len(low) < 8 || len(high) < 8 {
+		return false
+	}
+	return stat.StdDev(low, nil) > 2*stat.StdDev(high, nil)
 }
 
 // foldLines folds about a thousand lines, spread over the capture, onto one

@@ -3,6 +3,7 @@ package recon
 import (
 	"context"
 	"math"
+	"slices"
 	"strings"
 	"testing"
 
@@ -222,5 +223,26 @@ func TestDelayWithWrongFieldAngle(t *testing.T) {
 	}
 	if !warned {
 		t.Errorf("no field mismatch warning: %q", res.Report.Warnings)
+	}
+}
+
+// TestNegativeDetectorWithoutPhotonNoise: a negative-going detector whose
+// noise is the same with the beam on and off (no photon noise to tell by)
+// is still recognised by the structure the scene leaves in the beam-on
+// stretch, so the delay is the rig's own (a closed-form input).
+func TestNegativeDetectorWithoutPhotonNoise(t *testing.T) {
+	w := baseRig()
+	w.apertures, w.fieldDeg, w.delayDeg = 6, 30, 5 // beam on exactly half of each line
+	bright := dotScene(20, 6)
+	w.scene = func(x, y float64) float64 { return -0.2 - 0.5*bright(x, y) }
+	res, err := NewSession(w.recording()).Build(context.Background(), w.recipe(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := res.Report.DelayDeg; math.Abs(d-w.delayDeg) > 0.2 {
+		t.Errorf("delay %.3f°, the rig's %.3f°", d, w.delayDeg)
+	}
+	if !slices.Contains(res.Report.Warnings, WarnNegativeDetector) {
+		t.Errorf("not seen as negative-going: %q", res.Report.Warnings)
 	}
 }
