@@ -227,14 +227,19 @@ func TestDelayWithWrongFieldAngle(t *testing.T) {
 }
 
 // TestNegativeDetectorWithoutPhotonNoise: a negative-going detector whose
-// noise is the same with the beam on and off (no photon noise to tell by)
-// is still recognised by the structure the scene leaves in the beam-on
-// stretch, so the delay is the rig's own (a closed-form input).
+// noise is additive only (the same with the beam on and off, as in a
+// hand-made synthetic capture) and whose beam-on stretch fills exactly half
+// of each line, so neither the noise level nor the field fraction says
+// which stretch is which, is still recognised, and the delay is the rig's
+// own (a closed-form input).
 func TestNegativeDetectorWithoutPhotonNoise(t *testing.T) {
 	w := baseRig()
 	w.apertures, w.fieldDeg, w.delayDeg = 6, 30, 5 // beam on exactly half of each line
-	bright := dotScene(20, 6)
-	w.scene = func(x, y float64) float64 { return -0.2 - 0.5*bright(x, y) }
+	// A smooth shading across the sweep, the same on every line.
+	w.scene = func(x, y float64) float64 {
+		c := math.Cos(x / 40)
+		return -0.4 - 0.4*c*c
+	}
 	res, err := NewSession(w.recording()).Build(context.Background(), w.recipe(), nil)
 	if err != nil {
 		t.Fatal(err)
