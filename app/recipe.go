@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -10,6 +11,7 @@ import (
 
 	"spotloom/capture"
 	"spotloom/recon"
+	"spotloom/recon/export"
 	"spotloom/recon/recipe"
 )
 
@@ -32,13 +34,15 @@ channel gets rows.source "steps" when it has step pulses, else "even".
 `
 
 func runRecipe(args []string, stdout, stderr io.Writer) error {
-	fs := newFlagSet("recipe", "recipe FILE [--from R.json] [--apertures N] [--pulses-per-rev N] [--field DEG] [--distance MM] > R.json", recipeHelp, stderr)
+	fs := newFlagSet("recipe", "recipe FILE [--from R.json] [--apertures N] [--pulses-per-rev N] [--field DEG] [--distance MM] [--out R.json] > R.json", recipeHelp, stderr)
 	cf := addCaptureFlags(fs)
 	from := fs.String("from", "", "start from this recipe `file` and resolve its automatic (null) values")
 	apertures := fs.Int("apertures", 0, "the wheel's aperture `count` (also the index pulses per revolution unless --from says 1)")
 	pulses := fs.Int("pulses-per-rev", 0, "index pulses per wheel revolution: the aperture count, or 1 for a once-per-revolution sensor")
 	field := fs.Float64("field", 0, "the field of view in `degrees` of beam swing")
 	distance := fs.Float64("distance", 0, "the source-to-scene distance in `mm`")
+	outPath := fs.String("out", "", "write the recipe to this `file` (only when it could be made) instead of stdout")
+	force := fs.Bool("force", false, "with --out: replace an existing file")
 	rest, err := parseFlags(fs, args)
 	if err != nil {
 		return err
@@ -113,6 +117,13 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 			continue
 		}
 		fmt.Fprintf(stderr, "spotloom recipe: %s: %s\n", path, w)
+	}
+	if *outPath != "" {
+		err := export.SaveFile(*outPath, res.Recipe.JSON(), *force)
+		if errors.Is(err, export.ErrExists) {
+			return fmt.Errorf("%w: add --force to replace it", err)
+		}
+		return err
 	}
 	_, err = stdout.Write(res.Recipe.JSON())
 	return err

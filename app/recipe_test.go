@@ -142,3 +142,36 @@ func startingRecipe(t *testing.T, dir, name string, rig sampledata.Rig) (recipe.
 	}
 	return r, errOut.String()
 }
+
+// TestRecipeOut: --out writes the recipe only when one could be made, and
+// never replaces a file without --force.
+func TestRecipeOut(t *testing.T) {
+	dir := t.TempDir()
+	out := filepath.Join(dir, "r.json")
+	var stdout, stderr bytes.Buffer
+	bad := filepath.Join(captureFixtures, "bad", "truncated.wav")
+	if code := run([]string{"recipe", bad, "--out", out}, &stdout, &stderr); code != 1 {
+		t.Fatalf("broken capture: exit %d", code)
+	}
+	if _, err := os.Stat(out); !os.IsNotExist(err) {
+		t.Errorf("a failed recipe left %s behind: %v", out, err)
+	}
+	capPath := filepath.Join(dir, "cap.wav")
+	if code, _, errText := runSimulateCmd("--scene", "dot-grid", "--out", capPath, "--seconds", "6"); code != 0 {
+		t.Fatalf("simulate exit %d: %s", code, errText)
+	}
+	args := []string{"recipe", capPath, "--apertures", "6", "--out", out}
+	if code := run(args, &stdout, &stderr); code != 0 {
+		t.Fatalf("recipe exit %d: %s", code, stderr.String())
+	}
+	if _, err := recipe.Load(out); err != nil {
+		t.Errorf("written recipe: %v", err)
+	}
+	stderr.Reset()
+	if code := run(args, &stdout, &stderr); code != 1 || !strings.Contains(stderr.String(), "--force") {
+		t.Errorf("second run: exit %d, %q; want a refusal naming --force", code, stderr.String())
+	}
+	if code := run(append(args, "--force"), &stdout, &stderr); code != 0 {
+		t.Errorf("with --force: exit %d", code)
+	}
+}

@@ -333,7 +333,8 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		Keep     float64
 		Period   *float64
 		AC       float64
-	}{s.timingKey, ch.detector, sw.Law, sw.FieldDeg, sw.Apertures, sw.ApertureOffsetsDeg, sw.SineKeep, sw.SinePeriodS, r.Signal.ACCornerHz}
+		Invert   bool
+	}{s.timingKey, ch.detector, sw.Law, sw.FieldDeg, sw.Apertures, sw.ApertureOffsetsDeg, sw.SineKeep, sw.SinePeriodS, r.Signal.ACCornerHz, r.Signal.Invert}
 	k := key(p)
 	if s.delayKey == k {
 		return s.delay, s.delayWarn, nil
@@ -353,7 +354,7 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		}
 		d, w, err = estimateSineDelay(ctx, t, det, sw, period)
 	} else {
-		d, s.delayNegative, w, err = estimateDelay(ctx, t, det, sw)
+		d, s.delayNegative, w, err = estimateDelay(ctx, t, det, sw, r.Signal.Invert)
 	}
 	if err != nil {
 		return 0, nil, err

@@ -7,7 +7,6 @@ import (
 	"slices"
 
 	"gonum.org/v1/gonum/interp"
-	"gonum.org/v1/gonum/stat"
 
 	"spotloom/recon/recipe"
 )
@@ -234,8 +233,9 @@ func lineWindow(lt lineTiming, n int) (int, int) {
 // output down): the beam-on stretch is then below the beam-off level.
 // Which side is beam-on is told by the spread of the samples in each bin:
 // beam-on bins carry photon noise and scene contrast, beam-off bins only
-// the dark level. negative reports that the profile was turned over.
-func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep) (delay float64, negative bool, warns []string, err error) {
+// the dark level; when the spread cannot tell, invert (signal.invert)
+// decides. negative reports that the profile was turned over.
+func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep, invert bool) (delay float64, negative bool, warns []string, err error) {
 	if len(t.lines) == 0 {
 		return 0, false, nil, fmt.Errorf("no lines to find the delay from")
 	}
@@ -246,7 +246,11 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 	}
 	bins := len(prof)
 	fon := s.FieldDeg / spacing
-	negative = beamOnIsLow(prof, spread)
+	negative, known := beamOnIsLow(prof, spread)
+	if !known {
+		// Nothing in the signal tells: trust signal.invert.
+		negative = invert
+	}
 	if negative {
 		for b := range prof {
 			prof[b] = -prof[b]
@@ -286,20 +290,28 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		return 0, false, nil, fmt.Errorf("the detector shows no beam-on stretch within the lines (its mean level against wheel angle stays within %.2g of %.3g): check channels.detector, or set sweep.delay_deg by hand", on-off, off)
 	}
 	mid := (off + on) / 2
-	// Longest circular run above mid.
-	bestStart, bestLen, runStart, runLen := -1, 0, -1, 0
+	// The beam-off stretch is the longest circular run below mid; the
+	// beam-on stretch is the rest of the line. Taking the complement
+	// rather than the longest run above mid keeps dark parts of the scene
+	// inside the field (the holes of a dot grid that sit at the same place
+	// on every line) from cutting the field short.
+	offStart, offRun, runStart, runLen := -1, 0, -1, 0
 	for i := 0; i < 2*bins; i++ {
-		if prof[i%bins] > mid {
+		if prof[i%bins] <= mid {
 			if runLen == 0 {
 				runStart = i
 			}
 			runLen++
-			if runLen > bestLen && runLen <= bins {
-				bestStart, bestLen = runStart, runLen
+			if runLen > offRun && runLen <= bins {
+				offStart, offRun = runStart, runLen
 			}
 		} else {
 			runLen = 0
 		}
+	}
+	bestStart, bestLen := -1, 0
+	if offStart >= 0 && offRun < bins {
+		bestStart, bestLen = (offStart+offRun)%bins, bins-offRun
 	}
 	if bestStart < 0 || bestLen >= bins {
 		return 0, false, nil, fmt.Errorf("the detector shows no beam-off stretch within the lines: set sweep.delay_deg by hand, or check sweep.apertures")
@@ -519,55 +531,43 @@ func meanOf(v []float64) float64 {
 }
 
 // beamOnIsLow reports whether the beam-on part of a folded detector
-// profile lies below its beam-off part. Photon noise grows with the
-// signal, so across the bins of a positive detector the spread (the
-// variance of the samples in a bin) rises with the level, and across those
-// of a negative-going one it falls. The bins at the field's edges, whose
-// spread is that of the step itself, are left out (the top 5 % by
-// spread). Without a clear trend (no photon noise to tell by), the side
-// of the profile with more structure is beam-on, and failing that the
-// usual polarity is kept.
-func beamOnIsLow(prof, spread []float64) bool {
+// profile lies below its beam-off part, and whether the profile could tell.
+// The quietest bins (the lowest tenth by spread, the variance of the
+// samples in a bin) are beam-off: with the beam off there is neither
+// photon noise nor scene contrast from line to line. When they are clearly
+// quieter than the typical bin, the profile is negative-going if most bins
+// lie below their level. Without that (a detector with no photon noise to
+// tell by, as in a hand-made capture) it cannot tell.
+func beamOnIsLow(prof, spread []float64) (negative, known bool) {
+	n := len(prof)
 	sorted := slices.Clone(spread)
 	slices.Sort(sorted)
-	cut := sorted[min(len(sorted)-1, int(0.95*float64(len(sorted))))]
-	var level, noise []float64
+	quiet := sorted[n/10]
+	if !(quiet < 0.5*sorted[n/2]) {
+		return false, false
+	}
+	var offLevels []float64
 	for b, v := range spread {
-		if v <= cut {
-			level = append(level, prof[b])
-			noise = append(noise, v)
+		if v <= quiet {
+			offLevels = append(offLevels, prof[b])
 		}
 	}
-	if len(level) < 8 {
-		return false
+	off := median(offLevels)
+	steps := make([]float64, n)
+	for b := range steps {
+		steps[b] = math.Abs(prof[(b+1)%n] - prof[b])
 	}
-	switch c := stat.Correlation(level, noise, nil); {
-	case c < -0.5:
-		return true
-	case c > 0.5:
-		return false
-	}
-	// No photon noise to tell by (a simulated or heavily filtered signal):
-	// the beam-off level is flat, while the mean over many lines of the
-	// beam-on stretch follows the scene. The side with clearly more
-	// structure is beam-on; the bins near the half-way level (the edges)
-	// are left out.
-	sorted = slices.Clone(prof)
-	slices.Sort(sorted)
-	lo, hi := sorted[len(sorted)/20], sorted[len(sorted)-1-len(sorted)/20]
-	var low, high []float64
+	margin := 10 * 1.4826 * median(steps)
+	below, above := 0, 0
 	for _, v := range prof {
 		switch {
-		case v < lo+0.25*(hi-lo):
-			low = append(low, v)
-		case v > hi-0.25*(hi-lo):
-			high = append(high, v)
+		case v < off-margin:
+			below++
+		case v > off+margin:
+			above++
 		}
 	}
-	if len(low) < 8 || len(high) < 8 {
-		return false
-	}
-	return stat.StdDev(low, nil) > 2*stat.StdDev(high, nil)
+	return below > above, true
 }
 
 // foldLines folds about a thousand lines, spread over the capture, onto one
