@@ -105,10 +105,29 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 	// A trial build resolves every value and finds what looks wrong (a
 	// calibration outside the position's range, a field that does not
 	// match the beam-on stretch); those warnings go to stderr.
-	res, err := recon.NewSession(rec).Build(ctx, r, func(stage string, f float64) { prog.Report(stage, f) })
+	session := recon.NewSession(rec)
+	res, err := session.Build(ctx, r, func(stage string, f float64) { prog.Report(stage, f) })
 	prog.Done()
 	if err != nil {
 		return fmt.Errorf("%s: %w", path, err)
+	}
+	if *from == "" {
+		// Nobody has described this capture: let the trial build fill in
+		// the aperture count (unless given) and a calibration that fits.
+		rep := res.Report
+		if *apertures > 0 {
+			rep.AperturesSuggested = 0
+		}
+		if started, notes := recon.Start(r, rep); len(notes) > 0 {
+			again, err := session.Build(ctx, started, func(stage string, f float64) { prog.Report(stage, f) })
+			prog.Done()
+			if err == nil {
+				res = again
+				for _, n := range notes {
+					fmt.Fprintf(stderr, "spotloom recipe: %s: %s\n", path, n)
+				}
+			}
+		}
 	}
 	for _, w := range res.Report.Warnings {
 		if w == recon.WarnNegativeDetector && *from == "" {

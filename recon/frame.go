@@ -51,4 +51,11 @@ type Report struct {
 
 	PulsesMissing int `json:"pulses_missing"` // index pulses filled in
 	PulsesExtra   int `json:"pulses_extra"`   // spurious index pulses ignored
+	// AperturesSuggested is the aperture count the detector's beam-on
+	// stretch implies, taking sweep.field_deg as right, when it differs
+	// from sweep.apertures (found with an automatic delay only), else 0.
+	AperturesSuggested int `json:"apertures_suggested,omitempty"`
+	// PositionLevels is the range of the smoothed position level (or tone
+	// amplitude) seen, in the position channel's unit.
+	PositionLevels []float64 `json:"position_levels,omitempty"`
 }

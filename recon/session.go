@@ -76,6 +76,7 @@ type Session struct {
 	delay           float64
 	delayWarn       []string
 	delayNegative   bool          // the detector's beam-on level lies below its beam-off level
+	delayApertures  int           // aperture count the beam-on fraction implies, 0 when it fits
 	acKey           string        // channel and corner of acDet
 	acDet           []float32     // the detector with its AC coupling undone
 	acStats         *channelStats // statistics of acDet
@@ -168,6 +169,9 @@ func key(v any) string {
 type resolved struct {
 	r  recipe.Recipe
 	ch channels
+	// aperturesSeen is the aperture count the automatic delay's beam-on
+	// stretch implies when it does not fit the recipe, else 0.
+	aperturesSeen int
 }
 
 // Resolve returns a copy of r with every automatic value filled in from
@@ -230,6 +234,7 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 		r.Rows.CarrierHz = recipe.Float(rows.carrier)
 	}
 	progress.report("rows", 1)
+	aperturesSeen := 0
 	if r.Sweep.DelayDeg == nil {
 		progress.report("delay", 0)
 		d, w, err := s.delayStage(ctx, r, ch, t)
@@ -241,12 +246,13 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 		if s.delayNegative && !r.Signal.Invert {
 			warns = append(warns, WarnNegativeDetector)
 		}
+		aperturesSeen = s.delayApertures
 		progress.report("delay", 1)
 	}
 	if r.Image.PitchMM == 0 {
 		r.Image.PitchMM = autoPitch(t, rows, r.Sweep, s.rec.SampleRateHz)
 	}
-	return &resolved{r: r, ch: ch}, warns, nil
+	return &resolved{r: r, ch: ch, aperturesSeen: aperturesSeen}, warns, nil
 }
 
 func (s *Session) timingStage(ctx context.Context, r recipe.Recipe, ch channels) (*timingResult, error) {
@@ -346,7 +352,7 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 	var d float64
 	var w []string
 	var err error
-	s.delayNegative = false
+	s.delayNegative, s.delayApertures = false, 0
 	if sw.Law == "sine" {
 		period := 0.0
 		if sw.SinePeriodS != nil {
@@ -354,7 +360,7 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		}
 		d, w, err = estimateSineDelay(ctx, t, det, sw, period)
 	} else {
-		d, s.delayNegative, w, err = estimateDelay(ctx, t, det, sw, r.Signal.Invert)
+		d, s.delayNegative, s.delayApertures, w, err = estimateDelay(ctx, t, det, sw, r.Signal.Invert)
 	}
 	if err != nil {
 		return 0, nil, err
@@ -537,6 +543,7 @@ func (s *Session) Build(ctx context.Context, r recipe.Recipe, progress Progress)
 func cloneResult(res *Result, r recipe.Recipe) *Result {
 	out := &Result{Report: res.Report, Recipe: r.Clone(), Lines: slices.Clone(res.Lines)}
 	out.Report.Warnings = slices.Clone(res.Report.Warnings)
+	out.Report.PositionLevels = slices.Clone(res.Report.PositionLevels)
 	for _, f := range res.Frames {
 		g := *f
 		g.Pix = slices.Clone(f.Pix)
@@ -612,6 +619,11 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 		Threshold:     t.threshold,
 		Strokes:       len(rows.strokes),
 		PitchMM:       r.Image.PitchMM,
+
+		AperturesSuggested: rs.aperturesSeen,
+	}
+	if r.Rows.Source == "position" || r.Rows.Source == "tone" {
+		rep.PositionLevels = []float64{rows.levelMin, rows.levelMax}
 	}
 	if len(t.revPeriods) > 0 {
 		rpms := make([]float64, len(t.revPeriods))

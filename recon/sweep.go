@@ -234,15 +234,17 @@ func lineWindow(lt lineTiming, n int) (int, int) {
 // Which side is beam-on is told by the spread of the samples in each bin:
 // beam-on bins carry photon noise and scene contrast, beam-off bins only
 // the dark level; when the spread cannot tell, invert (signal.invert)
-// decides. negative reports that the profile was turned over.
-func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep, invert bool) (delay float64, negative bool, warns []string, err error) {
+// decides. negative reports that the profile was turned over, and
+// aperturesSeen the aperture count the beam-on fraction implies when it
+// does not fit the recipe's (taking field_deg as right), else 0.
+func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep, invert bool) (delay float64, negative bool, aperturesSeen int, warns []string, err error) {
 	if len(t.lines) == 0 {
-		return 0, false, nil, fmt.Errorf("no lines to find the delay from")
+		return 0, false, 0, nil, fmt.Errorf("no lines to find the delay from")
 	}
 	spacing := apertureSpacingDeg(s)
 	prof, spread, err := foldLines(ctx, t, det, s)
 	if err != nil {
-		return 0, false, nil, err
+		return 0, false, 0, nil, err
 	}
 	bins := len(prof)
 	fon := s.FieldDeg / spacing
@@ -287,7 +289,7 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		}
 	}
 	if !(on-off > 10*noise) {
-		return 0, false, nil, fmt.Errorf("the detector shows no beam-on stretch within the lines (its mean level against wheel angle stays within %.2g of %.3g): check channels.detector, or set sweep.delay_deg by hand", on-off, off)
+		return 0, false, 0, nil, fmt.Errorf("the detector shows no beam-on stretch within the lines (its mean level against wheel angle stays within %.2g of %.3g): check channels.detector, or set sweep.delay_deg by hand", on-off, off)
 	}
 	mid := (off + on) / 2
 	// The beam-off stretch is the longest circular run below mid; the
@@ -314,7 +316,7 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		bestStart, bestLen = (offStart+offRun)%bins, bins-offRun
 	}
 	if bestStart < 0 || bestLen >= bins {
-		return 0, false, nil, fmt.Errorf("the detector shows no beam-off stretch within the lines: set sweep.delay_deg by hand, or check sweep.apertures")
+		return 0, false, 0, nil, fmt.Errorf("the detector shows no beam-off stretch within the lines: set sweep.delay_deg by hand, or check sweep.apertures")
 	}
 	binDeg := spacing / float64(bins)
 	// Crossing between bin bestStart-1 (below) and bestStart (above); bin
@@ -386,13 +388,16 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		// recipe says; if field_deg is right, that fraction gives the
 		// wheel's real aperture count.
 		guess := int(math.Round(360 * (width / spacing) / s.FieldDeg))
+		if guess >= 1 && guess != s.Apertures {
+			aperturesSeen = guess
+		}
 		hint := ""
 		if guess >= 1 && guess != s.Apertures {
 			hint = fmt.Sprintf(" (if field_deg is right, the wheel has %d apertures)", guess)
 		}
 		warns = append(warns, fmt.Sprintf("the detector's beam-on stretch lasts %.1f° of wheel rotation but sweep.field_deg is %g°: check field_deg and apertures%s, or set sweep.delay_deg by hand", width, s.FieldDeg, hint))
 	}
-	return delay, negative, warns, nil
+	return delay, negative, aperturesSeen, warns, nil
 }
 
 // estimateSineDelay finds the phase delay of a resonant mirror by making

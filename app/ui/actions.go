@@ -95,7 +95,10 @@ func (ws *Workstation) OpenFileWith(path string, copts capture.Options, r *recip
 func (ws *Workstation) openWith(path string, copts capture.Options, given *recipe.Recipe) {
 	open, newEngine := ws.openFunc(), ws.engineFunc()
 	current := cloneRecipe(ws.cur.Recipe)
-	haveCurrent := ws.result != nil
+	// The settings of another capture of the same rig are a good start;
+	// those of the built-in demo are not (its rig is not the user's).
+	haveCurrent := ws.result != nil && ws.sourcePath != ""
+	currentName := ws.sourceName
 	var givenCopy *recipe.Recipe
 	if given != nil {
 		c := cloneRecipe(*given)
@@ -110,24 +113,35 @@ func (ws *Workstation) openWith(path string, copts capture.Options, given *recip
 		eng := newEngine(rec)
 		var tries []recipeTry
 		if givenCopy != nil {
-			tries = append(tries, recipeTry{*givenCopy, "the recipe given"})
+			tries = append(tries, recipeTry{recipe: *givenCopy, note: "the recipe given"})
 		} else {
 			side := strings.TrimSuffix(path, filepath.Ext(path)) + ".recipe.json"
 			if sr, err := recipe.Load(side); err == nil {
-				tries = append(tries, recipeTry{sr, "the recipe saved beside the capture (" + filepath.Base(side) + ")"})
+				tries = append(tries, recipeTry{recipe: sr, note: "the recipe saved beside the capture (" + filepath.Base(side) + ")"})
 			}
 			if haveCurrent {
-				tries = append(tries, recipeTry{withGuessedRoles(current, rec), "the current settings with channel roles guessed from the capture"})
+				tries = append(tries, recipeTry{recipe: withGuessedRoles(forNewCapture(current), rec), note: "the rig settings of " + currentName + " with channel roles guessed from the capture (offsets, delay and threshold found anew)"})
 			}
 			tries = append(tries,
-				recipeTry{withGuessedRoles(recipe.Default(), rec), "starting settings with channel roles guessed from the capture"},
-				recipeTry{withGuessedRoles(sampledata.DemoRecipe(), rec), "the built-in demo rig's settings with channel roles guessed from the capture"})
+				recipeTry{recipe: withGuessedRoles(recipe.Default(), rec), note: "starting settings with channel roles guessed from the capture", start: true},
+				recipeTry{recipe: withGuessedRoles(sampledata.DemoRecipe(), rec), note: "the built-in demo rig's settings with channel roles guessed from the capture", start: true})
 		}
 		var firstErr error
 		for _, t := range tries {
 			res, err := eng.Build(ctx, t.recipe, progress)
 			if err == nil {
-				return &opened{rec: rec, engine: eng, recipe: t.recipe, result: res, path: path, name: filepath.Base(path), note: t.note}, nil
+				r, note := t.recipe, t.note
+				if t.start {
+					// Nobody has described this capture: take the aperture
+					// count and a calibration from what the first build saw.
+					if started, notes := recon.Start(t.recipe, res.Report); len(notes) > 0 {
+						if again, err := eng.Build(ctx, started, progress); err == nil {
+							r, res = started, again
+							note += "; " + strings.Join(notes, "; ")
+						}
+					}
+				}
+				return &opened{rec: rec, engine: eng, recipe: r, result: res, path: path, name: filepath.Base(path), note: note}, nil
 			}
 			if ctx.Err() != nil {
 				return nil, ctx.Err()
@@ -140,9 +154,25 @@ func (ws *Workstation) openWith(path string, copts capture.Options, given *recip
 	}, path)
 }
 
+// forNewCapture keeps the rig's settings of r (wheel, field, distance,
+// calibration, pitch) and sets back to automatic what belongs to one
+// capture: the delay, the index threshold, the aperture offsets (aperture
+// 0 is whichever comes first in each capture), the sine period and the
+// carrier.
+func forNewCapture(r recipe.Recipe) recipe.Recipe {
+	r = cloneRecipe(r)
+	r.Sweep.DelayDeg = nil
+	r.Sweep.ApertureOffsetsDeg = []float64{}
+	r.Sweep.SinePeriodS = nil
+	r.Timing.Threshold, r.Timing.Hysteresis = nil, nil
+	r.Rows.CarrierHz = nil
+	return r
+}
+
 type recipeTry struct {
 	recipe recipe.Recipe
 	note   string
+	start  bool // settings made up for a capture nobody has described
 }
 
 // buildFailed marks a capture that was read but would not build.

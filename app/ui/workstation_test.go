@@ -22,6 +22,7 @@ import (
 	"spotloom/recon"
 	"spotloom/recon/export"
 	"spotloom/recon/recipe"
+	"spotloom/sampledata"
 )
 
 // newTestWorkstation opens the demo in a headless window.
@@ -578,5 +579,48 @@ func TestEvenSpeedControl(t *testing.T) {
 		if want := span / f.PitchYMM; math.Abs(float64(f.Height)-want) > 3 {
 			t.Errorf("%g mm/s: frame %d rows high, want about v·T/pitch = %.1f", v, f.Height, want)
 		}
+	}
+}
+
+// TestNewCaptureStartsFresh: a capture opened after the demo does not take
+// the demo's aperture offsets or calibration. With nothing known about it,
+// the first build's findings set the aperture count (6: the demo rig's
+// wheel, which the simulated file was made with) and a calibration that
+// spans the position levels seen.
+func TestNewCaptureStartsFresh(t *testing.T) {
+	ws, _ := newTestWorkstation(t)
+	ws.controls.offsets[2].typed("1.5")
+	ws.Wait()
+	rig := sampledata.DemoRig()
+	rec, _, err := sampledata.Simulate(context.Background(), rig, "dot-grid", sampledata.SimOptions{Seed: 8, DurationS: 8})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	if err := capture.WriteWAV(&buf, rec, "int16"); err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "grid.wav")
+	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	ws.OpenFile(path, nil)
+	ws.Wait()
+	if p := ws.Problem(); p != "" {
+		t.Fatalf("open: %s", p)
+	}
+	r := ws.result.Recipe
+	if r.Sweep.Apertures != 6 {
+		t.Errorf("apertures %d, want the 6 the beam-on stretch implies", r.Sweep.Apertures)
+	}
+	for _, o := range r.Sweep.ApertureOffsetsDeg {
+		if o == 1.5 {
+			t.Errorf("the demo's offsets were carried over: %v", r.Sweep.ApertureOffsetsDeg)
+		}
+	}
+	lv := ws.result.Report.PositionLevels
+	cal := r.Rows.Calibration
+	if len(lv) != 2 || len(cal) != 2 || math.Abs(cal[0][0]-lv[0]) > 1e-9 || math.Abs(cal[1][0]-lv[1]) > 1e-9 {
+		t.Errorf("calibration %v does not span the levels seen %v", cal, lv)
 	}
 }
