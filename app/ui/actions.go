@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"sync"
@@ -136,6 +137,7 @@ func (ws *Workstation) openWith(path string, copts capture.Options, given *recip
 					// count and a calibration from what the first build saw.
 					if started, notes := recon.Start(t.recipe, res.Report); len(notes) > 0 {
 						if again, err := eng.Build(ctx, started, progress); err == nil {
+							again.Report.Warnings = append(slices.Clone(notes), again.Report.Warnings...)
 							r, res = started, again
 							note += "; " + strings.Join(notes, "; ")
 						}
