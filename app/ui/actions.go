@@ -565,7 +565,6 @@ func (ws *Workstation) updateUndo() {
 	if ws.menuUndo != nil {
 		ws.menuUndo.Disabled = !ws.hist.canUndo()
 		ws.menuRedo.Disabled = !ws.hist.canRedo()
-		ws.menuRedo2.Disabled = !ws.hist.canRedo()
 		ws.mainMenu.Refresh()
 	}
 }
@@ -616,7 +615,11 @@ func (ws *Workstation) EstimateOffsets() {
 func formatList(v []float64, format string) string {
 	parts := make([]string, len(v))
 	for i, x := range v {
-		parts[i] = fmt.Sprintf(format, x)
+		// "-0.00" reads as a sign that means nothing.
+		parts[i] = strings.Replace(fmt.Sprintf(format, x), "-0.00", "0.00", 1)
+		if parts[i] == "-0" {
+			parts[i] = "0"
+		}
 	}
 	return strings.Join(parts, ", ")
 }

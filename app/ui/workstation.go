@@ -79,7 +79,6 @@ type Workstation struct {
 	redoButton  *widget.Button
 	menuUndo    *fyne.MenuItem
 	menuRedo    *fyne.MenuItem
-	menuRedo2   *fyne.MenuItem
 	recentMenu  *fyne.MenuItem
 	mainMenu    *fyne.MainMenu
 	leftBox     *fyne.Container
@@ -242,9 +241,8 @@ func (ws *Workstation) buildMenu() {
 	ws.refreshRecentMenu()
 	ws.menuUndo = item("Undo", &fyne.ShortcutUndo{}, ws.Undo)
 	ws.menuRedo = item("Redo", &fyne.ShortcutRedo{}, ws.Redo)
-	// Both common redo keys; the second entry is labelled apart so the
-	// menu does not show the same name twice.
-	ws.menuRedo2 = item("Redo (other key)", short(fyne.KeyZ, ctrl|fyne.KeyModifierShift), ws.Redo)
+	// The other common redo key works too, without a second menu entry.
+	ws.win.Canvas().AddShortcut(short(fyne.KeyZ, ctrl|fyne.KeyModifierShift), func(fyne.Shortcut) { ws.Redo() })
 	file := fyne.NewMenu("File",
 		item("Open capture…", short(fyne.KeyO, ctrl), ws.ChooseCapture),
 		ws.recentMenu,
@@ -257,7 +255,6 @@ func (ws *Workstation) buildMenu() {
 	)
 	edit := fyne.NewMenu("Edit",
 		ws.menuUndo, ws.menuRedo,
-		ws.menuRedo2,
 		fyne.NewMenuItemSeparator(),
 		item("Estimate aperture offsets", short(fyne.KeyK, ctrl), ws.EstimateOffsets),
 		item("Automatic tone", short(fyne.KeyT, ctrl), ws.AutoTone),
