@@ -130,11 +130,6 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	for _, w := range res.Report.Warnings {
-		if w == recon.WarnNegativeDetector && *from == "" {
-			res.Recipe.Signal.Invert = true
-			fmt.Fprintf(stderr, "spotloom recipe: %s: the detector is negative-going: signal.invert is set, so more scatter shows brighter\n", path)
-			continue
-		}
 		fmt.Fprintf(stderr, "spotloom recipe: %s: %s\n", path, w)
 	}
 	if *outPath != "" {

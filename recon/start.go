@@ -16,9 +16,9 @@ const assumedTravelMM = 400
 // Start adjusts a recipe made from defaults to what a trial build of the
 // capture found, for a first look at a capture nobody has described yet:
 // the aperture count the beam-on stretch implies for the field (taking
-// sweep.field_deg as right), and, when rows.calibration misses most of the
-// position levels seen, a calibration that spans them over an assumed
-// 400 mm of travel. It returns the adjusted recipe and one note for each
+// sweep.field_deg as right), signal.invert for a negative-going detector,
+// and, when rows.calibration misses most of the position levels seen, a
+// calibration that spans them over an assumed 400 mm of travel. It returns the adjusted recipe and one note for each
 // change, saying what to measure instead; with no notes, r is unchanged.
 func Start(r recipe.Recipe, rep Report) (recipe.Recipe, []string) {
 	out := r.Clone()
@@ -31,6 +31,10 @@ func Start(r recipe.Recipe, rep Report) (recipe.Recipe, []string) {
 		out.Sweep.ApertureOffsetsDeg = []float64{}
 		out.Sweep.DelayDeg = nil
 		notes = append(notes, fmt.Sprintf("sweep.apertures is set to %d, the count the beam-on stretch implies for a %g° field: check it against the wheel", n, r.Sweep.FieldDeg))
+	}
+	if slices.Contains(rep.Warnings, WarnNegativeDetector) && !r.Signal.Invert {
+		out.Signal.Invert = true
+		notes = append(notes, "the detector is negative-going: signal.invert is set, so more scatter shows brighter")
 	}
 	if lv := rep.PositionLevels; len(lv) == 2 && lv[1] > lv[0] && len(r.Rows.Calibration) >= 2 {
 		cal := slices.Clone(r.Rows.Calibration)
