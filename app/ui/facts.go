@@ -52,9 +52,6 @@ func newFactsPanel() *factsPanel {
 
 func (p *factsPanel) object() fyne.CanvasObject { return p.box }
 
-// value returns the text shown for a fact, for tests.
-func (p *factsPanel) value(name string) string { return p.values[name].Text }
-
 func (p *factsPanel) show(rep recon.Report, rec *capture.Recording) {
 	set := func(name, text string) { p.values[name].SetText(text) }
 	set("Lines", fmt.Sprint(rep.Lines))

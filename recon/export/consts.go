@@ -26,10 +26,6 @@ const (
 	typeFLOAT    = 11 // IEEE single precision (4 bytes)
 )
 
-// tiffTypeSize is the size in bytes of one value of each field type
-// (TIFF 6.0 Section 2).
-var tiffTypeSize = map[uint16]uint32{typeASCII: 1, typeSHORT: 2, typeLONG: 4, typeRATIONAL: 8, typeFLOAT: 4}
-
 // TIFF tags.
 const (
 	tagNewSubfileType            = 254 // Section 8 (Baseline Field Reference Guide)
