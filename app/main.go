@@ -69,7 +69,7 @@ func newFlagSet(name, synopsis, description string, stderr io.Writer) *flag.Flag
 }
 
 // parseFlags parses args, allowing flags after positional arguments
-// ("spotloom probe FILE --json"). It returns the positional arguments.
+// ("spotloom inspect FILE --json"). It returns the positional arguments.
 func parseFlags(fs *flag.FlagSet, args []string) ([]string, error) {
 	// The flag package prints its error and the whole usage on a bad flag;
 	// keep it quiet so the error is one line, and show the usage only when

@@ -28,7 +28,7 @@ uses FILE-without-extension.recipe.json when it exists, else settings with the
 channel roles guessed from the capture.
 
 The capture flags (--rate, --layout, --raw ...) say how to read FILE, as
-for "spotloom probe": a CSV without a time column needs --rate.
+for "spotloom inspect": a CSV without a time column needs --rate.
 
 With --snapshot the window is rendered without a display (software renderer)
 to a PNG once the first image is built, and the command exits: for

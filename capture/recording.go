@@ -20,7 +20,7 @@ type Channel struct {
 	Samples []float32
 }
 
-// Source says where a Recording came from, for reports and the probe.
+// Source says where a Recording came from, for reports and inspect.
 type Source struct {
 	Path       string // file path, or "" for an in-memory capture
 	Format     string // "wav", "csv", "raw" or "memory"

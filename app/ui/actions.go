@@ -298,11 +298,11 @@ func (ws *Workstation) openFailed(path string, err error) {
 		var bf *buildFailed
 		if errors.As(err, &bf) {
 			ws.showProblem("Cannot build "+name, "The capture was read, but no image could be formed from it "+err.Error()+".",
-				"give a recipe that matches the rig (spotloom open FILE --recipe R.json, or Load recipe… after opening); `spotloom probe FILE` lists the channels and the guessed roles."+ws.stillShown())
+				"give a recipe that matches the rig (spotloom open FILE --recipe R.json, or Load recipe… after opening); `spotloom inspect FILE` lists the channels and the guessed roles."+ws.stillShown())
 			return
 		}
 		ws.showProblem("Cannot open "+name, err.Error(),
-			"make sure the file is a WAV, CSV or raw capture that is complete; `spotloom probe FILE` shows what Spotloom sees in it."+ws.stillShown())
+			"make sure the file is a WAV, CSV or raw capture that is complete; `spotloom inspect FILE` shows what Spotloom sees in it."+ws.stillShown())
 	}
 }
 

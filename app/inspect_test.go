@@ -14,9 +14,9 @@ import (
 
 const captureFixtures = "../testdata/capture"
 
-// TestProbeBadFiles runs "spotloom probe" on every broken fixture: exit
+// TestInspectBadFiles runs "spotloom inspect" on every broken fixture: exit
 // status 1 and exactly one line on stderr naming the file and the place.
-func TestProbeBadFiles(t *testing.T) {
+func TestInspectBadFiles(t *testing.T) {
 	dir := t.TempDir()
 	places := map[string]string{
 		"truncated.wav": "byte 36", "truncated_header.wav": "byte 12", "claims_more.wav": "byte 36",
@@ -30,27 +30,27 @@ func TestProbeBadFiles(t *testing.T) {
 	for name, place := range places {
 		path := filepath.Join(captureFixtures, "bad", name)
 		var stdout, stderr bytes.Buffer
-		code := run([]string{"probe", path}, &stdout, &stderr)
+		code := run([]string{"inspect", path}, &stdout, &stderr)
 		msg := stderr.String()
 		if code != 1 || strings.Count(msg, "\n") != 1 || !strings.Contains(msg, path) || !strings.Contains(msg, place) || stdout.Len() != 0 {
 			t.Errorf("%s: exit %d, stderr %q, stdout %q; want exit 1 and one line naming the file and %q", name, code, msg, stdout.String(), place)
 		}
 	}
 	var stdout, stderr bytes.Buffer
-	if code := run([]string{"probe", dir}, &stdout, &stderr); code != 1 || !strings.Contains(stderr.String(), "is a directory") {
+	if code := run([]string{"inspect", dir}, &stdout, &stderr); code != 1 || !strings.Contains(stderr.String(), "is a directory") {
 		t.Errorf("directory: exit %d, %q", code, stderr.String())
 	}
-	if code := run([]string{"probe"}, &stdout, &stderr); code != 2 {
+	if code := run([]string{"inspect"}, &stdout, &stderr); code != 2 {
 		t.Errorf("no file: exit %d, want 2 (usage)", code)
 	}
 }
 
-// TestProbeJSON checks the JSON keys and the statistics against sums done
+// TestInspectJSON checks the JSON keys and the statistics against sums done
 // here in float64 over the fixture's known samples.
-func TestProbeJSON(t *testing.T) {
+func TestInspectJSON(t *testing.T) {
 	path := filepath.Join(captureFixtures, "pcm_s16_stereo.wav")
 	var stdout, stderr bytes.Buffer
-	if code := run([]string{"probe", path, "--json"}, &stdout, &stderr); code != 0 {
+	if code := run([]string{"inspect", path, "--json"}, &stdout, &stderr); code != 0 {
 		t.Fatalf("exit %d: %s", code, stderr.String())
 	}
 	var keys map[string]json.RawMessage
@@ -101,8 +101,8 @@ func TestProbeJSON(t *testing.T) {
 	}
 }
 
-// TestProbeRawFlags reads a raw file with the layout given as flags.
-func TestProbeRawFlags(t *testing.T) {
+// TestInspectRawFlags reads a raw file with the layout given as flags.
+func TestInspectRawFlags(t *testing.T) {
 	dir := t.TempDir()
 	path := filepath.Join(dir, "dump.dat")
 	// three frames of two little-endian int16 channels: 16384 = 0.5 FS
@@ -111,7 +111,7 @@ func TestProbeRawFlags(t *testing.T) {
 		t.Fatal(err)
 	}
 	var stdout, stderr bytes.Buffer
-	code := run([]string{"probe", path, "--raw", "int16", "--channels", "2", "--rate", "1000", "--json"}, &stdout, &stderr)
+	code := run([]string{"inspect", path, "--raw", "int16", "--channels", "2", "--rate", "1000", "--json"}, &stdout, &stderr)
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, stderr.String())
 	}
@@ -124,14 +124,14 @@ func TestProbeRawFlags(t *testing.T) {
 	if rep.Frames != 3 || rep.Channels[0].Min != -1 || rep.Channels[0].Max != 0.5 || rep.Channels[1].Max != 32767.0/32768 {
 		t.Fatalf("%s", stdout.String())
 	}
-	if code := run([]string{"probe", path, "--raw", "int16", "--channels", "5", "--rate", "1000"}, &stdout, &stderr); code != 1 {
+	if code := run([]string{"inspect", path, "--raw", "int16", "--channels", "5", "--rate", "1000"}, &stdout, &stderr); code != 1 {
 		t.Errorf("12 bytes as 5 int16 channels: exit %d, want 1", code)
 	}
 }
 
-func TestProbeTable(t *testing.T) {
+func TestInspectTable(t *testing.T) {
 	var stdout, stderr bytes.Buffer
-	if code := run([]string{"probe", filepath.Join(captureFixtures, "scope.csv")}, &stdout, &stderr); code != 0 {
+	if code := run([]string{"inspect", filepath.Join(captureFixtures, "scope.csv")}, &stdout, &stderr); code != 0 {
 		t.Fatalf("exit %d: %s", code, stderr.String())
 	}
 	out := stdout.String()
@@ -145,7 +145,7 @@ func TestProbeTable(t *testing.T) {
 // TestBadUsageIsOneLine: an unknown flag or a bad flag value is one line on
 // stderr and exit 2, not the whole help; --help still prints the help.
 func TestBadUsageIsOneLine(t *testing.T) {
-	for _, args := range [][]string{{"build", "--bogus"}, {"probe", "--rate", "abc", "x.wav"}, {"simulate", "--seconds", "x"}} {
+	for _, args := range [][]string{{"build", "--bogus"}, {"inspect", "--rate", "abc", "x.wav"}, {"simulate", "--seconds", "x"}} {
 		var stdout, stderr bytes.Buffer
 		code := run(args, &stdout, &stderr)
 		if code != 2 || strings.Count(stderr.String(), "\n") != 1 {
@@ -153,7 +153,7 @@ func TestBadUsageIsOneLine(t *testing.T) {
 		}
 	}
 	var stdout, stderr bytes.Buffer
-	if code := run([]string{"probe", "--help"}, &stdout, &stderr); code != 0 || !strings.Contains(stderr.String(), "usage: spotloom probe") || !strings.Contains(stderr.String(), "-json") {
+	if code := run([]string{"inspect", "--help"}, &stdout, &stderr); code != 0 || !strings.Contains(stderr.String(), "usage: spotloom inspect") || !strings.Contains(stderr.String(), "-json") {
 		t.Errorf("--help: exit %d, %q", code, stderr.String())
 	}
 }
@@ -171,5 +171,19 @@ func TestRecipeErrorsAreOneLine(t *testing.T) {
 	msg := stderr.String()
 	if code != 1 || strings.Count(msg, "\n") != 1 || !strings.Contains(msg, "sweep.field_deg") || !strings.Contains(msg, "sweep.projection") {
 		t.Errorf("exit %d, stderr %q; want exit 1, one line naming both keys", code, msg)
+	}
+}
+
+// TestInspectIsTheName: the command that lists a capture's channels is
+// "inspect"; the old name is an unknown command (exit 2), and the command
+// list shows the new one.
+func TestInspectIsTheName(t *testing.T) {
+	var stdout, stderr bytes.Buffer
+	if code := run([]string{"probe", filepath.Join(captureFixtures, "scope.csv")}, &stdout, &stderr); code != 2 || !strings.Contains(stderr.String(), `unknown command "probe"`) {
+		t.Errorf("probe: exit %d, %q; want exit 2, unknown command", code, stderr.String())
+	}
+	stdout.Reset()
+	if code := run([]string{"help"}, &stdout, &stderr); code != 0 || !strings.Contains(stdout.String(), "  inspect ") || strings.Contains(stdout.String(), "probe") {
+		t.Errorf("help: exit %d, %q; want inspect listed and no probe", code, stdout.String())
 	}
 }

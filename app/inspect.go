@@ -12,9 +12,9 @@ import (
 
 func init() {
 	register(command{
-		name:    "probe",
+		name:    "inspect",
 		summary: "show a capture's format, rate, duration, channel statistics and guessed roles",
-		run:     runProbe,
+		run:     runInspect,
 	})
 }
 
@@ -80,8 +80,8 @@ func (cf *captureFlags) options() (capture.Options, error) {
 	return opts, nil
 }
 
-// probeChannel is one channel in the probe's JSON output.
-type probeChannel struct {
+// inspectChannel is one channel in inspect's JSON output.
+type inspectChannel struct {
 	Name           string  `json:"name"`
 	Unit           string  `json:"unit"`
 	Min            float64 `json:"min"`
@@ -92,20 +92,20 @@ type probeChannel struct {
 	RoleConfidence float64 `json:"role_confidence"`
 }
 
-// probeReport is the probe's JSON output.
-type probeReport struct {
-	Format       string         `json:"format"`
-	SampleType   string         `json:"sample_type"`
-	SampleRateHz float64        `json:"sample_rate_hz"`
-	Frames       int            `json:"frames"`
-	DurationS    float64        `json:"duration_s"`
-	Channels     []probeChannel `json:"channels"`
-	Warnings     []string       `json:"warnings"`
+// inspectReport is inspect's JSON output.
+type inspectReport struct {
+	Format       string           `json:"format"`
+	SampleType   string           `json:"sample_type"`
+	SampleRateHz float64          `json:"sample_rate_hz"`
+	Frames       int              `json:"frames"`
+	DurationS    float64          `json:"duration_s"`
+	Channels     []inspectChannel `json:"channels"`
+	Warnings     []string         `json:"warnings"`
 }
 
-func runProbe(args []string, stdout, stderr io.Writer) error {
-	fs := newFlagSet("probe", "probe FILE [--json] [--rate HZ] [--layout L.json | --raw TYPE --channels N ...]", `
-Probe reads a capture (WAV, CSV or raw binary with a layout) and prints its
+func runInspect(args []string, stdout, stderr io.Writer) error {
+	fs := newFlagSet("inspect", "inspect FILE [--json] [--rate HZ] [--layout L.json | --raw TYPE --channels N ...]", `
+Inspect reads a capture (WAV, CSV or raw binary with a layout) and prints its
 format, sample type, sample rate, number of frames, duration, and for each
 channel its name, unit, minimum, maximum, mean, RMS and the role Spotloom
 guesses for it (detector, index, position, steps or unknown) with a
@@ -130,19 +130,19 @@ confidence from 0 to 1.`, stderr)
 	if err != nil {
 		return err
 	}
-	report := probeReport{
+	report := inspectReport{
 		Format:       rec.Source.Format,
 		SampleType:   rec.Source.SampleType,
 		SampleRateHz: rec.SampleRateHz,
 		Frames:       rec.Frames(),
 		DurationS:    rec.DurationS(),
-		Channels:     []probeChannel{},
+		Channels:     []inspectChannel{},
 		Warnings:     append([]string{}, rec.Warnings...),
 	}
 	roles := capture.GuessRoles(rec)
 	for c, ch := range rec.Channels {
 		st := ch.Stats()
-		report.Channels = append(report.Channels, probeChannel{Name: ch.Name, Unit: ch.Unit, Min: st.Min, Max: st.Max,
+		report.Channels = append(report.Channels, inspectChannel{Name: ch.Name, Unit: ch.Unit, Min: st.Min, Max: st.Max,
 			Mean: st.Mean, RMS: st.RMS, Role: roles[c].Role, RoleConfidence: roles[c].Confidence})
 	}
 	if *asJSON {
