@@ -163,20 +163,7 @@ func (t *TraceStrip) placeWindow() {
 		return
 	}
 	l := t.lines[t.chosen]
-	period := 0.0
-	if t.chosen+1 < len(t.lines) {
-		period = t.lines[t.chosen+1].EdgeS - l.EdgeS
-	} else if t.chosen > 0 {
-		period = l.EdgeS - t.lines[t.chosen-1].EdgeS
-	}
-	if !(period > 0) {
-		period = math.Max(l.FieldEndS-l.EdgeS, 1e-3)
-	}
-	start := math.Min(l.EdgeS, l.BaselineStartS)
-	end := math.Max(l.EdgeS+period, l.FieldEndS)
-	if l.BaselineEndS > end && l.BaselineEndS-l.EdgeS < 3*period {
-		end = l.BaselineEndS
-	}
+	start, end := lineSpan(t.lines, t.chosen)
 	margin := 0.12 * (end - start)
 	t.windowFrom, t.windowTo = start-margin, end+margin
 	repaired := ""
@@ -186,6 +173,39 @@ func (t *TraceStrip) placeWindow() {
 	t.caption = fmt.Sprintf("Line %d of %d · aperture %d · stroke %d · edge at %.4f s%s · field %.2f–%.2f ms after the edge · y %.1f mm",
 		l.Number, len(t.lines), l.Aperture, l.Stroke, l.EdgeS, repaired,
 		1000*(l.FieldStartS-l.EdgeS), 1000*(l.FieldEndS-l.EdgeS), l.YMM)
+}
+
+// hasBaseline says whether the line has a beam-off interval (the sine law
+// has none, and leaves both ends at zero).
+func (l Line) hasBaseline() bool { return l.BaselineEndS > l.BaselineStartS }
+
+// lineSpan is the time span that shows line i whole: its index edge, its
+// field, its baseline when it has one nearby, and the next distinct edge
+// (lines of one mirror period share an edge, so "next" skips equal ones).
+func lineSpan(lines []Line, i int) (start, end float64) {
+	l := lines[i]
+	period := 0.0
+	for j := i + 1; j < len(lines); j++ {
+		if d := lines[j].EdgeS - l.EdgeS; d > 0 {
+			period = d
+			break
+		}
+	}
+	for j := i - 1; j >= 0 && !(period > 0); j-- {
+		period = l.EdgeS - lines[j].EdgeS
+	}
+	if !(period > 0) {
+		period = math.Max(math.Abs(l.FieldEndS-l.EdgeS), 1e-3)
+	}
+	start = math.Min(l.EdgeS, l.FieldStartS)
+	end = math.Max(l.EdgeS+period, l.FieldEndS)
+	if l.hasBaseline() && l.EdgeS-l.BaselineStartS < 3*period {
+		start = math.Min(start, l.BaselineStartS)
+		if l.BaselineEndS-l.EdgeS < 3*period {
+			end = math.Max(end, l.BaselineEndS)
+		}
+	}
+	return start, end
 }
 
 // CreateRenderer makes the strip's renderer.
@@ -275,27 +295,23 @@ func (r *traceRenderer) paint(w, h int) image.Image {
 	lo := sort.Search(len(s.lines), func(i int) bool { return s.lines[i].EdgeS >= t0-(t1-t0) })
 	for i := lo; i < len(s.lines) && s.lines[i].EdgeS <= t1+(t1-t0); i++ {
 		l := s.lines[i]
-		shade(img, toX(l.BaselineStartS), toX(l.BaselineEndS), 0, h, traceBaseline)
+		if l.hasBaseline() {
+			shade(img, toX(l.BaselineStartS), toX(l.BaselineEndS), 0, h, traceBaseline)
+			// Solid bars along the top say the same where the traces cover the bands.
+			shade(img, toX(l.BaselineStartS), toX(l.BaselineEndS), 0, 3, traceBaseBar)
+		}
 		shade(img, toX(l.FieldStartS), toX(l.FieldEndS), 0, h, traceField)
-		// Solid bars along the top say the same where the traces cover the bands.
-		shade(img, toX(l.BaselineStartS), toX(l.BaselineEndS), 0, 3, traceBaseBar)
 		shade(img, toX(l.FieldStartS), toX(l.FieldEndS), 3, 6, traceFieldBar)
 	}
 	for lane := 1; lane < 3; lane++ {
 		hline(img, 0, w, lane*laneH, traceLaneEdge)
 	}
 
-	frames := s.rec.Frames()
 	for lane, tl := range s.lanes {
 		if tl.channel < 0 || tl.channel >= len(s.rec.Channels) {
 			continue
 		}
 		samples := s.rec.Channels[tl.channel].Samples
-		i0 := max(int(math.Floor(t0*s.rec.SampleRateHz)), 0)
-		i1 := min(int(math.Ceil(t1*s.rec.SampleRateHz)), frames-1)
-		if i1 <= i0 {
-			continue
-		}
 		vmin, vmax := s.ranges[lane][0], s.ranges[lane][1]
 		if lane == 1 && s.hasThresh {
 			vmin, vmax = math.Min(vmin, s.threshold), math.Max(vmax, s.threshold)
@@ -315,11 +331,10 @@ func (r *traceRenderer) paint(w, h int) image.Image {
 		}
 		prevLo, prevHi := -1, -1
 		for x := 0; x < w; x++ {
-			a := int(math.Floor((t0 + (t1-t0)*float64(x)/float64(w)) * s.rec.SampleRateHz))
-			b := int(math.Floor((t0 + (t1-t0)*float64(x+1)/float64(w)) * s.rec.SampleRateHz))
-			a, b = max(a, 0), min(max(b, a+1), frames)
-			if a >= frames {
-				break
+			a, b, ok := columnSamples(x, w, t0, t1, s.rec.SampleRateHz, len(samples))
+			if !ok {
+				prevLo, prevHi = -1, -1
+				continue
 			}
 			mn, mx := samples[a], samples[a]
 			for _, v := range samples[a:b] {
@@ -351,6 +366,23 @@ func (r *traceRenderer) paint(w, h int) image.Image {
 		}
 	}
 	return img
+}
+
+// columnSamples is the span [a, b) of sample indices that screen column x
+// of w covers when the strip shows t0…t1 seconds; ok is false when the
+// column lies wholly before the first or after the last sample. The window
+// may start before the capture (a line near its start) or end after it.
+func columnSamples(x, w int, t0, t1, rateHz float64, frames int) (a, b int, ok bool) {
+	from := (t0 + (t1-t0)*float64(x)/float64(w)) * rateHz
+	to := (t0 + (t1-t0)*float64(x+1)/float64(w)) * rateHz
+	if !(to > 0) || !(from < float64(frames)) || frames <= 0 {
+		return 0, 0, false
+	}
+	a = int(math.Floor(math.Max(from, 0)))
+	b = int(math.Floor(math.Min(to, float64(frames))))
+	a = min(a, frames-1)
+	b = min(max(b, a+1), frames)
+	return a, b, true
 }
 
 func blend(dst []uint8, c color.NRGBA) {
