@@ -78,10 +78,10 @@ func TestTraceStripPaintsWindowsOutsideTheCapture(t *testing.T) {
 		{Name: "det", Samples: samples}, {Name: "idx", Samples: samples},
 	}}
 	lines := []Line{
-		{EdgeS: 0, FieldStartS: -0.02, FieldEndS: 0.01},                                          // before the start
+		{EdgeS: 0, FieldStartS: -0.02, FieldEndS: 0.01},                                             // before the start
 		{EdgeS: 0.05, FieldStartS: 0.05, FieldEndS: 0.07, BaselineStartS: 0.04, BaselineEndS: 0.05}, // inside
-		{EdgeS: 0.099, FieldStartS: 0.1, FieldEndS: 0.3},                                          // past the end
-		{EdgeS: 5, FieldStartS: 5, FieldEndS: 5.01},                                               // no sample at all
+		{EdgeS: 0.099, FieldStartS: 0.1, FieldEndS: 0.3},                                            // past the end
+		{EdgeS: 5, FieldStartS: 5, FieldEndS: 5.01},                                                 // no sample at all
 	}
 	strip := NewTraceStrip()
 	strip.SetData(rec, 0, 1, -1, lines, math.NaN())
@@ -108,16 +108,16 @@ func TestColumnSamples(t *testing.T) {
 		a, b   int
 		ok     bool
 	}{
-		{0, 10, 0, 0.1, 0, 10, true},         // 10 samples per column
-		{9, 10, 0, 0.1, 90, 100, true},       // the last column ends at the last sample
-		{0, 10, -0.1, 0.1, 0, 0, false},      // −0.1…−0.08 s: before the capture
-		{5, 10, -0.1, 0.1, 0, 20, true},      // 0…0.02 s
-		{4, 10, -0.1, 0.1, 0, 0, false},      // −0.02…0 s ends where the capture begins
-		{9, 10, 0.05, 0.25, 0, 0, false},     // 0.23…0.25 s: after the end
-		{2, 10, 0.05, 0.25, 90, 100, true},   // 0.09…0.11 s, clipped at the end
-		{0, 1000, 0, 0.01, 0, 1, true},       // many columns per sample: at least one sample
-		{3, 4, math.NaN(), 1, 0, 0, false},   // an unknown window covers nothing
-		{0, 4, 0, math.Inf(1), 0, 0, false},  // nor does an endless one
+		{0, 10, 0, 0.1, 0, 10, true},        // 10 samples per column
+		{9, 10, 0, 0.1, 90, 100, true},      // the last column ends at the last sample
+		{0, 10, -0.1, 0.1, 0, 0, false},     // −0.1…−0.08 s: before the capture
+		{5, 10, -0.1, 0.1, 0, 20, true},     // 0…0.02 s
+		{4, 10, -0.1, 0.1, 0, 0, false},     // −0.02…0 s ends where the capture begins
+		{9, 10, 0.05, 0.25, 0, 0, false},    // 0.23…0.25 s: after the end
+		{2, 10, 0.05, 0.25, 90, 100, true},  // 0.09…0.11 s, clipped at the end
+		{0, 1000, 0, 0.01, 0, 1, true},      // many columns per sample: at least one sample
+		{3, 4, math.NaN(), 1, 0, 0, false},  // an unknown window covers nothing
+		{0, 4, 0, math.Inf(1), 0, 0, false}, // nor does an endless one
 		{1, 4, 0, math.Inf(1), 0, 0, false},
 	}
 	for _, c := range cases {
