@@ -7,6 +7,8 @@ import (
 	"runtime"
 	"slices"
 	"sync"
+
+	"spotloom/recon/recipe"
 )
 
 // minCoverWeight is the accumulated kernel weight a pixel needs to count
@@ -16,7 +18,7 @@ const minCoverWeight = 0.05
 
 // maxPixels bounds the size of one frame (4096 × 4096), and so the
 // accumulators (16 bytes a pixel).
-const maxPixels = 16 << 20
+const maxPixels = recipe.MaxFramePixels
 
 // maxSplitPixels is the largest frame whose accumulators are kept once per
 // worker; a larger one is gridded by a single goroutine to bound memory.
@@ -219,14 +221,18 @@ func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, er
 	p := in.pitch
 	// The grid covers the x and y extent and is centred on it, so a
 	// reversed sweep gives the exact mirror image.
-	cols := int(math.Ceil((in.sweep.xMax-in.sweep.xMin)/p-1e-9)) + 1
-	rows := int(math.Ceil((in.yTop-in.yBottom)/p-1e-9)) + 1
+	// The size is checked in floating point before any conversion, so an
+	// absurd extent cannot wrap round to a negative or small int.
+	colsF := math.Ceil((in.sweep.xMax-in.sweep.xMin)/p-1e-9) + 1
+	rowsF := math.Ceil((in.yTop-in.yBottom)/p-1e-9) + 1
+	if !(colsF*rowsF <= maxPixels) {
+		return nil, st, nil, fmt.Errorf("the frame would be %.3g × %.3g pixels (%.4g mm × %.4g mm at image.pitch_mm %g), more than %d pixels: raise pitch_mm or check the sweep and rows keys",
+			colsF, rowsF, in.sweep.xMax-in.sweep.xMin, in.yTop-in.yBottom, p, maxPixels)
+	}
+	cols, rows := int(colsF), int(rowsF)
 	x0 := (in.sweep.xMin+in.sweep.xMax)/2 - float64(cols-1)/2*p
 	yTop := (in.yTop+in.yBottom)/2 + float64(rows-1)/2*p
 	in.yTop = yTop
-	if float64(cols)*float64(rows) > maxPixels {
-		return nil, st, nil, fmt.Errorf("the frame would be %d × %d pixels at image.pitch_mm %g: raise pitch_mm", cols, rows, p)
-	}
 	npx := cols * rows
 	w := min(workers(), max(1, len(in.lines)/64))
 	if npx > maxSplitPixels {
