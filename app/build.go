@@ -98,13 +98,19 @@ func runBuild(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	// Refuse bad output settings before the long part.
+	inputs := append(captureInputs(positional[0], cf), export.Role{What: "the recipe", Path: bf.recipePath})
+	outputs := []export.Role{{What: "--out", Path: bf.outPath}, {What: "the sidecar", Path: export.SidecarPath(bf.outPath)},
+		{What: "--report", Path: bf.reportPath}}
+	if err := export.CheckClashes(inputs, outputs); err != nil {
+		return err
+	}
+	// Refuse bad output settings and folders before the long part.
 	if err := export.Check(bf.outPath, opts); err != nil {
 		return forceHint(err)
 	}
-	if bf.reportPath != "" && !bf.force {
-		if _, err := os.Lstat(bf.reportPath); err == nil {
-			return forceHint(fmt.Errorf("%s: %w", bf.reportPath, export.ErrExists))
+	if bf.reportPath != "" {
+		if err := export.CheckFile(bf.reportPath, bf.force); err != nil {
+			return forceHint(err)
 		}
 	}
 

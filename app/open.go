@@ -1,7 +1,9 @@
 package main
 
 import (
+	"bytes"
 	"fmt"
+	"image/png"
 	"io"
 	"os"
 
@@ -10,6 +12,7 @@ import (
 
 	"spotloom/app/ui"
 	"spotloom/assets"
+	"spotloom/recon/export"
 	"spotloom/recon/recipe"
 )
 
@@ -32,12 +35,13 @@ for "spotloom inspect": a CSV without a time column needs --rate.
 
 With --snapshot the window is rendered without a display (software renderer)
 to a PNG once the first image is built, and the command exits: for
-documentation and tests.`
+documentation and tests. An existing file is replaced only with --force.`
 
 func runOpen(args []string, _, stderr io.Writer) error {
-	fs := newFlagSet("open", "open [FILE] [--recipe R.json] [--rate HZ | --layout L.json | --raw TYPE ...] [--snapshot OUT.png]", openDescription, stderr)
+	fs := newFlagSet("open", "open [FILE] [--recipe R.json] [--rate HZ | --layout L.json | --raw TYPE ...] [--snapshot OUT.png [--force]]", openDescription, stderr)
 	recipePath := fs.String("recipe", "", "build with this recipe `R.json`")
 	snapshot := fs.String("snapshot", "", "render the window to `OUT.png` and exit")
+	force := fs.Bool("force", false, "with --snapshot: replace an existing file")
 	cf := addCaptureFlags(fs)
 	positional, err := parseFlags(fs, args)
 	if err != nil {
@@ -57,6 +61,19 @@ func runOpen(args []string, _, stderr io.Writer) error {
 			return fmt.Errorf("%s: %w", file, unwrapStat(err))
 		}
 	}
+	if *snapshot != "" {
+		inputs := append(captureInputs(file, cf), export.Role{What: "the recipe", Path: *recipePath})
+		if file != "" && *recipePath == "" {
+			// The window reads the recipe beside the capture.
+			inputs = append(inputs, export.Role{What: "the recipe", Path: export.SidecarPath(file)})
+		}
+		if err := export.CheckClashes(inputs, []export.Role{{What: "--snapshot", Path: *snapshot}}); err != nil {
+			return err
+		}
+		if err := export.CheckFile(*snapshot, *force); err != nil {
+			return forceHint(err)
+		}
+	}
 	var r *recipe.Recipe
 	if *recipePath != "" {
 		loaded, err := recipe.Load(*recipePath)
@@ -74,7 +91,11 @@ func runOpen(args []string, _, stderr io.Writer) error {
 			}
 			return fmt.Errorf("snapshot of %s: %w", file, err)
 		}
-		return ui.WritePNG(*snapshot, img)
+		var data bytes.Buffer
+		if err := png.Encode(&data, img); err != nil {
+			return fmt.Errorf("%s: %w", *snapshot, err)
+		}
+		return forceHint(export.SaveFile(*snapshot, data.Bytes(), *force))
 	}
 
 	a := app.NewWithID("org.spotloom.workstation")

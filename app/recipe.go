@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -54,6 +53,15 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 	opts, err := cf.options()
 	if err != nil {
 		return err
+	}
+	inputs := append(captureInputs(path, cf), export.Role{What: "--from", Path: *from})
+	if err := export.CheckClashes(inputs, []export.Role{{What: "--out", Path: *outPath}}); err != nil {
+		return err
+	}
+	if *outPath != "" {
+		if err := export.CheckFile(*outPath, *force); err != nil {
+			return forceHint(err)
+		}
 	}
 	r := recipe.Default()
 	r.Image.PitchMM = 0 // automatic
@@ -133,11 +141,7 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 		fmt.Fprintf(stderr, "spotloom recipe: %s: %s\n", path, w)
 	}
 	if *outPath != "" {
-		err := export.SaveFile(*outPath, res.Recipe.JSON(), *force)
-		if errors.Is(err, export.ErrExists) {
-			return fmt.Errorf("%w: add --force to replace it", err)
-		}
-		return err
+		return forceHint(export.SaveFile(*outPath, res.Recipe.JSON(), *force))
 	}
 	_, err = stdout.Write(res.Recipe.JSON())
 	return err

@@ -11,6 +11,7 @@ import (
 	"strings"
 
 	"spotloom/capture"
+	"spotloom/recon/export"
 	"spotloom/sampledata"
 )
 
@@ -127,6 +128,9 @@ func simulate(f simulateFlags, stderr io.Writer) error {
 		return usagef("--format %q: expected wav, csv or raw", format)
 	}
 
+	if err := checkSimulateOutputs(f, format); err != nil {
+		return err
+	}
 	rig := sampledata.DemoRig()
 	if f.rigPath != "" {
 		var err error
@@ -181,7 +185,7 @@ func simulate(f simulateFlags, stderr io.Writer) error {
 	}
 
 	if f.truthPath != "" {
-		pngPath := strings.TrimSuffix(f.truthPath, filepath.Ext(f.truthPath)) + ".png"
+		pngPath := truthImagePath(f.truthPath)
 		if err := writeFileSafely(pngPath, truth.WritePNG); err != nil {
 			return err
 		}
@@ -203,6 +207,38 @@ func simulate(f simulateFlags, stderr io.Writer) error {
 			}
 		}
 		if err := writeFileSafely(f.recipePath, func(w io.Writer) error { _, err := w.Write(r.JSON()); return err }); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// truthImagePath is the truth PNG written beside the truth JSON.
+func truthImagePath(truthPath string) string {
+	return strings.TrimSuffix(truthPath, filepath.Ext(truthPath)) + ".png"
+}
+
+// checkSimulateOutputs refuses, before the simulation, outputs that are
+// the rig file or one another, and folders that are missing or refuse
+// new files.
+func checkSimulateOutputs(f simulateFlags, format string) error {
+	outputs := []export.Role{{What: "--out", Path: f.out}}
+	if format == "raw" {
+		outputs = append(outputs, export.Role{What: "the layout", Path: f.out + ".layout.json"})
+	}
+	if f.truthPath != "" {
+		outputs = append(outputs, export.Role{What: "--truth", Path: f.truthPath},
+			export.Role{What: "the truth image", Path: truthImagePath(f.truthPath)})
+	}
+	outputs = append(outputs, export.Role{What: "--recipe", Path: f.recipePath})
+	if err := export.CheckClashes([]export.Role{{What: "--rig", Path: f.rigPath}}, outputs); err != nil {
+		return err
+	}
+	for _, o := range outputs {
+		if o.Path == "" {
+			continue
+		}
+		if err := export.CheckFile(o.Path, true); err != nil {
 			return err
 		}
 	}

@@ -7,7 +7,6 @@ import (
 	"image/draw"
 	"image/png"
 	"io"
-	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
@@ -202,22 +201,15 @@ func checkFrame(f *recon.Frame) error {
 	return nil
 }
 
-// checkDestination: the folder exists and, without force, neither the
-// file nor its sidecar does.
+// checkDestination: the folder exists and takes files, neither the file
+// nor its sidecar is a folder and, without force, neither exists.
 func checkDestination(path string, force bool) error {
-	dir := filepath.Dir(path)
-	if st, err := os.Stat(dir); err != nil {
-		if errors.Is(err, fs.ErrNotExist) {
-			return fmt.Errorf("%s: the output folder %s does not exist", path, dir)
-		}
-		return fmt.Errorf("%s: the output folder: %w", path, err)
-	} else if !st.IsDir() {
-		return fmt.Errorf("%s: %s is not a folder", path, dir)
+	if err := checkFolder(path); err != nil {
+		return err
 	}
 	for _, p := range []string{path, SidecarPath(path)} {
 		if st, err := os.Stat(p); err == nil && st.IsDir() {
-			// Not even --force replaces a folder.
-			return fmt.Errorf("%s is a folder: give a file name, such as %s", p, filepath.Join(p, "frame"+filepath.Ext(path)))
+			return folderError(p, path)
 		}
 	}
 	if !force {
