@@ -46,8 +46,10 @@ type Report struct {
 	Columns       int      `json:"columns"`        // of the first frame (a frame's own report: of that frame)
 	Rows          int      `json:"rows"`           // of the first frame (a frame's own report: of that frame)
 	PitchMM       float64  `json:"pitch_mm"`
-	Coverage      float64  `json:"coverage"` // fraction of pixels with data, all frames (a frame's own report: that frame)
-	Warnings      []string `json:"warnings"` // plain sentences
+	OriginXMM     float64  `json:"origin_x_mm"` // x of the centre of column 0, of the first frame (a frame's own report: of that frame)
+	OriginYMM     float64  `json:"origin_y_mm"` // y of the centre of row 0, likewise
+	Coverage      float64  `json:"coverage"`    // fraction of pixels with data, all frames (a frame's own report: that frame)
+	Warnings      []string `json:"warnings"`    // plain sentences
 
 	PulsesMissing int `json:"pulses_missing"` // index pulses filled in
 	PulsesExtra   int `json:"pulses_extra"`   // spurious index pulses ignored

@@ -684,6 +684,7 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 		res.Frames = append(res.Frames, f)
 		if gi == 0 {
 			rep.Columns, rep.Rows = f.Width, f.Height
+			rep.OriginXMM, rep.OriginYMM = f.OriginXMM, f.OriginYMM
 		}
 	}
 	if pixels > 0 {
@@ -701,6 +702,7 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 	for i, f := range res.Frames {
 		f.Report = rep
 		f.Report.Columns, f.Report.Rows, f.Report.Coverage = f.Width, f.Height, frameCover[i]
+		f.Report.OriginXMM, f.Report.OriginYMM = f.OriginXMM, f.OriginYMM
 		f.Report.Warnings = slices.Clone(rep.Warnings)
 		f.Recipe = r
 	}
