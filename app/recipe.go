@@ -33,13 +33,15 @@ channel gets rows.source "steps" when it has step pulses, else "even".
 `
 
 func runRecipe(args []string, stdout, stderr io.Writer) error {
-	fs := newFlagSet("recipe", "recipe FILE [--from R.json] [--apertures N] [--pulses-per-rev N] [--field DEG] [--distance MM] [--out R.json] > R.json", recipeHelp, stderr)
+	fs := newFlagSet("recipe", "recipe FILE [--from R.json] [--apertures N] [--pulses-per-rev N] [--field DEG] [--distance MM] [--law LAW] [--source SOURCE] [--out R.json] > R.json", recipeHelp, stderr)
 	cf := addCaptureFlags(fs)
 	from := fs.String("from", "", "start from this recipe `file` and resolve its automatic (null) values")
 	apertures := fs.Int("apertures", 0, "the wheel's aperture `count` (also the index pulses per revolution unless --from says 1)")
 	pulses := fs.Int("pulses-per-rev", 0, "index pulses per wheel revolution: the aperture count, or 1 for a once-per-revolution sensor")
 	field := fs.Float64("field", 0, "the field of view in `degrees` of beam swing")
 	distance := fs.Float64("distance", 0, "the source-to-scene distance in `mm`")
+	law := fs.String("law", "", "the sweep law: "+recipe.Allowed(recipe.Laws))
+	source := fs.String("source", "", "where the cross-scan position comes from: "+recipe.Allowed(recipe.RowSources)+" (default: from the channels seen)")
 	outPath := fs.String("out", "", "write the recipe to this `file` (only when it could be made) instead of stdout")
 	force := fs.Bool("force", false, "with --out: replace an existing file")
 	rest, err := parseFlags(fs, args)
@@ -95,6 +97,16 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 	if *distance > 0 {
 		r.Sweep.DistanceMM = *distance
 	}
+	if *law != "" {
+		if r.Sweep.Law, err = recipe.ParseLaw(*law); err != nil {
+			return usagef("--law: %v", err)
+		}
+	}
+	if *source != "" {
+		if r.Rows.Source, err = recipe.ParseRowSource(*source); err != nil {
+			return usagef("--source: %v", err)
+		}
+	}
 	if err := r.Validate(); err != nil {
 		return usagef("%s", strings.ReplaceAll(err.Error(), "\n", "; "))
 	}
@@ -105,7 +117,7 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	if *from == "" {
+	if *from == "" && *source == "" {
 		r.Rows.Source = rowsSourceFor(capture.GuessRoles(rec))
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
@@ -150,16 +162,16 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 // rowsSourceFor picks the cross-scan source a starting recipe uses: the
 // position channel when one is seen, else step pulses, else an even motion
 // (whose speed the engine then assumes and says so).
-func rowsSourceFor(guesses []capture.RoleGuess) string {
+func rowsSourceFor(guesses []capture.RoleGuess) recipe.RowSource {
 	has := map[string]bool{}
 	for _, g := range guesses {
 		has[g.Role] = true
 	}
 	switch {
 	case has[capture.RolePosition]:
-		return "position"
+		return recipe.SourcePosition
 	case has[capture.RoleSteps]:
-		return "steps"
+		return recipe.SourceSteps
 	}
-	return "even"
+	return recipe.SourceEven
 }

@@ -78,6 +78,17 @@ func TestRecipeErrors(t *testing.T) {
 	if code := run([]string{"recipe", missing, "--from", bad}, &out, &errOut); code != 1 || !strings.Contains(errOut.String(), `"sweep.law" is "spiral": allowed values are uniform, sine, table`) {
 		t.Errorf("bad recipe: exit %d, %q", code, errOut.String())
 	}
+	// --law and --source take the recipe's own lists of allowed values.
+	for _, args := range [][]string{{"--law", "spiral"}, {"--source", "laser"}} {
+		errOut.Reset()
+		want := "allowed values are " + recipe.Allowed(recipe.Laws)
+		if args[0] == "--source" {
+			want = "allowed values are " + recipe.Allowed(recipe.RowSources)
+		}
+		if code := run(append([]string{"recipe", missing}, args...), &out, &errOut); code != 2 || !strings.Contains(errOut.String(), want) {
+			t.Errorf("%v: exit %d, %q; want exit 2 naming %q", args, code, errOut.String(), want)
+		}
+	}
 }
 
 // TestRecipeWithoutPositionChannel: a two-channel capture (detector and

@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"spotloom/capture"
+	"spotloom/recon/recipe"
 )
 
 // FuzzBuild: any samples give frames or an error, never a panic. The
@@ -46,11 +47,11 @@ func FuzzBuild(f *testing.F) {
 		}
 		rec := &capture.Recording{SampleRateHz: 2000 + float64(choice%7)*1000, Channels: ch}
 		r := rig.recipe()
-		r.Sweep.Law = []string{"uniform", "sine", "table"}[choice%3]
-		if r.Sweep.Law == "table" {
+		r.Sweep.Law = recipe.Laws[choice%3]
+		if r.Sweep.Law == recipe.LawTable {
 			r.Sweep.Table = [][2]float64{{0.1, -50}, {0.4, 50}}
 		}
-		r.Rows.Source = []string{"position", "tone", "even"}[(choice/3)%3]
+		r.Rows.Source = []recipe.RowSource{recipe.SourcePosition, recipe.SourceTone, recipe.SourceEven}[(choice/3)%3]
 		speed := 10.0
 		r.Rows.SpeedMMS = &speed
 		r.Rows.Strokes = []string{"merge", "split", "first"}[(choice/9)%3]

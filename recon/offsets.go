@@ -18,7 +18,7 @@ import (
 // zero mean (their common part belongs to sweep.delay_deg). The recipe's
 // own offsets are ignored.
 func EstimateApertureOffsets(ctx context.Context, s *Session, r recipe.Recipe) ([]float64, error) {
-	if r.Sweep.Law == "sine" {
+	if r.Sweep.Law == recipe.LawSine {
 		return nil, fmt.Errorf("sweep.law sine has no apertures: aperture offsets apply to the uniform and table laws")
 	}
 	r = r.Clone()

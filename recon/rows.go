@@ -9,6 +9,8 @@ import (
 
 	"gonum.org/v1/gonum/dsp/fourier"
 	"gonum.org/v1/gonum/mat"
+
+	"spotloom/recon/recipe"
 )
 
 // SavitzkyGolay returns the weights of a Savitzky–Golay filter (Savitzky &
@@ -162,7 +164,7 @@ func (r *rowsResult) strokeOf(s int) int {
 // rowsParams are the keys the rows stage depends on (exported fields, so
 // the cache key, their JSON, holds them all).
 type rowsParams struct {
-	Source    string
+	Source    recipe.RowSource
 	Channel   int // position or steps channel, -1 for even
 	Calib     [][2]float64
 	CarrierHz *float64
@@ -181,7 +183,7 @@ func findRows(ctx context.Context, rec rowsInput, p rowsParams) (*rowsResult, er
 	res.blockLen = max(1, int(math.Round(rate*0.25e-3)))
 	var levels []float64 // raw level per block, before smoothing
 	switch p.Source {
-	case "even":
+	case recipe.SourceEven:
 		if p.SpeedMMS == nil {
 			return nil, fmt.Errorf("rows.speed_mm_s is null: source even needs the head speed in mm/s")
 		}
@@ -192,7 +194,7 @@ func findRows(ctx context.Context, rec rowsInput, p rowsParams) (*rowsResult, er
 		}
 		res.strokes = []stroke{{0, n}}
 		return res, nil
-	case "steps":
+	case recipe.SourceSteps:
 		if p.MMPerStep == nil {
 			return nil, fmt.Errorf("rows.mm_per_step is null: source steps needs the head travel per step pulse in mm")
 		}
@@ -227,16 +229,16 @@ func findRows(ctx context.Context, rec rowsInput, p rowsParams) (*rowsResult, er
 		res.levelMin, res.levelMax = 0, float64(len(edges))
 		res.strokes = []stroke{{0, n}}
 		return res, nil
-	case "position":
+	case recipe.SourcePosition:
 		levels = blockMeans(rec.channel, res.blockLen)
-	case "tone":
+	case recipe.SourceTone:
 		var err error
 		levels, res.blockLen, res.carrier, err = toneAmplitude(rec, p.CarrierHz)
 		if err != nil {
 			return nil, err
 		}
 	default:
-		return nil, fmt.Errorf("rows.source %q: allowed values are position, tone, steps, even", p.Source)
+		return nil, fmt.Errorf("rows.source %q: allowed values are %s", p.Source, recipe.Allowed(recipe.RowSources))
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err

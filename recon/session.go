@@ -115,9 +115,9 @@ func (s *Session) resolveChannels(r *recipe.Recipe) (channels, error) {
 	c := channels{-1, -1, -1, -1}
 	need := map[string]bool{"detector": true, "index": true}
 	switch r.Rows.Source {
-	case "position", "tone":
+	case recipe.SourcePosition, recipe.SourceTone:
 		need["position"] = true
-	case "steps":
+	case recipe.SourceSteps:
 		need["steps"] = true
 	}
 	refs := map[string]*recipe.ChannelRef{
@@ -212,14 +212,14 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 	r.Timing.Threshold = recipe.Float(t.threshold)
 	r.Timing.Hysteresis = recipe.Float(t.hysteresis)
 	progress.report("timing", 1)
-	if r.Sweep.Law == "sine" && r.Sweep.SinePeriodS == nil {
+	if r.Sweep.Law == recipe.LawSine && r.Sweep.SinePeriodS == nil {
 		periods := make([]float64, len(t.lines))
 		for i, l := range t.lines {
 			periods[i] = l.period
 		}
 		r.Sweep.SinePeriodS = recipe.Float(median(periods) / s.rec.SampleRateHz)
 	}
-	if r.Rows.Source == "even" && r.Rows.SpeedMMS == nil {
+	if r.Rows.Source == recipe.SourceEven && r.Rows.SpeedMMS == nil {
 		speed, w := automaticSpeed(t, r, s.rec.SampleRateHz)
 		r.Rows.SpeedMMS = recipe.Float(speed)
 		warns = append(warns, w)
@@ -230,7 +230,7 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 		return nil, nil, err
 	}
 	warns = append(warns, rows.warnings...)
-	if r.Rows.Source == "tone" && r.Rows.CarrierHz == nil {
+	if r.Rows.Source == recipe.SourceTone && r.Rows.CarrierHz == nil {
 		r.Rows.CarrierHz = recipe.Float(rows.carrier)
 	}
 	progress.report("rows", 1)
@@ -263,7 +263,7 @@ func (s *Session) timingStage(ctx context.Context, r recipe.Recipe, ch channels)
 		Hysteresis:   r.Timing.Hysteresis,
 		PulsesPerRev: r.Timing.PulsesPerRev,
 		Apertures:    r.Sweep.Apertures,
-		Sine:         r.Sweep.Law == "sine",
+		Sine:         r.Sweep.Law == recipe.LawSine,
 	}
 	k := key(p)
 	if s.timing != nil && (s.timingKey == k || s.timingResolvedKey == k) {
@@ -296,9 +296,9 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 		CarrierHz: r.Rows.CarrierHz, MMPerStep: r.Rows.MMPerStep, SpeedMMS: r.Rows.SpeedMMS,
 	}
 	switch p.Source {
-	case "position", "tone":
+	case recipe.SourcePosition, recipe.SourceTone:
 		p.Channel = ch.position
-	case "steps":
+	case recipe.SourceSteps:
 		p.Channel = ch.steps
 	}
 	k := key(p)
@@ -315,7 +315,7 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 		return nil, err
 	}
 	s.rows, s.rowsKey = rows, k
-	if p.Source == "tone" {
+	if p.Source == recipe.SourceTone {
 		p.CarrierHz = &rows.carrier
 	}
 	s.rowsResolvedKey = key(p)
@@ -325,14 +325,14 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 
 func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, t *timingResult) (float64, []string, error) {
 	sw := r.Sweep
-	if sw.Law == "table" {
+	if sw.Law == recipe.LawTable {
 		// A measured table is written against the index edge.
 		return 0, nil, nil
 	}
 	p := struct {
 		T        string
 		Detector int
-		Law      string
+		Law      recipe.Law
 		Field    float64
 		Aper     int
 		Offsets  []float64
@@ -353,7 +353,7 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 	var w []string
 	var err error
 	s.delayNegative, s.delayApertures = false, 0
-	if sw.Law == "sine" {
+	if sw.Law == recipe.LawSine {
 		period := 0.0
 		if sw.SinePeriodS != nil {
 			period = *sw.SinePeriodS * s.rec.SampleRateHz
@@ -380,7 +380,7 @@ func autoPitch(t *timingResult, rows *rowsResult, sw recipe.Sweep, rate float64)
 	v := 0.0
 	if len(dys) > 0 {
 		v = median(dys)
-		if sw.Law == "sine" {
+		if sw.Law == recipe.LawSine {
 			v /= 2
 		}
 	}
@@ -409,9 +409,9 @@ func autoPitch(t *timingResult, rows *rowsResult, sw recipe.Sweep, rate float64)
 // fieldFraction is the share of a line period spent inside the field.
 func fieldFraction(sw recipe.Sweep) float64 {
 	switch sw.Law {
-	case "sine":
+	case recipe.LawSine:
 		return sineKeepDeg(sw.SineKeep) / 180
-	case "table":
+	case recipe.LawTable:
 		return sw.Table[len(sw.Table)-1][0] - sw.Table[0][0]
 	}
 	return sw.FieldDeg / apertureSpacingDeg(sw)
@@ -436,7 +436,7 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 	}
 	rate := s.rec.SampleRateHz
 	period := 0.0
-	if sw.Law == "sine" && sw.SinePeriodS != nil {
+	if sw.Law == recipe.LawSine && sw.SinePeriodS != nil {
 		period = *sw.SinePeriodS * rate
 	}
 	det, st, err := s.detector(ctx, ch.detector, r.Signal)
@@ -449,7 +449,7 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 	}
 	switch {
 	case r.Signal.Baseline == "none":
-	case sw.Law == "sine":
+	case sw.Law == recipe.LawSine:
 		pl.warnings = append(pl.warnings, "the sine law has no beam-off interval, so no baseline was removed; set signal.baseline to none to silence this")
 	default:
 		if err := baselineLines(ctx, det, st, pl.lines); err != nil {
@@ -622,7 +622,7 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 
 		AperturesSuggested: rs.aperturesSeen,
 	}
-	if r.Rows.Source == "position" || r.Rows.Source == "tone" {
+	if r.Rows.Source.ReadsPosition() {
 		rep.PositionLevels = []float64{rows.levelMin, rows.levelMax}
 	}
 	if len(t.revPeriods) > 0 {
@@ -648,7 +648,7 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 	pMean := meanOf(periods)
 	rep.SweepMS = 1000 * pMean * fieldFraction(r.Sweep) / rate
 	rep.LineRateHz = rate / pMean
-	if r.Sweep.Law == "sine" {
+	if r.Sweep.Law == recipe.LawSine {
 		rep.LineRateHz *= 2
 		rep.RPMMean, rep.RPMSpreadPct = 0, 0
 	}
@@ -743,7 +743,7 @@ func automaticSpeed(t *timingResult, r recipe.Recipe, rateHz float64) (float64, 
 	if len(periods) > 0 && median(periods) > 0 {
 		lineRate = rateHz / median(periods)
 	}
-	if r.Sweep.Law == "sine" {
+	if r.Sweep.Law == recipe.LawSine {
 		lineRate *= 2 // a forward and a backward line per period
 	}
 	pitch := r.Image.PitchMM

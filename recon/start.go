@@ -23,7 +23,7 @@ const assumedTravelMM = 400
 func Start(r recipe.Recipe, rep Report) (recipe.Recipe, []string) {
 	out := r.Clone()
 	var notes []string
-	if n := rep.AperturesSuggested; n > 0 && n != r.Sweep.Apertures && r.Sweep.Law != "sine" {
+	if n := rep.AperturesSuggested; n > 0 && n != r.Sweep.Apertures && r.Sweep.Law != recipe.LawSine {
 		if out.Timing.PulsesPerRev != 1 {
 			out.Timing.PulsesPerRev = n
 		}

@@ -81,18 +81,18 @@ func lawMap(s recipe.Sweep) (*sweepMap, error) {
 	}
 	half := s.FieldDeg / 2
 	switch s.Law {
-	case "uniform":
+	case recipe.LawUniform:
 		m := newSweepMap(-half, half, func(u float64) float64 { return sign * Project(s.Projection, s.DistanceMM, u) })
 		m.extent([2]float64{-half, half})
 		return m, nil
-	case "sine":
+	case recipe.LawSine:
 		m := newSweepMap(-90, 270, func(u float64) float64 {
 			return sign * Project(s.Projection, s.DistanceMM, half*math.Sin(u*math.Pi/180))
 		})
 		a := sineKeepDeg(s.SineKeep)
 		m.extent([2]float64{-a, a}, [2]float64{180 - a, 180 + a})
 		return m, nil
-	case "table":
+	case recipe.LawTable:
 		if len(s.Table) < 2 {
 			return nil, fmt.Errorf("sweep.table has %d points: law table needs two or more [fraction_of_line, x_mm] points", len(s.Table))
 		}
@@ -110,7 +110,7 @@ func lawMap(s recipe.Sweep) (*sweepMap, error) {
 		m.extent([2]float64{lo, hi})
 		return m, nil
 	}
-	return nil, fmt.Errorf("sweep.law %q: allowed values are uniform, sine, table", s.Law)
+	return nil, fmt.Errorf("sweep.law %q: allowed values are %s", s.Law, recipe.Allowed(recipe.Laws))
 }
 
 // sineKeepDeg is the phase half-width a (degrees) with sin a = keep: the
@@ -180,7 +180,7 @@ func placeLines(t *timingResult, s recipe.Sweep, delay float64, sinePeriod float
 		out = append(out, pl)
 	}
 	switch s.Law {
-	case "sine":
+	case recipe.LawSine:
 		a := sineKeepDeg(s.SineKeep)
 		for i, lt := range t.lines {
 			p := lt.period
@@ -193,7 +193,7 @@ func placeLines(t *timingResult, s recipe.Sweep, delay float64, sinePeriod float
 			add(2*i, 0, lt.edge, p, at(-a), at(a), -a, du, lt.repaired)
 			add(2*i+1, 1, lt.edge, p, at(180-a), at(180+a), 180-a, du, false)
 		}
-	case "table":
+	case recipe.LawTable:
 		spacing := apertureSpacingDeg(s)
 		f0, f1 := s.Table[0][0], s.Table[len(s.Table)-1][0]
 		for i, lt := range t.lines {

@@ -2,6 +2,7 @@ package recon
 
 import (
 	"context"
+	"errors"
 	"math"
 	"math/rand/v2"
 	"strings"
@@ -165,12 +166,26 @@ func TestBadInputs(t *testing.T) {
 	}
 }
 
+// TestCancel: a build cancelled before it starts or inside any stage
+// returns an error that wraps context.Canceled, so callers tell a stopped
+// build from a failed one with errors.Is, never by the message.
 func TestCancel(t *testing.T) {
-	ctx, cancel := context.WithCancel(context.Background())
-	cancel()
 	rig := baseRig()
-	if _, err := NewSession(rig.recording()).Build(ctx, rig.recipe(), nil); err == nil {
-		t.Error("a cancelled build returned no error")
+	rec := rig.recording()
+	for _, stage := range []string{"", "timing", "rows", "delay", "placement", "gridding"} {
+		ctx, cancel := context.WithCancel(context.Background())
+		if stage == "" {
+			cancel()
+		}
+		_, err := NewSession(rec).Build(ctx, rig.recipe(), func(s string, f float64) {
+			if s == stage && f == 0 {
+				cancel()
+			}
+		})
+		cancel()
+		if !errors.Is(err, context.Canceled) {
+			t.Errorf("cancelled in stage %q: err = %v, want one wrapping context.Canceled", stage, err)
+		}
 	}
 }
 

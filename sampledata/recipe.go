@@ -38,9 +38,9 @@ func (r Rig) Recipe() recipe.Recipe {
 	rows := recipe.Rows{Strokes: "merge", Calibration: [][2]float64{}}
 	switch {
 	case r.Position.Kind == SensorDC || r.Position.Kind == SensorTone:
-		rows.Source = "position"
+		rows.Source = recipe.SourcePosition
 		if r.Position.Kind == SensorTone {
-			rows.Source = "tone"
+			rows.Source = recipe.SourceTone
 			hz := r.Position.CarrierHz
 			rows.CarrierHz = &hz
 		}
@@ -51,11 +51,11 @@ func (r Rig) Recipe() recipe.Recipe {
 			{r.Position.OffsetV + r.Position.VoltsPerMM*y1, y1},
 		}
 	case r.Motion.Kind == MotionStepper:
-		rows.Source = "steps"
+		rows.Source = recipe.SourceSteps
 		mm := r.Motion.MMPerStep
 		rows.MMPerStep = &mm
 	default:
-		rows.Source = "even"
+		rows.Source = recipe.SourceEven
 		speed := r.Motion.TravelMM / r.Motion.StrokeS
 		rows.SpeedMMS = &speed
 	}
@@ -73,7 +73,7 @@ func (r Rig) Recipe() recipe.Recipe {
 		},
 		Sweep: recipe.Sweep{
 			Apertures:          r.Wheel.ApertureCount,
-			Law:                "uniform",
+			Law:                recipe.LawUniform,
 			FieldDeg:           r.FieldDeg,
 			ApertureOffsetsDeg: []float64{},
 			Projection:         "flat",

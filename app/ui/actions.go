@@ -213,8 +213,8 @@ func withGuessedRoles(r recipe.Recipe, rec *capture.Recording) recipe.Recipe {
 	}
 	if ch, ok := best("position"); ok {
 		r.Channels.Position, r.Channels.Steps = ref(ch), ""
-		if r.Rows.Source == "steps" || r.Rows.Source == "even" {
-			r.Rows.Source = "position"
+		if r.Rows.Source == recipe.SourceSteps || r.Rows.Source == recipe.SourceEven {
+			r.Rows.Source = recipe.SourcePosition
 		}
 	} else if n, err := strconv.Atoi(string(r.Channels.Position)); err != nil || n < 0 || n >= len(rec.Channels) || used[n] {
 		// The settings' position channel is not in this capture (or is
@@ -239,11 +239,11 @@ func withGuessedRoles(r recipe.Recipe, rec *capture.Recording) recipe.Recipe {
 	if !r.Channels.Position.IsSet() {
 		if ch, ok := best("steps"); ok {
 			r.Channels.Steps = ref(ch)
-			r.Rows.Source = "steps"
-		} else if r.Rows.Source == "position" || r.Rows.Source == "tone" {
+			r.Rows.Source = recipe.SourceSteps
+		} else if r.Rows.Source.ReadsPosition() {
 			// No cross-scan signal at all: an even motion, whose speed the
 			// engine assumes (one pitch per line) and says so.
-			r.Rows.Source = "even"
+			r.Rows.Source = recipe.SourceEven
 		}
 	}
 	return r
@@ -285,7 +285,7 @@ func (ws *Workstation) openFailed(path string, err error) {
 	switch {
 	case errors.Is(err, context.Canceled):
 		ws.stage.SetText("Opening stopped; the previous capture is still shown")
-	case isRawWithoutLayout(path, err):
+	case path != "" && errors.Is(err, capture.ErrNoLayout):
 		// The layout form itself says what happened and what to fill in.
 		ws.problem = "Cannot read " + name + ": " + err.Error()
 		ws.stage.SetText("Cannot read " + name + " without its layout")
@@ -311,19 +311,6 @@ func (ws *Workstation) stillShown() string {
 		return ""
 	}
 	return " The previous capture is still shown."
-}
-
-func isRawWithoutLayout(path string, err error) bool {
-	if path == "" {
-		return false
-	}
-	switch strings.ToLower(filepath.Ext(path)) {
-	case ".bin", ".raw", ".adc", ".pcm", ".i16", ".u16", ".f32":
-	default:
-		return false
-	}
-	text := strings.ToLower(err.Error())
-	return strings.Contains(text, "layout")
 }
 
 func (ws *Workstation) finishOpen(o *opened) {

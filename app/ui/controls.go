@@ -65,10 +65,12 @@ var (
 	strokeNames     = []string{"merge all passes", "one frame per pass", "first pass only"}
 	strokeKeys      = []string{"merge", "split", "first"}
 	pulseNames      = []string{"one per aperture", "one per revolution"}
+	// lawNames and rowsSourceNames follow the order of the recipe's own
+	// lists of allowed values (recipe.Laws, recipe.RowSources).
 	lawNames        = []string{"spinning wheel or polygon (uniform)", "resonant mirror (sine)", "measured table"}
-	lawKeys         = []string{"uniform", "sine", "table"}
+	lawKeys         = recipe.Laws
 	rowsSourceNames = []string{"position level (DC)", "carrier tone amplitude", "step pulses", "even speed (no sensor)"}
-	rowsSourceKeys  = []string{"position", "tone", "steps", "even"}
+	rowsSourceKeys  = recipe.RowSources
 	baselineNames   = []string{"from the beam-off interval", "none (keep the raw level)"}
 	baselineKeys    = []string{"beam-off", "none"}
 )
@@ -86,22 +88,22 @@ func setApertures(r *recipe.Recipe, n int) {
 	r.Sweep.Apertures = n
 }
 
-func nameFor(key string, keys, names []string) string {
+func nameFor[T ~string](key T, keys []T, names []string) string {
 	for i, k := range keys {
 		if k == key {
 			return names[i]
 		}
 	}
-	return key
+	return string(key)
 }
 
-func keyFor(name string, keys, names []string) string {
+func keyFor[T ~string](name string, keys []T, names []string) T {
 	for i, n := range names {
 		if n == name {
 			return keys[i]
 		}
 	}
-	return name
+	return T(name)
 }
 
 func newControlPanel(ws *Workstation) *controlPanel {
@@ -334,7 +336,7 @@ func (c *controlPanel) show(s settings, res *Result) {
 	r, resolved := s.Recipe, res.Recipe
 
 	maxDelay := 360.0
-	if r.Sweep.Law != "sine" && r.Timing.PulsesPerRev > 1 {
+	if r.Sweep.Law != recipe.LawSine && r.Timing.PulsesPerRev > 1 {
 		maxDelay = 360 / float64(r.Timing.PulsesPerRev)
 	}
 	c.delay.setRange(0, maxDelay)
@@ -359,7 +361,7 @@ func (c *controlPanel) show(s settings, res *Result) {
 	c.showThreshold(r, resolved, res)
 
 	apertures := resolved.Sweep.Apertures
-	if r.Sweep.Law == "sine" {
+	if r.Sweep.Law == recipe.LawSine {
 		apertures = 0
 	}
 	c.showOffsets(apertures, r.Sweep.ApertureOffsetsDeg)
@@ -372,8 +374,8 @@ func (c *controlPanel) show(s settings, res *Result) {
 		c.pulses.SetSelected(pulseNames[0])
 	}
 	// A resonant mirror has one index pulse per period and no apertures.
-	c.apertures.enable(r.Sweep.Law != "sine")
-	if r.Sweep.Law == "sine" {
+	c.apertures.enable(r.Sweep.Law != recipe.LawSine)
+	if r.Sweep.Law == recipe.LawSine {
 		c.pulses.Disable()
 	} else {
 		c.pulses.Enable()
@@ -387,7 +389,7 @@ func (c *controlPanel) show(s settings, res *Result) {
 		cal = append(cal, strconv.FormatFloat(p[0], 'g', -1, 64)+"  "+strconv.FormatFloat(p[1], 'g', -1, 64))
 	}
 	c.calibration.SetText(strings.Join(cal, "\n"))
-	usesCal := r.Rows.Source == "position" || r.Rows.Source == "tone"
+	usesCal := r.Rows.Source.ReadsPosition()
 	if usesCal {
 		c.calibration.Enable()
 		c.calApply.Enable()
@@ -403,8 +405,8 @@ func (c *controlPanel) show(s settings, res *Result) {
 	if v := resolved.Rows.MMPerStep; v != nil {
 		c.mmPerStep.set(*v)
 	}
-	c.speed.enable(r.Rows.Source == "even")
-	c.mmPerStep.enable(r.Rows.Source == "steps")
+	c.speed.enable(r.Rows.Source == recipe.SourceEven)
+	c.mmPerStep.enable(r.Rows.Source == recipe.SourceSteps)
 	c.strokes.SetSelected(nameFor(r.Rows.Strokes, strokeKeys, strokeNames))
 	c.signalInvert.SetChecked(r.Signal.Invert)
 	c.acCorner.set(r.Signal.ACCornerHz)
@@ -447,22 +449,22 @@ func (c *controlPanel) showThreshold(r, resolved recipe.Recipe, res *Result) {
 
 func rowsDescription(rows recipe.Rows) string {
 	switch rows.Source {
-	case "position":
+	case recipe.SourcePosition:
 		return "Rows from the level of the position channel."
-	case "tone":
+	case recipe.SourceTone:
 		return "Rows from the amplitude of the carrier tone on the position channel."
-	case "steps":
+	case recipe.SourceSteps:
 		if rows.MMPerStep != nil {
 			return fmt.Sprintf("Rows from step pulses, %g mm a step.", *rows.MMPerStep)
 		}
 		return "Rows from step pulses."
-	case "even":
+	case recipe.SourceEven:
 		if rows.SpeedMMS != nil {
 			return fmt.Sprintf("Rows at a constant %g mm/s.", *rows.SpeedMMS)
 		}
 		return "Rows at a constant speed."
 	}
-	return "Rows from " + rows.Source + "."
+	return "Rows from " + string(rows.Source) + "."
 }
 
 // showOffsets makes one control per aperture when their number changes.

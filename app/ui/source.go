@@ -168,7 +168,7 @@ func (p *sourcePanel) rolesChanged() {
 	p.ws.change("channels", func(r *recipe.Recipe) {
 		r.Channels.Detector, r.Channels.Index = det, idx
 		switch {
-		case r.Rows.Source == "steps":
+		case r.Rows.Source == recipe.SourceSteps:
 			r.Channels.Steps = pos
 		case okPos:
 			r.Channels.Position = pos

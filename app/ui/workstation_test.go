@@ -624,3 +624,26 @@ func TestNewCaptureStartsFresh(t *testing.T) {
 		t.Errorf("calibration %v does not span the levels seen %v", cal, lv)
 	}
 }
+
+// TestMissingLayoutAsksForIt: the window asks for a raw layout whenever
+// the reader's error wraps capture.ErrNoLayout, whatever the file is
+// called and whatever the message says, and not for other errors that
+// mention a layout.
+func TestMissingLayoutAsksForIt(t *testing.T) {
+	a := test.NewTempApp(t)
+	w := a.NewWindow("Spotloom test")
+	var openErr error
+	ws := New(a, w, Options{Open: func(string, capture.Options) (*capture.Recording, error) { return nil, openErr }})
+	openErr = fmt.Errorf("scope dump: %w", capture.ErrNoLayout)
+	ws.OpenFile(filepath.Join(t.TempDir(), "scope.dat"), nil)
+	ws.Wait()
+	if !strings.Contains(ws.stage.Text, "without its layout") {
+		t.Fatalf("no layout question for an error wrapping ErrNoLayout: status %q", ws.stage.Text)
+	}
+	openErr = errors.New("the layout of the bench is unknown")
+	ws.OpenFile(filepath.Join(t.TempDir(), "bench.bin"), nil)
+	ws.Wait()
+	if strings.Contains(ws.stage.Text, "without its layout") {
+		t.Fatalf("a layout question for an error that only mentions a layout: status %q", ws.stage.Text)
+	}
+}

@@ -16,9 +16,7 @@ import (
 // error messages.
 var (
 	Edges       = []string{"rising", "falling"}
-	Laws        = []string{"uniform", "sine", "table"}
 	Projections = []string{"flat", "angular"}
-	RowSources  = []string{"position", "tone", "steps", "even"}
 	StrokeModes = []string{"merge", "split", "first"}
 	Baselines   = []string{"beam-off", "none"}
 )
@@ -33,7 +31,7 @@ func Default() Recipe {
 		Timing: Timing{Edge: "rising", PulsesPerRev: 4},
 		Sweep: Sweep{
 			Apertures:          4,
-			Law:                "uniform",
+			Law:                LawUniform,
 			FieldDeg:           30,
 			ApertureOffsetsDeg: []float64{},
 			Projection:         "flat",
@@ -42,7 +40,7 @@ func Default() Recipe {
 			Table:              [][2]float64{},
 		},
 		Rows: Rows{
-			Source:      "position",
+			Source:      SourcePosition,
 			Calibration: [][2]float64{{0.5, 0}, {4.5, 400}},
 			Strokes:     "merge",
 		},

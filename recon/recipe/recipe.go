@@ -79,7 +79,7 @@ type Timing struct {
 // Sweep describes how time within a line maps to x in millimetres.
 type Sweep struct {
 	Apertures          int          `json:"apertures"`
-	Law                string       `json:"law"` // "uniform", "sine", "table"
+	Law                Law          `json:"law"`
 	FieldDeg           float64      `json:"field_deg"`
 	DelayDeg           *float64     `json:"delay_deg"`
 	ApertureOffsetsDeg []float64    `json:"aperture_offsets_deg"`
@@ -93,7 +93,7 @@ type Sweep struct {
 
 // Rows describes how the cross-scan position of every sample is found.
 type Rows struct {
-	Source      string       `json:"source"` // "position", "tone", "steps", "even"
+	Source      RowSource    `json:"source"`
 	Calibration [][2]float64 `json:"calibration"`
 	CarrierHz   *float64     `json:"carrier_hz"`
 	MMPerStep   *float64     `json:"mm_per_step"`

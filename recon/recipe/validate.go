@@ -57,6 +57,11 @@ func (r Recipe) Validate() error {
 			bad(key, "is %s: allowed values are %s", strictjson.Quote(v), strings.Join(allowed, ", "))
 		}
 	}
+	mode := func(err error) {
+		if err != nil {
+			errs = append(errs, err)
+		}
+	}
 	finite := func(key string, p *float64) bool {
 		if p != nil && (math.IsNaN(*p) || math.IsInf(*p, 0)) {
 			bad(key, "is %g: expected a finite number or null", *p)
@@ -81,8 +86,9 @@ func (r Recipe) Validate() error {
 	if s.Apertures < 1 || s.Apertures > 360 {
 		bad("sweep.apertures", "is %d: expected a whole number from 1 to 360", s.Apertures)
 	}
-	oneOf("sweep.law", s.Law, Laws)
-	if s.Law != "sine" && s.Apertures >= 1 && r.Timing.PulsesPerRev != 1 && r.Timing.PulsesPerRev != s.Apertures {
+	_, err := ParseLaw(string(s.Law))
+	mode(err)
+	if s.Law != LawSine && s.Apertures >= 1 && r.Timing.PulsesPerRev != 1 && r.Timing.PulsesPerRev != s.Apertures {
 		bad("timing.pulses_per_rev", "is %d: allowed values are %d (one pulse per aperture, sweep.apertures) or 1 (one pulse per revolution)", r.Timing.PulsesPerRev, s.Apertures)
 	}
 	fieldOK := false
@@ -90,11 +96,11 @@ func (r Recipe) Validate() error {
 		bad("sweep.field_deg", "is %g: expected an angle above 0° and below 360°", s.FieldDeg)
 	} else {
 		fieldOK = true
-		if s.Projection == "flat" && s.FieldDeg >= 180 && s.Law != "table" {
+		if s.Projection == "flat" && s.FieldDeg >= 180 && s.Law != LawTable {
 			bad("sweep.field_deg", "is %g° with projection flat: a flat projection needs a field below 180°; use projection angular", s.FieldDeg)
 			fieldOK = false
 		}
-		if s.Law == "uniform" && s.Apertures >= 1 {
+		if s.Law == LawUniform && s.Apertures >= 1 {
 			spacing := 360 / float64(s.Apertures)
 			if s.FieldDeg > spacing {
 				bad("sweep.field_deg", "is %g° but %d apertures are %g° apart: the field must not be wider than the aperture spacing; check field_deg and apertures", s.FieldDeg, s.Apertures, spacing)
@@ -104,7 +110,7 @@ func (r Recipe) Validate() error {
 	if finite("sweep.delay_deg", s.DelayDeg) && math.Abs(*s.DelayDeg) >= 360 {
 		bad("sweep.delay_deg", "is %g: expected degrees of wheel rotation above -360 and below 360, or null for automatic", *s.DelayDeg)
 	}
-	if n := len(s.ApertureOffsetsDeg); n != 0 && n != s.Apertures && s.Law != "sine" {
+	if n := len(s.ApertureOffsetsDeg); n != 0 && n != s.Apertures && s.Law != LawSine {
 		bad("sweep.aperture_offsets_deg", "has %d values: expected none or one per aperture (%d)", n, s.Apertures)
 	}
 	offsets := listCheck{key: "sweep.aperture_offsets_deg", noun: "values"}
@@ -124,12 +130,12 @@ func (r Recipe) Validate() error {
 	if finite("sweep.sine_period_s", s.SinePeriodS) && !(*s.SinePeriodS > 0 && *s.SinePeriodS <= maxPeriodS) {
 		bad("sweep.sine_period_s", "is %g: expected a period above 0 s and at most %d s, or null for the measured index period", *s.SinePeriodS, maxPeriodS)
 	}
-	if s.Law == "sine" && !(s.SineKeep > 0 && s.SineKeep <= 1) {
+	if s.Law == LawSine && !(s.SineKeep > 0 && s.SineKeep <= 1) {
 		bad("sweep.sine_keep", "is %g: expected a fraction above 0 and at most 1 (0.9 keeps 90 %% of the swing)", s.SineKeep)
 	}
 	tableOK := true
-	if s.Law == "table" || len(s.Table) > 0 {
-		if len(s.Table) < 2 && s.Law == "table" {
+	if s.Law == LawTable || len(s.Table) > 0 {
+		if len(s.Table) < 2 && s.Law == LawTable {
 			bad("sweep.table", "has %d points: law table needs two or more [fraction_of_line, x_mm] points", len(s.Table))
 			tableOK = false
 		}
@@ -151,8 +157,9 @@ func (r Recipe) Validate() error {
 
 	// rows
 	w := r.Rows
-	oneOf("rows.source", w.Source, RowSources)
-	if w.Source == "position" || w.Source == "tone" {
+	_, err = ParseRowSource(string(w.Source))
+	mode(err)
+	if w.Source.ReadsPosition() {
 		if len(w.Calibration) < 2 {
 			bad("rows.calibration", "has %d points: source %s needs two or more [level, mm] points", len(w.Calibration), w.Source)
 		}
@@ -164,7 +171,7 @@ func (r Recipe) Validate() error {
 	if finite("rows.mm_per_step", w.MMPerStep) && (*w.MMPerStep == 0 || math.Abs(*w.MMPerStep) > maxLengthMM) {
 		bad("rows.mm_per_step", "is %g: expected the head travel per step pulse in mm, not 0 and at most %g (negative to count down)", *w.MMPerStep, float64(maxLengthMM))
 	}
-	if w.Source == "steps" {
+	if w.Source == SourceSteps {
 		if w.MMPerStep == nil {
 			bad("rows.mm_per_step", "is null: source steps needs the head travel per step pulse in mm")
 		}
@@ -204,7 +211,7 @@ func (r Recipe) Validate() error {
 // angular one, the span of x_mm for a table; a sine sweep keeps sine_keep
 // of its swing. The sweep must be valid.
 func (s Sweep) WidthMM() float64 {
-	if s.Law == "table" {
+	if s.Law == LawTable {
 		lo, hi := math.Inf(1), math.Inf(-1)
 		for _, p := range s.Table {
 			lo, hi = math.Min(lo, p[1]), math.Max(hi, p[1])
@@ -212,7 +219,7 @@ func (s Sweep) WidthMM() float64 {
 		return math.Max(hi-lo, 0)
 	}
 	half := s.FieldDeg / 2
-	if s.Law == "sine" {
+	if s.Law == LawSine {
 		half *= math.Min(s.SineKeep, 1)
 	}
 	t := half * math.Pi / 180

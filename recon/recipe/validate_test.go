@@ -28,7 +28,7 @@ func TestValidateErrorStaysShortOnHugeBadRecipe(t *testing.T) {
 	r := recipe.Default()
 	const n = 100_000
 	r.Rows.Calibration = make([][2]float64, n) // every level 0: n-1 repeats
-	r.Sweep.Law = strings.Repeat("spiral", 200_000)
+	r.Sweep.Law = recipe.Law(strings.Repeat("spiral", 200_000))
 	r.Sweep.Table = make([][2]float64, n)
 	for i := range r.Sweep.Table {
 		r.Sweep.Table[i] = [2]float64{math.NaN(), 1}
