@@ -51,9 +51,9 @@ func newSourcePanel(ws *Workstation) *sourcePanel {
 	p.index = widget.NewSelect(nil, func(string) { p.rolesChanged() })
 	p.position = widget.NewSelect(nil, func(string) { p.rolesChanged() })
 	roles := container.New(layout.NewFormLayout(),
-		widget.NewLabel("Detector"), p.detector,
-		widget.NewLabel("Index pulse"), p.index,
-		widget.NewLabel("Position"), p.position,
+		roleLabel(0, "Detector"), p.detector,
+		roleLabel(1, "Index pulse"), p.index,
+		roleLabel(2, "Position"), p.position,
 	)
 	p.box = container.NewVBox(
 		widget.NewLabelWithStyle("Source", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),

@@ -5,45 +5,44 @@ import (
 	"image"
 	"image/color"
 	"math"
-	"sort"
 	"sync"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/canvas"
 	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/driver/desktop"
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
 
 	"spotloom/capture"
 )
 
-// Colours of the trace strip.
-var (
-	traceBackground = color.NRGBA{R: 0x16, G: 0x18, B: 0x1c, A: 0xff}
-	traceLaneEdge   = color.NRGBA{R: 0x34, G: 0x38, B: 0x40, A: 0xff}
-	traceColours    = [3]color.NRGBA{
-		{R: 0xf2, G: 0xd0, B: 0x4a, A: 0xff}, // detector
-		{R: 0x5c, G: 0xc8, B: 0xf0, A: 0xff}, // index
-		{R: 0x7c, G: 0xe0, B: 0x8a, A: 0xff}, // position
-	}
-	traceField     = color.NRGBA{R: 0x3c, G: 0x78, B: 0xd8, A: 0x48}
-	traceBaseline  = color.NRGBA{R: 0xe0, G: 0x80, B: 0x30, A: 0x22}
-	traceFieldBar  = color.NRGBA{R: 0x3c, G: 0x78, B: 0xd8, A: 0xff}
-	traceBaseBar   = color.NRGBA{R: 0xe0, G: 0x80, B: 0x30, A: 0xff}
-	traceEdge      = color.NRGBA{R: 0xff, G: 0x50, B: 0x70, A: 0xff}
-	traceThreshold = color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0x90}
-)
-
-// TraceLegend says what the marks of the strip mean.
+// TraceLegend says what the marks of the strip mean, with the strip's own
+// inks on its paper ground.
 func TraceLegend() fyne.CanvasObject {
 	item := func(c color.Color, text string) fyne.CanvasObject {
 		t := canvas.NewText(text, theme.Color(theme.ColorNameForeground))
 		t.TextSize = theme.CaptionTextSize()
-		return container.NewHBox(swatch(c), t)
+		return container.NewHBox(traceSwatch(c), t)
 	}
 	return container.NewHBox(
+		item(traceColours[0], "detector"), item(traceColours[1], "index"), item(traceColours[2], "position"),
 		item(traceFieldBar, "field of view"), item(traceBaseBar, "baseline"),
-		item(traceEdge, "index edge"), item(traceThreshold, "threshold"))
+		item(traceEdge, "index edge"), item(traceThreshold, "threshold"),
+		item(traceCursors[0], "cursor A"), item(traceCursors[1], "cursor B"))
+}
+
+// traceSwatch is a small piece of the strip: its paper with a bar of ink
+// c across it, so the inks read the same beside the dark window as on the
+// strip.
+func traceSwatch(c color.Color) fyne.CanvasObject {
+	paper := canvas.NewRectangle(tracePaper)
+	paper.SetMinSize(fyne.NewSize(18, 12))
+	paper.StrokeColor = traceLaneEdge
+	paper.StrokeWidth = 1
+	bar := canvas.NewRectangle(c)
+	bar.SetMinSize(fyne.NewSize(12, 4))
+	return container.NewCenter(container.NewStack(paper, container.NewCenter(bar)))
 }
 
 // traceLane is one signal of the strip.
@@ -53,29 +52,40 @@ type traceLane struct {
 }
 
 // TraceStrip draws the detector, index and position signals around one
-// line, with the index edges, the field window and the baseline interval
-// drawn over them, so a wrong threshold or delay shows at a glance.
+// line on a time axis in ms from the line's index edge, each lane with its
+// own voltage axis, with the index edges, the field window, the baseline
+// interval and the index threshold drawn over them, so a wrong threshold
+// or delay shows at a glance. Two cursors read Δt and ΔV; the wheel zooms
+// in time.
 type TraceStrip struct {
 	widget.BaseWidget
 
-	mu         sync.Mutex
-	rec        *capture.Recording
-	lanes      [3]traceLane
-	lines      []Line
-	chosen     int // index into lines, -1 for none
-	threshold  float64
-	hasThresh  bool
-	prevLanes  [3]traceLane
-	ranges     [3][2]float64 // whole-capture min and max of each lane
-	rangesOf   *capture.Recording
-	windowFrom float64 // seconds shown
-	windowTo   float64
-	caption    string
+	mu        sync.Mutex
+	rec       *capture.Recording
+	lanes     [3]traceLane
+	lines     []Line
+	chosen    int // index into lines, -1 for none
+	threshold float64
+	hasThresh bool
+	prevLanes [3]traceLane
+	ranges    [3][2]float64 // whole-capture min and max of each lane
+	rangesOf  *capture.Recording
+	lineFrom  float64 // the chosen line's own span, seconds
+	lineTo    float64
+	// zoomFrom and zoomTo are the span shown in seconds from the chosen
+	// line's edge when zoomed, so stepping lines keeps the zoom.
+	zoomed           bool
+	zoomFrom, zoomTo float64
+	// cursors are in seconds from the chosen line's edge, NaN when unset,
+	// so stepping lines keeps them where the lines are compared.
+	cursors  [2]float64
+	dragging int // the cursor a drag moves, -1 for a pan, -2 for none
+	caption  string
 }
 
 // NewTraceStrip returns an empty strip.
 func NewTraceStrip() *TraceStrip {
-	t := &TraceStrip{chosen: -1}
+	t := &TraceStrip{chosen: -1, cursors: [2]float64{math.NaN(), math.NaN()}, dragging: -2}
 	t.ExtendBaseWidget(t)
 	return t
 }
@@ -85,6 +95,10 @@ func NewTraceStrip() *TraceStrip {
 // threshold (NaN when unknown).
 func (t *TraceStrip) SetData(rec *capture.Recording, detector, index, position int, lines []Line, threshold float64) {
 	t.mu.Lock()
+	if rec != t.rec {
+		t.zoomed = false
+		t.cursors = [2]float64{math.NaN(), math.NaN()}
+	}
 	t.rec = rec
 	old := t.lanes
 	t.lanes = [3]traceLane{{"detector", detector}, {"index", index}, {"position", position}}
@@ -147,11 +161,128 @@ func (t *TraceStrip) Chosen() int {
 	return t.chosen
 }
 
-// Window returns the time span shown, in seconds.
+// Window returns the time span shown, in seconds from the capture's start.
 func (t *TraceStrip) Window() (from, to float64) {
 	t.mu.Lock()
 	defer t.mu.Unlock()
-	return t.windowFrom, t.windowTo
+	return t.window()
+}
+
+// window is the span shown. Call with mu held.
+func (t *TraceStrip) window() (from, to float64) {
+	if t.zoomed && t.chosen >= 0 {
+		edge := t.lines[t.chosen].EdgeS
+		return edge + t.zoomFrom, edge + t.zoomTo
+	}
+	return t.lineFrom, t.lineTo
+}
+
+// edge is the time of the chosen line's index edge. Call with mu held.
+func (t *TraceStrip) edge() float64 {
+	if t.chosen < 0 || t.chosen >= len(t.lines) {
+		return 0
+	}
+	return t.lines[t.chosen].EdgeS
+}
+
+// ZoomTime narrows the span shown by factor (above 1 zooms in) keeping
+// the time aboutS (seconds from the capture's start) where it is. The span
+// stays between 8 samples and the whole capture.
+func (t *TraceStrip) ZoomTime(factor, aboutS float64) {
+	t.mu.Lock()
+	defer t.Refresh()
+	defer t.mu.Unlock()
+	if t.chosen < 0 || t.rec == nil || !(factor > 0) || t.rec.SampleRateHz <= 0 {
+		return
+	}
+	from, to := t.window()
+	if !(to > from) {
+		return
+	}
+	if math.IsNaN(aboutS) || aboutS < from || aboutS > to {
+		aboutS = (from + to) / 2
+	}
+	span := (to - from) / factor
+	span = math.Min(math.Max(span, 8/t.rec.SampleRateHz), math.Max(t.rec.DurationS(), t.lineTo-t.lineFrom))
+	k := (aboutS - from) / (to - from)
+	edge := t.edge()
+	t.zoomFrom = aboutS - k*span - edge
+	t.zoomTo = t.zoomFrom + span
+	t.zoomed = true
+}
+
+// PanTime moves the span shown by deltaS seconds.
+func (t *TraceStrip) PanTime(deltaS float64) {
+	t.mu.Lock()
+	from, to := t.window()
+	if t.chosen >= 0 && to > from && !math.IsNaN(deltaS) {
+		edge := t.edge()
+		t.zoomFrom, t.zoomTo, t.zoomed = from+deltaS-edge, to+deltaS-edge, true
+	}
+	t.mu.Unlock()
+	t.Refresh()
+}
+
+// ResetTime shows the chosen line whole again.
+func (t *TraceStrip) ResetTime() {
+	t.mu.Lock()
+	t.zoomed = false
+	t.mu.Unlock()
+	t.Refresh()
+}
+
+// SetCursor puts cursor k (0 for A, 1 for B) at atS seconds from the
+// capture's start; NaN removes it.
+func (t *TraceStrip) SetCursor(k int, atS float64) {
+	if k < 0 || k > 1 {
+		return
+	}
+	t.mu.Lock()
+	t.cursors[k] = atS - t.edge()
+	t.mu.Unlock()
+	t.Refresh()
+}
+
+// ClearCursors removes both cursors.
+func (t *TraceStrip) ClearCursors() {
+	t.mu.Lock()
+	t.cursors = [2]float64{math.NaN(), math.NaN()}
+	t.mu.Unlock()
+	t.Refresh()
+}
+
+// Reading returns what the cursors read on the line shown.
+func (t *TraceStrip) Reading() traceReading {
+	v := t.view()
+	return v.reading()
+}
+
+// view copies what one picture needs.
+func (t *TraceStrip) view() *traceView {
+	t.mu.Lock()
+	defer t.mu.Unlock()
+	v := &traceView{rec: t.rec, lanes: t.lanes, lines: t.lines, chosen: t.chosen,
+		threshold: t.threshold, hasThresh: t.hasThresh, ranges: t.ranges, caption: t.caption}
+	v.from, v.to = t.window()
+	v.edgeS = t.edge()
+	for k, c := range t.cursors {
+		v.cursors[k] = v.edgeS + c
+	}
+	for i, lane := range t.lanes {
+		v.labels[i] = lane.name + " · none"
+		if t.rec != nil && lane.channel >= 0 && lane.channel < len(t.rec.Channels) {
+			c := t.rec.Channels[lane.channel]
+			v.labels[i] = fmt.Sprintf("%s · %s", lane.name, channelOption(lane.channel, c))
+			v.units[i] = c.Unit
+		}
+	}
+	return v
+}
+
+// Picture draws the strip as it is shown, at width×height units and scale
+// pixels per unit: the picture a user saves has the same inks and axes.
+func (t *TraceStrip) Picture(width, height float32, scale float64) image.Image {
+	return paintTraces(t.view(), int(float64(width)*scale), int(float64(height)*scale), scale)
 }
 
 // placeWindow shows the chosen line from a little before its index edge
@@ -159,18 +290,18 @@ func (t *TraceStrip) Window() (from, to float64) {
 func (t *TraceStrip) placeWindow() {
 	t.caption = "No line to show"
 	if t.chosen < 0 || t.chosen >= len(t.lines) {
-		t.windowFrom, t.windowTo = 0, 0
+		t.lineFrom, t.lineTo = 0, 0
 		return
 	}
 	l := t.lines[t.chosen]
 	start, end := lineSpan(t.lines, t.chosen)
 	margin := 0.12 * (end - start)
-	t.windowFrom, t.windowTo = start-margin, end+margin
+	t.lineFrom, t.lineTo = start-margin, end+margin
 	repaired := ""
 	if l.Repaired {
 		repaired = " (edge filled in)"
 	}
-	t.caption = fmt.Sprintf("Line %d of %d · aperture %d · stroke %d · edge at %.4f s%s · field %.2f–%.2f ms after the edge · y %.1f mm",
+	t.caption = fmt.Sprintf("Line %d of %d · aperture %d · stroke %d · edge at %.4f s%s · field %.2f–%.2f ms · y %.1f mm",
 		l.Number, len(t.lines), l.Aperture, l.Stroke, l.EdgeS, repaired,
 		1000*(l.FieldStartS-l.EdgeS), 1000*(l.FieldEndS-l.EdgeS), l.YMM)
 }
@@ -208,164 +339,121 @@ func lineSpan(lines []Line, i int) (start, end float64) {
 	return start, end
 }
 
+// timeAt is the time under x units from the strip's left. Call with mu held.
+func (t *TraceStrip) timeAt(x float32) float64 {
+	from, to := t.window()
+	width := float64(t.Size().Width) - traceLeft - traceRight
+	if width <= 0 {
+		return math.NaN()
+	}
+	return from + (float64(x)-traceLeft)/width*(to-from)
+}
+
+// Tapped puts cursor A under the pointer.
+func (t *TraceStrip) Tapped(ev *fyne.PointEvent) { t.placeCursor(0, ev.Position.X) }
+
+// TappedSecondary puts cursor B under the pointer.
+func (t *TraceStrip) TappedSecondary(ev *fyne.PointEvent) { t.placeCursor(1, ev.Position.X) }
+
+func (t *TraceStrip) placeCursor(k int, x float32) {
+	t.mu.Lock()
+	at := t.timeAt(x)
+	t.mu.Unlock()
+	if !math.IsNaN(at) {
+		t.SetCursor(k, at)
+	}
+}
+
+// Scrolled zooms in time about the pointer: one wheel step is 1.25.
+func (t *TraceStrip) Scrolled(ev *fyne.ScrollEvent) {
+	steps := math.Max(-1, math.Min(1, float64(ev.Scrolled.DY)/10))
+	if steps == 0 {
+		return
+	}
+	t.mu.Lock()
+	at := t.timeAt(ev.Position.X)
+	t.mu.Unlock()
+	t.ZoomTime(math.Pow(1.25, steps), at)
+}
+
+// Dragged moves the cursor nearest the pointer when the drag starts on
+// one, else pans in time.
+func (t *TraceStrip) Dragged(ev *fyne.DragEvent) {
+	t.mu.Lock()
+	if t.dragging == -2 {
+		t.dragging = -1
+		start := ev.Position.X - ev.Dragged.DX
+		from, to := t.window()
+		width := float64(t.Size().Width) - traceLeft - traceRight
+		for k, c := range t.cursors {
+			if math.IsNaN(c) || width <= 0 {
+				continue
+			}
+			x := traceLeft + (t.edge()+c-from)/(to-from)*width
+			if math.Abs(x-float64(start)) <= 8 {
+				t.dragging = k
+			}
+		}
+	}
+	k := t.dragging
+	from, to := t.window()
+	width := float64(t.Size().Width) - traceLeft - traceRight
+	at := t.timeAt(ev.Position.X)
+	t.mu.Unlock()
+	switch {
+	case k >= 0:
+		t.SetCursor(k, at)
+	case width > 0:
+		t.PanTime(-float64(ev.Dragged.DX) / width * (to - from))
+	}
+}
+
+// DragEnd ends a cursor move or a pan.
+func (t *TraceStrip) DragEnd() {
+	t.mu.Lock()
+	t.dragging = -2
+	t.mu.Unlock()
+}
+
+// Cursor shows a cross over the traces.
+func (t *TraceStrip) Cursor() desktop.Cursor { return desktop.CrosshairCursor }
+
 // CreateRenderer makes the strip's renderer.
 func (t *TraceStrip) CreateRenderer() fyne.WidgetRenderer {
 	r := &traceRenderer{strip: t}
 	r.raster = canvas.NewRaster(r.paint)
-	r.caption = canvas.NewText("", theme.Color(theme.ColorNameForeground))
-	r.caption.TextSize = theme.CaptionTextSize()
-	for i := range r.labels {
-		r.labels[i] = canvas.NewText("", traceColours[i])
-		r.labels[i].TextSize = theme.CaptionTextSize()
-	}
 	return r
 }
 
 type traceRenderer struct {
-	strip   *TraceStrip
-	raster  *canvas.Raster
-	caption *canvas.Text
-	labels  [3]*canvas.Text
-	size    fyne.Size
+	strip  *TraceStrip
+	raster *canvas.Raster
+	size   fyne.Size
 }
-
-const traceHeader = 18 // units above the lanes for the caption
 
 func (r *traceRenderer) Layout(size fyne.Size) {
 	r.size = size
-	r.raster.Move(fyne.NewPos(0, traceHeader))
-	r.raster.Resize(fyne.NewSize(size.Width, size.Height-traceHeader))
-	r.caption.Move(fyne.NewPos(4, 1))
-	r.caption.Resize(fyne.NewSize(size.Width-8, traceHeader-2))
-	laneH := (size.Height - traceHeader) / 3
-	for i, l := range r.labels {
-		l.Move(fyne.NewPos(6, traceHeader+float32(i)*laneH+2))
-		l.Resize(l.MinSize())
-	}
+	r.raster.Move(fyne.NewPos(0, 0))
+	r.raster.Resize(size)
 }
 
-func (r *traceRenderer) MinSize() fyne.Size { return fyne.NewSize(200, 150) }
+func (r *traceRenderer) MinSize() fyne.Size { return fyne.NewSize(240, 150) }
 
-func (r *traceRenderer) Refresh() {
-	s := r.strip
-	s.mu.Lock()
-	r.caption.Text = s.caption
-	for i, lane := range s.lanes {
-		label := lane.name
-		if s.rec != nil && lane.channel >= 0 && lane.channel < len(s.rec.Channels) {
-			c := s.rec.Channels[lane.channel]
-			label = fmt.Sprintf("%s · ch %d %s (%s)", lane.name, lane.channel, c.Name, c.Unit)
-		} else if lane.name != "" {
-			label = lane.name + " · none"
-		}
-		r.labels[i].Text = label
-	}
-	s.mu.Unlock()
-	r.Layout(r.size)
-	r.caption.Refresh()
-	for _, l := range r.labels {
-		l.Refresh()
-	}
-	r.raster.Refresh()
-}
+func (r *traceRenderer) Refresh() { r.raster.Refresh() }
 
-func (r *traceRenderer) Objects() []fyne.CanvasObject {
-	return []fyne.CanvasObject{r.raster, r.caption, r.labels[0], r.labels[1], r.labels[2]}
-}
+func (r *traceRenderer) Objects() []fyne.CanvasObject { return []fyne.CanvasObject{r.raster} }
 
 func (r *traceRenderer) Destroy() {}
 
-// paint draws the lanes at screen resolution: for every screen column the
+// paint draws the strip at screen resolution: for every screen column the
 // minimum-to-maximum span of the samples it covers, so no peak is lost
 // however many samples fall in a column.
 func (r *traceRenderer) paint(w, h int) image.Image {
-	img := image.NewNRGBA(image.Rect(0, 0, w, h))
-	fill(img, traceBackground)
-	s := r.strip
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	if s.rec == nil || s.rec.SampleRateHz <= 0 || !(s.windowTo > s.windowFrom) || w < 2 || h < 6 {
-		return img
+	scale := 1.0
+	if r.size.Width > 0 {
+		scale = float64(w) / float64(r.size.Width)
 	}
-	t0, t1 := s.windowFrom, s.windowTo
-	toX := func(ts float64) int { return int(math.Round((ts - t0) / (t1 - t0) * float64(w-1))) }
-	laneH := h / 3
-
-	// Bands first, so the traces draw over them.
-	lo := sort.Search(len(s.lines), func(i int) bool { return s.lines[i].EdgeS >= t0-(t1-t0) })
-	for i := lo; i < len(s.lines) && s.lines[i].EdgeS <= t1+(t1-t0); i++ {
-		l := s.lines[i]
-		if l.hasBaseline() {
-			shade(img, toX(l.BaselineStartS), toX(l.BaselineEndS), 0, h, traceBaseline)
-			// Solid bars along the top say the same where the traces cover the bands.
-			shade(img, toX(l.BaselineStartS), toX(l.BaselineEndS), 0, 3, traceBaseBar)
-		}
-		shade(img, toX(l.FieldStartS), toX(l.FieldEndS), 0, h, traceField)
-		shade(img, toX(l.FieldStartS), toX(l.FieldEndS), 3, 6, traceFieldBar)
-	}
-	for lane := 1; lane < 3; lane++ {
-		hline(img, 0, w, lane*laneH, traceLaneEdge)
-	}
-
-	for lane, tl := range s.lanes {
-		if tl.channel < 0 || tl.channel >= len(s.rec.Channels) {
-			continue
-		}
-		samples := s.rec.Channels[tl.channel].Samples
-		vmin, vmax := s.ranges[lane][0], s.ranges[lane][1]
-		if lane == 1 && s.hasThresh {
-			vmin, vmax = math.Min(vmin, s.threshold), math.Max(vmax, s.threshold)
-		}
-		if !(vmax > vmin) {
-			vmax, vmin = vmin+1, vmin-1
-		}
-		top, bottom := lane*laneH+4, (lane+1)*laneH-4
-		toY := func(v float64) int {
-			return bottom - int(math.Round((v-vmin)/(vmax-vmin)*float64(bottom-top)))
-		}
-		if lane == 1 && s.hasThresh {
-			y := toY(s.threshold)
-			for x := 0; x < w; x += 6 {
-				hline(img, x, min(x+3, w), y, traceThreshold)
-			}
-		}
-		prevLo, prevHi := -1, -1
-		for x := 0; x < w; x++ {
-			a, b, ok := columnSamples(x, w, t0, t1, s.rec.SampleRateHz, len(samples))
-			if !ok {
-				prevLo, prevHi = -1, -1
-				continue
-			}
-			mn, mx := samples[a], samples[a]
-			for _, v := range samples[a:b] {
-				mn, mx = min(mn, v), max(mx, v)
-			}
-			yLo, yHi := toY(float64(mx)), toY(float64(mn))
-			// Join to the previous column so steep edges stay connected.
-			if prevLo >= 0 {
-				if yLo > prevHi {
-					yLo = prevHi
-				}
-				if yHi < prevLo {
-					yHi = prevLo
-				}
-			}
-			vline(img, x, yLo, yHi+1, traceColours[lane])
-			prevLo, prevHi = toY(float64(mx)), toY(float64(mn))
-		}
-	}
-	for i := lo; i < len(s.lines) && s.lines[i].EdgeS <= t1+(t1-t0); i++ {
-		x := toX(s.lines[i].EdgeS)
-		c := traceEdge
-		if s.lines[i].Repaired {
-			c = color.NRGBA{R: 0xff, G: 0xa0, B: 0xff, A: 0xff}
-		}
-		vline(img, x, 0, h, c)
-		if i == s.chosen {
-			vline(img, x+1, 0, h, c)
-		}
-	}
-	return img
+	return paintTraces(r.strip.view(), w, h, scale)
 }
 
 // columnSamples is the span [a, b) of sample indices that screen column x

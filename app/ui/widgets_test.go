@@ -48,48 +48,52 @@ func TestTraceStripDrawsEdgesAndWindows(t *testing.T) {
 	from, to := strip.Window()
 	r := test.WidgetRenderer(strip).(*traceRenderer)
 	const w, h = 1001, 300
-	img := r.paint(w, h).(*image.NRGBA)
-	// Closed form: time s sits at column (s−from)/(to−from)·(w−1).
-	col := func(s float64) int { return int(math.Round((s - from) / (to - from) * (w - 1))) }
+	img := r.paint(w, h).(*image.NRGBA) // scale 1: one pixel per unit
+	// Closed form: time s sits at column left + (s−from)/(to−from)·(plot width − 1).
+	left, right := traceLeft, w-traceRight
+	top, bottom := traceCaptionH, h-traceAxisH
+	col := func(s float64) int { return left + int(math.Round((s-from)/(to-from)*float64(right-left-1))) }
 	at := func(x, y int) [4]uint8 {
 		i := y*img.Stride + 4*x
 		return [4]uint8{img.Pix[i], img.Pix[i+1], img.Pix[i+2], img.Pix[i+3]}
 	}
-	// The index edge of line 0 is a full-height line in the edge colour.
-	for _, y := range []int{2, h / 2, h - 2} {
+	// The index edge of line 0 is a line in the edge ink across the lanes.
+	for _, y := range []int{top + 8, (top + bottom) / 2, bottom - 2} {
 		if c := at(col(0.20), y); c[0] != traceEdge.R || c[1] != traceEdge.G || c[2] != traceEdge.B {
 			t.Errorf("no index edge at column %d, row %d: %v", col(0.20), y, c)
 		}
 	}
 	// The field bar runs along the top from field start to field end.
 	mid := col(0.50)
-	if c := at(mid, 3); c[0] != traceFieldBar.R || c[2] != traceFieldBar.B {
+	if c := at(mid, top+4); c[0] != traceFieldBar.R || c[2] != traceFieldBar.B {
 		t.Errorf("no field bar at column %d: %v", mid, c)
 	}
-	if c := at(col(0.32), 3); c[2] == traceFieldBar.B && c[0] == traceFieldBar.R {
+	if c := at(col(0.32), top+4); c[2] == traceFieldBar.B && c[0] == traceFieldBar.R {
 		t.Errorf("field bar drawn before the field starts, column %d", col(0.32))
 	}
 	// The baseline bar covers 0.22–0.30 s.
-	if c := at(col(0.26), 1); c[0] != traceBaseBar.R || c[1] != traceBaseBar.G {
+	if c := at(col(0.26), top+1); c[0] != traceBaseBar.R || c[1] != traceBaseBar.G {
 		t.Errorf("no baseline bar at column %d: %v", col(0.26), c)
 	}
 	// The detector lane shows its bright stretch near the top of the lane
-	// and its dark level near the bottom: the whole-capture range is 0.5…1.
-	laneH := h / 3
-	top, bottom := 4, laneH-4
+	// and its dark level near the bottom: the whole-capture range is
+	// 0.5…1, drawn over 0.47…1.03 (6 % more at each end).
+	laneH := float64(bottom-top) / 3
+	ytop, ybot := top+6, top+int(math.Round(laneH))-4
+	rowOf := func(v float64) int { return ybot - int(math.Round((v-0.47)/0.56*float64(ybot-ytop))) }
 	findTrace := func(x int) int {
-		for y := 0; y < laneH; y++ {
+		for y := top; y < top+int(laneH); y++ {
 			if c := at(x, y); c == [4]uint8{traceColours[0].R, traceColours[0].G, traceColours[0].B, 0xff} {
 				return y
 			}
 		}
 		return -1
 	}
-	if y := findTrace(col(0.50)); y < 0 || y > top+1 {
-		t.Errorf("bright detector drawn at row %d, want %d", y, top)
+	if y := findTrace(col(0.50)); y < rowOf(1)-1 || y > rowOf(1)+1 {
+		t.Errorf("bright detector drawn at row %d, want %d", y, rowOf(1))
 	}
-	if y := findTrace(col(0.30)); y < bottom-1 || y > bottom+1 {
-		t.Errorf("dark detector drawn at row %d, want %d", y, bottom)
+	if y := findTrace(col(0.30)); y < rowOf(0.5)-1 || y > rowOf(0.5)+1 {
+		t.Errorf("dark detector drawn at row %d, want %d", y, rowOf(0.5))
 	}
 }
 

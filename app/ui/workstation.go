@@ -174,6 +174,7 @@ func (ws *Workstation) build() {
 		widget.NewButtonWithIcon("", theme.MoveDownIcon(), func() { ws.stepLine(1) }),
 		container.NewGridWrap(fyne.NewSize(90, ws.lineEntry.MinSize().Height), ws.lineEntry),
 		ws.followCheck,
+		ws.traceTools(),
 	)
 	// The legend scrolls rather than widening the window when it is narrow.
 	stripBar = container.NewBorder(nil, nil, stripBar, nil, container.NewHScroll(container.NewHBox(layout.NewSpacer(), TraceLegend())))
