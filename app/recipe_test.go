@@ -186,3 +186,64 @@ func TestRecipeOut(t *testing.T) {
 		t.Errorf("with --force: exit %d", code)
 	}
 }
+
+// TestRecipeWritesEstimatedOffsets: with sweep.aperture_offsets_deg null
+// in the starting recipe, "spotloom recipe" writes the offsets it measured,
+// one per aperture, and they match the simulator's truth (whose offsets
+// start at 0 where ours have zero mean, so differences are compared) within
+// 0.05°; with [] it keeps all zero.
+func TestRecipeWritesEstimatedOffsets(t *testing.T) {
+	dir := t.TempDir()
+	capPath := filepath.Join(dir, "grid.wav")
+	truthPath := filepath.Join(dir, "grid.truth.json")
+	startPath := filepath.Join(dir, "grid.start.json")
+	if code, _, errText := runSimulateCmd("--scene", "dot-grid", "--out", capPath, "--seconds", "8", "--truth", truthPath, "--recipe", startPath); code != 0 {
+		t.Fatalf("simulate exit %d: %s", code, errText)
+	}
+	start, err := recipe.Load(startPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	start.Sweep.ApertureOffsetsDeg = nil
+	nullPath := filepath.Join(dir, "null.json")
+	if err := os.WriteFile(nullPath, start.JSON(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if data, _ := os.ReadFile(nullPath); !bytes.Contains(data, []byte(`"aperture_offsets_deg": null`)) {
+		t.Fatalf("null offsets not written as null:\n%s", data)
+	}
+	var truth sampledata.Truth
+	data, err := os.ReadFile(truthPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(data, &truth); err != nil {
+		t.Fatal(err)
+	}
+	var out, errOut bytes.Buffer
+	if code := run([]string{"recipe", capPath, "--from", nullPath}, &out, &errOut); code != 0 {
+		t.Fatalf("recipe exit %d: %s", code, errOut.String())
+	}
+	r, err := recipe.Parse(out.Bytes())
+	if err != nil {
+		t.Fatal(err)
+	}
+	off := r.Sweep.ApertureOffsetsDeg
+	if len(off) != r.Sweep.Apertures {
+		t.Fatalf("written offsets %v for %d apertures", off, r.Sweep.Apertures)
+	}
+	for k := range off {
+		got := off[k] - off[0]
+		want := truth.ApertureOffsetsDeg[k] - truth.ApertureOffsetsDeg[0]
+		if math.Abs(got-want) > 0.05 {
+			t.Errorf("aperture %d offset %.3f° after aperture 0's, truth %.3f°", k, got, want)
+		}
+	}
+	out.Reset()
+	if code := run([]string{"recipe", capPath, "--from", startPath}, &out, &errOut); code != 0 {
+		t.Fatalf("recipe exit %d: %s", code, errOut.String())
+	}
+	if r, _ := recipe.Parse(out.Bytes()); len(r.Sweep.ApertureOffsetsDeg) != 0 {
+		t.Errorf("[] became %v", r.Sweep.ApertureOffsetsDeg)
+	}
+}

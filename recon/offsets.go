@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"slices"
 
 	"spotloom/recon/recipe"
 )
@@ -16,37 +17,113 @@ import (
 // their offsets. The differences are chained from aperture 0, the closing
 // error of the chain is spread evenly, and the offsets are returned with
 // zero mean (their common part belongs to sweep.delay_deg). The recipe's
-// own offsets are ignored.
+// own offsets are ignored. A build with sweep.aperture_offsets_deg null
+// uses the same estimate.
 func EstimateApertureOffsets(ctx context.Context, s *Session, r recipe.Recipe) ([]float64, error) {
 	if r.Sweep.Law == recipe.LawSine {
 		return nil, fmt.Errorf("sweep.law sine has no apertures: aperture offsets apply to the uniform and table laws")
 	}
 	r = r.Clone()
-	r.Sweep.ApertureOffsetsDeg = nil
+	r.Sweep.ApertureOffsetsDeg = []float64{}
 	s.mu.Lock()
 	defer s.mu.Unlock()
 	rs, _, err := s.resolve(ctx, r, nil)
 	if err != nil {
 		return nil, err
 	}
-	n := rs.r.Sweep.Apertures
+	return s.offsetStage(ctx, rs.r, rs.ch, s.timing)
+}
+
+// offsetStage estimates the aperture offsets of a resolved recipe (its own
+// offsets and delay are not used) and caches them. The correlation is
+// taken over the field where the automatic delay with all offsets zero
+// puts it, so the result does not depend on a delay given by hand: it
+// measures differences between apertures, which the exact place of the
+// window hardly changes.
+func (s *Session) offsetStage(ctx context.Context, r recipe.Recipe, ch channels, t *timingResult) ([]float64, error) {
+	n := r.Sweep.Apertures
 	if n < 2 {
 		return []float64{0}, nil
 	}
-	t := s.timing
-	det, _, err := s.detector(ctx, rs.ch.detector, rs.r.Signal)
+	sw := r.Sweep
+	sw.ApertureOffsetsDeg = []float64{}
+	sw.DelayDeg = nil
+	k := key(struct {
+		T      string
+		Det    int
+		Sweep  recipe.Sweep
+		AC     float64
+		Invert bool
+	}{s.timingKey, ch.detector, sw, r.Signal.ACCornerHz, r.Signal.Invert})
+	if s.offsetsKey == k {
+		return slices.Clone(s.offsets), s.offsetsErr
+	}
+	rough := r.Clone()
+	rough.Sweep.ApertureOffsetsDeg = []float64{}
+	rough.Sweep.DelayDeg = nil
+	d, cache := 0.0, true
+	if sw.Law != "table" {
+		var err error
+		if d, _, err = s.delayStage(ctx, rough, ch, t); err != nil {
+			if ctx.Err() != nil || r.Sweep.DelayDeg == nil {
+				return nil, err
+			}
+			// No field edge to place the window by (a scene that sends
+			// little back): the delay given by hand places it, and the
+			// result then depends on it, so it is not kept.
+			d, cache = *r.Sweep.DelayDeg, false
+		}
+	}
+	sw.DelayDeg = &d
+	det, _, err := s.detector(ctx, ch.detector, r.Signal)
 	if err != nil {
 		return nil, err
 	}
-	sw := rs.r.Sweep
+	offsets, err := estimateOffsets(ctx, t, det, sw)
+	if err != nil && ctx.Err() != nil {
+		return nil, err
+	}
+	if cache {
+		s.offsets, s.offsetsErr, s.offsetsKey = offsets, err, k
+	}
+	s.runs["offsets"]++
+	return slices.Clone(offsets), err
+}
+
+// resolveOffsets fills in sweep.aperture_offsets_deg when it is null: the
+// estimate from the image, or all zero with a warning when the scene has
+// too little detail to measure them.
+func (s *Session) resolveOffsets(ctx context.Context, r *recipe.Recipe, ch channels, t *timingResult) ([]string, error) {
+	if r.Sweep.Law == "sine" {
+		r.Sweep.ApertureOffsetsDeg = []float64{}
+		return nil, nil
+	}
+	offsets, err := s.offsetStage(ctx, *r, ch, t)
+	if err != nil {
+		if ctx.Err() != nil {
+			return nil, ctx.Err()
+		}
+		r.Sweep.ApertureOffsetsDeg = make([]float64, r.Sweep.Apertures)
+		return []string{fmt.Sprintf("sweep.aperture_offsets_deg is null but the offsets could not be measured, so they are taken as zero: %v", err)}, nil
+	}
+	r.Sweep.ApertureOffsetsDeg = offsets
+	return nil, nil
+}
+
+// estimateOffsets is EstimateApertureOffsets on a sweep whose delay places
+// the field.
+func estimateOffsets(ctx context.Context, t *timingResult, det []float32, sw recipe.Sweep) ([]float64, error) {
+	n := sw.Apertures
 	// Coarse: 0.1° steps over ±3°; fine: 0.02° steps within ±0.16° of the
 	// coarse peak. Both use the same pairs of lines.
 	const margin = 3.0
-	coarse, err := offsetCorrelation(ctx, t, det, sw, n, 0.1, make([]float64, n), margin)
+	// The coarse search only has to land within a step of the peak: a
+	// quarter of the pairs do.
+	coarse, err := offsetCorrelation(ctx, t, det, sw, n, 0.1, make([]float64, n), margin, 250)
 	if err != nil {
 		return nil, err
 	}
-	diffs, err := offsetCorrelation(ctx, t, det, sw, n, 0.02, coarse, 0.16)
+	diffs, err := offsetCorrelation(ctx, t, det, sw, n, 0.02, coarse, 0.16, 1000)
 	if err != nil {
 		return nil, err
 	}
@@ -77,10 +154,10 @@ func meanStd(v []float64) (float64, float64) {
 // offsetCorrelation returns, for each aperture k, the lag (degrees) that
 // best aligns the detector profiles of lines from aperture k+1 with those
 // of the lines from aperture k just before them: the normalised
-// cross-correlation, pooled over up to about 1000 pairs, is searched in
+// cross-correlation, pooled over up to about the given number of pairs, is searched in
 // steps of binDeg within ±halfDeg of centre[k], and its peak refined by a
 // parabola through the three best points.
-func offsetCorrelation(ctx context.Context, t *timingResult, det []float32, sw recipe.Sweep, n int, binDeg float64, centre []float64, halfDeg float64) ([]float64, error) {
+func offsetCorrelation(ctx context.Context, t *timingResult, det []float32, sw recipe.Sweep, n int, binDeg float64, centre []float64, halfDeg float64, pairs int) ([]float64, error) {
 	spacing := apertureSpacingDeg(sw)
 	maxShift := 0.0
 	for _, c := range centre {
@@ -117,10 +194,20 @@ func offsetCorrelation(ctx context.Context, t *timingResult, det []float32, sw r
 	}
 	a := make([]float64, nb)
 	b := make([]float64, nb)
+	sumB := make([]float64, nb+1)
+	sumB2 := make([]float64, nb+1)
 	used := make([]int, n)
-	stride := 1 + len(t.lines)/1000
+	// Pairs are taken in runs of one revolution (n pairs), so that every
+	// aperture has its share whatever the stride.
+	stride := 1 + len(t.lines)/pairs
 	lo, hi := maxLag, nb-maxLag
-	for i := 0; i+1 < len(t.lines); i += stride {
+	for i := 0; i+1 < len(t.lines); i++ {
+		if i%n == 0 && i > 0 {
+			i += (stride - 1) * n
+			if i+1 >= len(t.lines) {
+				break
+			}
+		}
 		if i%256 == 0 && ctx.Err() != nil {
 			return nil, ctx.Err()
 		}
@@ -132,15 +219,25 @@ func offsetCorrelation(ctx context.Context, t *timingResult, det []float32, sw r
 		ma, sa := meanStd(a[lo:hi])
 		m := float64(hi - lo)
 		varA[k] += sa * sa * m
+		for q := lo; q < hi; q++ {
+			a[q] -= ma
+		}
+		// Running sums of b and b² give each window's variance at once.
+		sumB[0], sumB2[0] = 0, 0
+		for q, v := range b {
+			sumB[q+1] = sumB[q] + v
+			sumB2[q+1] = sumB2[q] + v*v
+		}
 		for j := range corr[k] {
 			lag := centreLag[k] - half + j
-			mb, sb := meanStd(b[lo+lag : hi+lag])
+			// Σ(a−ā)(b−b̄) = Σ(a−ā)b, as Σ(a−ā) = 0.
 			c := 0.0
 			for q := lo; q < hi; q++ {
-				c += (a[q] - ma) * (b[q+lag] - mb)
+				c += a[q] * b[q+lag]
 			}
 			corr[k][j] += c
-			varB[k][j] += sb * sb * m
+			sb := sumB[hi+lag] - sumB[lo+lag]
+			varB[k][j] += math.Max(0, sumB2[hi+lag]-sumB2[lo+lag]-sb*sb/m)
 		}
 		used[k]++
 	}

@@ -80,6 +80,9 @@ type Session struct {
 	acKey           string        // channel and corner of acDet
 	acDet           []float32     // the detector with its AC coupling undone
 	acStats         *channelStats // statistics of acDet
+	offsetsKey      string
+	offsets         []float64 // estimated aperture offsets
+	offsetsErr      error     // why they could not be estimated
 	placeKey        string
 	place           *placement
 	gridKey         string
@@ -234,6 +237,13 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 		r.Rows.CarrierHz = recipe.Float(rows.carrier)
 	}
 	progress.report("rows", 1)
+	if r.Sweep.ApertureOffsetsDeg == nil {
+		w, err := s.resolveOffsets(ctx, &r, ch, t)
+		if err != nil {
+			return nil, nil, err
+		}
+		warns = append(warns, w...)
+	}
 	aperturesSeen := 0
 	if r.Sweep.DelayDeg == nil {
 		progress.report("delay", 0)

@@ -242,7 +242,7 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		return 0, false, 0, nil, fmt.Errorf("no lines to find the delay from")
 	}
 	spacing := apertureSpacingDeg(s)
-	prof, spread, err := foldLines(ctx, t, det, s)
+	prof, spread, perAperture, err := foldLines(ctx, t, det, s)
 	if err != nil {
 		return 0, false, 0, nil, err
 	}
@@ -319,58 +319,34 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		return 0, false, 0, nil, fmt.Errorf("the detector shows no beam-off stretch within the lines: set sweep.delay_deg by hand, or check sweep.apertures")
 	}
 	binDeg := spacing / float64(bins)
-	// Crossing between bin bestStart-1 (below) and bestStart (above); bin
-	// b's value belongs to the angle at its centre.
-	cross := func(below, above int) float64 {
-		a, b := prof[(below+bins)%bins], prof[above%bins]
-		f := 0.5
-		if b != a {
-			f = (mid - a) / (b - a)
-		}
-		return (float64(below) + 0.5 + f) * binDeg
-	}
-	start := cross(bestStart-1, bestStart)
-	// The half-way crossing marks where the bright part of the scene
-	// starts; the beam enters the field at the first step up of the
-	// profile, which a dim background (air) shows as a small one. A step
-	// survives AC coupling and drift, which bend the beam-off level but
-	// change it only slowly, so the search is for the earliest rise well
-	// above the bin-to-bin noise (6 σ, σ from the median absolute step)
-	// in the beam-off stretch before the bright run; the start is the
-	// middle of that rise.
 	offLen := bins - bestLen
-	if offLen > 20 {
-		at := func(b int) float64 { return prof[((b%bins)+bins)%bins] }
-		steps := make([]float64, bins)
-		for b := range steps {
-			steps[b] = math.Abs(at(b+1) - at(b))
-		}
-		limit := 6 * 1.4826 * median(steps)
-		edge := -1
-		for b := bestStart - offLen*8/10; b < bestStart; b++ {
-			if at(b+1)-at(b) > limit {
-				edge = b
-				break
-			}
-		}
-		if edge >= 0 {
-			// The beam switches on within a bin or two (the detector's
-			// response); a slower rise after it is the scene's own edge,
-			// blurred by the spot, and is not part of the step.
-			riseEnd := edge + 1
-			if at(edge+2)-at(edge+1) > 0.5*(at(edge+1)-at(edge)) {
-				riseEnd = edge + 2
-			}
-			before := median([]float64{at(edge), at(edge - 1), at(edge - 2)})
-			after := at(riseEnd)
-			half := (before + after) / 2
-			for j := edge; j < riseEnd; j++ {
-				lo, hi := at(j), at(j+1)
-				if lo < half && hi >= half {
-					start = (float64(j) + 0.5 + (half-lo)/(hi-lo)) * binDeg
-					break
+	start := fieldStart(prof, mid, bestStart, offLen, binDeg)
+	// Each aperture's field starts at its own place (the recipe's offsets
+	// shift the lines of the fold, so with the right offsets every
+	// aperture starts at the same angle). The edge of the pooled profile
+	// is the envelope of them all and starts with the earliest; the
+	// delay is the mean of the apertures' own starts instead, so that
+	// with the offsets unknown (all zero) it is the delay that fits all
+	// lines best, and with them known the noise of each start averages
+	// down.
+	if len(perAperture) > 1 {
+		shift, used := 0.0, 0
+		for _, pk := range perAperture {
+			if negative {
+				for b := range pk {
+					pk[b] = -pk[b]
 				}
 			}
+			sk, ok := fieldStartNear(pk, mid, bestStart, offLen, binDeg)
+			if !ok {
+				continue
+			}
+			d := math.Remainder(sk-start, spacing)
+			shift += d
+			used++
+		}
+		if used == len(perAperture) {
+			start += shift / float64(used)
 		}
 	}
 	endBin := bestStart + bestLen
@@ -398,6 +374,94 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		warns = append(warns, fmt.Sprintf("the detector's beam-on stretch lasts %.1f° of wheel rotation but sweep.field_deg is %g°: check field_deg and apertures%s, or set sweep.delay_deg by hand", width, s.FieldDeg, hint))
 	}
 	return delay, negative, aperturesSeen, warns, nil
+}
+
+// fieldStart finds where the beam enters the field in a folded profile
+// whose beam-on stretch begins near bin bestStart (the first bin above mid
+// after the beam-off stretch of offLen bins), in degrees of wheel angle.
+// The half-way crossing between bins bestStart-1 and bestStart (bin b's
+// value belongs to the angle at its centre) marks where the bright part of
+// the scene starts; the beam enters the field at the first step up of the
+// profile, which a dim background (air) shows as a small one. A step
+// survives AC coupling and drift, which bend the beam-off level but change
+// it only slowly, so the search is for the earliest rise well above the
+// bin-to-bin noise (6 σ, σ from the median absolute step) in the beam-off
+// stretch before the bright run; the start is the middle of that rise.
+func fieldStart(prof []float64, mid float64, bestStart, offLen int, binDeg float64) float64 {
+	bins := len(prof)
+	at := func(b int) float64 { return prof[((b%bins)+bins)%bins] }
+	start := func() float64 {
+		a, b := at(bestStart-1), at(bestStart)
+		f := 0.5
+		if b != a {
+			f = (mid - a) / (b - a)
+		}
+		return (float64(bestStart-1) + 0.5 + f) * binDeg
+	}()
+	if offLen <= 20 {
+		return start
+	}
+	steps := make([]float64, bins)
+	for b := range steps {
+		steps[b] = math.Abs(at(b+1) - at(b))
+	}
+	limit := 6 * 1.4826 * median(steps)
+	edge := -1
+	for b := bestStart - offLen*8/10; b < bestStart; b++ {
+		if at(b+1)-at(b) > limit {
+			edge = b
+			break
+		}
+	}
+	if edge < 0 {
+		return start
+	}
+	// The beam switches on within a bin or two (the detector's response);
+	// a slower rise after it is the scene's own edge, blurred by the spot,
+	// and is not part of the step.
+	riseEnd := edge + 1
+	if at(edge+2)-at(edge+1) > 0.5*(at(edge+1)-at(edge)) {
+		riseEnd = edge + 2
+	}
+	before := median([]float64{at(edge), at(edge - 1), at(edge - 2)})
+	after := at(riseEnd)
+	half := (before + after) / 2
+	for j := edge; j < riseEnd; j++ {
+		lo, hi := at(j), at(j+1)
+		if lo < half && hi >= half {
+			return (float64(j) + 0.5 + (half-lo)/(hi-lo)) * binDeg
+		}
+	}
+	return start
+}
+
+// fieldStartNear is fieldStart on the profile of one aperture, whose
+// beam-on stretch begins within a few degrees of the pooled profile's
+// (bin near): it finds that aperture's own first bin above mid first. It
+// reports false when the profile does not cross mid near there.
+func fieldStartNear(prof []float64, mid float64, near, offLen int, binDeg float64) (float64, bool) {
+	bins := len(prof)
+	at := func(b int) float64 { return prof[((b%bins)+bins)%bins] }
+	// Aperture errors are rarely more than a degree; look within ±3°.
+	reach := max(2, int(math.Ceil(3/binDeg)))
+	best, bestDist := -1, reach+1
+	for d := -reach; d <= reach; d++ {
+		b := near + d
+		if at(b-1) <= mid && at(b) > mid && abs(d) < bestDist {
+			best, bestDist = b, abs(d)
+		}
+	}
+	if best < 0 {
+		return 0, false
+	}
+	return fieldStart(prof, mid, best, offLen, binDeg), true
+}
+
+func abs(v int) int {
+	if v < 0 {
+		return -v
+	}
+	return v
 }
 
 // estimateSineDelay finds the phase delay of a resonant mirror by making
@@ -578,8 +642,10 @@ func beamOnIsLow(prof, spread []float64) (negative, known bool) {
 // foldLines folds about a thousand lines, spread over the capture, onto one
 // line of wheel angle (each aperture shifted by its offset): the mean
 // detector level in each angle bin, and the spread (variance) of the
-// samples that fell in it.
-func foldLines(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep) (prof, spread []float64, err error) {
+// samples that fell in it; and, with more than one aperture, the mean
+// level of each aperture's lines on their own. Lines are taken in runs of
+// one revolution, so every aperture has its share.
+func foldLines(ctx context.Context, t *timingResult, det []float32, s recipe.Sweep) (prof, spread []float64, perAperture [][]float64, err error) {
 	spacing := apertureSpacingDeg(s)
 	periods := make([]float64, len(t.lines))
 	for i, lt := range t.lines {
@@ -587,46 +653,76 @@ func foldLines(ctx context.Context, t *timingResult, det []float32, s recipe.Swe
 	}
 	pMed := median(periods)
 	bins := int(math.Min(3600, math.Max(90, pMed/2)))
-	sum := make([]float64, bins)
+	n := max(s.Apertures, 1)
+	sums := make([][]float64, n)
+	counts := make([][]float64, n)
+	for k := range sums {
+		sums[k] = make([]float64, bins)
+		counts[k] = make([]float64, bins)
+	}
 	sumSq := make([]float64, bins)
-	cnt := make([]float64, bins)
 	// About 1000 lines, spread over the capture, average the noise down
 	// far enough.
-	stride := 1 + len(t.lines)/1000
-	for i := 0; i < len(t.lines); i += stride {
-		if i%256 == 0 {
+	revs := (len(t.lines) + n - 1) / n
+	stride := 1 + revs*n/1000
+	for rv := 0; rv < revs; rv += stride {
+		if rv%64 == 0 {
 			if err := ctx.Err(); err != nil {
-				return nil, nil, err
+				return nil, nil, nil, err
 			}
 		}
-		lt := t.lines[i]
-		off := 0.0
-		if lt.aperture < len(s.ApertureOffsetsDeg) {
-			off = s.ApertureOffsetsDeg[lt.aperture]
-		}
-		from, to := lineWindow(lt, len(det))
-		k := float64(bins) / lt.period
-		b0 := -off / spacing * float64(bins)
-		for j := from; j < to; j++ {
-			b := int(math.Floor((float64(j)-lt.edge)*k + b0))
-			b %= bins
-			if b < 0 {
-				b += bins
+		for i := rv * n; i < min((rv+1)*n, len(t.lines)); i++ {
+			lt := t.lines[i]
+			off := 0.0
+			if lt.aperture < len(s.ApertureOffsetsDeg) {
+				off = s.ApertureOffsetsDeg[lt.aperture]
 			}
-			v := float64(det[j])
-			sum[b] += v
-			sumSq[b] += v * v
-			cnt[b]++
+			ap := lt.aperture % n
+			sum, cnt := sums[ap], counts[ap]
+			from, to := lineWindow(lt, len(det))
+			k := float64(bins) / lt.period
+			b0 := -off / spacing * float64(bins)
+			for j := from; j < to; j++ {
+				b := int(math.Floor((float64(j)-lt.edge)*k + b0))
+				b %= bins
+				if b < 0 {
+					b += bins
+				}
+				v := float64(det[j])
+				sum[b] += v
+				sumSq[b] += v * v
+				cnt[b]++
+			}
 		}
 	}
 	prof = make([]float64, bins)
 	spread = make([]float64, bins)
 	for b := range prof {
-		if cnt[b] == 0 {
-			return nil, nil, fmt.Errorf("lines are too short to find the delay (%d samples per line)", int(pMed))
+		total, count := 0.0, 0.0
+		for k := range sums {
+			total += sums[k][b]
+			count += counts[k][b]
 		}
-		prof[b] = sum[b] / cnt[b]
-		spread[b] = math.Max(0, sumSq[b]/cnt[b]-prof[b]*prof[b])
+		if count == 0 {
+			return nil, nil, nil, fmt.Errorf("lines are too short to find the delay (%d samples per line)", int(pMed))
+		}
+		prof[b] = total / count
+		spread[b] = math.Max(0, sumSq[b]/count-prof[b]*prof[b])
 	}
-	return prof, spread, nil
+	if n > 1 {
+		perAperture = make([][]float64, n)
+		for k := range perAperture {
+			pk := make([]float64, bins)
+			for b := range pk {
+				if counts[k][b] == 0 {
+					// Too few lines of this aperture: use the pooled
+					// profile alone.
+					return prof, spread, nil, nil
+				}
+				pk[b] = sums[k][b] / counts[k][b]
+			}
+			perAperture[k] = pk
+		}
+	}
+	return prof, spread, perAperture, nil
 }

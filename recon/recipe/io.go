@@ -108,12 +108,11 @@ func Load(path string) (Recipe, error) {
 }
 
 // JSON returns the recipe as indented JSON with the keys in a fixed order,
-// ending in a newline. Empty lists are written as [] rather than null.
+// ending in a newline. Empty lists are written as [] rather than null,
+// except sweep.aperture_offsets_deg, where null (estimate them) and []
+// (all zero) differ.
 func (r Recipe) JSON() []byte {
 	c := r.Clone()
-	if c.Sweep.ApertureOffsetsDeg == nil {
-		c.Sweep.ApertureOffsetsDeg = []float64{}
-	}
 	if c.Sweep.Table == nil {
 		c.Sweep.Table = [][2]float64{}
 	}
@@ -201,12 +200,13 @@ func checkKeys(data []byte, t reflect.Type, path string) error {
 		if !ok {
 			return fmt.Errorf("recipe: unknown key %q in %s: allowed keys are %s", join(path, k), where, strings.Join(names, ", "))
 		}
-		// null means "find it automatically", which only the pointer keys
-		// (and channel references) can be; a null elsewhere would quietly
-		// keep the default.
+		// null means "find it automatically", which only the pointer keys,
+		// channel references and sweep.aperture_offsets_deg can be; a null
+		// elsewhere would quietly keep the default.
 		if bytes.Equal(bytes.TrimSpace(obj[k]), []byte("null")) {
-			switch ft.Kind() {
-			case reflect.Pointer, reflect.String:
+			switch {
+			case ft.Kind() == reflect.Pointer, ft.Kind() == reflect.String:
+			case join(path, k) == "sweep.aperture_offsets_deg":
 			default:
 				return fmt.Errorf("recipe: key %q is null, but it cannot be found automatically: give a value", join(path, k))
 			}

@@ -119,3 +119,27 @@ func TestClone(t *testing.T) {
 		t.Errorf("Clone shares memory with the original")
 	}
 }
+
+// sweep.aperture_offsets_deg null (estimate them) and [] (all zero) are
+// different recipes: both survive a round trip.
+func TestOffsetsNullAndEmptyDiffer(t *testing.T) {
+	base := `{"format": "spotloom-recipe/1", "sweep": {"aperture_offsets_deg": %s}}`
+	for _, c := range []struct {
+		src  string
+		null bool
+	}{{"null", true}, {"[]", false}} {
+		r, err := Parse([]byte(strings.Replace(base, "%s", c.src, 1)))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if (r.Sweep.ApertureOffsetsDeg == nil) != c.null {
+			t.Errorf("%s parsed to %#v", c.src, r.Sweep.ApertureOffsetsDeg)
+		}
+		if !bytes.Contains(r.JSON(), []byte(`"aperture_offsets_deg": `+c.src)) {
+			t.Errorf("%s written as\n%s", c.src, r.JSON())
+		}
+		if err := r.Validate(); err != nil {
+			t.Error(err)
+		}
+	}
+}
