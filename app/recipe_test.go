@@ -42,14 +42,7 @@ func TestRecipeEveryFormat(t *testing.T) {
 		if r.Timing.Threshold == nil || r.Timing.Hysteresis == nil || r.Sweep.DelayDeg == nil || r.Image.PitchMM <= 0 {
 			t.Fatalf("%s: automatic values left open:\n%s", ext, out.String())
 		}
-		var truth sampledata.Truth
-		data, err := os.ReadFile(truthPath)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if err := json.Unmarshal(data, &truth); err != nil {
-			t.Fatal(err)
-		}
+		truth := readTruth(t, truthPath)
 		mean := 0.0
 		for _, o := range truth.ApertureOffsetsDeg {
 			mean += o / float64(len(truth.ApertureOffsetsDeg))
@@ -212,14 +205,7 @@ func TestRecipeWritesEstimatedOffsets(t *testing.T) {
 	if data, _ := os.ReadFile(nullPath); !bytes.Contains(data, []byte(`"aperture_offsets_deg": null`)) {
 		t.Fatalf("null offsets not written as null:\n%s", data)
 	}
-	var truth sampledata.Truth
-	data, err := os.ReadFile(truthPath)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := json.Unmarshal(data, &truth); err != nil {
-		t.Fatal(err)
-	}
+	truth := readTruth(t, truthPath)
 	var out, errOut bytes.Buffer
 	if code := run([]string{"recipe", capPath, "--from", nullPath}, &out, &errOut); code != 0 {
 		t.Fatalf("recipe exit %d: %s", code, errOut.String())
@@ -246,4 +232,18 @@ func TestRecipeWritesEstimatedOffsets(t *testing.T) {
 	if r, _ := recipe.Parse(out.Bytes()); len(r.Sweep.ApertureOffsetsDeg) != 0 {
 		t.Errorf("[] became %v", r.Sweep.ApertureOffsetsDeg)
 	}
+}
+
+// readTruth reads a truth file written by "spotloom simulate --truth".
+func readTruth(t *testing.T, path string) sampledata.Truth {
+	t.Helper()
+	var truth sampledata.Truth
+	data, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(data, &truth); err != nil {
+		t.Fatal(err)
+	}
+	return truth
 }
