@@ -153,7 +153,7 @@ func TestRecipeOut(t *testing.T) {
 	dir := t.TempDir()
 	out := filepath.Join(dir, "r.json")
 	var stdout, stderr bytes.Buffer
-	bad := filepath.Join(captureFixtures, "bad", "truncated.wav")
+	bad := filepath.Join(captureFixtures, "bad", "truncated_header.wav")
 	if code := run([]string{"recipe", bad, "--out", out}, &stdout, &stderr); code != 1 {
 		t.Fatalf("broken capture: exit %d", code)
 	}

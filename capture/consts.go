@@ -30,17 +30,18 @@ var (
 	idFmt  = [4]byte{'f', 'm', 't', ' '}
 	idData = [4]byte{'d', 'a', 't', 'a'}
 	idFact = [4]byte{'f', 'a', 'c', 't'}
-	idRIFX = [4]byte{'R', 'I', 'F', 'X'} // big-endian RIFF, not read
+	idRIFX = [4]byte{'R', 'I', 'F', 'X'} // RIFF with every number big-endian
 	idRF64 = [4]byte{'R', 'F', '6', '4'} // 64-bit RIFF (EBU Tech 3306), not read
 )
 
-// KSDATAFORMAT_SUBTYPE_PCM and KSDATAFORMAT_SUBTYPE_IEEE_FLOAT as stored in a
-// file: the GUIDs {00000001-0000-0010-8000-00AA00389B71} and
-// {00000003-0000-0010-8000-00AA00389B71}, first three fields little-endian.
-var (
-	subtypePCM       = [16]byte{0x01, 0, 0, 0, 0, 0, 0x10, 0, 0x80, 0, 0, 0xAA, 0, 0x38, 0x9B, 0x71}
-	subtypeIEEEFloat = [16]byte{0x03, 0, 0, 0, 0, 0, 0x10, 0, 0x80, 0, 0, 0xAA, 0, 0x38, 0x9B, 0x71}
-)
+// ksSubtypeTail is the last eight bytes, stored as written, of the
+// KSDATAFORMAT_SUBTYPE GUIDs {0000XXXX-0000-0010-8000-00AA00389B71}, where
+// XXXX is the format tag (1 for PCM, 3 for IEEE float); ksSubtype in wav.go
+// puts the first three fields in the file's byte order.
+var ksSubtypeTail = [8]byte{0x80, 0, 0, 0xAA, 0, 0x38, 0x9B, 0x71}
+
+// maxPCMBits is the widest integer PCM sample read (an 8-byte container).
+const maxPCMBits = 64
 
 // Limits shared by every reader.
 const (

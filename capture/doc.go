@@ -6,9 +6,11 @@
 // Open picks the reader by content and extension and returns a Recording
 // with one float32 slice per channel. The WAV reader follows the RIFF/WAVE
 // form of the Microsoft/IBM Multimedia Programming Interface and Data
-// Specifications 1.0 (1991) and the WAVEFORMATEXTENSIBLE definition; it
-// uses github.com/go-audio/wav to walk the chunks and read the fmt fields,
-// and converts the data chunk in bulk itself. The CSV reader follows RFC
+// Specifications 1.0 (1991) and the WAVEFORMATEXTENSIBLE definition: it
+// walks the chunks once itself (little-endian RIFF or big-endian RIFX),
+// reads a data chunk that a stopped recorder never finished as far as the
+// file goes, and converts the samples in bulk. github.com/go-audio/wav
+// serves as an independent encoder for fixtures and decoder in tests. The CSV reader follows RFC
 // 4180 for quoting and streams, so its memory is the float32 samples plus a
 // read buffer. Besides plain exports it reads samples that sit beside
 // columns of metadata, a sample counter with a start/increment pair, and

@@ -247,9 +247,7 @@ var badFixtures = []struct {
 	place string // as Place.String gives it
 	words string // part of the message
 }{
-	{"truncated.wav", func() []byte { return validWAV()[:60] }, "byte 36", "file ends at byte 60"},
 	{"truncated_header.wav", func() []byte { return validWAV()[:30] }, "byte 12", "fmt"},
-	{"claims_more.wav", func() []byte { return patched(validWAV(), 40, 1_000_000, 4) }, "byte 36", "claims 1000000 bytes"},
 	{"zero_channels.wav", func() []byte { return patched(validWAV(), 22, 0, 2) }, "byte 22", "zero channels"},
 	{"zero_rate.wav", func() []byte { return patched(validWAV(), 24, 0, 4) }, "byte 24", "sample rate 0 Hz"},
 	{"absurd_rate.wav", func() []byte { return patched(validWAV(), 24, 0xFFFFFFFF, 4) }, "byte 24", "sample rate 4294967295 Hz"},
@@ -338,6 +336,7 @@ func makeFixtures(dir string) error {
 		{"ext_pcm24_4ch.wav", bytesFixture(extPCM24(4))},
 		{"odd_chunks.wav", bytesFixture(oddChunks())},
 	}
+	files = append(files, wavLayoutFiles()...)
 	for _, c := range csvFixtures {
 		files = append(files, fixtureFile{c.name, bytesFixture([]byte(c.text))})
 	}

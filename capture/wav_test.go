@@ -3,6 +3,7 @@ package capture
 import (
 	"bytes"
 	"errors"
+	"math"
 	"runtime"
 	"strings"
 	"testing"
@@ -37,11 +38,12 @@ func TestWAVStructureErrors(t *testing.T) {
 		{"partial frame", riffWAVE(fmtChunk(1, 2, 8000, 16, nil), chunk("data", pcm16Data(3, 1)[:6])), false, "byte 36", "not a whole number of 4-byte frames"},
 		{"no samples", riffWAVE(fmt16, chunk("data", nil)), false, "byte 36", "no samples"},
 		{"17 channels", riffWAVE(fmtChunk(1, 17, 8000, 16, nil), chunk("data", pcm16Data(2, 17))), true, "byte 22", "17 channels"},
-		{"12-bit container", riffWAVE(fmtChunk(1, 1, 8000, 12, nil), chunk("data", pcm16Data(2, 1))), true, "byte 34", "12-bit PCM"},
+		{"65-bit PCM", patched(riffWAVE(fmtChunk(1, 1, 8000, 16, nil), chunk("data", pcm16Data(2, 1))), 34, 65, 2), true, "byte 34", "65-bit PCM"},
+		{"12 bits, block align of 12/8", riffWAVE(fmtChunk(1, 1, 8000, 12, nil), chunk("data", pcm16Data(2, 1))), false, "byte 32", "block align 1"},
 		{"unknown sub-format", riffWAVE(fmtChunk(0xFFFE, 1, 8000, 16, guid(0x55)), chunk("data", pcm16Data(2, 1))), true, "byte 44", "sub-format"},
 		{"short extensible fmt", riffWAVE(chunk("fmt ", fmt16[8:][:16]), chunk("data", pcm16Data(2, 1))), false, "", ""},
 		{"float 16-bit", riffWAVE(fmtChunk(3, 1, 8000, 16, nil), chunk("data", pcm16Data(2, 1))), false, "byte 34", "16-bit IEEE float"},
-		{"RIFX", append([]byte("RIFX"), riffWAVE(fmt16)[4:]...), true, "byte 0", "RIFX"},
+		{"RF64", append([]byte("RF64"), riffWAVE(fmt16)[4:]...), true, "byte 0", "RF64"},
 		{"not WAVE form", append(append([]byte(nil), riffWAVE(fmt16)[:8]...), "AVI "...), false, "byte 8", `"AVI "`},
 		{"huge fmt", riffWAVE(le(nil).id("fmt ").u32(0x7FFFFFF0)), false, "byte 12", "claims 2147483632 bytes"},
 	} {
@@ -155,5 +157,63 @@ func TestWAVChunksBeforeFmt(t *testing.T) {
 	// frame 1 channel 0 is the third stored sample
 	if want := float32(intSample(2, 0, 16)) / 32768; rec.Channels[0].Samples[1] != want {
 		t.Fatalf("ch0[1] = %v, want %v", rec.Channels[0].Samples[1], want)
+	}
+}
+
+// TestWAVSizeWarnings: a RIFF size that disagrees with the file and bytes
+// after the last chunk are read past with one warning each; a correct file,
+// and one whose final odd chunk lacks only its pad byte, warn of nothing.
+func TestWAVSizeWarnings(t *testing.T) {
+	base := validWAV() // 108 bytes, RIFF size 100 at byte 4
+	for _, tc := range []struct {
+		name  string
+		data  []byte
+		words []string
+	}{
+		{"correct", base, nil},
+		{"RIFF size large", patched(base, 4, 5000, 4), []string{"RIFF header gives the file as 5008 bytes, but it is 108 bytes"}},
+		{"RIFF size small", patched(base, 4, 40, 4), []string{"as 48 bytes, but it is 108"}},
+		{"junk after data", append(append([]byte(nil), base...), "\x00\x00\x01"...), []string{"bytes 108 to 111 after the last chunk", "as 108 bytes, but it is 111"}},
+		{"chunk after data too long", append(patched(base, 4, 112, 4), le(nil).id("LIST").u32(400).raw([]byte("abcd"))...), []string{"bytes 108 to 120 after the last chunk"}},
+		{"odd last chunk without pad", append(patched(base, 4, 100+12, 4), le(nil).id("note").u32(3).raw([]byte("abc"))...), nil},
+	} {
+		rec, err := readWAVBytes(tc.data)
+		if err != nil || rec.Frames() != 32 {
+			t.Errorf("%s: %v", tc.name, err)
+			continue
+		}
+		if len(rec.Warnings) != len(tc.words) {
+			t.Errorf("%s: warnings %q, want %d", tc.name, rec.Warnings, len(tc.words))
+			continue
+		}
+		for i, w := range tc.words {
+			if !strings.Contains(rec.Warnings[i], w) {
+				t.Errorf("%s: warning %q, want %q", tc.name, rec.Warnings[i], w)
+			}
+		}
+	}
+}
+
+// TestWAVBigEndianExtensible reads a RIFX file with WAVE_FORMAT_EXTENSIBLE
+// and the IEEE float sub-format: the GUID's first three fields are
+// big-endian too, like every other number in a RIFX file.
+func TestWAVBigEndianExtensible(t *testing.T) {
+	sub := be(nil).u32(3).u16(0).u16(0x0010).raw([]byte{0x80, 0x00, 0x00, 0xAA, 0x00, 0x38, 0x9B, 0x71})
+	fmtBody := be(nil).u16(0xFFFE).u16(1).u32(1000).u32(4000).u16(4).u16(32).u16(22).u16(32).u32(0).raw(sub)
+	data := be(nil).u32(math.Float32bits(0.25)).u32(math.Float32bits(-1.5))
+	body := be(nil).id("WAVE").id("fmt ").u32(uint32(len(fmtBody))).raw(fmtBody).id("data").u32(uint32(len(data))).raw(data)
+	rec, err := readWAVBytes(be(nil).id("RIFX").u32(uint32(len(body))).raw(body))
+	if err != nil || rec.Frames() != 2 || rec.Channels[0].Samples[0] != 0.25 || rec.Channels[0].Samples[1] != -1.5 || rec.Source.SampleType != "float32" {
+		t.Fatalf("%v %+v", err, rec)
+	}
+}
+
+// TestWAVCutNoFrame: a data chunk cut before its first whole frame is
+// still refused, naming the chunk.
+func TestWAVCutNoFrame(t *testing.T) {
+	_, err := readWAVBytes(validWAV()[:45]) // one byte after the data header
+	var fe *FormatError
+	if !errors.As(err, &fe) || !strings.Contains(err.Error(), "byte 36") || !strings.Contains(err.Error(), "not one whole frame") {
+		t.Fatalf("%v", err)
 	}
 }

@@ -86,11 +86,8 @@ func WriteWAV(w io.Writer, rec *Recording, sampleType string) error {
 		header = le.AppendUint16(header, extensibleCbSize)
 		header = le.AppendUint16(header, uint16(8*size)) // wValidBitsPerSample
 		header = le.AppendUint32(header, 0)              // dwChannelMask: no speaker positions
-		if tag == waveFormatIEEEFloat {
-			header = append(header, subtypeIEEEFloat[:]...)
-		} else {
-			header = append(header, subtypePCM[:]...)
-		}
+		sub := ksSubtype(tag, binary.LittleEndian)
+		header = append(header, sub[:]...)
 	case tag == waveFormatIEEEFloat:
 		header = le.AppendUint16(header, 0) // cbSize
 	}
