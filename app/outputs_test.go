@@ -136,7 +136,7 @@ func unwritableDir(t *testing.T) string {
 func TestOutputFoldersCheckedFirst(t *testing.T) {
 	dir, wav, recipePath := demoFiles(t)
 	locked := unwritableDir(t)
-	bad := filepath.Join(captureFixtures, "bad", "truncated.wav")
+	bad := filepath.Join(captureFixtures, "bad", "truncated_header.wav")
 	cases := []struct {
 		args []string
 		want string
