@@ -1,12 +1,13 @@
 package capture
 
 import (
-	"bytes"
 	"encoding/json"
 	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
+
+	"spotloom/internal/strictjson"
 )
 
 // RawLayout describes a raw binary capture: bare samples, optionally after a
@@ -143,22 +144,19 @@ func (l RawLayout) MarshalJSON() ([]byte, error) {
 	return json.Marshal(plain(l))
 }
 
-// ParseLayout reads a layout from JSON. Unknown keys are errors, and the
-// keys sample_type, channels and interleaved are required.
+// ParseLayout reads a layout from JSON with the project's strict parser
+// (strictjson.Decode): unknown or repeated keys, wrong types and broken
+// syntax are errors naming the key and its line:column, as recipe errors
+// are. The keys sample_type, channels and interleaved are required.
 func ParseLayout(data []byte) (RawLayout, error) {
 	type plain RawLayout
 	var l plain
-	dec := json.NewDecoder(bytes.NewReader(data))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(&l); err != nil {
-		return RawLayout{}, fmt.Errorf("layout JSON: %v", err)
-	}
-	var present map[string]json.RawMessage
-	if err := json.Unmarshal(data, &present); err != nil {
-		return RawLayout{}, fmt.Errorf("layout JSON: %v", err)
+	present, err := strictjson.Decode(data, &l, "layout")
+	if err != nil {
+		return RawLayout{}, err
 	}
 	for _, key := range []string{"sample_type", "channels", "interleaved"} {
-		if _, ok := present[key]; !ok {
+		if !present[key] {
 			return RawLayout{}, fmt.Errorf("layout has no %q key; example: %s", key, exampleLayout)
 		}
 	}

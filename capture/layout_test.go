@@ -24,7 +24,12 @@ func TestParseLayout(t *testing.T) {
 		t.Fatalf("%s -> %+v, %v", data, back, err)
 	}
 	for _, tc := range []struct{ json, words string }{
-		{`{"sample_type":"int16","channels":2,"interleaved":true,"colour":1}`, `unknown field "colour"`},
+		{`{"sample_type":"int16","channels":2,"interleaved":true,"colour":1}`, `layout: unknown key "colour" at line 1, column 56 in the layout: allowed keys are sample_type`},
+		// Same line:column form as recipe errors (strictjson).
+		{"{\"sample_type\": \"int16\",\n \"channels\": \"two\", \"interleaved\": true}", `layout: key "channels" at line 2, column 14 holds the text "two", expected a whole number`},
+		{"{\"sample_type\": \"int16\",\n \"channels\": 2,, \"interleaved\": true}", `layout: broken JSON at line 2, column 16`},
+		{`{"sample_type":"int16","channels":2,"channels":3,"interleaved":true}`, `layout: key "channels" at line 1, column 37 is given twice`},
+		{`{"sample_type":"int16","channels":2,"interleaved":true,"scale":[1,"x"]}`, `layout: key "scale[1]" at line 1, column 67 holds the text "x", expected a number`},
 		{`{"sample_type":"int16","channels":2}`, `no "interleaved" key`},
 		{`{"sample_type":"int12","channels":2,"interleaved":true}`, "sample_type \"int12\""},
 		{`{"sample_type":"int16","channels":0,"interleaved":true}`, "channels 0"},
@@ -39,6 +44,14 @@ func TestParseLayout(t *testing.T) {
 		if err == nil || !strings.Contains(err.Error(), tc.words) {
 			t.Errorf("%s: %v, want %q", tc.json, err, tc.words)
 		}
+	}
+}
+
+// A layout saved by an editor that writes a UTF-8 byte-order mark reads.
+func TestParseLayoutWithBOM(t *testing.T) {
+	l, err := ParseLayout(append([]byte("\xEF\xBB\xBF"), exampleLayout...))
+	if err != nil || l.Channels != 3 {
+		t.Fatalf("%+v, %v", l, err)
 	}
 }
 

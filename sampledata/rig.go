@@ -5,11 +5,12 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"io"
 	"math"
 	"os"
 	"reflect"
 	"strings"
+
+	"spotloom/internal/strictjson"
 )
 
 // RigFormat is the value of the "format" key of every rig file.
@@ -271,24 +272,21 @@ func (r Rig) JSON() []byte {
 	return buf.Bytes()
 }
 
-// ParseRig decodes a rig file strictly: unknown keys and missing quantities
-// are errors naming the key (and, for a missing quantity, its allowed
-// range); the rig is then validated.
+// ParseRig decodes a rig file strictly (strictjson.Decode): unknown or
+// repeated keys, wrong types and missing quantities are errors naming the
+// key (with its line:column, or for a missing quantity its allowed range);
+// the rig is then validated.
 func ParseRig(data []byte) (Rig, error) {
 	var r Rig
-	dec := json.NewDecoder(bytes.NewReader(data))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(&r); err != nil {
-		return Rig{}, jsonError(data, err)
+	present, err := strictjson.Decode(data, &r, "rig")
+	if err != nil {
+		var je *strictjson.Error
+		if errors.As(err, &je) && je.Kind == strictjson.UnknownKey {
+			return Rig{}, fmt.Errorf("%w (run \"spotloom simulate --print-rig\" for every key)", err)
+		}
+		return Rig{}, err
 	}
-	if _, err := dec.Token(); !errors.Is(err, io.EOF) {
-		return Rig{}, fmt.Errorf("unexpected data after the rig object")
-	}
-	var tree map[string]any
-	if err := json.Unmarshal(data, &tree); err != nil {
-		return Rig{}, jsonError(data, err)
-	}
-	if path := firstMissing(reflect.TypeOf(r), tree, ""); path != "" {
+	if path := firstMissing(reflect.TypeOf(r), present, ""); path != "" {
 		allowed := r.allowed()[path]
 		if allowed == "" {
 			return Rig{}, fmt.Errorf("%s is missing", path)
@@ -314,64 +312,10 @@ func LoadRig(path string) (Rig, error) {
 	return r, nil
 }
 
-// jsonError gives a decoding error a line:column and the key it concerns.
-func jsonError(data []byte, err error) error {
-	var syn *json.SyntaxError
-	var typ *json.UnmarshalTypeError
-	switch {
-	case errors.As(err, &syn):
-		line, col := lineCol(data, syn.Offset)
-		return fmt.Errorf("%d:%d: %v", line, col, syn)
-	case errors.As(err, &typ):
-		line, col := lineCol(data, typ.Offset)
-		return fmt.Errorf("%d:%d: %s is %s; allowed: %s", line, col, typ.Field, typ.Value, typeWord(typ.Type))
-	case strings.HasPrefix(err.Error(), "json: unknown field "):
-		name := strings.TrimPrefix(err.Error(), "json: unknown field ")
-		return fmt.Errorf("unknown key %s (run \"spotloom simulate --print-rig\" for every key)", name)
-	case errors.Is(err, io.EOF), errors.Is(err, io.ErrUnexpectedEOF):
-		return fmt.Errorf("the rig file ends before the rig object does")
-	}
-	return err
-}
-
-// typeWord names a JSON value type in plain words.
-func typeWord(t reflect.Type) string {
-	switch t.Kind() {
-	case reflect.Float32, reflect.Float64:
-		return "a number"
-	case reflect.Int, reflect.Int64, reflect.Int32:
-		return "a whole number"
-	case reflect.String:
-		return "text in quotes"
-	case reflect.Slice:
-		return "a list [...]"
-	case reflect.Struct, reflect.Map:
-		return "an object {...}"
-	case reflect.Pointer:
-		return typeWord(t.Elem()) + " or null"
-	}
-	return t.String()
-}
-
-func lineCol(data []byte, offset int64) (line, col int) {
-	if offset > int64(len(data)) {
-		offset = int64(len(data))
-	}
-	line, col = 1, 1
-	for _, b := range data[:offset] {
-		if b == '\n' {
-			line, col = line+1, 1
-		} else {
-			col++
-		}
-	}
-	return line, col
-}
-
 // firstMissing walks the rig's struct type and returns the dotted path of
-// the first required key absent from tree ("" when none). Keys tagged
+// the first required key the file did not give ("" when none). Keys tagged
 // rig:"optional" may be left out.
-func firstMissing(t reflect.Type, tree map[string]any, prefix string) string {
+func firstMissing(t reflect.Type, present strictjson.Present, prefix string) string {
 	for i := 0; i < t.NumField(); i++ {
 		f := t.Field(i)
 		name := strings.Split(f.Tag.Get("json"), ",")[0]
@@ -379,19 +323,14 @@ func firstMissing(t reflect.Type, tree map[string]any, prefix string) string {
 			continue
 		}
 		path := prefix + name
-		v, ok := tree[name]
-		if !ok || v == nil {
+		if !present[path] {
 			if f.Tag.Get("rig") == "optional" {
 				continue
 			}
 			return path
 		}
 		if f.Type.Kind() == reflect.Struct {
-			sub, ok := v.(map[string]any)
-			if !ok {
-				return path
-			}
-			if p := firstMissing(f.Type, sub, path+"."); p != "" {
+			if p := firstMissing(f.Type, present, path+"."); p != "" {
 				return p
 			}
 		}

@@ -1,6 +1,7 @@
 package sampledata
 
 import (
+	"bytes"
 	"encoding/json"
 	"reflect"
 	"strings"
@@ -120,8 +121,8 @@ func TestRigErrorsNameTheKeyAndRange(t *testing.T) {
 		{"motion.kind", `"rocket"`, []string{`motion.kind is "rocket"`, "hand, motor, stepper"}},
 		{"position_sensor.kind", `"none"`, []string{"position_sensor.kind", "hand-driven head needs a position sensor"}},
 		{"wheel.aperture_errors_deg", "[0, 0.1]", []string{"wheel.aperture_errors_deg", "one value per aperture (6)"}},
-		{"wheel.spin_direction", `"cw"`, []string{`unknown key "spin_direction"`}},
-		{"wheel.rev_per_min", `"fast"`, []string{"wheel.rev_per_min is string", "allowed: a number"}},
+		{"wheel.spin_direction", `"cw"`, []string{`rig: unknown key "wheel.spin_direction" at line 1, column `, `in "wheel": allowed keys are aperture_count, rev_per_min`}},
+		{"wheel.rev_per_min", `"fast"`, []string{`rig: key "wheel.rev_per_min" at line 1, column `, `holds the text "fast", expected a number`}},
 	}
 	for _, c := range cases {
 		_, err := ParseRig(rigWith(t, c.path, c.value))
@@ -280,4 +281,27 @@ func stepperRig() Rig {
 		MMPerStep: 0.5, StepPulseS: 0.002, StepLevelV: 0.7}
 	r.Position = PositionSensor{Kind: SensorNone}
 	return r
+}
+
+// A rig file is read by the same strict parser as a recipe: a byte-order
+// mark is accepted, a key given twice and a null quantity are errors with
+// the key and its line:column.
+func TestRigStrictJSON(t *testing.T) {
+	data := DemoRig().JSON()
+	r, err := ParseRig(append([]byte("\xEF\xBB\xBF"), data...))
+	if err != nil {
+		t.Fatalf("rig with a byte-order mark: %v", err)
+	}
+	if !bytes.Equal(r.JSON(), data) {
+		t.Errorf("BOM rig parsed differently")
+	}
+	// The indented rig has "name" on line 3; give it again just after.
+	dup := bytes.Replace(data, []byte(`"name": `), []byte(`"name": "again", "name": `), 1)
+	if _, err := ParseRig(dup); err == nil || !strings.Contains(err.Error(), `rig: key "name" at line 3, column 20 is given twice (first at line 3, column 3)`) {
+		t.Errorf("duplicate key: %v", err)
+	}
+	null := rigWith(t, "wheel.rev_per_min", "null")
+	if _, err := ParseRig(null); err == nil || !strings.Contains(err.Error(), `key "wheel.rev_per_min" at line 1, column`) || !strings.Contains(err.Error(), "is null: give a number") {
+		t.Errorf("null quantity: %v", err)
+	}
 }

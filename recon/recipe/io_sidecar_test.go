@@ -33,7 +33,7 @@ func TestParseExportSidecar(t *testing.T) {
 // still takes null where the value is found automatically.
 func TestNullOnlyWhereAutomatic(t *testing.T) {
 	_, err := Parse([]byte(`{"format": "` + RecipeFormat + `", "sweep": {"distance_mm": null}}`))
-	if err == nil || !strings.Contains(err.Error(), `"sweep.distance_mm" is null`) {
+	if err == nil || !strings.Contains(err.Error(), `"sweep.distance_mm" at line 1, column 58 is null: give a number`) {
 		t.Errorf("distance null: %v", err)
 	}
 	r, err := Parse([]byte(`{"format": "` + RecipeFormat + `", "sweep": {"delay_deg": null}, "channels": {"position": null}}`))

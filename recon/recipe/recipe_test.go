@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"strings"
 	"testing"
 )
@@ -63,8 +64,8 @@ func TestParseDesignExample(t *testing.T) {
 
 func TestParseErrors(t *testing.T) {
 	for _, c := range []struct{ src, want string }{
-		{`{"format": "spotloom-recipe/1", "sweep": {"fov": 3}}`, `unknown key "sweep.fov" in "sweep": allowed keys are apertures, law, field_deg`},
-		{`{"format": "spotloom-recipe/1", "colour": 1}`, `unknown key "colour" in the recipe`},
+		{`{"format": "spotloom-recipe/1", "sweep": {"fov": 3}}`, `unknown key "sweep.fov" at line 1, column 43 in "sweep": allowed keys are apertures, law, field_deg`},
+		{`{"format": "spotloom-recipe/1", "colour": 1}`, `unknown key "colour" at line 1, column 33 in the recipe`},
 		{"{\"format\": \"spotloom-recipe/1\",\n \"sweep\": {\"field_deg\": \"wide\"}}", `key "sweep.field_deg" at line 2`},
 		{"{\"format\": \"spotloom-recipe/1\",\n  \"image\": {\"pitch_mm\": 1,}}", "line 2, column"},
 		{`{"sweep": {}}`, `key "format" is missing`},
@@ -140,6 +141,51 @@ func TestOffsetsNullAndEmptyDiffer(t *testing.T) {
 		}
 		if err := r.Validate(); err != nil {
 			t.Error(err)
+		}
+	}
+}
+
+// The strict parser keeps its promises on the cases encoding/json lets
+// through: a pair of three numbers, a pair of one, a key given twice; and
+// a UTF-8 byte-order mark (RFC 8259 §8.1 lets a parser ignore it) is
+// accepted.
+func TestParseStrictPairsDuplicatesAndBOM(t *testing.T) {
+	for _, c := range []struct{ src, want string }{
+		{"{\"format\": \"spotloom-recipe/1\",\n \"rows\": {\"calibration\": [[0.5, 0], [4.5, 400, 9]]}}",
+			`key "rows.calibration[1]" at line 2, column 37 has more than 2 values: expected exactly 2`},
+		{`{"format": "spotloom-recipe/1", "sweep": {"law": "table", "table": [[0], [1, 5]]}}`,
+			`key "sweep.table[0]" at line 1, column 69 has 1 values: expected exactly 2`},
+		{`{"format": "spotloom-recipe/1", "sweep": {"law": "sine", "law": "table"}}`,
+			`key "sweep.law" at line 1, column 58 is given twice (first at line 1, column 43)`},
+	} {
+		_, err := Parse([]byte(c.src))
+		if err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("Parse(%q): %v\nwant %q", c.src, err, c.want)
+		}
+	}
+	bom := append([]byte("\xEF\xBB\xBF"), Default().JSON()...)
+	r, err := Parse(bom)
+	if err != nil {
+		t.Fatalf("a recipe with a byte-order mark: %v", err)
+	}
+	if !bytes.Equal(r.JSON(), Default().JSON()) {
+		t.Errorf("BOM recipe parsed to\n%s", r.JSON())
+	}
+}
+
+// A huge broken recipe gives a short error: a megabyte key or value is
+// quoted to 60 characters.
+func TestParseErrorStaysShort(t *testing.T) {
+	huge := strings.Repeat("w", 1<<20)
+	for _, src := range []string{
+		`{"format": "spotloom-recipe/1", "sweep": {"` + huge + `": 1}}`,
+		`{"format": "` + huge + `"}`,
+		`{"format": "spotloom-recipe/1", "image": {"fill_gaps_px": 1` + strings.Repeat("0", 1<<20) + `}}`,
+		`{"format": "spotloom-recipe/1", "channels": {"index": "` + huge + `", "detector": 1.5}}`,
+	} {
+		_, err := Parse([]byte(src))
+		if err == nil || len(err.Error()) > 400 {
+			t.Errorf("error of %d bytes: %.200v", len(fmt.Sprint(err)), err)
 		}
 	}
 }

@@ -191,3 +191,17 @@ func TestSweepWidth(t *testing.T) {
 		t.Errorf("sine width %g, want %g", got, want)
 	}
 }
+
+// BenchmarkParseLongCalibration parses a recipe holding a 100 000-point
+// calibration (about 3 MB of JSON).
+func BenchmarkParseLongCalibration(b *testing.B) {
+	r := recipe.Default()
+	r.Rows.Calibration = ramp(100_000)
+	data := r.JSON()
+	b.SetBytes(int64(len(data)))
+	for b.Loop() {
+		if _, err := recipe.Parse(data); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
