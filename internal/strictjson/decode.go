@@ -197,20 +197,25 @@ func (w *walker) value(t reflect.Type, key string, index int) error {
 		case d == '[' && (t.Kind() == reflect.Slice || t.Kind() == reflect.Array):
 			return w.list(t, key, at)
 		}
-	case json.Number:
-		if isNumberKind(t.Kind()) {
-			return nil
-		}
-	case string:
-		if t.Kind() == reflect.String {
-			return nil
-		}
-	case bool:
-		if t.Kind() == reflect.Bool {
+	default:
+		if scalarFits(tok, t) {
 			return nil
 		}
 	}
 	return w.errAt(WrongType, key, at, "holds %s, expected %s", jsonWord(tok), typeWord(t))
+}
+
+// scalarFits reports whether a number, text or bool token suits type t.
+func scalarFits(tok json.Token, t reflect.Type) bool {
+	switch tok.(type) {
+	case json.Number:
+		return isNumberKind(t.Kind())
+	case string:
+		return t.Kind() == reflect.String
+	case bool:
+		return t.Kind() == reflect.Bool
+	}
+	return false
 }
 
 // scalarNext reports whether the next value is a number, text or a bool of
@@ -236,19 +241,8 @@ func (w *walker) scalar(t reflect.Type, key string, index int) error {
 	if err != nil {
 		return err
 	}
-	switch tok.(type) {
-	case json.Number:
-		if isNumberKind(t.Kind()) {
-			return nil
-		}
-	case string:
-		if t.Kind() == reflect.String {
-			return nil
-		}
-	case bool:
-		if t.Kind() == reflect.Bool {
-			return nil
-		}
+	if scalarFits(tok, t) {
+		return nil
 	}
 	return w.errAt(WrongType, item(key, index), at, "holds %s, expected %s", jsonWord(tok), typeWord(t))
 }
