@@ -258,22 +258,14 @@ func isGuessed(guesses []capture.RoleGuess, ch int, role string) bool {
 	return false
 }
 
-func (ws *Workstation) submitOpen(what string, run func(ctx context.Context, progress func(string, float64)) (*opened, error), path string) {
+func (ws *Workstation) submitOpen(what string, run func(ctx context.Context, progress progressFunc) (*opened, error), path string) {
 	ws.busy(what)
-	ws.work.submit(&job{
-		run: func(ctx context.Context, progress func(string, float64)) (any, error) {
-			return run(ctx, progress)
-		},
-		done: func(value any, err error, _ bool) {
-			fyne.Do(func() {
-				ws.idle()
-				if err != nil {
-					ws.openFailed(path, err)
-					return
-				}
-				ws.finishOpen(value.(*opened))
-			})
-		},
+	submit(ws.work, false, run, func(o *opened, err error, _ bool) {
+		if err != nil {
+			ws.openFailed(path, err)
+			return
+		}
+		ws.finishOpen(o)
 	})
 }
 
@@ -320,6 +312,7 @@ func (ws *Workstation) finishOpen(o *opened) {
 	ws.cur = settings{Recipe: cloneRecipe(o.recipe)}
 	ws.frameIndex = 0
 	ws.result = nil
+	ws.view.Reset()
 	ws.applyResult(o.result, true)
 	ws.good = ws.cur.clone()
 	ws.source.showCapture(o.rec, o.path, o.note)
@@ -329,7 +322,8 @@ func (ws *Workstation) finishOpen(o *opened) {
 	if o.path != "" {
 		ws.addRecent(o.path)
 	}
-	ws.stage.SetText(fmt.Sprintf("Opened %s", o.name))
+	ws.settled = "Opened " + o.name
+	ws.stage.SetText(ws.settled)
 }
 
 // rebuild asks for a build of the current settings; a newer call cancels
@@ -340,35 +334,27 @@ func (ws *Workstation) rebuild(reason string) {
 	}
 	eng := ws.engine
 	r := cloneRecipe(ws.cur.Recipe)
-	ws.buildSeq++
-	seq := ws.buildSeq
 	started := time.Now()
 	ws.busy("Building")
-	ws.work.submit(&job{
-		build: true,
-		run: func(ctx context.Context, progress func(string, float64)) (any, error) {
-			return eng.Build(ctx, r, progress)
-		},
-		done: func(value any, err error, superseded bool) {
-			elapsed := time.Since(started)
-			fyne.Do(func() {
-				if eng != ws.engine {
-					return // a different capture was opened meanwhile
-				}
-				if !superseded {
-					ws.idle()
-				}
-				ws.finishBuild(r, value, err, superseded, seq, reason, elapsed)
-			})
-		},
+	submit(ws.work, true, func(ctx context.Context, progress progressFunc) (*Result, error) {
+		return eng.Build(ctx, r, progress)
+	}, func(res *Result, err error, stale bool) {
+		if eng != ws.engine || (stale && err != nil) {
+			return // a different capture was opened, or a newer build is on its way
+		}
+		if stale {
+			// Finished before the newer build cancelled it: show it while
+			// the newer one runs, so a drag shows its way.
+			ws.applyResult(res, false)
+			ws.good = settings{Recipe: cloneRecipe(r), Tone: ws.cur.Tone}
+			return
+		}
+		ws.finishBuild(r, res, err, reason, time.Since(started))
 	})
 }
 
-func (ws *Workstation) finishBuild(r recipe.Recipe, value any, err error, superseded bool, seq int, reason string, elapsed time.Duration) {
+func (ws *Workstation) finishBuild(r recipe.Recipe, res *Result, err error, reason string, elapsed time.Duration) {
 	if err != nil {
-		if superseded {
-			return // a newer build is on its way
-		}
 		if errors.Is(err, context.Canceled) {
 			ws.restoreGood()
 			ws.stage.SetText("Build stopped; the settings of the image shown are restored")
@@ -379,32 +365,31 @@ func (ws *Workstation) finishBuild(r recipe.Recipe, value any, err error, supers
 		if what == "" {
 			what = "These settings"
 		}
+		msg := windowWords(err.Error())
 		if len(ws.dialogs) > 0 {
 			// A message is already up (say, while a slider is dragged on):
 			// say it in the status line instead of stacking dialogs.
-			ws.problem = "Cannot build with these settings: " + err.Error()
+			ws.problem = "Cannot build with these settings: " + msg
 			ws.stage.SetText(ws.problem)
 			return
 		}
-		ws.showProblem("Cannot build with these settings", fmt.Sprintf("%s could not be used: %v.", what, err),
+		ws.showProblem("Cannot build with these settings", fmt.Sprintf("%s could not be used: %s.", what, msg),
 			"change the value back or pick another one; the image and the settings it was made with are restored.")
 		return
 	}
-	res, _ := value.(*Result)
 	if res == nil {
 		return
 	}
 	ws.applyResult(res, false)
 	ws.good = settings{Recipe: cloneRecipe(r), Tone: ws.cur.Tone}
-	if !superseded {
-		ws.lastBuild = elapsed
-		note := fmt.Sprintf("Built in %d ms", elapsed.Milliseconds())
-		if ws.afterBuild != "" {
-			note = ws.afterBuild + " · " + note
-			ws.afterBuild = ""
-		}
-		ws.stage.SetText(note)
+	ws.lastBuild = elapsed
+	note := fmt.Sprintf("Built in %d ms", elapsed.Milliseconds())
+	if ws.afterBuild != "" {
+		note = ws.afterBuild + " · " + note
+		ws.afterBuild = ""
 	}
+	ws.settled = note
+	ws.stage.SetText(note)
 }
 
 // restoreGood puts back the settings the image shown was built with.
@@ -447,6 +432,12 @@ func (ws *Workstation) applyResult(res *Result, first bool) {
 	ws.controls.show(ws.cur, res)
 	ws.showFrameControls()
 	ws.relayout()
+	// The pointer has not moved but the frame under it has.
+	if p, ok := ws.view.Hover(); ok {
+		ws.pointerMoved(p)
+	} else {
+		ws.readout.SetText("")
+	}
 }
 
 // roleChannels returns the channel numbers of the detector, index and
@@ -568,34 +559,27 @@ func (ws *Workstation) EstimateOffsets() {
 	eng := ws.engine
 	r := cloneRecipe(ws.cur.Recipe)
 	ws.busy("Estimating aperture offsets")
-	ws.work.submit(&job{
-		run: func(ctx context.Context, progress func(string, float64)) (any, error) {
-			progress("estimating aperture offsets", 0)
-			return eng.EstimateApertureOffsets(ctx, r)
-		},
-		done: func(value any, err error, _ bool) {
-			fyne.Do(func() {
-				ws.idle()
-				if eng != ws.engine {
-					return
-				}
-				if err != nil {
-					if errors.Is(err, context.Canceled) {
-						ws.stage.SetText("Estimate stopped")
-						return
-					}
-					ws.showProblem("Cannot estimate aperture offsets", err.Error()+".",
-						"the estimate needs several lines of each aperture over a textured part of the scene; set the offsets by hand while watching the image.")
-					return
-				}
-				offsets, _ := value.([]float64)
-				ws.afterBuild = "Aperture offsets estimated: " + formatList(offsets, "%.2f°")
-				ws.change("estimate offsets", func(r *recipe.Recipe) {
-					r.Sweep.ApertureOffsetsDeg = append([]float64(nil), offsets...)
-				})
-				ws.stage.SetText(ws.afterBuild)
-			})
-		},
+	submit(ws.work, false, func(ctx context.Context, progress progressFunc) ([]float64, error) {
+		progress("estimating aperture offsets", 0)
+		return eng.EstimateApertureOffsets(ctx, r)
+	}, func(offsets []float64, err error, _ bool) {
+		if eng != ws.engine {
+			return
+		}
+		if err != nil {
+			if errors.Is(err, context.Canceled) {
+				ws.stage.SetText("Estimate stopped")
+				return
+			}
+			ws.showProblem("Cannot estimate aperture offsets", windowWords(err.Error())+".",
+				"the estimate needs several lines of each aperture over a textured part of the scene; set the offsets by hand while watching the image.")
+			return
+		}
+		ws.afterBuild = "Aperture offsets estimated: " + formatList(offsets, "%.2f°")
+		ws.change("estimate offsets", func(r *recipe.Recipe) {
+			r.Sweep.ApertureOffsetsDeg = append([]float64(nil), offsets...)
+		})
+		ws.stage.SetText(ws.afterBuild)
 	})
 }
 
@@ -628,22 +612,46 @@ func (ws *Workstation) reportProgress(stage string, fraction float64) {
 	progressGate.last = now
 	progressGate.Unlock()
 	fyne.Do(func() {
-		ws.stage.SetText(stage)
-		ws.progress.SetValue(fraction)
+		if ws.work.busy() {
+			ws.stage.SetText(stage)
+			ws.progress.SetValue(fraction)
+		}
 	})
 }
 
+// busy shows that work has started: the progress bar, and Stop enabled.
 func (ws *Workstation) busy(what string) {
 	ws.stage.SetText(what)
 	ws.progress.SetValue(0)
 	ws.progress.Show()
-	ws.cancel.Enable()
+	ws.showRunning(true)
 }
 
-func (ws *Workstation) idle() {
-	ws.progress.SetValue(1)
-	ws.progress.Hide()
-	ws.cancel.Disable()
+// handOver runs a worker outcome on the UI goroutine, then hides the
+// progress and disables Stop once nothing is left to run.
+func (ws *Workstation) handOver(f func()) {
+	fyne.Do(func() {
+		f()
+		if !ws.work.busy() {
+			ws.progress.SetValue(1)
+			ws.progress.Hide()
+			ws.showRunning(false)
+		}
+	})
+}
+
+// showRunning enables the Cancel button and the Stop menu entry only while
+// work runs.
+func (ws *Workstation) showRunning(on bool) {
+	if on {
+		ws.cancel.Enable()
+	} else {
+		ws.cancel.Disable()
+	}
+	if ws.menuStop != nil && ws.menuStop.Disabled == on {
+		ws.menuStop.Disabled = !on
+		ws.mainMenu.Refresh()
+	}
 }
 
 // ChooseCapture asks for a capture file and opens it.

@@ -165,49 +165,42 @@ func (ws *Workstation) runExport(plan []exportRequest) {
 		return
 	}
 	ws.busy("Exporting " + filepath.Base(plan[0].path))
-	ws.work.submit(&job{
-		run: func(ctx context.Context, progress func(string, float64)) (any, error) {
-			for i, req := range plan {
-				if ctx.Err() != nil {
-					return plan[i:], ctx.Err()
-				}
-				progress("exporting "+filepath.Base(req.path), float64(i)/float64(len(plan)))
-				if err := export.Write(req.path, req.frames, req.opts); err != nil {
-					return plan[i:], err
-				}
+	submit(ws.work, false, func(ctx context.Context, progress progressFunc) ([]exportRequest, error) {
+		for i, req := range plan {
+			if ctx.Err() != nil {
+				return plan[i:], ctx.Err()
 			}
-			return nil, nil
-		},
-		done: func(value any, err error, _ bool) {
-			fyne.Do(func() {
-				ws.idle()
-				rest, _ := value.([]exportRequest)
-				switch {
-				case err == nil:
-					names := make([]string, len(plan))
-					for i, p := range plan {
-						names[i] = filepath.Base(p.path)
+			progress("exporting "+filepath.Base(req.path), float64(i)/float64(len(plan)))
+			if err := export.Write(req.path, req.frames, req.opts); err != nil {
+				return plan[i:], err
+			}
+		}
+		return nil, nil
+	}, func(rest []exportRequest, err error, _ bool) {
+		switch {
+		case err == nil:
+			names := make([]string, len(plan))
+			for i, p := range plan {
+				names[i] = filepath.Base(p.path)
+			}
+			ws.stage.SetText("Exported " + strings.Join(names, ", ") + " with the recipe beside it")
+		case errors.Is(err, context.Canceled):
+			ws.stage.SetText("Export stopped")
+		case errors.Is(err, export.ErrExists) && len(rest) > 0:
+			first := rest[0]
+			dialog.ShowConfirm("Replace the file?",
+				fmt.Sprintf("%s (or its recipe sidecar %s) already exists.\nReplace it?", first.path, filepath.Base(export.SidecarPath(first.path))),
+				func(yes bool) {
+					if !yes {
+						ws.stage.SetText("Export not written; the file exists")
+						return
 					}
-					ws.stage.SetText("Exported " + strings.Join(names, ", ") + " with the recipe beside it")
-				case errors.Is(err, context.Canceled):
-					ws.stage.SetText("Export stopped")
-				case errors.Is(err, export.ErrExists) && len(rest) > 0:
-					first := rest[0]
-					dialog.ShowConfirm("Replace the file?",
-						fmt.Sprintf("%s (or its recipe sidecar %s) already exists.\nReplace it?", first.path, filepath.Base(export.SidecarPath(first.path))),
-						func(yes bool) {
-							if !yes {
-								ws.stage.SetText("Export not written; the file exists")
-								return
-							}
-							rest[0].opts.Force = true
-							ws.runExport(rest)
-						}, ws.win)
-				default:
-					ws.showProblem("Cannot export", err.Error()+".",
-						"choose a folder you can write to and a name ending in .tiff or .png; a 32-bit float export needs .tiff. Nothing was written for this file.")
-				}
-			})
-		},
+					rest[0].opts.Force = true
+					ws.runExport(rest)
+				}, ws.win)
+		default:
+			ws.showProblem("Cannot export", err.Error()+".",
+				"choose a folder you can write to and a name ending in .tiff or .png; a 32-bit float export needs .tiff. Nothing was written for this file.")
+		}
 	})
 }

@@ -82,6 +82,9 @@ func (p *factsPanel) show(rep recon.Report, rec *capture.Recording) {
 	if len(warn) == 0 {
 		p.warnings.SetText("none")
 	} else {
+		for i, w := range warn {
+			warn[i] = windowWords(w)
+		}
 		p.warnings.SetText("• " + strings.Join(warn, "\n• "))
 	}
 }

@@ -57,6 +57,8 @@ type ImageView struct {
 	centreX float64 // mm at the centre of the view
 	centreY float64
 	size    fyne.Size
+	hover   fyne.Position // last pointer position over the view
+	hovered bool
 }
 
 // NewImageView returns an empty view that fits frames to its size.
@@ -66,19 +68,30 @@ func NewImageView() *ImageView {
 	return v
 }
 
-// SetFrame shows f with tone t. A frame of the same extent keeps the
-// current zoom and pan, so re-aligning does not jump.
+// SetFrame shows f with tone t. The zoom and pan stay as the user left
+// them, so tuning does not jump: they are kept on the millimetre grid, so
+// a frame of another size (a new pitch, a new field) still shows the same
+// point in mm under the pointer. A view the user has not zoomed keeps
+// fitting the frame.
 func (v *ImageView) SetFrame(f *recon.Frame, t recon.Tone) {
 	v.mu.Lock()
 	old := v.frame
 	v.frame = f
 	v.tone = t
 	v.retone()
-	if old == nil || f == nil || !sameExtent(old, f) {
+	if old == nil || f == nil || v.autoFit {
 		v.fit, v.autoFit = true, true
 	}
 	v.mu.Unlock()
 	v.Refresh()
+}
+
+// Reset makes the next frame fit the view (a new capture).
+func (v *ImageView) Reset() {
+	v.mu.Lock()
+	v.fit, v.autoFit = true, true
+	v.frame = nil
+	v.mu.Unlock()
 }
 
 // SetTone changes the tone without rebuilding anything.
@@ -95,11 +108,6 @@ func (v *ImageView) Frame() *recon.Frame {
 	v.mu.Lock()
 	defer v.mu.Unlock()
 	return v.frame
-}
-
-func sameExtent(a, b *recon.Frame) bool {
-	return a.Width == b.Width && a.Height == b.Height && a.PitchXMM == b.PitchXMM &&
-		a.PitchYMM == b.PitchYMM && a.OriginXMM == b.OriginXMM && a.OriginYMM == b.OriginYMM
 }
 
 // retone maps every frame pixel through the tone once, so painting and
@@ -267,6 +275,19 @@ func (v *ImageView) Dragged(ev *fyne.DragEvent) {
 // DragEnd ends a pan.
 func (v *ImageView) DragEnd() {}
 
+// Hover describes what now lies under the pointer (after a rebuild the
+// frame under a still pointer has changed); ok is false when the pointer
+// is not over the view.
+func (v *ImageView) Hover() (p Pointer, ok bool) {
+	v.mu.Lock()
+	pos, on := v.hover, v.hovered
+	v.mu.Unlock()
+	if !on {
+		return Pointer{}, false
+	}
+	return v.pointerAt(pos), true
+}
+
 // Tapped reports the position clicked.
 func (v *ImageView) Tapped(ev *fyne.PointEvent) {
 	if v.OnTap != nil {
@@ -279,6 +300,9 @@ func (v *ImageView) MouseIn(ev *desktop.MouseEvent) { v.MouseMoved(ev) }
 
 // MouseMoved updates the pointer read-out.
 func (v *ImageView) MouseMoved(ev *desktop.MouseEvent) {
+	v.mu.Lock()
+	v.hover, v.hovered = ev.Position, true
+	v.mu.Unlock()
 	if v.OnPointer != nil {
 		v.OnPointer(v.pointerAt(ev.Position))
 	}
@@ -286,6 +310,9 @@ func (v *ImageView) MouseMoved(ev *desktop.MouseEvent) {
 
 // MouseOut clears the pointer read-out.
 func (v *ImageView) MouseOut() {
+	v.mu.Lock()
+	v.hovered = false
+	v.mu.Unlock()
 	if v.OnPointer != nil {
 		v.OnPointer(Pointer{})
 	}

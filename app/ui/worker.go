@@ -5,130 +5,162 @@ import (
 	"sync"
 )
 
-// A job is one piece of engine work. Jobs run one at a time on the
-// worker's goroutine, never on the UI goroutine; run's progress reports go
-// to the worker's progress handler.
-type job struct {
-	// build jobs coalesce: a newer build replaces a pending one and cancels
-	// a running one. Other jobs (opening a capture, estimating offsets)
-	// queue behind and are never dropped.
-	build bool
-	run   func(ctx context.Context, progress func(stage string, fraction float64)) (any, error)
-	// done receives run's result on the worker goroutine; superseded is
-	// true when a newer build arrived while this one ran.
-	done func(value any, err error, superseded bool)
+// progressFunc receives a job's stage and how far it is (0..1).
+type progressFunc = func(stage string, fraction float64)
+
+// A task is one piece of engine work queued on a worker. Its context is
+// made when it is submitted, so a Cancel right after a submit reaches it.
+type task struct {
+	build  bool
+	gen    uint64 // the worker's build generation when it was submitted
+	ctx    context.Context
+	cancel context.CancelFunc
+	// run does the work on the worker goroutine and returns what hands the
+	// outcome over on the UI goroutine.
+	run func(ctx context.Context, progress progressFunc) func(stale bool)
 }
 
 // worker serialises engine work (a Session runs one Build at a time) and
 // coalesces builds so a burst of control changes costs one build, not a
-// backlog.
+// backlog. Outcomes come back through deliver (fyne.Do in the window), one
+// at a time and in order; a build outcome is stale when a newer build was
+// submitted after it.
 type worker struct {
 	mu       sync.Mutex
-	queue    []*job
-	running  *job
-	cancel   context.CancelFunc
-	progress func(stage string, fraction float64)
+	queue    []*task
+	running  *task
+	gen      uint64 // generation of the newest build submitted
+	pending  int    // tasks submitted whose outcome has not been handed over
+	progress progressFunc
+	deliver  func(func())
 	idle     *sync.Cond
 }
 
-func newWorker(progress func(stage string, fraction float64)) *worker {
-	w := &worker{progress: progress}
+// newWorker makes a worker whose outcomes are handed over by deliver (nil
+// runs them on the worker goroutine, for tests).
+func newWorker(progress progressFunc, deliver func(func())) *worker {
+	if deliver == nil {
+		deliver = func(f func()) { f() }
+	}
+	if progress == nil {
+		progress = func(string, float64) {}
+	}
+	w := &worker{progress: progress, deliver: deliver}
 	w.idle = sync.NewCond(&w.mu)
 	return w
 }
 
-// submit queues j. A build job replaces any queued build and cancels a
-// running build.
-func (w *worker) submit(j *job) {
+// submit queues run on w. A build replaces any queued build and cancels a
+// running one. done receives run's outcome on the UI goroutine (through the
+// worker's deliver); stale is true for a build a newer build has replaced.
+func submit[T any](w *worker, build bool, run func(ctx context.Context, progress progressFunc) (T, error), done func(value T, err error, stale bool)) {
 	w.mu.Lock()
 	defer w.mu.Unlock()
-	if j.build {
+	ctx, cancel := context.WithCancel(context.Background())
+	t := &task{build: build, ctx: ctx, cancel: cancel}
+	if build {
+		w.gen++
 		kept := w.queue[:0]
 		for _, q := range w.queue {
-			if !q.build {
+			if q.build {
+				q.cancel()
+				w.pending--
+			} else {
 				kept = append(kept, q)
 			}
 		}
 		w.queue = kept
-		if w.running != nil && w.running.build && w.cancel != nil {
-			w.cancel()
+		if w.running != nil && w.running.build {
+			w.running.cancel()
 		}
 	}
-	w.queue = append(w.queue, j)
+	t.gen = w.gen
+	t.run = func(ctx context.Context, progress progressFunc) func(bool) {
+		value, err := run(ctx, progress)
+		return func(stale bool) {
+			if done != nil {
+				done(value, err, stale)
+			}
+		}
+	}
+	w.pending++
+	w.queue = append(w.queue, t)
 	if w.running == nil {
-		w.running = w.queue[0]
-		w.queue = w.queue[1:]
-		go w.loop(w.running)
+		w.next()
 	}
 }
 
-// stop cancels the running job and drops queued builds (the user pressed
-// Cancel).
+// next starts the first queued task. Call with mu held.
+func (w *worker) next() {
+	if len(w.queue) == 0 {
+		w.running = nil
+		return
+	}
+	t := w.queue[0]
+	w.queue = w.queue[1:]
+	w.running = t
+	go w.loop(t)
+}
+
+func (w *worker) loop(t *task) {
+	hand := t.run(t.ctx, w.progress)
+	t.cancel()
+	w.deliver(func() {
+		w.mu.Lock()
+		stale := t.build && t.gen != w.gen
+		w.mu.Unlock()
+		hand(stale)
+		w.mu.Lock()
+		w.pending--
+		if w.pending <= 0 {
+			w.pending = 0
+			w.idle.Broadcast()
+		}
+		w.mu.Unlock()
+	})
+	w.mu.Lock()
+	w.next()
+	w.mu.Unlock()
+}
+
+// stop cancels the running task and every queued one, and drops queued
+// builds (the user pressed Cancel). Queued tasks that are not builds still
+// run, see their cancelled context and report it.
 func (w *worker) stop() {
 	w.mu.Lock()
 	defer w.mu.Unlock()
 	kept := w.queue[:0]
 	for _, q := range w.queue {
-		if !q.build {
+		q.cancel()
+		if q.build {
+			w.pending--
+		} else {
 			kept = append(kept, q)
 		}
 	}
 	w.queue = kept
-	if w.cancel != nil {
-		w.cancel()
+	if w.running != nil {
+		w.running.cancel()
+	}
+	if w.pending <= 0 {
+		w.pending = 0
+		w.idle.Broadcast()
 	}
 }
 
-// busy reports whether a job is running or queued.
+// busy reports whether a task is queued, running or not yet handed over.
 func (w *worker) busy() bool {
 	w.mu.Lock()
 	defer w.mu.Unlock()
-	return w.running != nil
+	return w.pending > 0
 }
 
-// wait blocks until no job is running or queued.
+// wait blocks until every task submitted has been handed over. It must not
+// be called on the goroutine deliver runs on.
 func (w *worker) wait() {
 	w.mu.Lock()
 	defer w.mu.Unlock()
-	for w.running != nil {
+	for w.pending > 0 {
 		w.idle.Wait()
-	}
-}
-
-func (w *worker) loop(j *job) {
-	for j != nil {
-		ctx, cancel := context.WithCancel(context.Background())
-		w.mu.Lock()
-		w.cancel = cancel
-		w.mu.Unlock()
-
-		value, err := j.run(ctx, w.progress)
-		cancel()
-
-		w.mu.Lock()
-		w.cancel = nil
-		superseded := false
-		for _, q := range w.queue {
-			if q.build && j.build {
-				superseded = true
-			}
-		}
-		w.mu.Unlock()
-
-		if j.done != nil {
-			j.done(value, err, superseded)
-		}
-
-		w.mu.Lock()
-		if len(w.queue) == 0 {
-			w.running = nil
-			w.idle.Broadcast()
-			w.mu.Unlock()
-			return
-		}
-		j = w.queue[0]
-		w.queue = w.queue[1:]
-		w.running = j
-		w.mu.Unlock()
 	}
 }

@@ -2,6 +2,7 @@ package ui
 
 import (
 	"context"
+	"errors"
 	"sync"
 	"sync/atomic"
 	"testing"
@@ -11,37 +12,33 @@ import (
 )
 
 func TestWorkerCoalescesBuilds(t *testing.T) {
-	w := newWorker(nil)
+	w := newWorker(nil, nil)
 	started := make(chan int, 10)
 	var ran, cancelled atomic.Int32
 	var mu sync.Mutex
 	var delivered []int
-	build := func(n int, block bool) *job {
-		return &job{
-			build: true,
-			run: func(ctx context.Context, _ func(string, float64)) (any, error) {
-				started <- n
-				ran.Add(1)
-				if block {
-					<-ctx.Done()
-					cancelled.Add(1)
-					return nil, ctx.Err()
-				}
-				return n, nil
-			},
-			done: func(v any, err error, _ bool) {
-				if err == nil {
-					mu.Lock()
-					delivered = append(delivered, v.(int))
-					mu.Unlock()
-				}
-			},
-		}
+	build := func(n int, block bool) {
+		submit(w, true, func(ctx context.Context, _ progressFunc) (int, error) {
+			started <- n
+			ran.Add(1)
+			if block {
+				<-ctx.Done()
+				cancelled.Add(1)
+				return 0, ctx.Err()
+			}
+			return n, nil
+		}, func(v int, err error, stale bool) {
+			if err == nil && !stale {
+				mu.Lock()
+				delivered = append(delivered, v)
+				mu.Unlock()
+			}
+		})
 	}
-	w.submit(build(1, true))
+	build(1, true)
 	<-started // build 1 is running
-	w.submit(build(2, false))
-	w.submit(build(3, false)) // replaces the queued build 2
+	build(2, false)
+	build(3, false) // replaces the queued build 2
 	w.wait()
 	if got := ran.Load(); got != 2 {
 		t.Errorf("%d builds ran, want 2 (the first, cancelled, and the newest)", got)
@@ -54,23 +51,68 @@ func TestWorkerCoalescesBuilds(t *testing.T) {
 	}
 }
 
+// TestWorkerCancelRightAfterSubmit: the task's context exists from the
+// moment it is submitted, so a stop before its goroutine has started still
+// cancels it (it used to be made inside the loop, after the stop).
+func TestWorkerCancelRightAfterSubmit(t *testing.T) {
+	w := newWorker(nil, nil)
+	var got error
+	submit(w, false, func(ctx context.Context, _ progressFunc) (struct{}, error) {
+		return struct{}{}, ctx.Err()
+	}, func(_ struct{}, err error, _ bool) { got = err })
+	w.stop()
+	w.wait()
+	if !errors.Is(got, context.Canceled) {
+		t.Errorf("the job saw %v, want context.Canceled", got)
+	}
+	if w.busy() {
+		t.Error("the worker is busy after every outcome was handed over")
+	}
+}
+
+// TestWorkerMarksStaleBuilds: a build that finished before a newer one was
+// submitted, but is handed over after, is stale by the generation count.
+func TestWorkerMarksStaleBuilds(t *testing.T) {
+	release := make(chan struct{})
+	var handOver []func()
+	var mu sync.Mutex
+	w := newWorker(nil, func(f func()) { mu.Lock(); handOver = append(handOver, f); mu.Unlock(); close(release) })
+	var stale []bool
+	submit(w, true, func(context.Context, progressFunc) (int, error) { return 1, nil },
+		func(_ int, _ error, s bool) { stale = append(stale, s) })
+	<-release // build 1 ran; its hand-over waits
+	w.deliver = func(f func()) { f() }
+	submit(w, true, func(context.Context, progressFunc) (int, error) { return 2, nil },
+		func(_ int, _ error, s bool) { stale = append(stale, s) })
+	mu.Lock()
+	handOver[0]()
+	mu.Unlock()
+	w.wait()
+	if len(stale) != 2 || !stale[1] && stale[0] == stale[1] {
+		t.Fatalf("stale flags %v", stale)
+	}
+	if !stale[0] {
+		t.Error("the older build was not marked stale")
+	}
+}
+
 func TestWorkerKeepsOtherJobs(t *testing.T) {
-	w := newWorker(nil)
+	w := newWorker(nil, nil)
 	release := make(chan struct{})
 	var order []string
 	var mu sync.Mutex
-	note := func(s string) {
+	note := func(s string) (int, error) {
 		mu.Lock()
 		order = append(order, s)
 		mu.Unlock()
+		return 0, nil
 	}
-	w.submit(&job{run: func(context.Context, func(string, float64)) (any, error) {
+	submit(w, false, func(context.Context, progressFunc) (int, error) {
 		<-release
-		note("open")
-		return nil, nil
-	}})
-	w.submit(&job{run: func(context.Context, func(string, float64)) (any, error) { note("estimate"); return nil, nil }})
-	w.submit(&job{build: true, run: func(context.Context, func(string, float64)) (any, error) { note("build"); return nil, nil }})
+		return note("open")
+	}, nil)
+	submit(w, false, func(context.Context, progressFunc) (int, error) { return note("estimate") }, nil)
+	submit(w, true, func(context.Context, progressFunc) (int, error) { return note("build") }, nil)
 	close(release)
 	w.wait()
 	if len(order) != 3 || order[0] != "open" || order[1] != "estimate" || order[2] != "build" {

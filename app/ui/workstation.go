@@ -58,6 +58,7 @@ type Workstation struct {
 	buildSeq   int
 	lastBuild  time.Duration
 	afterBuild string // a note to show with the next finished build
+	settled    string // what the status line said after the last open or build
 
 	view     *ImageView
 	strip    *TraceStrip
@@ -79,6 +80,7 @@ type Workstation struct {
 	redoButton  *widget.Button
 	menuUndo    *fyne.MenuItem
 	menuRedo    *fyne.MenuItem
+	menuStop    *fyne.MenuItem
 	recentMenu  *fyne.MenuItem
 	mainMenu    *fyne.MainMenu
 	leftBox     *fyne.Container
@@ -98,7 +100,7 @@ func (ws *Workstation) relayout() {
 // New builds the window's content in win. Call OpenDemo or OpenFile next.
 func New(a fyne.App, win fyne.Window, opts Options) *Workstation {
 	ws := &Workstation{app: a, win: win, opts: opts, hist: newHistory(), followLine: true}
-	ws.work = newWorker(ws.reportProgress)
+	ws.work = newWorker(ws.reportProgress, ws.handOver)
 	ws.build()
 	return ws
 }
@@ -242,6 +244,8 @@ func (ws *Workstation) buildMenu() {
 	ws.refreshRecentMenu()
 	ws.menuUndo = item("Undo", &fyne.ShortcutUndo{}, ws.Undo)
 	ws.menuRedo = item("Redo", &fyne.ShortcutRedo{}, ws.Redo)
+	ws.menuStop = item("Stop the build", short(fyne.KeyPeriod, ctrl), ws.Cancel)
+	ws.menuStop.Disabled = true
 	// The other common redo key works too, without a second menu entry.
 	ws.win.Canvas().AddShortcut(short(fyne.KeyZ, ctrl|fyne.KeyModifierShift), func(fyne.Shortcut) { ws.Redo() })
 	file := fyne.NewMenu("File",
@@ -259,7 +263,7 @@ func (ws *Workstation) buildMenu() {
 		fyne.NewMenuItemSeparator(),
 		item("Estimate aperture offsets", short(fyne.KeyK, ctrl), ws.EstimateOffsets),
 		item("Automatic tone", short(fyne.KeyT, ctrl), ws.AutoTone),
-		item("Stop the build", short(fyne.KeyPeriod, ctrl), ws.Cancel),
+		ws.menuStop,
 	)
 	view := fyne.NewMenu("View",
 		item("Zoom in", short(fyne.KeyEqual, ctrl), func() { ws.view.ZoomBy(1.25) }),
@@ -332,7 +336,8 @@ func (ws *Workstation) ShowKeys() {
 }
 
 // showProblem tells the user what went wrong and what to try; nothing
-// else changes.
+// else changes. The status line names the problem while its message is
+// up, and goes back to what it said before once the message is closed.
 func (ws *Workstation) showProblem(title, what, try string) {
 	ws.problem = title + ": " + what
 	text := what
@@ -344,14 +349,23 @@ func (ws *Workstation) showProblem(title, what, try string) {
 	icon := widget.NewIcon(theme.WarningIcon())
 	body := container.NewBorder(nil, nil, container.NewVBox(icon), nil, label)
 	sized := container.New(&minWidth{w: 460}, body)
-	ws.showDialog(dialog.NewCustom(title, "OK", sized, ws.win))
+	d := dialog.NewCustom(title, "OK", sized, ws.win)
+	ws.showDialog(d, func() {
+		if ws.stage.Text == title {
+			ws.stage.SetText(ws.settled)
+		}
+	})
 	ws.stage.SetText(title)
 }
 
-// showDialog shows d and remembers it, so Escape can close it.
-func (ws *Workstation) showDialog(d dialog.Dialog) {
+// showDialog shows d and remembers it, so Escape can close it; closed
+// (when given) runs once it is closed.
+func (ws *Workstation) showDialog(d dialog.Dialog, closed ...func()) {
 	ws.dialogs = append(ws.dialogs, d)
 	d.SetOnClosed(func() {
+		for _, f := range closed {
+			f()
+		}
 		for i, o := range ws.dialogs {
 			if o == d {
 				ws.dialogs = append(ws.dialogs[:i], ws.dialogs[i+1:]...)

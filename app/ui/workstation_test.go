@@ -432,14 +432,23 @@ func TestCancelKeepsImageAndSettings(t *testing.T) {
 	if ws.result == nil {
 		t.Fatalf("demo did not open: %s", ws.Problem())
 	}
+	if !ws.cancel.Disabled() || !ws.menuStop.Disabled {
+		t.Error("Stop is enabled with nothing running")
+	}
 	shown, before := ws.result, ws.cur.clone()
 	ws.controls.delay.typed(fmt.Sprintf("%.3f", ws.result.Report.DelayDeg+3))
 	<-slow.started
 	if !ws.work.busy() {
 		t.Fatal("the build is not running")
 	}
-	ws.Cancel()
+	if ws.cancel.Disabled() || ws.menuStop.Disabled {
+		t.Error("Stop is disabled while a build runs")
+	}
+	ws.escape() // Esc stops the build when no message is up
 	ws.Wait()
+	if !ws.cancel.Disabled() || !ws.menuStop.Disabled {
+		t.Error("Stop is enabled with nothing running")
+	}
 	if ws.result != shown {
 		t.Error("cancelling replaced the image")
 	}
@@ -646,4 +655,9 @@ func TestMissingLayoutAsksForIt(t *testing.T) {
 	if strings.Contains(ws.stage.Text, "without its layout") {
 		t.Fatalf("a layout question for an error that only mentions a layout: status %q", ws.stage.Text)
 	}
+}
+
+func sameExtent(a, b *recon.Frame) bool {
+	return a.Width == b.Width && a.Height == b.Height && a.PitchXMM == b.PitchXMM &&
+		a.PitchYMM == b.PitchYMM && a.OriginXMM == b.OriginXMM && a.OriginYMM == b.OriginYMM
 }
