@@ -627,17 +627,12 @@ func (ws *Workstation) busy(what string) {
 	ws.showRunning(true)
 }
 
-// handOver runs a worker outcome on the UI goroutine, then hides the
-// progress and disables Stop once nothing is left to run.
-func (ws *Workstation) handOver(f func()) {
-	fyne.Do(func() {
-		f()
-		if !ws.work.busy() {
-			ws.progress.SetValue(1)
-			ws.progress.Hide()
-			ws.showRunning(false)
-		}
-	})
+// settled hides the progress and disables Stop once nothing is left to
+// run; the worker calls it on the UI goroutine after the last outcome.
+func (ws *Workstation) settledWork() {
+	ws.progress.SetValue(1)
+	ws.progress.Hide()
+	ws.showRunning(false)
 }
 
 // showRunning enables the Cancel button and the Stop menu entry only while

@@ -33,7 +33,10 @@ type worker struct {
 	pending  int    // tasks submitted whose outcome has not been handed over
 	progress progressFunc
 	deliver  func(func())
-	idle     *sync.Cond
+	// settled runs on the hand-over goroutine after the last outcome is
+	// handed over, before wait returns.
+	settled func()
+	idle    *sync.Cond
 }
 
 // newWorker makes a worker whose outcomes are handed over by deliver (nil
@@ -110,6 +113,12 @@ func (w *worker) loop(t *task) {
 		stale := t.build && t.gen != w.gen
 		w.mu.Unlock()
 		hand(stale)
+		w.mu.Lock()
+		last := w.pending == 1
+		w.mu.Unlock()
+		if last && w.settled != nil {
+			w.settled()
+		}
 		w.mu.Lock()
 		w.pending--
 		if w.pending <= 0 {

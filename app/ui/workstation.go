@@ -100,7 +100,8 @@ func (ws *Workstation) relayout() {
 // New builds the window's content in win. Call OpenDemo or OpenFile next.
 func New(a fyne.App, win fyne.Window, opts Options) *Workstation {
 	ws := &Workstation{app: a, win: win, opts: opts, hist: newHistory(), followLine: true}
-	ws.work = newWorker(ws.reportProgress, ws.handOver)
+	ws.work = newWorker(ws.reportProgress, fyne.Do)
+	ws.work.settled = ws.settledWork
 	ws.build()
 	return ws
 }
