@@ -208,6 +208,9 @@ type gridInput struct {
 	clipHi        float32
 	clipLo        float32 // -Inf when the low end cannot clip
 	yTop, yBottom float64 // frame extent in y, mm
+	// edge, when not nil, is the detector's step response: the first
+	// samples of each line are divided by it.
+	edge *edgeResponse
 	// progress, when not nil, gets the fraction of lines done; it is
 	// called from one goroutine at a time.
 	progress func(fraction float64)
@@ -394,6 +397,10 @@ func splatLine(in gridInput, l *placedLine, sum, wt []float64, cols, rows int, x
 		w[cols+1] += b11
 		a00, a10, a01, a11, b00, b10, b01, b11 = 0, 0, 0, 0, 0, 0, 0, 0
 	}
+	riseSamples, fallFrom, lead := 0, last-first, 0.0
+	if in.edge != nil {
+		riseSamples, fallFrom, lead = in.edge.rise, last-first-in.edge.fall, float64(first)-l.start
+	}
 	ties := 0
 	prev := float32(math.NaN())
 	clipTest := det
@@ -415,6 +422,21 @@ func splatLine(in gridInput, l *placedLine, sum, wt []float64, cols, rows int, x
 		prev = raw
 		fk := float64(k)
 		value := sign * (float64(raw) - (l.base0 + l.baseSlope*fk))
+		if k < riseSamples || k >= fallFrom {
+			// Inside the detector's rise or fall: correct by its step
+			// response, or leave out a sample that shows too little.
+			g := 1.0
+			if k < riseSamples {
+				g = in.edge.startGain(lead + fk)
+			}
+			if k >= fallFrom {
+				g *= in.edge.endGain(lead + fk - (l.end - l.start))
+			}
+			if g < minEdgeResponse {
+				continue
+			}
+			value /= g
+		}
 		// x from the law table (sweepMap.x, inlined).
 		pu := uOff + duS*fk
 		var x float64

@@ -469,6 +469,7 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 			l := &pl.lines[i]
 			l.BaselineStartS, l.BaselineEndS = float64(l.baseFirst)/rate, float64(l.baseLast)/rate
 		}
+		pl.edge = measureEdgeResponse(det, pl.lines)
 	}
 	s.place, s.placeKey = pl, k
 	s.runs["placement"]++
@@ -679,7 +680,7 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 		f, st, _, err := gridFrame(ctx, gridInput{
 			det: det, recorded: recorded, lines: g, sweep: pl.sweep, rows: rows, pitch: r.Image.PitchMM,
 			invert: r.Signal.Invert, fill: r.Image.FillGapsPx, clipHi: hi, clipLo: clipLo,
-			yTop: yTop, yBottom: yBottom,
+			yTop: yTop, yBottom: yBottom, edge: pl.edge,
 			progress: func(f float64) { progress.report("gridding", (float64(gi)+f)/float64(len(groups))) },
 		})
 		if err != nil {

@@ -130,6 +130,7 @@ func apertureSpacingDeg(s recipe.Sweep) float64 { return 360 / float64(max(s.Ape
 type placedLine struct {
 	Line
 	first, last int     // samples [first, last) are inside the field
+	start, end  float64 // the field's start and end, fractional samples
 	u0, du      float64 // u at sample first, and per sample
 	period      float64 // samples
 	// baseline at sample first and its change per sample
@@ -143,6 +144,9 @@ type placement struct {
 	lines    []placedLine
 	sweep    *sweepMap
 	warnings []string
+	// edge is the detector's measured step response, nil when it could
+	// not be measured or the law has no beam-off time.
+	edge *edgeResponse
 }
 
 // placeLines turns each line's timing into sample ranges and the u map.
@@ -174,7 +178,7 @@ func placeLines(t *timingResult, s recipe.Sweep, delay float64, sinePeriod float
 				Number: number, Aperture: aperture, EdgeS: edge / rateHz, Repaired: repaired,
 				FieldStartS: float64(first) / rateHz, FieldEndS: float64(last) / rateHz,
 			},
-			first: first, last: last, period: period,
+			first: first, last: last, start: uStartSample, end: uEndSample, period: period,
 			u0: u0 + du*(float64(first)-uStartSample), du: du,
 		}
 		out = append(out, pl)
