@@ -10,10 +10,20 @@ import (
 
 // Rect is a rectangle in the frame's millimetres; the corners may be given
 // in any order.
-type Rect struct{ X0, Y0, X1, Y1 float64 }
+type Rect struct {
+	X0 float64 `json:"x0_mm"`
+	Y0 float64 `json:"y0_mm"`
+	X1 float64 `json:"x1_mm"`
+	Y1 float64 `json:"y1_mm"`
+}
 
 // Line is a straight line between two points in the frame's millimetres.
-type Line struct{ X0, Y0, X1, Y1 float64 }
+type Line struct {
+	X0 float64 `json:"x0_mm"`
+	Y0 float64 `json:"y0_mm"`
+	X1 float64 `json:"x1_mm"`
+	Y1 float64 `json:"y1_mm"`
+}
 
 func (r Rect) String() string {
 	return fmt.Sprintf("%g,%g … %g,%g mm", r.X0, r.Y0, r.X1, r.Y1)
@@ -51,7 +61,7 @@ func box(f *recon.Frame, r Rect) (pixelBox, error) {
 		r0: int(math.Ceil(math.Min(ra, rb) - 1e-9)), r1: int(math.Floor(math.Max(ra, rb) + 1e-9)),
 	}
 	if b.c1 < 0 || b.r1 < 0 || b.c0 >= f.Width || b.r0 >= f.Height || b.c1 < b.c0 || b.r1 < b.r0 {
-		return b, fmt.Errorf("the rectangle %v lies outside the frame (x %g … %g mm, y %g … %g mm)", r, xOf(f, 0), xOf(f, float64(f.Width-1)), yOf(f, float64(f.Height-1)), yOf(f, 0))
+		return b, fmt.Errorf("the rectangle %v lies outside the frame (x %.5g … %.5g mm, y %.5g … %.5g mm)", r, xOf(f, 0), xOf(f, float64(f.Width-1)), yOf(f, float64(f.Height-1)), yOf(f, 0))
 	}
 	b.c0, b.r0 = max(b.c0, 0), max(b.r0, 0)
 	b.c1, b.r1 = min(b.c1, f.Width-1), min(b.r1, f.Height-1)
