@@ -124,57 +124,61 @@ type npsAxesOutput struct {
 	Y [][2]float64 `json:"y"`
 }
 
-// rectFlag and lineFlag parse "X0,Y0,X1,Y1" in mm.
-type rectFlag struct{ r **measure.Rect }
-type lineFlag struct{ l **measure.Line }
+// fourFlag parses "X0,Y0,X1,Y1" in mm into a rectangle or a line.
+type fourFlag struct {
+	set func(v [4]float64)
+	get func() (v [4]float64, ok bool)
+}
 
-func parseFour(s string) ([4]float64, error) {
+func rectFlag(r **measure.Rect) fourFlag {
+	return fourFlag{
+		set: func(v [4]float64) { *r = &measure.Rect{X0: v[0], Y0: v[1], X1: v[2], Y1: v[3]} },
+		get: func() ([4]float64, bool) {
+			if r == nil || *r == nil {
+				return [4]float64{}, false
+			}
+			return [4]float64{(*r).X0, (*r).Y0, (*r).X1, (*r).Y1}, true
+		},
+	}
+}
+
+func lineFlag(l **measure.Line) fourFlag {
+	return fourFlag{
+		set: func(v [4]float64) { *l = &measure.Line{X0: v[0], Y0: v[1], X1: v[2], Y1: v[3]} },
+		get: func() ([4]float64, bool) {
+			if l == nil || *l == nil {
+				return [4]float64{}, false
+			}
+			return [4]float64{(*l).X0, (*l).Y0, (*l).X1, (*l).Y1}, true
+		},
+	}
+}
+
+func (f fourFlag) String() string {
+	if f.get == nil {
+		return ""
+	}
+	v, ok := f.get()
+	if !ok {
+		return ""
+	}
+	return fmt.Sprintf("%g,%g,%g,%g", v[0], v[1], v[2], v[3])
+}
+
+func (f fourFlag) Set(s string) error {
 	var v [4]float64
 	parts := strings.Split(s, ",")
 	if len(parts) != 4 {
-		return v, fmt.Errorf("expected X0,Y0,X1,Y1 in mm, got %q", s)
+		return fmt.Errorf("expected X0,Y0,X1,Y1 in mm, got %q", s)
 	}
 	for i, p := range parts {
-		f, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
-		if err != nil || math.IsNaN(f) || math.IsInf(f, 0) {
-			return v, fmt.Errorf("expected X0,Y0,X1,Y1 in mm, and %q is not a number", p)
+		x, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
+		if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+			return fmt.Errorf("expected X0,Y0,X1,Y1 in mm, and %q is not a number", p)
 		}
-		v[i] = f
+		v[i] = x
 	}
-	return v, nil
-}
-
-func (f rectFlag) String() string {
-	if f.r == nil || *f.r == nil {
-		return ""
-	}
-	r := **f.r
-	return fmt.Sprintf("%g,%g,%g,%g", r.X0, r.Y0, r.X1, r.Y1)
-}
-
-func (f rectFlag) Set(s string) error {
-	v, err := parseFour(s)
-	if err != nil {
-		return err
-	}
-	*f.r = &measure.Rect{X0: v[0], Y0: v[1], X1: v[2], Y1: v[3]}
-	return nil
-}
-
-func (f lineFlag) String() string {
-	if f.l == nil || *f.l == nil {
-		return ""
-	}
-	l := **f.l
-	return fmt.Sprintf("%g,%g,%g,%g", l.X0, l.Y0, l.X1, l.Y1)
-}
-
-func (f lineFlag) Set(s string) error {
-	v, err := parseFour(s)
-	if err != nil {
-		return err
-	}
-	*f.l = &measure.Line{X0: v[0], Y0: v[1], X1: v[2], Y1: v[3]}
+	f.set(v)
 	return nil
 }
 
@@ -182,13 +186,13 @@ func runMeasure(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("measure", measureSynopsis, measureDescription, stderr)
 	var spec measureSpec
 	var asJSON bool
-	fs.Var(rectFlag{&spec.Edge}, "edge", "slanted-edge `rectangle` X0,Y0,X1,Y1 in mm")
-	fs.Var(rectFlag{&spec.ROI}, "roi", "statistics `rectangle` X0,Y0,X1,Y1 in mm")
-	fs.Var(rectFlag{&spec.ROI2}, "roi2", "second `rectangle` for the contrast-to-noise ratio with --roi")
-	fs.Var(lineFlag{&spec.Profile}, "profile", "profile `line` X0,Y0,X1,Y1 in mm")
+	fs.Var(rectFlag(&spec.Edge), "edge", "slanted-edge `rectangle` X0,Y0,X1,Y1 in mm")
+	fs.Var(rectFlag(&spec.ROI), "roi", "statistics `rectangle` X0,Y0,X1,Y1 in mm")
+	fs.Var(rectFlag(&spec.ROI2), "roi2", "second `rectangle` for the contrast-to-noise ratio with --roi")
+	fs.Var(lineFlag(&spec.Profile), "profile", "profile `line` X0,Y0,X1,Y1 in mm")
 	fs.Float64Var(&spec.BandMM, "band", 0, "width in `mm` of the band a profile averages across")
 	fs.Float64Var(&spec.DotsMM, "dots", 0, "find a dot grid of this `spacing` in mm")
-	fs.Var(rectFlag{&spec.NPS}, "nps", "noise power spectrum `rectangle` X0,Y0,X1,Y1 in mm (a uniform area)")
+	fs.Var(rectFlag(&spec.NPS), "nps", "noise power spectrum `rectangle` X0,Y0,X1,Y1 in mm (a uniform area)")
 	fs.IntVar(&spec.FramePage, "page", 1, "`page` of a multi-page TIFF (one per stroke)")
 	fs.BoolVar(&asJSON, "json", false, "print JSON")
 	positional, err := parseFlags(fs, args)

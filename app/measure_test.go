@@ -3,7 +3,6 @@ package main
 import (
 	"encoding/json"
 	"math"
-	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -29,15 +28,7 @@ func simulatedFrame(t *testing.T, dir, scene string, outs ...string) sampledata.
 			t.Fatalf("build %s: exit %d: %s", out, code, stderr)
 		}
 	}
-	var truth sampledata.Truth
-	data, err := os.ReadFile(truthPath)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := json.Unmarshal(data, &truth); err != nil {
-		t.Fatal(err)
-	}
-	return truth
+	return readTruth(t, truthPath)
 }
 
 func measureJSON(t *testing.T, args ...string) measureOutput {
