@@ -1,19 +1,15 @@
 package main
 
 import (
-	"context"
 	"encoding/json"
 	"errors"
 	"flag"
 	"fmt"
 	"io"
 	"math"
-	"os"
-	"os/signal"
 	"path/filepath"
 	"strings"
 
-	"spotloom/capture"
 	"spotloom/recon"
 	"spotloom/recon/export"
 	"spotloom/recon/recipe"
@@ -44,7 +40,11 @@ the 0.5th to the 99.5th percentile of the frame), then --gamma and --invert.
 --scale-bar burns a bar of a round length into the lower left, --caption a
 line of text into the upper left (8 and 16 bits only).
 
-An existing file is never replaced without --force.`
+An existing file is never replaced without --force. F.tiff and F.png of the
+same recipe share F.recipe.json, which lists both; a sidecar holding another
+recipe needs --force. No output may be the capture, its layout, the recipe
+or another output, even with --force. Ctrl-C stops the build and leaves the
+previous files as they were.`
 
 // buildFlags are the export settings of the build command.
 type buildFlags struct {
@@ -104,14 +104,13 @@ func runBuild(args []string, stdout, stderr io.Writer) error {
 	if err := export.CheckClashes(inputs, outputs); err != nil {
 		return err
 	}
+	if bf.reportPath != "" {
+		// The report is written with the image and its sidecar, all or none.
+		opts.Also = []export.File{{Path: bf.reportPath}}
+	}
 	// Refuse bad output settings and folders before the long part.
 	if err := export.Check(bf.outPath, opts); err != nil {
 		return forceHint(err)
-	}
-	if bf.reportPath != "" {
-		if err := export.CheckFile(bf.reportPath, bf.force); err != nil {
-			return forceHint(err)
-		}
 	}
 
 	r, err := recipe.Load(bf.recipePath)
@@ -121,31 +120,39 @@ func runBuild(args []string, stdout, stderr io.Writer) error {
 	if err := r.Validate(); err != nil {
 		return fmt.Errorf("%s: %w", bf.recipePath, err)
 	}
+	ctx, stop := interruptContext()
+	defer stop()
 	progress := newProgress(stderr)
 	defer progress.Done()
 	captureOpts.Progress = func(fraction float64) { progress.Report("reading", fraction) }
-	rec, err := capture.Open(positional[0], captureOpts)
+	rec, err := openCapture(ctx, positional[0], captureOpts)
 	if err != nil {
 		return err
 	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
-	defer stop()
-	res, err := recon.NewSession(rec).Build(ctx, r, progress.Report)
+	session := recon.NewSession(rec)
+	// The recipe resolved (which the build then reuses) decides whether
+	// a sidecar already there may list this export too.
+	resolved, err := session.Resolve(ctx, r)
 	if err != nil {
-		return fmt.Errorf("%s: %w", positional[0], err)
+		return interrupted(ctx, fmt.Errorf("%s: %w", positional[0], err))
 	}
-	progress.Report("writing", 0)
-	if err := export.Write(bf.outPath, res.Frames, opts); err != nil {
+	if err := export.CheckSidecar(bf.outPath, resolved, bf.force); err != nil {
 		return forceHint(err)
 	}
-	if bf.reportPath != "" {
+	res, err := session.Build(ctx, r, progress.Report)
+	if err != nil {
+		return interrupted(ctx, fmt.Errorf("%s: %w", positional[0], err))
+	}
+	progress.Report("writing", 0)
+	if len(opts.Also) > 0 {
 		data, err := json.MarshalIndent(res.Report, "", "  ")
 		if err != nil {
 			return fmt.Errorf("%s: the build report: %w", bf.reportPath, err)
 		}
-		if err := export.SaveFile(bf.reportPath, append(data, '\n'), bf.force); err != nil {
-			return forceHint(err)
-		}
+		opts.Also[0].Data = append(data, '\n')
+	}
+	if err := export.WriteContext(ctx, bf.outPath, res.Frames, opts); err != nil {
+		return interrupted(ctx, forceHint(err))
 	}
 	progress.Done()
 	f := res.Frames[0]

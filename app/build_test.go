@@ -91,7 +91,7 @@ func TestBuildWritesCalibratedFiles(t *testing.T) {
 	}
 
 	// 16-bit TIFF decoded by x/image/tiff.
-	tif := filepath.Join(dir, "demo16.tiff") // demo.tiff would share demo.recipe.json with demo.png
+	tif := filepath.Join(dir, "demo16.tiff")
 	if code, _, stderr := runCmd("build", wav, "--recipe", recipePath, "--out", tif, "--depth", "16", "--compress", "lzw"); code != 0 {
 		t.Fatalf("tiff: exit %d: %s", code, stderr)
 	}

@@ -1,10 +1,19 @@
 package main
 
 import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"image/png"
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
+
+	"spotloom/recon"
+	"spotloom/recon/export"
+	"spotloom/sampledata"
 )
 
 // snapshotDir lists a folder's files with their contents.
@@ -175,5 +184,115 @@ func TestSnapshotNeverReplacesWithoutForce(t *testing.T) {
 	}
 	if got := string(readForBuildTest(t, shot)); got != "keep" {
 		t.Errorf("the existing file became %q", got)
+	}
+}
+
+// TestConcurrentForcedBuilds: forced builds of two different recipes to
+// one output at the same time leave an image, a sidecar and a report of
+// one and the same build.
+func TestConcurrentForcedBuilds(t *testing.T) {
+	dir, wav, _ := demoFiles(t)
+	var recipes []string
+	for i, pitch := range []float64{0.9, 1.4} {
+		r := sampledata.DemoRecipe()
+		r.Image.PitchMM = pitch
+		p := filepath.Join(dir, fmt.Sprintf("r%d.json", i))
+		if err := os.WriteFile(p, r.JSON(), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		recipes = append(recipes, p)
+	}
+	out, report := filepath.Join(dir, "f.png"), filepath.Join(dir, "f.report.json")
+	var wg sync.WaitGroup
+	codes := make([]int, 4)
+	for k := range codes {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			var stdout, stderr bytes.Buffer
+			codes[k] = run([]string{"build", wav, "--recipe", recipes[k%2], "--out", out, "--report", report, "--force"}, &stdout, &stderr)
+			if codes[k] != 0 {
+				t.Errorf("build %d: %s", k, stderr.String())
+			}
+		}()
+	}
+	wg.Wait()
+	cfg, err := png.DecodeConfig(bytes.NewReader(readForBuildTest(t, out)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var sidecar struct {
+		Pages  []struct{ Columns, Rows int }
+		Recipe struct {
+			Image struct {
+				PitchMM float64 `json:"pitch_mm"`
+			}
+		}
+	}
+	var rep recon.Report
+	if err := json.Unmarshal(readForBuildTest(t, export.SidecarPath(out)), &sidecar); err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(readForBuildTest(t, report), &rep); err != nil {
+		t.Fatal(err)
+	}
+	if sidecar.Pages[0].Columns != cfg.Width || sidecar.Pages[0].Rows != cfg.Height || rep.Columns != cfg.Width || rep.PitchMM != sidecar.Recipe.Image.PitchMM {
+		t.Errorf("image %d×%d, sidecar %+v at %g mm, report %d×%d at %g mm: from different builds",
+			cfg.Width, cfg.Height, sidecar.Pages[0], sidecar.Recipe.Image.PitchMM, rep.Columns, rep.Rows, rep.PitchMM)
+	}
+	for _, e := range must2(os.ReadDir(dir)) {
+		if strings.HasPrefix(e.Name(), ".") {
+			t.Errorf("left %s", e.Name())
+		}
+	}
+}
+
+func must2[T any](v T, err error) T {
+	if err != nil {
+		panic(err)
+	}
+	return v
+}
+
+// TestTIFFAndPNGShareTheSidecar: a TIFF and a PNG of one base name from
+// the same recipe need no --force and share F.recipe.json, which lists
+// both; a build of another recipe to that base name is refused before the
+// reconstruction, naming the sidecar and both files.
+func TestTIFFAndPNGShareTheSidecar(t *testing.T) {
+	dir, wav, recipePath := demoFiles(t)
+	tif, pngPath := filepath.Join(dir, "frame.tiff"), filepath.Join(dir, "frame.png")
+	for _, out := range []string{tif, pngPath} {
+		if code, _, stderr := runCmd("build", wav, "--recipe", recipePath, "--out", out); code != 0 {
+			t.Fatalf("%s: exit %d: %s", out, code, stderr)
+		}
+	}
+	var sc struct {
+		Exports []struct {
+			File, Format string
+			Depth        int
+			Tone         []struct{ Window float64 }
+		}
+	}
+	sidecar := filepath.Join(dir, "frame.recipe.json")
+	if err := json.Unmarshal(readForBuildTest(t, sidecar), &sc); err != nil {
+		t.Fatal(err)
+	}
+	if len(sc.Exports) != 2 || sc.Exports[0].File != "frame.tiff" || sc.Exports[0].Depth != 32 || sc.Exports[1].Format != "png" || sc.Exports[1].Depth != 16 || len(sc.Exports[1].Tone) != 1 {
+		t.Errorf("exports %+v, want the 32-bit TIFF and the 16-bit PNG", sc.Exports)
+	}
+	r := sampledata.DemoRecipe()
+	r.Image.PitchMM *= 2
+	other := filepath.Join(dir, "other.json")
+	os.WriteFile(other, r.JSON(), 0o644)
+	sentinel := false
+	hook := func(stage string, _ float64) { sentinel = sentinel || stage == "gridding" }
+	stageHook.Store(&hook)
+	code, _, stderr := runCmd("build", wav, "--recipe", other, "--out", filepath.Join(dir, "frame.tif"))
+	stageHook.Store(nil)
+	if code != 1 || !strings.Contains(stderr, sidecar) || !strings.Contains(stderr, "frame.tiff and frame.png") || !strings.Contains(stderr, "frame.tif:") || !strings.Contains(stderr, "--force") {
+		t.Errorf("other recipe: exit %d, stderr %q; want exit 1 naming the sidecar and the files, and --force", code, stderr)
+	}
+	if sentinel {
+		t.Error("the refusal came after gridding")
 	}
 }

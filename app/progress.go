@@ -5,8 +5,13 @@ import (
 	"io"
 	"os"
 	"sync"
+	"sync/atomic"
 	"time"
 )
+
+// stageHook, when tests set it, sees every progress report, terminal or
+// not, on the goroutine doing the work.
+var stageHook atomic.Pointer[func(stage string, fraction float64)]
 
 // progressPrinter shows long work on stderr, but only when stderr is a
 // terminal, so scripts and CI logs stay clean.
@@ -31,6 +36,9 @@ func newProgress(stderr io.Writer) *progressPrinter {
 // Report shows stage and fraction (0..1); calls closer than 100 ms apart
 // are dropped. It is safe to call from several goroutines.
 func (p *progressPrinter) Report(stage string, fraction float64) {
+	if hook := stageHook.Load(); hook != nil {
+		(*hook)(stage, fraction)
+	}
 	if p == nil || !p.enabled {
 		return
 	}

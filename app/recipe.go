@@ -1,11 +1,8 @@
 package main
 
 import (
-	"context"
 	"fmt"
 	"io"
-	"os"
-	"os/signal"
 	"strings"
 
 	"spotloom/capture"
@@ -110,9 +107,11 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 	if err := r.Validate(); err != nil {
 		return usagef("%s", strings.ReplaceAll(err.Error(), "\n", "; "))
 	}
+	ctx, stop := interruptContext()
+	defer stop()
 	prog := newProgress(stderr)
 	opts.Progress = func(f float64) { prog.Report("reading", f) }
-	rec, err := capture.Open(path, opts)
+	rec, err := openCapture(ctx, path, opts)
 	prog.Done()
 	if err != nil {
 		return err
@@ -120,8 +119,6 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 	if *from == "" && *source == "" {
 		r.Rows.Source = rowsSourceFor(capture.GuessRoles(rec))
 	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
-	defer stop()
 	// A trial build resolves every value and finds what looks wrong (a
 	// calibration outside the position's range, a field that does not
 	// match the beam-on stretch); those warnings go to stderr.
@@ -129,7 +126,7 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 	res, err := session.Build(ctx, r, func(stage string, f float64) { prog.Report(stage, f) })
 	prog.Done()
 	if err != nil {
-		return fmt.Errorf("%s: %w", path, err)
+		return interrupted(ctx, fmt.Errorf("%s: %w", path, err))
 	}
 	if *from == "" {
 		// Nobody has described this capture: let the trial build fill in
@@ -149,11 +146,15 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 			}
 		}
 	}
+	if ctx.Err() != nil {
+		return errInterrupted
+	}
 	for _, w := range res.Report.Warnings {
 		fmt.Fprintf(stderr, "spotloom recipe: %s: %s\n", path, w)
 	}
 	if *outPath != "" {
-		return forceHint(export.SaveFile(*outPath, res.Recipe.JSON(), *force))
+		err := export.WriteFiles(ctx, []export.File{{Path: *outPath, Data: res.Recipe.JSON()}}, *force)
+		return interrupted(ctx, forceHint(err))
 	}
 	_, err = stdout.Write(res.Recipe.JSON())
 	return err

@@ -1,11 +1,9 @@
 package main
 
 import (
-	"context"
-	"errors"
+	"encoding/json"
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -145,24 +143,29 @@ func simulate(f simulateFlags, stderr io.Writer) error {
 	if f.truthPath != "" {
 		opts.TruthPitchMM = f.truthPitchMM
 	}
+	ctx, stop := interruptContext()
+	defer stop()
 	progress := newProgress(stderr)
 	defer progress.Done()
 	opts.Progress = func(fraction float64) { progress.Report("simulating", fraction) }
-	rec, truth, err := sampledata.Simulate(context.Background(), rig, f.scene, opts)
+	rec, truth, err := sampledata.Simulate(ctx, rig, f.scene, opts)
 	if err != nil {
 		if f.rigPath != "" {
-			return fmt.Errorf("%s: %w", f.rigPath, err)
+			err = fmt.Errorf("%s: %w", f.rigPath, err)
 		}
-		return err
+		return interrupted(ctx, err)
 	}
 	rec.Source.Path = f.out
 
+	// Every file is written to a temporary first and all are placed
+	// together, so an interrupted or failed run leaves none of them.
+	var files []export.File
 	fullScale := truth.Rig.ADC.FullScaleV
 	switch format {
 	case "wav":
 		// A sound card maps its full scale to ±1.0.
 		scaled := scaleRecording(rec, 1/fullScale, capture.UnitFullScale)
-		err = writeFileSafely(f.out, func(w io.Writer) error { return capture.WriteWAV(w, scaled, sampleType) })
+		files = append(files, export.File{Path: f.out, Encode: func(w io.Writer) error { return capture.WriteWAV(w, scaled, sampleType) }})
 	case "csv":
 		preamble := []string{
 			"Made by,spotloom simulate",
@@ -170,33 +173,29 @@ func simulate(f simulateFlags, stderr io.Writer) error {
 			"Rig," + csvField(truth.Rig.Name),
 			"Seed," + strconv.FormatUint(f.seed, 10),
 		}
-		err = writeFileSafely(f.out, func(w io.Writer) error { return capture.WriteCSV(w, rec, preamble) })
+		files = append(files, export.File{Path: f.out, Encode: func(w io.Writer) error { return capture.WriteCSV(w, rec, preamble) }})
 	case "raw":
 		layout := rawLayoutFor(rec, sampleType, fullScale)
-		err = writeFileSafely(f.out, func(w io.Writer) error { return capture.WriteRaw(w, rec, layout) })
-		if err == nil {
-			// NAME.EXT.layout.json, the first name capture.Open looks for,
-			// so the layout never claims a NAME.csv or NAME.wav beside it.
-			err = capture.WriteLayoutFile(f.out+".layout.json", layout)
+		if err := layout.Validate(); err != nil {
+			return fmt.Errorf("%s: layout: %v", f.out, err)
 		}
-	}
-	if err != nil {
-		return err
-	}
-
-	if f.truthPath != "" {
-		pngPath := truthImagePath(f.truthPath)
-		if err := writeFileSafely(pngPath, truth.WritePNG); err != nil {
+		data, err := json.MarshalIndent(layout, "", "  ")
+		if err != nil {
 			return err
 		}
+		// NAME.EXT.layout.json, the first name capture.Open looks for,
+		// so the layout never claims a NAME.csv or NAME.wav beside it.
+		files = append(files, export.File{Path: f.out, Encode: func(w io.Writer) error { return capture.WriteRaw(w, rec, layout) }},
+			export.File{Path: f.out + ".layout.json", Data: append(data, '\n')})
+	}
+	if f.truthPath != "" {
+		pngPath := truthImagePath(f.truthPath)
 		truth.Image.Path = filepath.Base(pngPath)
 		data, err := truth.JSON()
 		if err != nil {
 			return fmt.Errorf("%s: %w", f.truthPath, err)
 		}
-		if err := writeFileSafely(f.truthPath, func(w io.Writer) error { _, err := w.Write(data); return err }); err != nil {
-			return err
-		}
+		files = append(files, export.File{Path: pngPath, Encode: truth.WritePNG}, export.File{Path: f.truthPath, Data: data})
 	}
 	if f.recipePath != "" {
 		r := truth.Rig.Recipe()
@@ -206,9 +205,11 @@ func simulate(f simulateFlags, stderr io.Writer) error {
 				r.Rows.Calibration[i][0] /= fullScale
 			}
 		}
-		if err := writeFileSafely(f.recipePath, func(w io.Writer) error { _, err := w.Write(r.JSON()); return err }); err != nil {
-			return err
-		}
+		files = append(files, export.File{Path: f.recipePath, Data: r.JSON()})
+	}
+	progress.Done()
+	if err := export.WriteFiles(ctx, files, true); err != nil {
+		return interrupted(ctx, err)
 	}
 	return nil
 }
@@ -289,34 +290,4 @@ func rawLayoutFor(rec *capture.Recording, sampleType string, fullScaleV float64)
 		l.Units = append(l.Units, c.Unit)
 	}
 	return l
-}
-
-// writeFileSafely writes through a temporary file in the same directory and
-// renames it into place only when writing succeeded, so a failed run never
-// leaves a half-written file under the final name.
-func writeFileSafely(path string, write func(io.Writer) error) error {
-	dir := filepath.Dir(path)
-	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".*.tmp")
-	if err != nil {
-		var pe *os.PathError
-		if errors.As(err, &pe) {
-			err = pe.Err
-		}
-		return fmt.Errorf("%s: cannot write in folder %s: %v", path, dir, err)
-	}
-	defer os.Remove(tmp.Name())
-	if err := write(tmp); err != nil {
-		tmp.Close()
-		return fmt.Errorf("%s: %w", path, err)
-	}
-	if err := tmp.Close(); err != nil {
-		return fmt.Errorf("%s: %w", path, err)
-	}
-	if err := os.Chmod(tmp.Name(), 0o644); err != nil {
-		return err
-	}
-	if err := os.Rename(tmp.Name(), path); err != nil {
-		return err
-	}
-	return nil
 }

@@ -25,8 +25,12 @@
 // and a caption, drawn with the Go fonts through golang.org/x/image/font.
 //
 // Every export gets a sidecar NAME.recipe.json with the recipe, the build
-// report and the page geometry in millimetres. Files are written to a
-// temporary file in the destination folder, synced and renamed into
-// place; an existing file is replaced only when asked, and a failed write
-// leaves nothing behind.
+// report and the page geometry in millimetres; exports of one base name
+// made from the same recipe share it, and it lists them all. Files are
+// written to temporary files beside their final names, synced, and renamed
+// into place only when all are complete, under a lock per name; an
+// existing file is replaced only when asked, a failed write leaves
+// nothing behind, and a failed forced write puts back what was there.
+// CheckClashes refuses outputs that are inputs or each other, by file
+// identity.
 package export

@@ -1,13 +1,17 @@
 package export
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
 	"io/fs"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"runtime"
+	"slices"
+	"strconv"
 	"strings"
 )
 
@@ -158,78 +162,214 @@ func freeName(dir, stem, ext string) string {
 	}
 }
 
+// File is one file of a batch that WriteFiles places all or none of.
+type File struct {
+	Path string
+	// Data is the file's content, unless Encode writes it.
+	Data   []byte
+	Encode func(io.Writer) error
+}
+
 // SaveFile writes data to path as Write writes an export: through a
 // temporary file in the same folder, synced and renamed, never replacing
 // an existing file unless force (ErrExists), and leaving nothing behind on
-// failure. The build command writes its report with it.
+// failure. The recipe command writes with it.
 func SaveFile(path string, data []byte, force bool) error {
-	if err := CheckFile(path, force); err != nil {
-		return err
-	}
-	return placeFiles(filepath.Dir(path), []pendingFile{{path: path, encode: func(w io.Writer) error {
-		_, err := w.Write(data)
-		return err
-	}}}, force, nil)
+	return WriteFiles(context.Background(), []File{{Path: path, Data: data}}, force)
 }
 
-// partialSuffix ends the name of a file being written: "." + name + "." +
-// digits + partialSuffix, beside its final name.
-const partialSuffix = ".spotloom-partial"
+// WriteFiles writes every file to a temporary file beside it and, only
+// when all are complete, moves them into place: all of them or none.
+// Without force an existing file is never replaced (ErrExists); with
+// force, a failure while placing them puts back every file that was
+// there. Cancelling ctx stops the writing and removes the temporaries.
+// Each file's lock is held throughout, so two writers of the same name
+// never mix their files.
+func WriteFiles(ctx context.Context, files []File, force bool) error {
+	paths := make([]string, len(files))
+	for i, f := range files {
+		if err := CheckFile(f.Path, force); err != nil {
+			return err
+		}
+		paths[i] = f.Path
+	}
+	return withLocks(ctx, paths, func() error {
+		pending := make([]pendingFile, len(files))
+		for i, f := range files {
+			pending[i] = pendingFile{path: f.Path, encode: f.encoder(), replace: force}
+		}
+		return placeFiles(ctx, pending, nil)
+	})
+}
+
+// encoder is the function that writes the file's bytes.
+func (f File) encoder() func(io.Writer) error {
+	if f.Encode != nil {
+		return f.Encode
+	}
+	data := f.Data
+	return func(w io.Writer) error {
+		_, err := w.Write(data)
+		return err
+	}
+}
+
+// The names of the files a write keeps beside its outputs: "." + name +
+// "." + digits + suffix for a file being written and for the previous
+// file kept until the new ones are all in place, "." + name + lockSuffix
+// for the lock. The digits and suffixes let a later run tell a stale one
+// left by a killed run from someone else's file.
+const (
+	partialSuffix  = ".spotloom-partial"
+	previousSuffix = ".spotloom-previous"
+	lockSuffix     = ".spotloom-lock"
+)
+
+// renameFile is os.Rename; tests replace it to make a step fail.
+var renameFile = os.Rename
 
 // pendingFile is one file of an export: where it goes and how its bytes
 // are produced.
 type pendingFile struct {
-	path   string
-	encode func(io.Writer) error
-	temp   string // set once written and synced
+	path    string
+	encode  func(io.Writer) error
+	replace bool   // an existing file may be replaced
+	temp    string // set once written and synced
+	backup  string // the file it replaced, until all are placed
+	moved   bool   // backup was made by moving the file, not linking it
+	placed  bool
 }
 
-// placeFiles writes every file to a temporary file in dir (same folder, so
-// the rename cannot cross file systems), syncs it, and only when all are
-// complete moves them into place. Without force an existing file is never
-// replaced: the final step links rather than renames where the file system
-// allows it, which fails atomically if the name appeared in the meantime.
-// On any failure every temporary file, and any file already placed, is
-// removed.
-func placeFiles(dir string, files []pendingFile, force bool, wrap func(io.Writer) io.Writer) (err error) {
+// withLocks runs fn holding the lock of every path, taken in one order
+// so that two writers cannot wait for each other, after removing the
+// temporaries that a killed run left for these names.
+func withLocks(ctx context.Context, paths []string, fn func() error) error {
+	names := make([]string, 0, len(paths))
+	for _, p := range paths {
+		names = append(names, location(p))
+	}
+	slices.Sort(names)
+	names = slices.Compact(names)
+	var held []func()
 	defer func() {
+		for i := len(held) - 1; i >= 0; i-- {
+			held[i]()
+		}
+	}()
+	for _, n := range names {
+		release, err := lock(ctx, n)
 		if err != nil {
-			for _, f := range files {
-				if f.temp != "" {
-					os.Remove(f.temp)
-				}
+			return err
+		}
+		held = append(held, release)
+		removeStale(n)
+	}
+	return fn()
+}
+
+// lockName is the lock file of path.
+func lockName(path string) string {
+	return filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+lockSuffix)
+}
+
+// removeStale removes the temporaries of path that no running write
+// owns: the caller holds path's lock.
+func removeStale(path string) {
+	dir, base := filepath.Dir(path), filepath.Base(path)
+	entries, err := os.ReadDir(dir)
+	if err != nil {
+		return
+	}
+	for _, e := range entries {
+		if isTemporaryOf(e.Name(), base) {
+			os.Remove(filepath.Join(dir, e.Name()))
+		}
+	}
+}
+
+// isTemporaryOf reports whether name is a temporary of base: "." + base +
+// "." + digits + one of the suffixes.
+func isTemporaryOf(name, base string) bool {
+	rest, ok := strings.CutPrefix(name, "."+base+".")
+	if !ok {
+		return false
+	}
+	for _, suffix := range []string{partialSuffix, previousSuffix} {
+		if digits, ok := strings.CutSuffix(rest, suffix); ok && digits != "" && strings.Trim(digits, "0123456789") == "" {
+			return true
+		}
+	}
+	return false
+}
+
+// ctxWriter stops a write when ctx is cancelled.
+type ctxWriter struct {
+	ctx context.Context
+	w   io.Writer
+}
+
+func (c ctxWriter) Write(p []byte) (int, error) {
+	if err := c.ctx.Err(); err != nil {
+		return 0, err
+	}
+	return c.w.Write(p)
+}
+
+// placeFiles writes every file to a temporary file beside it (same
+// folder, so the rename cannot cross file systems), syncs it, and only
+// when all are complete moves them into place. A file that may not be
+// replaced is placed with a link rather than a rename where the file
+// system allows it, which fails atomically if the name appeared in the
+// meantime. On any failure every temporary file is removed, every file
+// already placed is taken away and every file it replaced is put back.
+// The caller holds the files' locks.
+func placeFiles(ctx context.Context, files []pendingFile, wrap func(io.Writer) io.Writer) (err error) {
+	defer func() {
+		for _, f := range files {
+			if f.temp != "" {
+				os.Remove(f.temp)
 			}
 		}
 	}()
 	for i := range files {
-		if err := writeTemp(dir, &files[i], wrap); err != nil {
+		if err := writeTemp(ctx, &files[i], wrap); err != nil {
 			return err
 		}
 	}
-	var placed []string
+	// The last moment to stop: placing is quick and, once begun, is
+	// finished or undone whatever happens.
+	if err := ctx.Err(); err != nil {
+		return err
+	}
 	for i := range files {
-		if err := place(files[i].temp, files[i].path, force); err != nil {
-			for _, p := range placed {
-				os.Remove(p)
-			}
+		if err := placeOne(&files[i]); err != nil {
+			restore(files[:i+1])
 			return err
 		}
-		files[i].temp = ""
-		placed = append(placed, files[i].path)
 	}
-	syncDir(dir)
+	dirs := map[string]bool{}
+	for _, f := range files {
+		if f.backup != "" {
+			os.Remove(f.backup)
+		}
+		dirs[filepath.Dir(f.path)] = true
+	}
+	for dir := range dirs {
+		syncDir(dir)
+	}
 	return nil
 }
 
-func writeTemp(dir string, f *pendingFile, wrap func(io.Writer) io.Writer) error {
+func writeTemp(ctx context.Context, f *pendingFile, wrap func(io.Writer) io.Writer) error {
+	dir := filepath.Dir(f.path)
 	tmp, err := os.CreateTemp(dir, "."+filepath.Base(f.path)+".*"+partialSuffix)
 	if err != nil {
 		return fmt.Errorf("%s: cannot create a file in %s: %w", f.path, dir, err)
 	}
 	f.temp = tmp.Name()
-	var w io.Writer = tmp
+	var w io.Writer = ctxWriter{ctx, tmp}
 	if wrap != nil {
-		w = wrap(tmp)
+		w = wrap(w)
 	}
 	if err := f.encode(w); err != nil {
 		tmp.Close()
@@ -249,14 +389,77 @@ func writeTemp(dir string, f *pendingFile, wrap func(io.Writer) io.Writer) error
 	return nil
 }
 
-// place moves temp to path. Without force it refuses to replace a file.
-func place(temp, path string, force bool) error {
-	if force {
-		if err := os.Rename(temp, path); err != nil {
-			return fmt.Errorf("%s: %w", path, err)
+// placeOne moves f's temporary file to its path. A file that may be
+// replaced is first kept under a temporary name, so it can be put back.
+func placeOne(f *pendingFile) error {
+	if !f.replace {
+		if err := placeNew(f.temp, f.path); err != nil {
+			return err
 		}
+		f.temp, f.placed = "", true
 		return nil
 	}
+	if st, err := os.Lstat(f.path); err == nil {
+		if st.IsDir() {
+			return folderError(f.path, f.path)
+		}
+		backup, moved, err := keepPrevious(f.path)
+		if err != nil {
+			return err
+		}
+		f.backup, f.moved = backup, moved
+	}
+	if err := renameFile(f.temp, f.path); err != nil {
+		return fmt.Errorf("%s: %w", f.path, err)
+	}
+	f.temp, f.placed = "", true
+	return nil
+}
+
+// keepPrevious gives the file at path a second name beside it and returns
+// that name: a hard link, so the file stays in place until the new one is
+// renamed over it, or where the file system has no links, a rename
+// (moved).
+func keepPrevious(path string) (name string, moved bool, err error) {
+	dir, base := filepath.Dir(path), filepath.Base(path)
+	for try := 0; ; try++ {
+		name := filepath.Join(dir, "."+base+"."+strconv.FormatUint(uint64(rand.Uint32()), 10)+previousSuffix)
+		err := os.Link(path, name)
+		if err == nil {
+			return name, false, nil
+		}
+		if errors.Is(err, fs.ErrExist) && try < 100 {
+			continue
+		}
+		if err := renameFile(path, name); err != nil {
+			return "", false, fmt.Errorf("%s: cannot keep the previous file while writing the new one: %w", path, err)
+		}
+		return name, true, nil
+	}
+}
+
+// restore undoes placed files: the file each replaced goes back, a file
+// that replaced nothing is removed.
+func restore(files []pendingFile) {
+	for i := len(files) - 1; i >= 0; i-- {
+		f := &files[i]
+		switch {
+		case f.backup != "" && !f.placed && !f.moved:
+			// Still in place under its own name: drop the second one.
+			os.Remove(f.backup)
+			f.backup = ""
+		case f.backup != "":
+			if renameFile(f.backup, f.path) == nil {
+				f.backup = ""
+			}
+		case f.placed:
+			os.Remove(f.path)
+		}
+	}
+}
+
+// placeNew moves temp to path, refusing to replace a file.
+func placeNew(temp, path string) error {
 	err := os.Link(temp, path)
 	if err == nil {
 		os.Remove(temp)
@@ -270,7 +473,7 @@ func place(temp, path string, force bool) error {
 	if _, statErr := os.Lstat(path); statErr == nil {
 		return fmt.Errorf("%s %w", path, ErrExists)
 	}
-	if err := os.Rename(temp, path); err != nil {
+	if err := renameFile(temp, path); err != nil {
 		return fmt.Errorf("%s: %w", path, err)
 	}
 	return nil

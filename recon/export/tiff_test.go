@@ -2,6 +2,7 @@ package export
 
 import (
 	"bytes"
+	"context"
 	"image"
 	"math"
 	"os"
@@ -20,7 +21,7 @@ var fixedTime = time.Date(2026, 3, 14, 9, 26, 53, 0, time.UTC)
 func exportBytes(t *testing.T, name string, frames []*recon.Frame, opts Options) []byte {
 	t.Helper()
 	path := filepath.Join(t.TempDir(), name)
-	if err := write(path, frames, opts, fixedTime, nil); err != nil {
+	if err := write(context.Background(), path, frames, opts, fixedTime, nil); err != nil {
 		t.Fatalf("write %s: %v", name, err)
 	}
 	b, err := os.ReadFile(path)

@@ -1,15 +1,19 @@
 package export
 
 import (
+	"bytes"
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"image/draw"
 	"image/png"
 	"io"
+	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"time"
@@ -45,6 +49,10 @@ type Options struct {
 	// Compression of TIFF strips: "none" (or ""), "deflate" or "lzw". For
 	// PNG, which always deflates, "none" stores without compressing.
 	Compression string
+	// Also are further files written with the export, all or none of
+	// them, such as the build report: if any cannot be written, neither
+	// is the image nor its sidecar, and what was there stays.
+	Also []File
 }
 
 // ErrExists is returned (wrapped, with the path) when the output or its
@@ -63,11 +71,22 @@ func SidecarPath(path string) string {
 
 // Write writes frames to path in the format its extension names (.tif,
 // .tiff: one page per frame; .png: one frame) and the sidecar beside it.
-// Both are written to temporary files in the same folder, synced and then
-// renamed into place, so a failure leaves neither a partial file nor a
-// leftover temporary file.
+// Both (and Options.Also) are written to temporary files in the same
+// folder, synced and then renamed into place, so a failure leaves neither
+// a partial file nor a leftover temporary file, and a forced write that
+// fails leaves the previous files as they were.
+//
+// A TIFF and a PNG of one base name share the sidecar: when it holds the
+// same recipe, the new export is added to its list of exports; when it
+// holds another recipe, the write is refused (ErrExists) unless Force.
 func Write(path string, frames []*recon.Frame, opts Options) error {
-	return write(path, frames, opts, time.Now(), nil)
+	return write(context.Background(), path, frames, opts, time.Now(), nil)
+}
+
+// WriteContext is Write stopped by cancelling ctx: it returns ctx's error
+// and leaves nothing behind.
+func WriteContext(ctx context.Context, path string, frames []*recon.Frame, opts Options) error {
+	return write(ctx, path, frames, opts, time.Now(), nil)
 }
 
 // fileFormat is the container chosen from the extension.
@@ -89,14 +108,24 @@ type settings struct {
 
 // Check reports whether opts can be written to path, without any frame:
 // the extension names a format, the depth and compression suit it, the
-// folder exists and, unless Force is set, neither the file nor its sidecar
-// is there (ErrExists). Callers use it to refuse bad settings before a
-// long build; Write checks everything again.
+// folders of the file and of Options.Also exist and take files, no output
+// is another, and unless Force is set none of them is there (ErrExists) but
+// a sidecar that may be shared. Callers use it to refuse bad settings
+// before a long build; Write checks everything again.
 func Check(path string, opts Options) error {
 	if _, err := resolveOptions(path, opts); err != nil {
 		return err
 	}
-	return checkDestination(path, opts.Force)
+	return checkDestination(path, opts)
+}
+
+// CheckSidecar reports whether an export made from r may go to path:
+// unless force, a sidecar there must hold r itself (its exports are then
+// listed together) or be absent. Callers check it as soon as the recipe is
+// resolved, before the long part of a build.
+func CheckSidecar(path string, r recipe.Recipe, force bool) error {
+	_, err := earlierExports(path, r, force)
+	return err
 }
 
 func resolve(path string, frames []*recon.Frame, opts Options) (settings, error) {
@@ -201,23 +230,39 @@ func checkFrame(f *recon.Frame) error {
 	return nil
 }
 
-// checkDestination: the folder exists and takes files, neither the file
-// nor its sidecar is a folder and, without force, neither exists.
-func checkDestination(path string, force bool) error {
+// checkDestination: the folders exist and take files, no output is a
+// folder or another output and, without force, none exists but a sidecar
+// (whose recipe decides once it is known).
+func checkDestination(path string, opts Options) error {
+	sidecar := SidecarPath(path)
+	outputs := []Role{{What: "the export", Path: path}, {What: "its sidecar", Path: sidecar}}
+	for _, a := range opts.Also {
+		outputs = append(outputs, Role{What: "the file", Path: a.Path})
+	}
+	if err := CheckClashes(nil, outputs); err != nil {
+		return err
+	}
 	if err := checkFolder(path); err != nil {
 		return err
 	}
-	for _, p := range []string{path, SidecarPath(path)} {
+	for _, p := range []string{path, sidecar} {
 		if st, err := os.Stat(p); err == nil && st.IsDir() {
 			return folderError(p, path)
 		}
 	}
-	if !force {
-		if _, err := os.Lstat(path); err == nil {
-			return fmt.Errorf("%s %w", path, ErrExists)
+	for _, a := range opts.Also {
+		if err := CheckFile(a.Path, opts.Force); err != nil {
+			return err
 		}
-		sidecar := SidecarPath(path)
-		if _, err := os.Lstat(sidecar); err == nil {
+	}
+	if opts.Force {
+		return nil
+	}
+	if _, err := os.Lstat(path); err == nil {
+		return fmt.Errorf("%s %w", path, ErrExists)
+	}
+	if data, err := os.ReadFile(sidecar); err == nil {
+		if _, ok := parseSidecar(data); !ok {
 			return fmt.Errorf("%s (the sidecar %s would write) %w", sidecar, filepath.Base(path), ErrExists)
 		}
 	}
@@ -234,15 +279,15 @@ type page struct {
 
 // write is Write with the clock and the file writer injectable, so tests
 // can stamp a fixed time and make a write fail part way.
-func write(path string, frames []*recon.Frame, opts Options, now time.Time, wrap func(io.Writer) io.Writer) error {
+func write(ctx context.Context, path string, frames []*recon.Frame, opts Options, now time.Time, wrap func(io.Writer) io.Writer) error {
 	s, err := resolve(path, frames, opts)
 	if err != nil {
 		return err
 	}
-	if err := checkDestination(path, opts.Force); err != nil {
+	if err := checkDestination(path, opts); err != nil {
 		return err
 	}
-	dir, sidecar := filepath.Dir(path), SidecarPath(path)
+	sidecar := SidecarPath(path)
 
 	pages := make([]page, len(frames))
 	for i, f := range frames {
@@ -267,20 +312,37 @@ func write(path string, frames []*recon.Frame, opts Options, now time.Time, wrap
 	}
 
 	recipeJSON := asciiJSON(frames[0].Recipe.JSON())
-	sidecarJSON, err := sidecarBytes(path, pages, s, opts, now, recipeJSON)
-	if err != nil {
-		return fmt.Errorf("%s: %w", sidecar, err)
-	}
 	encode := func(w io.Writer) error {
 		if s.format == formatPNG {
 			return writePNG(w, pages[0], recipeJSON, opts.Caption, now, s.pngLevel)
 		}
 		return writeTIFF(w, pages, recipeJSON, s, opts.NoData, now)
 	}
-	return placeFiles(dir, []pendingFile{
-		{path: path, encode: encode},
-		{path: sidecar, encode: func(w io.Writer) error { _, err := w.Write(sidecarJSON); return err }},
-	}, opts.Force, wrap)
+	outputs := []string{path, sidecar}
+	for _, a := range opts.Also {
+		outputs = append(outputs, a.Path)
+	}
+	return withLocks(ctx, outputs, func() error {
+		// Under the locks, the sidecar now there decides what the new one
+		// lists.
+		earlier, err := earlierExports(path, frames[0].Recipe, opts.Force)
+		if err != nil {
+			return err
+		}
+		sidecarJSON, err := sidecarBytes(path, pages, s, opts, now, recipeJSON, earlier)
+		if err != nil {
+			return fmt.Errorf("%s: %w", sidecar, err)
+		}
+		files := []pendingFile{
+			{path: path, encode: encode, replace: opts.Force},
+			// earlierExports has refused a sidecar that may not be replaced.
+			{path: sidecar, encode: File{Data: sidecarJSON}.encoder(), replace: true},
+		}
+		for _, a := range opts.Also {
+			files = append(files, pendingFile{path: a.Path, encode: a.encoder(), replace: opts.Force})
+		}
+		return placeFiles(ctx, files, wrap)
+	})
 }
 
 func writeTIFF(w io.Writer, pages []page, recipeJSON []byte, s settings, noData float64, now time.Time) error {
@@ -418,6 +480,107 @@ type sidecarFile struct {
 	Pages    []sidecarPage   `json:"pages"`
 	Recipe   json.RawMessage `json:"recipe"`
 	Report   recon.Report    `json:"report"`
+	// Exports lists every file made from the recipe under this base name,
+	// the one above (File, Export, Pages) last.
+	Exports []sidecarEntry `json:"exports"`
+}
+
+// sidecarEntry is one export listed in a sidecar.
+type sidecarEntry struct {
+	File        string        `json:"file"`
+	Format      string        `json:"format"` // "tiff" or "png"
+	Depth       int           `json:"depth"`
+	Compression string        `json:"compression"`
+	Tone        []sidecarTone `json:"tone,omitempty"` // one per page; none for raw values
+	Written     string        `json:"written"`
+}
+
+// parseSidecar reads a sidecar; ok is false for anything else.
+func parseSidecar(data []byte) (sc sidecarFile, ok bool) {
+	if json.Unmarshal(data, &sc) != nil || sc.Format != SidecarFormat || len(sc.Recipe) == 0 {
+		return sc, false
+	}
+	return sc, true
+}
+
+// exports lists the sidecar's exports; a sidecar written before the list
+// existed names its one export in File.
+func (sc sidecarFile) exports() []sidecarEntry {
+	if len(sc.Exports) > 0 || sc.File == "" {
+		return sc.Exports
+	}
+	e := sidecarEntry{File: sc.File, Format: formatName(sc.File), Depth: sc.Export.Depth,
+		Compression: sc.Export.Compression, Written: sc.Written}
+	for _, p := range sc.Pages {
+		if p.Tone != nil {
+			e.Tone = append(e.Tone, *p.Tone)
+		}
+	}
+	return []sidecarEntry{e}
+}
+
+// formatName is "png" or "tiff" for an export's file name.
+func formatName(file string) string {
+	if strings.EqualFold(filepath.Ext(file), ".png") {
+		return "png"
+	}
+	return "tiff"
+}
+
+// otherRecipeError refuses to replace a sidecar that holds the recipe of
+// other exports.
+type otherRecipeError struct {
+	sidecar, file string
+	others        []string
+}
+
+func (e otherRecipeError) Error() string {
+	made := "an earlier export"
+	if len(e.others) > 0 {
+		made = strings.Join(e.others, " and ")
+	}
+	return fmt.Sprintf("%s holds another recipe, the one %s was made from, not that of this %s", e.sidecar, made, e.file)
+}
+
+// Is makes the refusal an ErrExists: the sidecar is there and would be
+// replaced.
+func (e otherRecipeError) Is(target error) bool { return target == ErrExists }
+
+// earlierExports are the exports the sidecar of path lists that the new
+// one keeps: those of the same recipe, but not path itself. A sidecar of
+// another recipe, or a file there that is not a sidecar, is refused unless
+// force, and then replaced.
+func earlierExports(path string, r recipe.Recipe, force bool) ([]sidecarEntry, error) {
+	sidecar := SidecarPath(path)
+	data, err := os.ReadFile(sidecar)
+	if errors.Is(err, fs.ErrNotExist) {
+		return nil, nil
+	}
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", sidecar, err)
+	}
+	sc, ok := parseSidecar(data)
+	if !ok {
+		if force {
+			return nil, nil
+		}
+		return nil, fmt.Errorf("%s (the sidecar %s would write) %w", sidecar, filepath.Base(path), ErrExists)
+	}
+	var keep []sidecarEntry
+	var files []string
+	for _, e := range sc.exports() {
+		files = append(files, e.File)
+		if e.File != filepath.Base(path) {
+			keep = append(keep, e)
+		}
+	}
+	if held, err := recipe.Parse(sc.Recipe); err != nil || !bytes.Equal(held.JSON(), r.JSON()) {
+		if force {
+			return nil, nil
+		}
+		return nil, otherRecipeError{sidecar: sidecar, file: filepath.Base(path), others: files}
+	}
+	return keep, nil
 }
 
 type sidecarExport struct {
@@ -454,7 +617,7 @@ type sidecarTone struct {
 // the recipe out of such a file.
 const SidecarFormat = recipe.SidecarFormat
 
-func sidecarBytes(path string, pages []page, s settings, opts Options, now time.Time, recipeJSON []byte) ([]byte, error) {
+func sidecarBytes(path string, pages []page, s settings, opts Options, now time.Time, recipeJSON []byte, earlier []sidecarEntry) ([]byte, error) {
 	var noData any = opts.NoData
 	if math.IsNaN(opts.NoData) || math.IsInf(opts.NoData, 0) {
 		noData = strconv.FormatFloat(opts.NoData, 'g', -1, 64)
@@ -487,6 +650,13 @@ func sidecarBytes(path string, pages []page, s settings, opts Options, now time.
 		}
 		sc.Pages = append(sc.Pages, sp)
 	}
+	this := sidecarEntry{File: sc.File, Format: formatName(path), Depth: s.depth, Compression: s.compression, Written: sc.Written}
+	for _, p := range sc.Pages {
+		if p.Tone != nil {
+			this.Tone = append(this.Tone, *p.Tone)
+		}
+	}
+	sc.Exports = append(slices.Clone(earlier), this)
 	b, err := json.MarshalIndent(sc, "", "  ")
 	if err != nil {
 		return nil, err

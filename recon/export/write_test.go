@@ -2,6 +2,7 @@ package export
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"errors"
 	"image"
@@ -43,7 +44,7 @@ func TestFailedWriteLeavesNothing(t *testing.T) {
 				calls++
 				return &failingWriter{w: w, limit: limit}
 			}
-			err := write(filepath.Join(dir, name), []*recon.Frame{f}, Options{}, fixedTime, wrap)
+			err := write(context.Background(), filepath.Join(dir, name), []*recon.Frame{f}, Options{}, fixedTime, wrap)
 			if err == nil || !strings.Contains(err.Error(), "no space left") {
 				t.Errorf("%s limit %d: error %v, want the writer's failure", name, limit, err)
 			}
@@ -62,7 +63,7 @@ func TestFailedWriteLeavesNothing(t *testing.T) {
 		}
 		return w
 	}
-	if err := write(filepath.Join(dir, "f.tiff"), []*recon.Frame{f}, Options{}, fixedTime, wrap); err == nil {
+	if err := write(context.Background(), filepath.Join(dir, "f.tiff"), []*recon.Frame{f}, Options{}, fixedTime, wrap); err == nil {
 		t.Error("sidecar failure not reported")
 	}
 	if left := listDir(t, dir); len(left) != 0 {
@@ -188,7 +189,7 @@ func TestSidecar(t *testing.T) {
 	f := testFrame(120, 80, 0.25)
 	f.Report.RPMMean = 333.3
 	f.Report.Warnings = []string{"3 index pulses were missing and were filled in"}
-	if err := write(path, []*recon.Frame{f}, Options{Depth: 8, ScaleBarMM: -1}, fixedTime, nil); err != nil {
+	if err := write(context.Background(), path, []*recon.Frame{f}, Options{Depth: 8, ScaleBarMM: -1}, fixedTime, nil); err != nil {
 		t.Fatal(err)
 	}
 	data, err := os.ReadFile(filepath.Join(dir, "scan.recipe.json"))
