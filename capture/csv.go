@@ -27,10 +27,14 @@ import (
 //     is preamble, searched for sample interval or rate statements
 //     (csvmeta.go).
 //  3. the data rows are streamed from a fixed-size buffer straight into
-//     float32 slices. The rate comes from the time column (a time name or
-//     unit, or the first column of a headerless file), else from the
-//     stated interval or rate; a sample-counter first column (0, 1, 2 ...)
-//     is checked for gaps and never taken for time.
+//     float32 slices (csvstream.go). The rate comes from the time column (a
+//     time name or unit, or the first column of a headerless file or of
+//     one with a generic spreadsheet header, when it is a ramp), else from
+//     the stated interval or rate; a sample-counter first column (0, 1, 2
+//     ...) is checked for gaps and never taken for time.
+//
+// Lines end in LF, CR LF or, when the start of the file holds no LF, a bare
+// CR. Rows holding nothing but delimiters count as blank lines.
 
 // sniffCSVBytes is how much of a text file is looked at to find its shape.
 const sniffCSVBytes = 1 << 16
@@ -44,6 +48,7 @@ const whitespaceDelim = 0
 // csvShape is what sniffing found out about a text capture.
 type csvShape struct {
 	delim        byte // ',', ';', '\t' or whitespaceDelim
+	eol          byte // '\n', or '\r' for bare CR line ends
 	decimalComma bool
 	fields       int      // per data row
 	dataLine     int      // 1-based line of the first data row
@@ -58,6 +63,7 @@ type csvShape struct {
 	dataCols []int
 	facts    []columnFacts // per field, for the data columns
 	meta     []csvMeta     // sample interval or rate statements, in file order
+	labels   []csvLabel    // channel name and unit statements
 }
 
 // delimName names a delimiter for messages.
@@ -102,7 +108,7 @@ func splitSampleLines(head []byte, complete bool) []sampleLine {
 	if bytes.HasPrefix(head, []byte{0xEF, 0xBB, 0xBF}) { // UTF-8 byte order mark
 		off = 3
 	}
-	sc := &csvScanner{r: bytes.NewReader(head[off:]), buf: make([]byte, len(head)+1), line: 1, offset: int64(off)}
+	sc := &csvScanner{r: bytes.NewReader(head[off:]), buf: make([]byte, len(head)+1), line: 1, offset: int64(off), eol: lineEnd(head)}
 	var lines []sampleLine
 	for {
 		text, line, recOff, ok, err := sc.record()
@@ -168,6 +174,7 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 			Expected: "rows of numbers separated by commas, semicolons, tabs or spaces"}
 	}
 	shape := best
+	shape.eol = lineEnd(head)
 	if shape.dataCols == nil {
 		shape.dataCols = make([]int, shape.fields)
 		for i := range shape.dataCols {
@@ -214,6 +221,16 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 		}
 		return n
 	}
+	// dataFields are the cells of a row in the data columns.
+	dataFields := func(f [][]byte) [][]byte {
+		var out [][]byte
+		for _, c := range shape.dataCols {
+			if c < len(f) {
+				out = append(out, f[c])
+			}
+		}
+		return out
+	}
 	// The data start at the first run of numeric rows with the data's field
 	// count (three rows, or fewer at the end of the sample) ...
 	numericRow := func(i int) bool {
@@ -255,8 +272,10 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 		}
 		var damaged bool
 		switch {
-		case len(scanMetaCells(f, make([]int, len(f)), 0, shape.decimalComma, nil)) > 0:
-			// "Sample interval,1e-05" above two columns of data
+		case len(scanMetaCells(f, make([]int, len(f)), 0, shape.decimalComma, nil)) > 0, keyCell(f):
+			// "Sample interval,1e-05" or `"Record Length=",120,` above the data
+		case numberNames(dataFields(f)):
+			// a header naming channels by number: "Time,1,2"
 		case plain:
 			nums := numbers(f)
 			damaged = len(f) > 0 && (len(f) == shape.fields && nums > 0 || nums == len(f))
@@ -290,7 +309,7 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 			return nil
 		}
 		f, cols := split(idx[k])
-		if len(f) < shape.fields || dataNumbers(f) > 0 {
+		if len(f) < shape.fields || dataNumbers(f) > 0 && !numberNames(dataFields(f)) {
 			return nil
 		}
 		return &headerRow{f, cols, lines[idx[k]].line}
@@ -368,6 +387,9 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 	var meta []csvMeta
 	for _, i := range idx[:preambleEnd] {
 		meta = scanMetaLine(lines[i].text, lines[i].line, shape.delim, shape.decimalComma, meta)
+		if cells, _, err := splitRecord(lines[i].text, shape.delim, nil, nil); err == nil {
+			shape.labels = scanLabelCells(cells, nil, shape.labels)
+		}
 	}
 	shape.meta = append(meta, shape.meta...)
 	// Metadata columns beside the sniffed data rows, and what the data
@@ -379,6 +401,13 @@ func sniffCSV(head []byte, complete bool) (csvShape, error) {
 		if !plain && len(f) == shape.fields {
 			of, oc := otherCells(f, cols)
 			shape.meta = scanMetaCells(of, oc, lines[i].line, shape.decimalComma, shape.meta)
+			var fieldsOf []int
+			for j := range f {
+				if !isData[j] {
+					fieldsOf = append(fieldsOf, j)
+				}
+			}
+			shape.labels = scanLabelCells(of, fieldsOf, shape.labels)
 		}
 		if len(f) != shape.fields || len(values) >= sniffFactRows {
 			continue
@@ -512,6 +541,10 @@ type columnFacts struct {
 	integers    bool    // every value a whole number
 	consecutive bool    // whole numbers rising by exactly 1
 	mostlyByOne bool    // more than half of the steps are +1
+	// ramp: never falling, and within the printing of a straight rising
+	// line, though neighbouring values may repeat (a time column printed
+	// with too few digits)
+	ramp bool
 }
 
 // columnFactsOf works out the facts of column k of values; quantum is the
@@ -520,8 +553,14 @@ func columnFactsOf(values [][]float64, k int, quantum float64) columnFacts {
 	f := columnFacts{rows: len(values), rising: len(values) >= 2, integers: len(values) > 0}
 	minStep, maxStep := math.Inf(1), math.Inf(-1)
 	ones := 0
+	lo, hi := math.Inf(-1), math.Inf(1) // slopes of lines through the printed values
 	for i, row := range values {
 		v := row[k]
+		if i > 0 {
+			tol := quantum*(1+1e-9) + 1e-12*math.Abs(v)
+			lo = math.Max(lo, (v-values[0][k]-tol)/float64(i))
+			hi = math.Min(hi, (v-values[0][k]+tol)/float64(i))
+		}
 		if v != math.Trunc(v) || math.Abs(v) > 1<<53 {
 			f.integers = false
 		}
@@ -538,6 +577,7 @@ func columnFactsOf(values [][]float64, k int, quantum float64) columnFacts {
 		minStep, maxStep = math.Min(minStep, step), math.Max(maxStep, step)
 	}
 	f.mostlyByOne = len(values) >= 2 && 2*ones > len(values)-1
+	f.ramp = len(values) >= 3 && minStep >= 0 && lo <= hi && hi > 0 && values[len(values)-1][k] > values[0][k]
 	if f.rising {
 		f.step = (values[len(values)-1][k] - values[0][k]) / float64(len(values)-1)
 		tolerance := math.Max(0.01*f.step, math.Min(1.5*quantum, 0.5*f.step))
@@ -617,6 +657,45 @@ func timeUnitSeconds(unit string) float64 {
 
 // voltUnits are signal units converted to volts on reading.
 var voltUnits = map[string]float64{"v": 1, "mv": 1e-3, "uv": 1e-6, "µv": 1e-6, "μv": 1e-6, "kv": 1e3, "volt": 1, "volts": 1}
+
+// keyCell reports a row that starts with a key cell: text ending in "="
+// or ":" (`"Record Length=",120,`), a statement rather than damaged data.
+func keyCell(fields [][]byte) bool {
+	if len(fields) == 0 {
+		return false
+	}
+	k := bytes.TrimSpace(fields[0])
+	return len(k) > 1 && (k[len(k)-1] == '=' || k[len(k)-1] == ':') && !isDigitByte(k[0])
+}
+
+func isDigitByte(c byte) bool { return c >= '0' && c <= '9' }
+
+// numberNames reports header cells that name channels by number, as some
+// instruments do ("Time,1,2"): one or more names that start with a letter,
+// then whole numbers from 1 up rising by one.
+func numberNames(cells [][]byte) bool {
+	names, next := 0, 0
+	for _, c := range cells {
+		c = bytes.TrimSpace(c)
+		if len(c) == 0 {
+			return false
+		}
+		if next == 0 && !isDigitByte(c[0]) {
+			r := c[0] | 0x20
+			if r < 'a' || r > 'z' {
+				return false
+			}
+			names++
+			continue
+		}
+		n, err := strconv.Atoi(string(c))
+		if err != nil || n < 1 || n > 999 || next > 0 && n != next {
+			return false
+		}
+		next = n + 1
+	}
+	return names > 0 && next > 0
+}
 
 // dropTrailingEmpty removes the empty field a delimiter at the end of a row
 // leaves.
@@ -862,10 +941,20 @@ func slowNumber(b []byte, decimalComma bool) (float64, bool) {
 	return f, true
 }
 
+// lineEnd is the byte that ends lines in a file that starts with head:
+// '\n' (LF or CR LF), or '\r' for a file written with bare CR line ends.
+func lineEnd(head []byte) byte {
+	if bytes.IndexByte(head, '\n') < 0 && bytes.IndexByte(head, '\r') >= 0 {
+		return '\r'
+	}
+	return '\n'
+}
+
 // csvScanner reads physical lines from a fixed buffer that grows only for
 // a line longer than itself.
 type csvScanner struct {
 	r       io.Reader
+	eol     byte // '\n', or '\r' for bare CR line ends
 	buf     []byte
 	start   int // first unread byte
 	end     int // end of buffered bytes
@@ -879,7 +968,7 @@ type csvScanner struct {
 // number and byte offset; ok is false at the end of input.
 func (s *csvScanner) next() (text []byte, line int, offset int64, ok bool, err error) {
 	for {
-		if j := bytes.IndexByte(s.buf[s.start:s.end], '\n'); j >= 0 {
+		if j := bytes.IndexByte(s.buf[s.start:s.end], s.eol); j >= 0 {
 			text = s.buf[s.start : s.start+j]
 			line, offset = s.line, s.offset
 			s.line++
@@ -929,7 +1018,7 @@ func (s *csvScanner) record() (rec []byte, line int, offset int64, ok bool, err 
 		if !ok || err != nil {
 			return nil, line, offset, ok, err
 		}
-		if len(bytes.TrimSpace(text)) == 0 {
+		if emptyRow(text) {
 			continue
 		}
 		if bytes.Count(text, []byte{'"'})%2 == 0 {
@@ -949,6 +1038,31 @@ func (s *csvScanner) record() (rec []byte, line int, offset int64, ok bool, err 
 		}
 		return s.scratch, line, offset, true, nil
 	}
+}
+
+// emptyRow reports a row with nothing in it but spaces and delimiters, such
+// as the ",," a spreadsheet leaves after the last sample: like a blank line,
+// it holds no sample.
+func emptyRow(text []byte) bool {
+	for _, c := range text {
+		switch c {
+		case ' ', '\t', '\r', ',', ';':
+		default:
+			return false
+		}
+	}
+	return true
+}
+
+// cellPlace is the Place of the byte at 1-based column col of a record that
+// starts at line: a record joined from several lines (a quoted field with
+// line breaks) counts the lines before the cell.
+func cellPlace(rec []byte, line, col int) Place {
+	before := rec[:min(max(col-1, 0), len(rec))]
+	if n := bytes.Count(before, []byte{'\n'}); n > 0 {
+		return AtLine(line+n, col-1-bytes.LastIndexByte(before, '\n'))
+	}
+	return AtLine(line, col)
 }
 
 // Column roles in streamCSV besides channel numbers (0 and up).
@@ -980,295 +1094,6 @@ func isCounterColumn(name, unit string, f columnFacts) bool {
 		return true
 	}
 	return !isTimeName(name) && f.consecutive && f.rows >= 3
-}
-
-// streamCSV reads the data rows described by shape from r, which starts at
-// the first data row.
-func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recording, error) {
-	given := opts.SampleRateHz > 0
-	noHeader := shape.headerLine == 0
-	data := shape.dataCols
-	timeCol, counterCol := -1, -1
-	var checkCols []int
-	for _, i := range data {
-		if isTimeName(shape.names[i]) {
-			if timeCol < 0 {
-				timeCol = i
-			} else {
-				checkCols = append(checkCols, i)
-			}
-		}
-	}
-	if timeCol < 0 {
-		// no time name: the first column with a time unit ("X (s)")
-		for _, i := range data {
-			if u := strings.TrimSpace(shape.units[i]); u != "" && timeUnitSeconds(u) != 0 {
-				timeCol = i
-				break
-			}
-		}
-	}
-	stated, badMeta, metaWarnings := resolveMeta(shape.meta)
-	if timeCol < 0 && len(data) >= 2 {
-		first := data[0]
-		f := shape.facts[first]
-		switch {
-		case isCounterColumn(shape.names[first], shape.units[first], f):
-			counterCol = first
-		case noHeader && !given && (f.rising || stated == nil):
-			// Without a header, the first column is time, unless it does
-			// not rise and the file states its rate. Several channels may
-			// each carry their own time column: time, value, time, value.
-			timeCol = first
-			checkCols = pairedTimeColumns(shape)
-		}
-	}
-	rateSource := ""
-	if !given && timeCol < 0 {
-		// The rate must come from what the file states.
-		if badMeta != nil {
-			return nil, &FormatError{Format: "csv", Place: badMeta.place(), Problem: fmt.Sprintf("the sample %s %q is %q, not a positive number in a known unit", kindName(badMeta.kind), badMeta.key, badMeta.raw),
-				Expected: badMeta.expected()}
-		}
-		switch {
-		case stated != nil:
-			rateSource = "the stated " + kindName(stated.kind) + " " + stated.describe()
-		case counterCol >= 0:
-			return nil, &FormatError{Format: "csv", Place: AtLine(shape.dataLine, 0), Problem: fmt.Sprintf("%s counts samples (0, 1, 2 ...) and the file states no sample interval or rate, so the sample rate is unknown", columnName(shape, counterCol)),
-				Expected: "a line such as \"Sample interval,1e-05\" or \"Sample rate,96000\" in the file, or the rate given with the command (--rate HZ)", Err: ErrNoSampleRate}
-		default:
-			return nil, &FormatError{Format: "csv", Place: AtLine(max(shape.headerLine, 1), 0), Problem: "no time column and no sample rate", Expected: "a column named time (with its unit, e.g. \"time (s)\"), a line such as \"Sample interval,1e-05\", or a sample rate given with the command", Err: ErrNoSampleRate}
-		}
-	}
-	role := make([]int, shape.fields)
-	timeScale := make([]float64, shape.fields)
-	for i := range role {
-		role[i] = roleSkip
-	}
-	for _, i := range append([]int{timeCol}, checkCols...) {
-		if i < 0 {
-			continue
-		}
-		role[i] = roleTimeCheck
-		timeScale[i] = timeUnitSeconds(shape.units[i])
-		if timeScale[i] == 0 {
-			return nil, &UnsupportedError{Format: "csv", Place: AtLine(shape.headerLine, 0), Feature: fmt.Sprintf("time unit %q", shape.units[i]), Expected: "s, ms, us, ns or min"}
-		}
-	}
-	if timeCol >= 0 {
-		role[timeCol] = roleTime
-	}
-	if counterCol >= 0 {
-		role[counterCol] = roleCounter
-	}
-	nsig := 0
-	for _, i := range data {
-		if role[i] == roleSkip {
-			nsig++
-		}
-	}
-	if nsig < 1 {
-		return nil, &FormatError{Format: "csv", Place: AtLine(shape.dataLine, 0), Problem: "rows hold only a time column", Expected: "at least one signal column"}
-	}
-	if nsig > MaxRawChannels {
-		return nil, &UnsupportedError{Format: "csv", Place: AtLine(shape.dataLine, 0), Feature: fmt.Sprintf("%d columns", nsig), Expected: fmt.Sprintf("at most %d signal columns", MaxRawChannels)}
-	}
-	rec := &Recording{Channels: make([]Channel, 0, nsig), Source: Source{Format: "csv", SampleType: "text"}}
-	scale := make([]float64, shape.fields)
-	for _, i := range data {
-		if role[i] != roleSkip {
-			continue
-		}
-		scale[i] = 1
-		name, unit := shape.names[i], shape.units[i]
-		if name == "" {
-			name = fmt.Sprintf("ch%d", len(rec.Channels))
-		}
-		if f, ok := voltUnits[strings.ToLower(unit)]; ok {
-			scale[i], unit = f, UnitVolt
-		}
-		role[i] = len(rec.Channels)
-		rec.Channels = append(rec.Channels, Channel{Name: name, Unit: unit})
-	}
-	// Reserve the samples from the size of the data and the sniffed rows'
-	// length, so the slices grow at most once.
-	maxRows := size/int64(2*shape.fields) + 1 // no row is shorter than "1,2\n"
-	estRows := maxRows
-	if shape.avgRowBytes > 0 {
-		estRows = min(maxRows, int64(float64(size)/shape.avgRowBytes*1.02)+16)
-	}
-	for c := range rec.Channels {
-		rec.Channels[c].Samples = make([]float32, 0, estRows)
-	}
-	sc := &csvScanner{r: r, buf: make([]byte, readBufferBytes), line: shape.dataLine}
-	var fields [][]byte
-	var cols []int
-	var t0, tPrev, tRow, minStep, maxStep float64
-	var lastTime []byte // the last time cell, for its printing resolution
-	var checkDiff float64
-	checkLine, checkField := 0, 0
-	var counterPrev float64
-	gaps, gapLine := 0, 0
-	var gapFrom, gapTo float64
-	rows := 0
-	nonFinite := 0
-	var consumed int64
-	nextProgress := int64(1 << 20)
-	for {
-		text, line, _, ok, err := sc.record()
-		if err != nil {
-			return nil, err
-		}
-		if !ok {
-			break
-		}
-		fields, cols, err = splitRecord(text, shape.delim, fields, cols)
-		if err != nil {
-			se := err.(*csvSyntaxError)
-			return nil, &FormatError{Format: "csv", Place: AtLine(line, se.col), Problem: se.msg, Expected: se.expected}
-		}
-		if shape.trailingDrop || len(fields) == shape.fields+1 {
-			fields = dropTrailingEmpty(fields, shape.delim)
-		}
-		if len(fields) != shape.fields {
-			return nil, &FormatError{Format: "csv", Place: AtLine(line, 0), Problem: fmt.Sprintf("row has %d fields, the rows before it have %d", len(fields), shape.fields),
-				Expected: fmt.Sprintf("%d %s-separated fields in every row", shape.fields, delimName(shape.delim))}
-		}
-		for i, f := range fields {
-			ch := role[i]
-			if ch == roleSkip {
-				continue
-			}
-			v, ok := parseNumber(f, shape.decimalComma)
-			if !ok {
-				return nil, &FormatError{Format: "csv", Place: AtLine(line, cols[i]), Problem: fmt.Sprintf("cell %q in %s is not a number", clip(string(f), 40), columnName(shape, i)),
-					Expected: "a decimal number such as -1.25e-3" + map[bool]string{true: " or -1,25e-3", false: ""}[shape.decimalComma]}
-			}
-			if ch >= 0 {
-				x := float32(v * scale[i])
-				if x-x != 0 { // NaN, ±Inf, or beyond float32
-					nonFinite++
-					x = 0
-				}
-				c := &rec.Channels[ch]
-				c.Samples = append(c.Samples, x)
-				continue
-			}
-			if given {
-				continue // a given rate overrides the time and counter columns
-			}
-			switch ch {
-			case roleTime:
-				t := v * timeScale[i]
-				lastTime = append(lastTime[:0], f...)
-				if rows > 0 {
-					step := t - tPrev
-					if !(step > 0) {
-						return nil, &FormatError{Format: "csv", Place: AtLine(line, cols[i]), Problem: fmt.Sprintf("time %g s does not come after the previous row's %g s", t, tPrev), Expected: timeExpectation(noHeader && timeCol == data[0])}
-					}
-					if rows == 1 || step < minStep {
-						minStep = step
-					}
-					if rows == 1 || step > maxStep {
-						maxStep = step
-					}
-				} else {
-					t0 = t
-				}
-				tPrev, tRow = t, t
-			case roleTimeCheck:
-				if d := math.Abs(v*timeScale[i] - tRow); d > checkDiff || math.IsNaN(d) && checkLine == 0 {
-					checkDiff, checkLine, checkField = d, line, i
-				}
-			case roleCounter:
-				if v != math.Trunc(v) || math.Abs(v) > 1<<53 {
-					return nil, &FormatError{Format: "csv", Place: AtLine(line, cols[i]), Problem: fmt.Sprintf("sample counter %q in %s is not a whole number", clip(string(f), 40), columnName(shape, i)),
-						Expected: "a sample counter rising by 1 from row to row"}
-				}
-				if rows > 0 {
-					step := v - counterPrev
-					if !(step > 0) {
-						return nil, &FormatError{Format: "csv", Place: AtLine(line, cols[i]), Problem: fmt.Sprintf("sample counter %.0f does not come after the previous row's %.0f", v, counterPrev),
-							Expected: "a sample counter rising by 1 from row to row"}
-					}
-					if step != 1 {
-						if gaps == 0 {
-							gapLine, gapFrom, gapTo = line, counterPrev, v
-						}
-						gaps++
-					}
-				}
-				counterPrev = v
-			}
-		}
-		rows++
-		consumed = sc.offset
-		if opts.Progress != nil && consumed >= nextProgress {
-			opts.Progress(float64(consumed) / float64(size))
-			nextProgress += 1 << 20
-		}
-	}
-	if rows == 0 {
-		return nil, &FormatError{Format: "csv", Place: AtLine(shape.dataLine, 0), Problem: "no data rows", Expected: "rows of numbers after the header"}
-	}
-	ratePlace := AtLine(shape.dataLine, 0)
-	switch {
-	case given:
-		rec.SampleRateHz = opts.SampleRateHz
-	case timeCol >= 0 && rows >= 2:
-		rateSource = "the time column"
-		meanStep := (tPrev - t0) / float64(rows-1)
-		rec.SampleRateHz = tenDigits(1 / meanStep)
-		// Steps that differ from the mean by more than 1 % are reported,
-		// unless the difference is only the rounding of the printed times.
-		// The last cell shows the resolution (a leading "0" would not);
-		// half a step is always reported, since that is a lost or doubled
-		// sample whatever the printing.
-		rounding := math.Min(1.5*printQuantum(lastTime)*timeScale[timeCol], 0.5*meanStep)
-		tolerance := math.Max(0.01*meanStep, rounding)
-		if maxStep-meanStep > tolerance || meanStep-minStep > tolerance {
-			rec.Warnings = append(rec.Warnings, fmt.Sprintf("time steps range from %.6g s to %.6g s around a mean of %.6g s (more than 1%% uneven); samples are treated as evenly spaced at %.6g Hz",
-				minStep, maxStep, meanStep, rec.SampleRateHz))
-		}
-		// Time columns printed alike differ by at most their last digit;
-		// a quarter of a step is always reported.
-		checkTolerance := math.Max(0.01*meanStep, math.Min(printQuantum(lastTime)*timeScale[timeCol], 0.25*meanStep))
-		if checkLine > 0 && !(checkDiff <= checkTolerance) {
-			rec.Warnings = append(rec.Warnings, fmt.Sprintf("the time columns disagree: %s differs from %s by up to %.6g s (line %d), more than 1%% of a step; the first time column is used",
-				columnName(shape, checkField), columnName(shape, timeCol), checkDiff, checkLine))
-		}
-		if stated != nil && math.Abs(stated.hz-rec.SampleRateHz) > 0.01*rec.SampleRateHz {
-			rec.Warnings = append(rec.Warnings, fmt.Sprintf("the file states a sample %s of %s, which gives %.10g Hz, but the time column gives %.10g Hz (more than 1%% apart); the time column is used",
-				kindName(stated.kind), stated.describe(), stated.hz, rec.SampleRateHz))
-		}
-		if badMeta != nil {
-			rec.Warnings = append(rec.Warnings, fmt.Sprintf("the sample %s %s is not a positive number in a known unit and was ignored; the time column gives the rate", kindName(badMeta.kind), badMeta.describe()))
-		}
-		metaWarnings = nil // the time column decides
-	case timeCol >= 0:
-		return nil, &FormatError{Format: "csv", Place: AtLine(shape.dataLine, 0), Problem: "one data row cannot give a sample rate", Expected: "two or more rows, or a sample rate given with the command"}
-	default:
-		// checked before reading: the file states its rate
-		rec.SampleRateHz = tenDigits(stated.hz)
-		ratePlace = stated.place()
-	}
-	if !given {
-		rec.Warnings = append(rec.Warnings, metaWarnings...)
-	}
-	if gaps > 0 {
-		rec.Warnings = append(rec.Warnings, fmt.Sprintf("the sample counter in %s jumps from %.0f to %.0f at line %d (%s in all: lost or skipped samples); samples are treated as evenly spaced at %.6g Hz",
-			columnName(shape, counterCol), gapFrom, gapTo, gapLine, plural(gaps, "jump"), rec.SampleRateHz))
-	}
-	if !(rec.SampleRateHz > 0) || rec.SampleRateHz > MaxSampleRateHz || math.IsInf(rec.SampleRateHz, 0) {
-		return nil, &FormatError{Format: "csv", Place: ratePlace, Problem: fmt.Sprintf("%s gives a sample rate of %g Hz", rateSource, rec.SampleRateHz), Expected: fmt.Sprintf("a rate above 0 and at most %g Hz", MaxSampleRateHz)}
-	}
-	if nonFinite > 0 {
-		rec.Warnings = append(rec.Warnings, fmt.Sprintf("%d cells were NaN, infinite or beyond the float32 range and were set to 0", nonFinite))
-	}
-	if opts.Progress != nil {
-		opts.Progress(1)
-	}
-	return rec, nil
 }
 
 // tenDigits rounds a rate to ten significant digits: it comes from printed
@@ -1337,13 +1162,13 @@ func pairedTimeColumns(shape csvShape) []int {
 	return times
 }
 
-// timeExpectation says what a time column must do, and how to read a
-// headerless first column as a signal instead.
+// timeExpectation says what a time column must do, and how to read the
+// rows without it: with the rate given on the command line.
 func timeExpectation(guessed bool) string {
 	if guessed {
-		return "time rising from row to row (without a header the first column is read as time; give a sample rate to read it as a signal)"
+		return "time rising from row to row (the first column was read as time because it has no name of its own; give the sample rate with the command, --rate HZ, to read it as a signal)"
 	}
-	return "time rising from row to row"
+	return "time rising from row to row, or the sample rate given with the command (--rate HZ) to read the rows as evenly spaced"
 }
 
 // printQuantum is the value of one unit in the last digit of a printed
@@ -1360,6 +1185,12 @@ func printQuantum(b []byte) float64 {
 	}
 	if i := bytes.IndexAny(b, ".,"); i >= 0 {
 		exp -= len(b) - i - 1
+	}
+	switch {
+	case exp >= 0 && exp < len(pow10):
+		return pow10[exp]
+	case exp < 0 && -exp < len(pow10):
+		return 1 / pow10[-exp]
 	}
 	return math.Pow(10, float64(exp))
 }

@@ -145,6 +145,67 @@ func preambleScope(name, preamble, header string, delim string, dt float64) layo
 	return fx
 }
 
+// labelledScope prints layout 1 with two more metadata rows that name the
+// channel and its unit ("Source,CH1", "Vertical Units,V"). Resaved, it is
+// that file as a spreadsheet saves it again: a header row of generic names
+// over the columns (",,,x,y"), an empty row of delimiters after the last
+// sample, and bare CR line ends.
+func labelledScope(name string, resaved bool) layoutFixture {
+	const dt, t0, hz = 1e-5, -1e-2, 1000.0
+	fx := layoutFixture{name: name, rate: 1 / dt, names: []string{"CH1"}, units: []string{UnitVolt}, want: make([][]float32, 1)}
+	eol := "\r\n"
+	var sb strings.Builder
+	if resaved {
+		eol = "\r"
+		sb.WriteString(",,,x,y" + eol)
+	}
+	meta := []string{fmt.Sprintf("Record Length,%d,Points", layoutRows), fmt.Sprintf("Sample Interval,%g,s", dt),
+		"Trigger Point,100,Samples", "Source,CH1,", "Vertical Units,V,"}
+	for i := 0; i < layoutRows; i++ {
+		m := ",,"
+		if i < len(meta) {
+			m = meta[i]
+		}
+		t := t0 + float64(i)*dt
+		v := fmt.Sprintf("%.4f", sineAt(hz, t))
+		fx.want[0] = append(fx.want[0], cellValue(v))
+		fmt.Fprintf(&sb, "%s,%.6e,%s%s", m, t, v, eol)
+	}
+	if resaved {
+		sb.WriteString(",,,," + eol)
+	}
+	fx.text = sb.String()
+	return fx
+}
+
+// quantisedScope prints a fast capture whose time column has too few
+// digits: a preamble of quoted keys that end in "=" with the value in the
+// next cell (`"Sampling Frequency (Hz)=",500000000,`), a header naming the
+// channels by number ("Time,1,2"), times in seconds with 8 decimals (1e-8
+// s, so each time repeats on about five rows at 2 ns per sample), a 10 MHz
+// sine and a pulse train, and a last row of bare delimiters. back, when
+// positive, makes the time of that row run backwards by 1e-8 s.
+func quantisedScope(name string, back int) layoutFixture {
+	const rate, hz = 5e8, 1e7
+	fx := layoutFixture{name: name, rate: rate, names: []string{"1", "2"}, units: []string{"", ""}, want: make([][]float32, 2)}
+	var sb strings.Builder
+	sb.WriteString("\"Model=\",\"Bench scope 2ch\",\r\n\"Sampling Frequency (Hz)=\",500000000,\r\n\"Record Length=\",120,\r\nTime,1,2\r\n")
+	for i := 0; i < layoutRows; i++ {
+		t := float64(i) / rate
+		if i == back {
+			t -= 2e-8
+		}
+		s := fmt.Sprintf("%.4f", sineAt(hz, float64(i)/rate))
+		p := fmt.Sprintf("%.2f", pulseAt(i, 20, 4))
+		fx.want[0] = append(fx.want[0], cellValue(s))
+		fx.want[1] = append(fx.want[1], cellValue(p))
+		fmt.Fprintf(&sb, "%.8f,%s,%s\r\n", t, s, p)
+	}
+	sb.WriteString(",,\r\n")
+	fx.text = sb.String()
+	return fx
+}
+
 // layoutFixtures are the generated layout files, good ones first.
 func layoutFixtures() []layoutFixture {
 	withNames := func(fx layoutFixture, names, units []string) layoutFixture {
@@ -188,10 +249,15 @@ func layoutFixtures() []layoutFixture {
 		withNames(preambleScope("preamble_dt.txt", "# bench logger, no header\ndt = 1e-5\n", "", " ", 1e-5),
 			[]string{"ch0", "ch1"}, []string{"", ""}),
 		withWarn(withNames(mismatch, []string{"CH1", "CH2"}, []string{UnitVolt, UnitVolt}), "more than 1% apart"),
+		labelledScope("scope_metacols_labels.csv", false),
+		labelledScope("scope_metacols_resaved.csv", true),
+		withWarn(quantisedScope("scope_time_quantised.csv", -1), "too few digits"),
 		broken(counterScope("bad/counter_increment_zero.csv", "0", -1), incCol, `"Increment" is "0"`),
 		broken(counterScope("bad/counter_increment_negative.csv", "-2.000000e-06", -1), incCol, `"Increment" is "-2.000000e-06"`),
 		broken(counterScope("bad/counter_increment_text.csv", "auto", -1), incCol, `"Increment" is "auto"`),
 		broken(counterScope("bad/counter_no_interval.csv", "", -1), "line 3", "sample rate is unknown"),
+		// row 60 stands on line 65 (four preamble and header lines)
+		broken(quantisedScope("bad/time_backwards_quantised.csv", 60), "line 65:1", "does not come after"),
 	}
 }
 

@@ -165,6 +165,10 @@ func metaInCell(cell []byte, line, col int, decimalComma bool) (csvMeta, bool) {
 	}
 	rest := cell[k+1:]
 	skip := len(rest) - len(bytes.TrimLeft(rest, " \t=:"))
+	if skip == len(rest) {
+		// "Sampling Frequency (Hz)=" with its value in the next cell
+		return csvMeta{}, false
+	}
 	return newMeta(kind, string(cell[:k]), string(rest[skip:]), unit, line, col+k+1+skip, decimalComma), true
 }
 
@@ -243,4 +247,64 @@ func resolveMeta(metas []csvMeta) (chosen, bad *csvMeta, warnings []string) {
 		}
 	}
 	return chosen, bad, warnings
+}
+
+// Metadata may also name the signal of a column or give its unit, in the
+// preamble or in metadata columns beside the samples ("Source,CH1",
+// "Vertical Units,V"). Keys are normalised as for the rate keys:
+//
+//	name: source, source channel, channel name, trace name, label
+//	unit: vertical units, vertical unit, y units, y unit, units, unit
+//
+// A statement in metadata columns belongs to the first signal column to
+// its right; one in the preamble to the only signal column, if there is
+// one. It fills in a name the header does not give (or gives only as a
+// generic spreadsheet name) and a unit the header does not give.
+
+// csvLabelKind says what a label statement gives.
+type csvLabelKind int
+
+const (
+	labelName csvLabelKind = iota + 1
+	labelUnit
+)
+
+// labelKeys maps normalised keys to what they give.
+var labelKeys = map[string]csvLabelKind{
+	"source": labelName, "sourcechannel": labelName, "channelname": labelName, "tracename": labelName, "label": labelName,
+	"verticalunits": labelUnit, "verticalunit": labelUnit, "yunits": labelUnit, "yunit": labelUnit, "units": labelUnit, "unit": labelUnit,
+}
+
+// csvLabel is one name or unit statement.
+type csvLabel struct {
+	kind  csvLabelKind
+	value string
+	field int // of the key cell, or -1 in the preamble
+}
+
+// scanLabelCells finds name and unit statements among cells: a key cell
+// and its value in the next non-empty cell. fields are the cells' field
+// numbers, or nil for a preamble line.
+func scanLabelCells(cells [][]byte, fields []int, out []csvLabel) []csvLabel {
+	for i := 0; i < len(cells); i++ {
+		key, _ := normalizeMetaKey(string(cells[i]))
+		kind, known := labelKeys[key]
+		if !known {
+			continue
+		}
+		j := i + 1
+		for j < len(cells) && len(bytes.TrimSpace(cells[j])) == 0 {
+			j++
+		}
+		if j == len(cells) {
+			continue
+		}
+		field := -1
+		if fields != nil {
+			field = fields[i]
+		}
+		out = append(out, csvLabel{kind: kind, value: strings.TrimSpace(string(cells[j])), field: field})
+		i = j
+	}
+	return out
 }
