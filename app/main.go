@@ -12,6 +12,7 @@ import (
 	"strings"
 
 	_ "spotloom/app/internal/localefix" // before Fyne reads the locale
+	"spotloom/app/ui"
 )
 
 // command is one sub-command. Each lives in its own file and registers
@@ -113,7 +114,8 @@ func printCommands(w io.Writer) {
 		fmt.Fprintf(w, "  %-10s %s\n", n, commands[n].summary)
 	}
 	fmt.Fprintf(w, "\nWith no command, spotloom opens the workstation on the built-in demo.\n")
-	fmt.Fprintf(w, "Run \"spotloom COMMAND --help\" for the flags of a command.\n")
+	fmt.Fprintf(w, "Run \"spotloom COMMAND --help\" for the flags of a command,\n")
+	fmt.Fprintf(w, "\"spotloom --version\" for the version and the libraries it was built with.\n")
 }
 
 func main() {
@@ -132,6 +134,9 @@ func run(args []string, stdout, stderr io.Writer) int {
 				}
 			}
 			printCommands(stdout)
+			return 0
+		case a == "--version" || a == "-version":
+			fmt.Fprintln(stdout, ui.BuildVersion())
 			return 0
 		case strings.HasPrefix(a, "-"):
 			// flags for the default command: "spotloom --snapshot x.png"

@@ -21,7 +21,8 @@ const aboutText = "Spotloom turns the recorded signals of a flying-spot scanner 
 	"calibrated image on a millimetre grid, and lets you re-align the delay and the " +
 	"apertures while watching the image form."
 
-// ShowAbout shows what Spotloom is and the radiation-safety caution.
+// ShowAbout shows what Spotloom is, its version and the libraries it was
+// built with, and the radiation-safety caution.
 func (ws *Workstation) ShowAbout() {
 	text := widget.NewLabel(aboutText)
 	text.Wrapping = fyne.TextWrapWord
@@ -35,7 +36,10 @@ func (ws *Workstation) ShowAbout() {
 		img.SetMinSize(fyne.NewSize(56, 56))
 		head = container.NewHBox(img, head)
 	}
-	body := container.NewVBox(head, text,
+	version := widget.NewLabel(BuildVersion().String())
+	version.Wrapping = fyne.TextWrapWord
+	version.Importance = widget.LowImportance
+	body := container.NewVBox(head, version, text,
 		widget.NewLabelWithStyle("Radiation safety", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 		caution)
 	ws.showDialog(dialog.NewCustom("About Spotloom", "Close", container.New(&minWidth{w: 480}, body), ws.win))
