@@ -88,7 +88,8 @@ type Session struct {
 	gridKey         string
 	grid            *Result
 	chanStats       map[int]*channelStats
-	roles           []capture.RoleGuess // the capture's guessed roles, once needed
+	flat            map[int]flatRunsResult // constant stretches of each channel, once needed
+	roles           []capture.RoleGuess    // the capture's guessed roles, once needed
 	// runs counts how often each stage was computed (not reused), for
 	// tests of the caching.
 	runs map[string]int
@@ -203,6 +204,13 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 	}
 	ch, err := s.resolveChannels(&r)
 	if err != nil {
+		return nil, nil, err
+	}
+	detStats, err := s.stats(ctx, ch.detector)
+	if err != nil {
+		return nil, nil, err
+	}
+	if err := refuseFlatDetector(s.rec, ch.detector, detStats); err != nil {
 		return nil, nil, err
 	}
 	var warns []string
@@ -498,6 +506,25 @@ func (s *Session) detector(ctx context.Context, ch int, sig recipe.Signal) ([]fl
 	return s.acDet, s.acStats, nil
 }
 
+// flatRuns returns the stretches of at least minQuietS over which channel
+// ch of the recording holds one value, computed once per channel.
+func (s *Session) flatRuns(ch int) ([]flatRun, int) {
+	if s.flat == nil {
+		s.flat = map[int]flatRunsResult{}
+	}
+	if f, ok := s.flat[ch]; ok {
+		return f.runs, f.total
+	}
+	runs, total := flatRuns(s.rec.Channels[ch].Samples, int(minQuietS*s.rec.SampleRateHz))
+	s.flat[ch] = flatRunsResult{runs, total}
+	return runs, total
+}
+
+type flatRunsResult struct {
+	runs  []flatRun
+	total int
+}
+
 func (s *Session) stats(ctx context.Context, ch int) (*channelStats, error) {
 	if st, ok := s.chanStats[ch]; ok {
 		return st, nil
@@ -702,8 +729,21 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 		rep.Coverage = float64(covered) / float64(pixels)
 	}
 	if totalClipped > 0 {
-		warns = append(warns, fmt.Sprintf("the detector clipped on %.2g %% of lines (%d of %d): lower the detector gain", 100*float64(totalClipped)/float64(len(lines)), totalClipped, len(lines)))
+		warns = append(warns, fmt.Sprintf("the detector clipped on %s of lines (%d of %d): lower the detector gain", percentText(float64(totalClipped)/float64(len(lines))), totalClipped, len(lines)))
 	}
+	if rep.Columns < minUsefulSide || rep.Rows < minUsefulSide {
+		warns = append(warns, fmt.Sprintf("the frame is only %d × %d pixels at image.pitch_mm %g: lower pitch_mm (0 chooses one from the line spacing), or check the field, distance and rows keys", rep.Columns, rep.Rows, r.Image.PitchMM))
+	}
+	// What the build could not use, and what the reader changed, goes in
+	// the report rather than passing in silence.
+	if w := coverageWarning(pl.lines, len(recorded), pMean, rate); w != "" {
+		warns = append(warns, w)
+	}
+	runs, total := s.flatRuns(rs.ch.detector)
+	if w := flatWarning(runs, total, pMean, rate); w != "" {
+		warns = append(warns, w)
+	}
+	warns = append(slices.Clone(s.rec.Warnings), warns...)
 	if totalGapRows > 0 {
 		warns = append(warns, gapWarning(lines, r.Image.PitchMM, r.Image.FillGapsPx, totalGapRows))
 	}

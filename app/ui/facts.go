@@ -2,6 +2,7 @@ package ui
 
 import (
 	"fmt"
+	"slices"
 	"strings"
 
 	"fyne.io/fyne/v2"
@@ -74,9 +75,14 @@ func (p *factsPanel) show(rep recon.Report, rec *capture.Recording) {
 		set("Sample rate", fmt.Sprintf("%.6g Hz", rec.SampleRateHz))
 		set("Duration", fmt.Sprintf("%.3f s", rec.DurationS()))
 	}
+	// A build's report repeats the reader's warnings; show each once.
 	var warn []string
 	if rec != nil {
-		warn = append(warn, rec.Warnings...)
+		for _, w := range rec.Warnings {
+			if !slices.Contains(rep.Warnings, w) {
+				warn = append(warn, w)
+			}
+		}
 	}
 	warn = append(warn, rep.Warnings...)
 	if len(warn) == 0 {
