@@ -3,9 +3,9 @@ package main
 import (
 	"fmt"
 	"io"
+	"os"
 	"strings"
 
-	"spotloom/capture"
 	"spotloom/recon"
 	"spotloom/recon/export"
 	"spotloom/recon/recipe"
@@ -20,13 +20,19 @@ func init() {
 }
 
 const recipeHelp = `
-Reads a capture and prints a recipe (JSON) to start from: the channels from
-the guessed roles, the index threshold and hysteresis, the delay from the
-detector's beam-on stretch, and a pixel pitch near the line spacing. The
-geometry (apertures, field, distance) and the position calibration keep the
-values of --from, or the defaults, and are worth checking by hand; what
-looks wrong is said on stderr. Without --from, a capture with no position
-channel gets rows.source "steps" when it has step pulses, else "even".
+Reads a capture and prints a recipe (JSON) to start from, made by the same
+first look the window makes: the channels from the guessed roles, a
+position read as a DC level or as the amplitude of a carrier tone, the
+detector's AC-coupling corner when its beam-off level drifts back after
+bright stretches, the index threshold and hysteresis, the delay from the
+detector's beam-on stretch, and a pixel pitch near the line spacing. What
+you state (the flags, and the keys --from names; a partial recipe is fine,
+null meaning "find it") is kept; the rest is fitted to the capture: the
+aperture count the beam-on fraction implies, signal.invert for a
+negative-going detector, a calibration spanning the position levels seen.
+Each choice, and whatever disagrees (a field and aperture count that do not
+match the beam-on fraction, a capture with no beam-off stretch), is said on
+stderr.
 `
 
 func runRecipe(args []string, stdout, stderr io.Writer) error {
@@ -63,14 +69,23 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	r := recipe.Default()
-	r.Image.PitchMM = 0 // automatic
+	known := recon.Known{}
 	if *from != "" {
-		if r, err = recipe.Load(*from); err != nil {
+		data, err := os.ReadFile(*from)
+		if err != nil {
 			return err
+		}
+		if r, err = recipe.Parse(data); err != nil {
+			return fmt.Errorf("%s: %w", *from, err)
 		}
 		if err := r.Validate(); err != nil {
 			// One line on stderr, however many keys are wrong.
 			return fmt.Errorf("%s: %s", *from, strings.ReplaceAll(err.Error(), "\n", "; "))
+		}
+		// The keys the file states are what the user knows; those it
+		// leaves out (or null) the first look may choose.
+		if known, err = recipe.GivenKeys(data); err != nil {
+			return fmt.Errorf("%s: %w", *from, err)
 		}
 	}
 	if *apertures < 0 {
@@ -81,28 +96,34 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 			r.Timing.PulsesPerRev = *apertures
 		}
 		r.Sweep.Apertures = *apertures
+		known["sweep.apertures"] = true
 	}
 	if *pulses < 0 || *field < 0 || *distance < 0 {
 		return usagef("--pulses-per-rev, --field and --distance take positive values")
 	}
 	if *pulses > 0 {
 		r.Timing.PulsesPerRev = *pulses
+		known["timing.pulses_per_rev"] = true
 	}
 	if *field > 0 {
 		r.Sweep.FieldDeg = *field
+		known["sweep.field_deg"] = true
 	}
 	if *distance > 0 {
 		r.Sweep.DistanceMM = *distance
+		known["sweep.distance_mm"] = true
 	}
 	if *law != "" {
 		if r.Sweep.Law, err = recipe.ParseLaw(*law); err != nil {
 			return usagef("--law: %v", err)
 		}
+		known["sweep.law"] = true
 	}
 	if *source != "" {
 		if r.Rows.Source, err = recipe.ParseRowSource(*source); err != nil {
 			return usagef("--source: %v", err)
 		}
+		known["rows.source"] = true
 	}
 	if err := r.Validate(); err != nil {
 		return usagef("%s", strings.ReplaceAll(err.Error(), "\n", "; "))
@@ -116,35 +137,17 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	if *from == "" && *source == "" {
-		r.Rows.Source = rowsSourceFor(capture.GuessRoles(rec))
-	}
-	// A trial build resolves every value and finds what looks wrong (a
-	// calibration outside the position's range, a field that does not
-	// match the beam-on stretch); those warnings go to stderr.
-	session := recon.NewSession(rec)
-	res, err := session.Build(ctx, r, func(stage string, f float64) { prog.Report(stage, f) })
+	// The same first look as the window's: trial builds resolve every
+	// value, fit what the user did not state to the capture, and find
+	// what looks wrong; the notes and warnings go to stderr.
+	look, err := recon.FirstLook(ctx, recon.NewSession(rec), r, known, func(stage string, f float64) { prog.Report(stage, f) })
 	prog.Done()
 	if err != nil {
 		return interrupted(ctx, fmt.Errorf("%s: %w", path, err))
 	}
-	if *from == "" {
-		// Nobody has described this capture: let the trial build fill in
-		// the aperture count (unless given) and a calibration that fits.
-		rep := res.Report
-		if *apertures > 0 {
-			rep.AperturesSuggested = 0
-		}
-		if started, notes := recon.Start(r, rep); len(notes) > 0 {
-			again, err := session.Build(ctx, started, func(stage string, f float64) { prog.Report(stage, f) })
-			prog.Done()
-			if err == nil {
-				res = again
-				for _, n := range notes {
-					fmt.Fprintf(stderr, "spotloom recipe: %s: %s\n", path, n)
-				}
-			}
-		}
+	res := look.Result
+	for _, n := range look.Notes {
+		fmt.Fprintf(stderr, "spotloom recipe: %s: %s\n", path, n)
 	}
 	if ctx.Err() != nil {
 		return errInterrupted
@@ -153,26 +156,9 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 		fmt.Fprintf(stderr, "spotloom recipe: %s: %s\n", path, w)
 	}
 	if *outPath != "" {
-		err := export.WriteFiles(ctx, []export.File{{Path: *outPath, Data: res.Recipe.JSON()}}, *force)
+		err := export.WriteFiles(ctx, []export.File{{Path: *outPath, Data: look.Recipe.JSON()}}, *force)
 		return interrupted(ctx, forceHint(err))
 	}
-	_, err = stdout.Write(res.Recipe.JSON())
+	_, err = stdout.Write(look.Recipe.JSON())
 	return err
-}
-
-// rowsSourceFor picks the cross-scan source a starting recipe uses: the
-// position channel when one is seen, else step pulses, else an even motion
-// (whose speed the engine then assumes and says so).
-func rowsSourceFor(guesses []capture.RoleGuess) recipe.RowSource {
-	has := map[string]bool{}
-	for _, g := range guesses {
-		has[g.Role] = true
-	}
-	switch {
-	case has[capture.RolePosition]:
-		return recipe.SourcePosition
-	case has[capture.RoleSteps]:
-		return recipe.SourceSteps
-	}
-	return recipe.SourceEven
 }

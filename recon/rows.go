@@ -434,12 +434,33 @@ func toneAmplitude(rec rowsInput, carrierHz *float64) ([]float64, int, float64, 
 // of x (DC excluded), from averaged Hann-windowed FFTs of 65536 samples,
 // refined by fitting a parabola through the log magnitudes around the peak.
 func strongestTone(x []float32, rate float64) (float64, error) {
+	sp, err := toneSpectrum(x, rate)
+	if err != nil {
+		return 0, err
+	}
+	if sp.total == 0 || sp.peakShare < 0.05 {
+		return 0, fmt.Errorf("no clear carrier tone (the strongest line holds %.1f %% of the power); set rows.carrier_hz or use rows.source position", 100*sp.peakShare)
+	}
+	return sp.peakHz, nil
+}
+
+// spectrumPeak is what toneSpectrum finds: the strongest line's frequency,
+// the share of the power (DC excluded) in its bin and in the bins within
+// ±4 of it (a Hann window spreads a steady tone over three bins; a slowly
+// changing amplitude a little further), and the bin width.
+type spectrumPeak struct {
+	peakHz, binHz        float64
+	peakShare, nearShare float64
+	total                float64
+}
+
+func toneSpectrum(x []float32, rate float64) (spectrumPeak, error) {
 	nfft := 1 << 16
 	for nfft > len(x) && nfft > 256 {
 		nfft >>= 1
 	}
 	if len(x) < nfft {
-		return 0, fmt.Errorf("too short (%d samples) to find a carrier tone; set rows.carrier_hz", len(x))
+		return spectrumPeak{}, fmt.Errorf("too short (%d samples) to find a carrier tone; set rows.carrier_hz", len(x))
 	}
 	fft := fourier.NewFFT(nfft)
 	power := make([]float64, nfft/2+1)
@@ -472,13 +493,20 @@ func strongestTone(x []float32, rate float64) (float64, error) {
 	for _, p := range power[2:] {
 		total += p
 	}
-	if total == 0 || power[best] < 0.05*total {
-		return 0, fmt.Errorf("no clear carrier tone (the strongest line holds %.1f %% of the power); set rows.carrier_hz or use rows.source position", 100*power[best]/math.Max(total, 1e-300))
+	sp := spectrumPeak{binHz: rate / float64(nfft), total: total}
+	if total == 0 {
+		return sp, nil
 	}
+	near := 0.0
+	for k := max(best-4, 2); k <= min(best+4, len(power)-1); k++ {
+		near += power[k]
+	}
+	sp.peakShare, sp.nearShare = power[best]/total, near/total
 	a, b, c := math.Log(power[best-1]+1e-300), math.Log(power[best]+1e-300), math.Log(power[best+1]+1e-300)
 	d := 0.0
 	if den := a - 2*b + c; den != 0 {
 		d = 0.5 * (a - c) / den
 	}
-	return (float64(best) + d) * rate / float64(nfft), nil
+	sp.peakHz = (float64(best) + d) * sp.binHz
+	return sp, nil
 }

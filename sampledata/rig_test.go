@@ -27,6 +27,18 @@ func TestDemoRigIsValidAndOurOwn(t *testing.T) {
 	}
 }
 
+// TestSoundCardRigIsValid: the sound-card rig passes the rig check, reads
+// its position as a tone and records the detector through a high-pass.
+func TestSoundCardRigIsValid(t *testing.T) {
+	r := SoundCardRig()
+	if err := r.Validate(); err != nil {
+		t.Fatalf("sound-card rig: %v", err)
+	}
+	if r.Position.Kind != SensorTone || !(r.Detector.ACCouplingCornerHz > 0) || r.Recipe().Rows.Source != recipe.SourceTone {
+		t.Errorf("sound-card rig: position %q, corner %g Hz", r.Position.Kind, r.Detector.ACCouplingCornerHz)
+	}
+}
+
 func TestRigJSONRoundTrip(t *testing.T) {
 	r := DemoRig()
 	back, err := ParseRig(r.JSON())

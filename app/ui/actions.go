@@ -7,7 +7,6 @@ import (
 	"os"
 	"path/filepath"
 	"slices"
-	"strconv"
 	"strings"
 	"sync"
 	"time"
@@ -121,27 +120,32 @@ func (ws *Workstation) openWith(path string, copts capture.Options, given *recip
 				tries = append(tries, recipeTry{recipe: sr, note: "the recipe saved beside the capture (" + filepath.Base(side) + ")"})
 			}
 			if haveCurrent {
-				tries = append(tries, recipeTry{recipe: withGuessedRoles(forNewCapture(current), rec), note: "the rig settings of " + currentName + " with channel roles guessed from the capture (offsets, delay and threshold found anew)"})
+				// The rig is the one of the capture shown: keep its
+				// settings, guess the channel roles anew.
+				tries = append(tries, recipeTry{recipe: forNewCapture(current), known: recon.Known{"*": true, "channels": false}, look: true, note: "the rig settings of " + currentName + " with channel roles guessed from the capture (offsets, delay and threshold found anew)"})
 			}
-			tries = append(tries,
-				recipeTry{recipe: withGuessedRoles(recipe.Default(), rec), note: "starting settings with channel roles guessed from the capture", start: true},
-				recipeTry{recipe: withGuessedRoles(sampledata.DemoRecipe(), rec), note: "the built-in demo rig's settings with channel roles guessed from the capture", start: true})
+			// Nobody has described this capture: the same first look as
+			// "spotloom recipe FILE".
+			tries = append(tries, recipeTry{recipe: recipe.Default(), known: recon.Known{}, look: true, note: "a first look at the capture, from starting settings"})
 		}
 		var firstErr error
 		for _, t := range tries {
-			res, err := eng.Build(ctx, t.recipe, progress)
+			r, note := t.recipe, t.note
+			var res *Result
+			var notes []string
+			var err error
+			if t.look {
+				var look *Look
+				if look, err = eng.FirstLook(ctx, t.recipe, t.known, progress); err == nil {
+					res, r, notes = look.Result, look.Settings, look.Notes
+				}
+			} else {
+				res, err = eng.Build(ctx, t.recipe, progress)
+			}
 			if err == nil {
-				r, note := t.recipe, t.note
-				if t.start {
-					// Nobody has described this capture: take the aperture
-					// count and a calibration from what the first build saw.
-					if started, notes := recon.Start(t.recipe, res.Report); len(notes) > 0 {
-						if again, err := eng.Build(ctx, started, progress); err == nil {
-							again.Report.Warnings = append(slices.Clone(notes), again.Report.Warnings...)
-							r, res = started, again
-							note += "; " + strings.Join(notes, "; ")
-						}
-					}
+				if len(notes) > 0 {
+					res.Report.Warnings = append(slices.Clone(notes), res.Report.Warnings...)
+					note += "; " + strings.Join(notes, "; ")
 				}
 				return &opened{rec: rec, engine: eng, recipe: r, result: res, path: path, name: filepath.Base(path), note: note}, nil
 			}
@@ -174,7 +178,8 @@ func forNewCapture(r recipe.Recipe) recipe.Recipe {
 type recipeTry struct {
 	recipe recipe.Recipe
 	note   string
-	start  bool // settings made up for a capture nobody has described
+	look   bool        // a first look: fit what known leaves open to the capture
+	known  recon.Known // the keys a first look keeps
 }
 
 // buildFailed marks a capture that was read but would not build.
@@ -185,78 +190,6 @@ type buildFailed struct {
 
 func (e *buildFailed) Error() string { return e.err.Error() }
 func (e *buildFailed) Unwrap() error { return e.err }
-
-// withGuessedRoles returns r with the channel roles the capture suggests:
-// the likeliest index channel, then the likeliest position (or step)
-// channel, then the likeliest detector; when no channel looks like a
-// detector, the first channel left over plays it, since every capture has
-// one.
-func withGuessedRoles(r recipe.Recipe, rec *capture.Recording) recipe.Recipe {
-	r = cloneRecipe(r)
-	guesses := capture.GuessRoles(rec)
-	used := map[int]bool{}
-	best := func(role string) (int, bool) {
-		ch, conf := -1, -1.0
-		for _, g := range guesses {
-			if g.Role == role && !used[g.Channel] && g.Confidence > conf {
-				ch, conf = g.Channel, g.Confidence
-			}
-		}
-		if ch >= 0 {
-			used[ch] = true
-		}
-		return ch, ch >= 0
-	}
-	ref := func(ch int) recipe.ChannelRef { return recipe.ChannelRef(strconv.Itoa(ch)) }
-	if ch, ok := best("index"); ok {
-		r.Channels.Index = ref(ch)
-	}
-	if ch, ok := best("position"); ok {
-		r.Channels.Position, r.Channels.Steps = ref(ch), ""
-		if r.Rows.Source == recipe.SourceSteps || r.Rows.Source == recipe.SourceEven {
-			r.Rows.Source = recipe.SourcePosition
-		}
-	} else if n, err := strconv.Atoi(string(r.Channels.Position)); err != nil || n < 0 || n >= len(rec.Channels) || used[n] {
-		// The settings' position channel is not in this capture (or is
-		// the index): leave it out rather than build from a wrong one.
-		r.Channels.Position = ""
-	} else {
-		used[n] = true
-	}
-	det, ok := best("detector")
-	if !ok {
-		for i := range rec.Channels {
-			if !used[i] && (r.Channels.Position.IsSet() || !isGuessed(guesses, i, "steps")) {
-				det, ok = i, true
-				used[i] = true
-				break
-			}
-		}
-	}
-	if ok {
-		r.Channels.Detector = ref(det)
-	}
-	if !r.Channels.Position.IsSet() {
-		if ch, ok := best("steps"); ok {
-			r.Channels.Steps = ref(ch)
-			r.Rows.Source = recipe.SourceSteps
-		} else if r.Rows.Source.ReadsPosition() {
-			// No cross-scan signal at all: an even motion, whose speed the
-			// engine assumes (one pitch per line) and says so.
-			r.Rows.Source = recipe.SourceEven
-		}
-	}
-	return r
-}
-
-func isGuessed(guesses []capture.RoleGuess, ch int, role string) bool {
-	for _, g := range guesses {
-		if g.Channel == ch && g.Role == role {
-			return true
-		}
-	}
-	return false
-}
 
 func (ws *Workstation) submitOpen(what string, run func(ctx context.Context, progress progressFunc) (*opened, error), path string) {
 	ws.busy(what)

@@ -17,6 +17,10 @@ type Engine interface {
 	// Build reconstructs the capture with r; it stops early when ctx is
 	// cancelled and reports its stages to progress (which may be nil).
 	Build(ctx context.Context, r recipe.Recipe, progress func(stage string, fraction float64)) (*Result, error)
+	// FirstLook makes a starting recipe for the capture from start, keeping
+	// the keys known names, and builds it (recon.FirstLook: the same as
+	// "spotloom recipe"); the notes say what it chose and what disagrees.
+	FirstLook(ctx context.Context, start recipe.Recipe, known recon.Known, progress func(stage string, fraction float64)) (*Look, error)
 	// EstimateApertureOffsets returns one offset in degrees per aperture
 	// that lines up neighbouring lines of the image built with r.
 	EstimateApertureOffsets(ctx context.Context, r recipe.Recipe) ([]float64, error)
@@ -30,6 +34,15 @@ type Result struct {
 	Report recon.Report
 	Recipe recipe.Recipe
 	Lines  []Line
+}
+
+// Look is a first look at a capture: its build, the settings it chose
+// (automatic values still null) and notes on what it chose and what
+// disagrees.
+type Look struct {
+	Result   *Result
+	Settings recipe.Recipe
+	Notes    []string
 }
 
 // Line is one sweep of the beam as the engine found it; times are seconds

@@ -27,6 +27,14 @@ func (e sessionEngine) Build(ctx context.Context, r recipe.Recipe, progress func
 	return fromRecon(res), nil
 }
 
+func (e sessionEngine) FirstLook(ctx context.Context, start recipe.Recipe, known recon.Known, progress func(string, float64)) (*Look, error) {
+	look, err := recon.FirstLook(ctx, e.s, start, known, recon.Progress(progress))
+	if err != nil {
+		return nil, err
+	}
+	return &Look{Result: fromRecon(look.Result), Settings: look.Settings, Notes: look.Notes}, nil
+}
+
 func (e sessionEngine) EstimateApertureOffsets(ctx context.Context, r recipe.Recipe) ([]float64, error) {
 	return recon.EstimateApertureOffsets(ctx, e.s, r)
 }

@@ -17,6 +17,7 @@ import (
 	"fyne.io/fyne/v2/widget"
 
 	"spotloom/capture"
+	"spotloom/recon/recipe"
 )
 
 // Options configure a Workstation. The zero value uses the real engine,
@@ -565,4 +566,14 @@ func swatch(c color.Color) fyne.CanvasObject {
 	r := canvas.NewRectangle(c)
 	r.SetMinSize(fyne.NewSize(12, 12))
 	return container.NewCenter(r)
+}
+
+// ResolvedRecipe returns the recipe of the image shown with every
+// automatic value resolved (what "spotloom recipe" prints for the same
+// first look), or false when nothing is shown.
+func (ws *Workstation) ResolvedRecipe() (recipe.Recipe, bool) {
+	if ws.result == nil {
+		return recipe.Recipe{}, false
+	}
+	return ws.result.Recipe.Clone(), true
 }

@@ -170,3 +170,42 @@ func clonePtr(p *float64) *float64 {
 
 // Float returns a pointer to v, for filling the recipe's automatic values.
 func Float(v float64) *float64 { return &v }
+
+// GivenKeys returns the dotted keys ("sweep.apertures", "rows.calibration")
+// that a recipe file states with a value other than null, and "channels"
+// when it names any channel: what the user knows. A sidecar, a whole recipe
+// written beside an export, states every key ("*").
+func GivenKeys(data []byte) (map[string]bool, error) {
+	var top map[string]json.RawMessage
+	if err := json.Unmarshal(strictjson.TrimBOM(data), &top); err != nil {
+		// Parse names the place; this only says the file is not a recipe.
+		return nil, fmt.Errorf("recipe: %w", err)
+	}
+	given := map[string]bool{}
+	var format string
+	if json.Unmarshal(top["format"], &format) == nil && format == SidecarFormat {
+		given["*"] = true
+		return given, nil
+	}
+	isNull := func(v json.RawMessage) bool { return len(v) == 0 || bytes.Equal(bytes.TrimSpace(v), []byte("null")) }
+	for section, raw := range top {
+		if section == "format" || isNull(raw) {
+			continue
+		}
+		var keys map[string]json.RawMessage
+		if json.Unmarshal(raw, &keys) != nil {
+			continue // Parse reports a section that is not an object
+		}
+		for k, v := range keys {
+			if isNull(v) {
+				continue
+			}
+			if section == "channels" {
+				given["channels"] = true
+			} else {
+				given[section+"."+k] = true
+			}
+		}
+	}
+	return given, nil
+}

@@ -63,3 +63,30 @@ func TestUnknownModeNamesTheAllowedValues(t *testing.T) {
 		t.Fatalf("Validate: %v", err)
 	}
 }
+
+// TestGivenKeys: the keys a partial recipe states with a value are given,
+// null ones and absent ones are not, channels count as one key, and a
+// sidecar states everything.
+func TestGivenKeys(t *testing.T) {
+	got, err := GivenKeys([]byte(`{"format": "spotloom-recipe/1", "sweep": {"apertures": 6, "delay_deg": null},
+		"rows": {"calibration": [[0, 0], [1, 100]]}, "channels": {"detector": 0}}`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := map[string]bool{"sweep.apertures": true, "rows.calibration": true, "channels": true}
+	if len(got) != len(want) {
+		t.Errorf("given %v, want %v", got, want)
+	}
+	for k := range want {
+		if !got[k] {
+			t.Errorf("%s not given: %v", k, got)
+		}
+	}
+	side, err := GivenKeys([]byte(`{"format": "spotloom-export/1", "recipe": {}}`))
+	if err != nil || !side["*"] {
+		t.Errorf("sidecar: %v, %v", side, err)
+	}
+	if _, err := GivenKeys([]byte(`{"format": `)); err == nil {
+		t.Error("broken JSON gave no error")
+	}
+}

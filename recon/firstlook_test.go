@@ -1,0 +1,149 @@
+package recon
+
+import (
+	"context"
+	"math"
+	"slices"
+	"strings"
+	"testing"
+
+	"spotloom/recon/recipe"
+	"spotloom/sampledata"
+)
+
+// geometryOnly is what a builder knows without looking at the capture:
+// the wheel, the field, the distance and the position calibration. The
+// rest of the recipe is the default.
+func geometryOnly(rig sampledata.Rig) (recipe.Recipe, Known) {
+	r := recipe.Default()
+	rr := rig.Recipe()
+	r.Sweep.Apertures, r.Timing.PulsesPerRev = rr.Sweep.Apertures, rr.Timing.PulsesPerRev
+	r.Sweep.FieldDeg, r.Sweep.DistanceMM = rr.Sweep.FieldDeg, rr.Sweep.DistanceMM
+	r.Rows.Calibration = rr.Rows.Calibration
+	return r, Known{"sweep.apertures": true, "timing.pulses_per_rev": true, "sweep.field_deg": true, "sweep.distance_mm": true, "rows.calibration": true}
+}
+
+// TestFirstLookSoundCard: on a sound-card capture (tone position,
+// AC-coupled detector), a first look given only the geometry and the
+// calibration reads the position as a tone, finds the coupling's corner
+// (the simulator's 20 Hz, within 15 %), and gives an image that
+// correlates with the simulator's truth raster as well as the rig's own
+// recipe does (Pearson r ≥ 0.9, cross-checked with gonum's
+// stat.Correlation), with the delay within 0.3° of the truth.
+func TestFirstLookSoundCard(t *testing.T) {
+	rig := sampledata.SoundCardRig()
+	rig.DurationS, rig.Motion.StrokeS = 12, 10
+	ctx := context.Background()
+	rec, truth, err := sampledata.Simulate(ctx, rig, "parcel", sampledata.SimOptions{Seed: sampledata.DemoSeed, TruthPitchMM: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	start, known := geometryOnly(rig)
+	look, err := FirstLook(ctx, NewSession(rec), start, known, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := look.Recipe
+	t.Logf("notes %q; warnings %q", look.Notes, look.Result.Report.Warnings)
+	if r.Rows.Source != recipe.SourceTone {
+		t.Fatalf("rows.source %q, want tone", r.Rows.Source)
+	}
+	if c := r.Signal.ACCornerHz; math.Abs(c-20) > 3 {
+		t.Errorf("signal.ac_corner_hz %g, want the rig's 20 Hz within 15 %%", c)
+	}
+	mean := 0.0
+	for _, o := range truth.ApertureOffsetsDeg {
+		mean += o / float64(len(truth.ApertureOffsetsDeg))
+	}
+	if d := look.Result.Report.DelayDeg - (truth.DelayDeg + mean); math.Abs(d) > 0.3 {
+		t.Errorf("delay %.3f°, truth %.3f° (+ mean offset %.3f°)", look.Result.Report.DelayDeg, truth.DelayDeg, mean)
+	}
+	if c := truthCorrelation(t, look.Result.Frames[0], truth); c < 0.9 {
+		t.Errorf("correlation with the truth %.3f, want ≥ 0.9", c)
+	}
+	// A corner the user stated is kept, and the note says the value the
+	// drift fits.
+	stated := look.Recipe
+	stated.Signal.ACCornerHz = 0
+	again, err := FirstLook(ctx, NewSession(rec), stated, KnowAll, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if again.Recipe.Signal.ACCornerHz != 0 || !slices.ContainsFunc(again.Notes, func(n string) bool { return strings.Contains(n, "set signal.ac_corner_hz to") }) {
+		t.Errorf("stated corner 0: got %g Hz, notes %q", again.Recipe.Signal.ACCornerHz, again.Notes)
+	}
+}
+
+// TestFirstLookDCCapture: the demo rig (DC position, DC-coupled
+// detector) keeps rows.source position and no AC corner, and a first look
+// from nothing finds the wheel's six apertures.
+func TestFirstLookDCCapture(t *testing.T) {
+	rig := sampledata.DemoRig()
+	rig.DurationS = 8
+	rec, truth, err := sampledata.Simulate(context.Background(), rig, "parcel", sampledata.SimOptions{Seed: 12})
+	if err != nil {
+		t.Fatal(err)
+	}
+	look, err := FirstLook(context.Background(), NewSession(rec), recipe.Default(), Known{}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := look.Recipe
+	t.Logf("notes %q", look.Notes)
+	if r.Rows.Source != recipe.SourcePosition || r.Signal.ACCornerHz != 0 || r.Sweep.Apertures != rig.Wheel.ApertureCount {
+		t.Errorf("source %q, corner %g Hz, apertures %d; want position, 0 and %d", r.Rows.Source, r.Signal.ACCornerHz, r.Sweep.Apertures, rig.Wheel.ApertureCount)
+	}
+	// The rev/min then matches the rig's own (within the 0.2 % of the
+	// engine's accuracy target).
+	if got, want := look.Result.Report.RPMMean, truth.RevPerMinMean; math.Abs(got-want) > 0.002*want {
+		t.Errorf("rev/min %.2f, truth %.2f", got, want)
+	}
+}
+
+// TestFirstLookDutyDisagrees: four apertures and a 45° field make the
+// beam-on fraction 50 %; stated as four apertures and a 40° field (44 %),
+// the first look says that they disagree and keeps both stated values.
+func TestFirstLookDutyDisagrees(t *testing.T) {
+	w := baseRig()
+	w.fieldDeg, w.delayDeg = 45, 20
+	w.noise = 0.002
+	w.scene = func(x, y float64) float64 { return 0.3 + 0.2*math.Sin(x/9)*math.Cos(y/7) + 0.004*y }
+	rec := w.recording()
+	r := w.recipe()
+	r.Sweep.FieldDeg = 40
+	look, err := FirstLook(context.Background(), NewSession(rec), r, Known{"*": true}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if look.Recipe.Sweep.Apertures != 4 || look.Recipe.Sweep.FieldDeg != 40 {
+		t.Errorf("stated values changed: %d apertures, %g°", look.Recipe.Sweep.Apertures, look.Recipe.Sweep.FieldDeg)
+	}
+	if !slices.ContainsFunc(look.Notes, func(n string) bool { return strings.Contains(n, "the beam is on for 50 %") }) {
+		t.Errorf("no note on the disagreement: %q", look.Notes)
+	}
+	// The right field passes silently.
+	r.Sweep.FieldDeg = 45
+	look, err = FirstLook(context.Background(), NewSession(rec), r, Known{"*": true}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(look.Notes) != 0 {
+		t.Errorf("notes for a recipe that fits: %q", look.Notes)
+	}
+}
+
+// TestFirstLookNoBeamOff: a field as wide as the aperture spacing leaves
+// the detector lit for the whole line; the first look says so instead of
+// failing, and builds with no baseline.
+func TestFirstLookNoBeamOff(t *testing.T) {
+	w := baseRig()
+	w.fieldDeg, w.delayDeg = 90, 0
+	w.scene = func(x, y float64) float64 { return 0.3 + 0.2*math.Sin(x/9)*math.Cos(y/7) + 0.004*y }
+	look, err := FirstLook(context.Background(), NewSession(w.recording()), w.recipe(), Known{"*": true, "sweep.delay_deg": false, "signal.baseline": false}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !slices.Contains(look.Notes, WarnNoBeamOff) || look.Recipe.Signal.Baseline != "none" {
+		t.Errorf("notes %q, baseline %q", look.Notes, look.Recipe.Signal.Baseline)
+	}
+}
