@@ -31,13 +31,13 @@ func simulatedFrame(t *testing.T, dir, scene string, outs ...string) sampledata.
 	return readTruth(t, truthPath)
 }
 
-func measureJSON(t *testing.T, args ...string) measureOutput {
+func measureJSON(t *testing.T, args ...string) measure.Results {
 	t.Helper()
 	code, stdout, stderr := runCmd(append([]string{"measure"}, append(args, "--json")...)...)
 	if code != 0 {
 		t.Fatalf("measure %q: exit %d: %s", args, code, stderr)
 	}
-	var out measureOutput
+	var out measure.Results
 	if err := json.Unmarshal([]byte(stdout), &out); err != nil {
 		t.Fatalf("%v\n%s", err, stdout)
 	}
