@@ -1,0 +1,157 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"spotloom/capture"
+	"spotloom/recon"
+	"spotloom/recon/export"
+	"spotloom/recon/measure"
+	"spotloom/recon/recipe"
+)
+
+func init() {
+	register(command{
+		name:    "report",
+		summary: "write a report sheet (PDF): the frame at a print scale, rig facts, recipe, measurements",
+		run:     runReport,
+	})
+}
+
+const reportSynopsis = "report FILE --recipe R.json --out SHEET.pdf [--measure M.json] [--page N] [--force]"
+
+const reportDescription = `
+Reconstructs the capture FILE with the recipe R.json and writes a report sheet
+SHEET.pdf (A4): the frame at a stated print scale with its scale bar, the
+capture and rig facts (lines, rev/min, sweep time, pitch, coverage), the
+recipe in short, the warnings and the date.
+
+--measure M.json (the output of "spotloom measure --json") adds a page of
+measurements: each rectangle and line of its request is measured again on
+the rebuilt frame, drawn on the frame and listed with its plot (MTF curve,
+profile, noise power spectrum).
+
+An existing sheet is never replaced without --force.`
+
+func runReport(args []string, stdout, stderr io.Writer) error {
+	fs := newFlagSet("report", reportSynopsis, reportDescription, stderr)
+	cf := addCaptureFlags(fs)
+	var recipePath, outPath, measurePath string
+	var page int
+	var force bool
+	fs.StringVar(&recipePath, "recipe", "", "recipe JSON `file` (required)")
+	fs.StringVar(&outPath, "out", "", "the sheet, a .pdf `file` (required)")
+	fs.StringVar(&measurePath, "measure", "", "measurements to show: JSON `file` from \"spotloom measure --json\"")
+	fs.IntVar(&page, "page", 1, "which frame (stroke) to show when the recipe splits strokes")
+	fs.BoolVar(&force, "force", false, "replace the sheet if it exists")
+	positional, err := parseFlags(fs, args)
+	if err != nil {
+		return err
+	}
+	switch {
+	case len(positional) != 1:
+		return usagef("expected one capture FILE, got %d arguments", len(positional))
+	case recipePath == "":
+		return usagef("--recipe R.json is required")
+	case outPath == "":
+		return usagef("--out SHEET.pdf is required")
+	case !strings.EqualFold(filepath.Ext(outPath), ".pdf"):
+		return usagef("--out %s: the sheet is a PDF; name it .pdf", outPath)
+	case page < 1:
+		return usagef("--page %d: frames count from 1", page)
+	}
+	captureOpts, err := cf.options()
+	if err != nil {
+		return err
+	}
+	inputs := append(captureInputs(positional[0], cf), export.Role{What: "the recipe", Path: recipePath}, export.Role{What: "--measure", Path: measurePath})
+	if err := export.CheckClashes(inputs, []export.Role{{What: "--out", Path: outPath}}); err != nil {
+		return err
+	}
+	if err := export.CheckFile(outPath, force); err != nil {
+		return forceHint(err)
+	}
+	var req *measure.Request
+	if measurePath != "" {
+		if req, err = loadMeasureRequest(measurePath); err != nil {
+			return err
+		}
+	}
+	r, err := recipe.Load(recipePath)
+	if err != nil {
+		return err
+	}
+	if err := r.Validate(); err != nil {
+		return fmt.Errorf("%s: %w", recipePath, err)
+	}
+	progress := newProgress(stderr)
+	defer progress.Done()
+	captureOpts.Progress = func(fraction float64) { progress.Report("reading", fraction) }
+	rec, err := capture.Open(positional[0], captureOpts)
+	if err != nil {
+		return err
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	defer stop()
+	res, err := recon.NewSession(rec).Build(ctx, r, progress.Report)
+	if err != nil {
+		return fmt.Errorf("%s: %w", positional[0], err)
+	}
+	if page > len(res.Frames) {
+		return fmt.Errorf("%s: the recipe makes %d frame(s), not %d", positional[0], len(res.Frames), page)
+	}
+	f := res.Frames[page-1]
+	sheet := export.Sheet{Frame: f, Source: filepath.Base(positional[0]), Date: time.Now()}
+	if req != nil {
+		m, err := measure.Run(f, *req)
+		if err != nil {
+			return fmt.Errorf("%s: measuring the rebuilt frame: %w", measurePath, err)
+		}
+		sheet.Measured = &m
+	}
+	progress.Report("writing", 0)
+	layout, err := export.WriteSheet(outPath, sheet, force)
+	if err != nil {
+		return forceHint(err)
+	}
+	progress.Done()
+	fmt.Fprintf(stdout, "wrote %s (%d page(s), frame at print scale %s)\n", outPath, layout.Pages, export.PrintScaleText(layout.PrintScale))
+	for _, w := range f.Report.Warnings {
+		fmt.Fprintf(stderr, "warning: %s\n", w)
+	}
+	return nil
+}
+
+// loadMeasureRequest reads what to measure from the measure command's
+// JSON (its "request"), or from a bare request.
+func loadMeasureRequest(path string) (*measure.Request, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	var wrapped struct {
+		Request *measure.Request `json:"request"`
+	}
+	if err := json.Unmarshal(data, &wrapped); err != nil {
+		return nil, fmt.Errorf("%s: not JSON from \"spotloom measure --json\": %w", path, err)
+	}
+	req := wrapped.Request
+	if req == nil {
+		req = &measure.Request{}
+		if err := json.Unmarshal(data, req); err != nil {
+			return nil, fmt.Errorf("%s: %w", path, err)
+		}
+	}
+	if req.Empty() {
+		return nil, fmt.Errorf("%s: asks for no measurement (no edge, roi, profile, dots or nps)", path)
+	}
+	return req, nil
+}

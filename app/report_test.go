@@ -1,0 +1,53 @@
+package main
+
+import (
+	"fmt"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func TestReportSheetFromMeasurements(t *testing.T) {
+	// The sheet re-measures the request of "spotloom measure --json" on
+	// the rebuilt frame, so it prints the measure command's numbers; its
+	// text is read back with poppler's pdftotext (independent of the
+	// writer).
+	if _, err := exec.LookPath("pdftotext"); err != nil {
+		t.Skip("pdftotext is not installed (Debian poppler-utils; .ci/run installs it)")
+	}
+	dir := t.TempDir()
+	tiffPath := filepath.Join(dir, "card.tiff")
+	truth := simulatedFrame(t, dir, "edge-card", tiffPath)
+	left := truth.Features[0]
+	rect := strings.Join([]string{fmtG(left.XMM - 20), fmtG(left.YMM - 20), fmtG(left.XMM + 20), fmtG(left.YMM + 20)}, ",")
+	code, stdout, stderr := runCmd("measure", tiffPath, "--edge", rect, "--json")
+	if code != 0 {
+		t.Fatalf("measure: exit %d: %s", code, stderr)
+	}
+	mPath := filepath.Join(dir, "m.json")
+	os.WriteFile(mPath, []byte(stdout), 0o644)
+	m := measureJSON(t, tiffPath, "--edge", rect)
+
+	sheet := filepath.Join(dir, "card.pdf")
+	wav, start := filepath.Join(dir, "edge-card.wav"), filepath.Join(dir, "edge-card.start.json")
+	if code, _, stderr := runCmd("report", wav, "--recipe", start, "--out", sheet, "--measure", mPath); code != 0 {
+		t.Fatalf("report: exit %d: %s", code, stderr)
+	}
+	out, err := exec.Command("pdftotext", sheet, "-").CombinedOutput()
+	if err != nil {
+		t.Fatalf("pdftotext: %v: %s", err, out)
+	}
+	want := fmt.Sprintf("MTF50 %.4g lp/mm", *m.Edge.MTF50)
+	if !strings.Contains(string(out), want) || !strings.Contains(string(out), "edge-card.wav") {
+		t.Errorf("the sheet's text lacks %q:\n%s", want, out)
+	}
+	// Never replaced without --force; a name that is not .pdf is bad usage.
+	if code, _, stderr := runCmd("report", wav, "--recipe", start, "--out", sheet); code != 1 || !strings.Contains(stderr, "--force") {
+		t.Errorf("second sheet: exit %d, %q", code, stderr)
+	}
+	if code, _, _ := runCmd("report", wav, "--recipe", start, "--out", filepath.Join(dir, "x.png")); code != 2 {
+		t.Errorf("--out x.png: exit %d, want 2", code)
+	}
+}
