@@ -125,322 +125,6 @@ func splitSampleLines(head []byte, complete bool) []sampleLine {
 	return lines
 }
 
-// sniffCSV finds the delimiter, the data columns, the header and the first
-// data row, and collects the sample rate statements of the preamble.
-func sniffCSV(head []byte, complete bool) (csvShape, error) {
-	lines := splitSampleLines(head, complete)
-	// Blank lines carry no shape.
-	var idx []int
-	for i, l := range lines {
-		if len(bytes.TrimSpace(l.text)) > 0 {
-			idx = append(idx, i)
-		}
-	}
-	if len(idx) == 0 {
-		return csvShape{}, &FormatError{Format: "csv", Place: AtLine(1, 0), Problem: "no rows of text found", Expected: "rows of numbers separated by commas, semicolons, tabs or spaces"}
-	}
-	// The delimiter is the candidate under which the most lines are rows of
-	// numbers with one field count (ties go to more fields, then to the
-	// order comma, semicolon, tab, whitespace).
-	best, bestScore := csvShape{fields: -1}, 0
-	for _, d := range []byte{',', ';', '\t', whitespaceDelim} {
-		decimalComma := d != ','
-		counts := map[int]int{}
-		for _, i := range idx {
-			fields, _, err := splitRecord(lines[i].text, d, nil, nil)
-			if err != nil {
-				continue
-			}
-			fields = dropTrailingEmpty(fields, d)
-			if allNumbers(fields, decimalComma) {
-				counts[len(fields)]++
-			}
-		}
-		for n, score := range counts {
-			if score > bestScore || score == bestScore && n > best.fields {
-				best, bestScore = csvShape{delim: d, decimalComma: decimalComma, fields: n}, score
-			}
-		}
-	}
-	// When most lines are not rows of numbers, the samples may stand in
-	// some columns beside metadata columns (empty or text in most rows).
-	if 2*bestScore < len(idx) {
-		if cs, score := sniffDataColumns(lines, idx); score > 2*bestScore {
-			best, bestScore = cs, score
-		}
-	}
-	if bestScore == 0 {
-		return csvShape{}, &FormatError{Format: "csv", Place: AtLine(lines[idx[0]].line, 0), Problem: fmt.Sprintf("no line in the first %d bytes is a row of numbers (first line %q)", len(head), clip(string(lines[idx[0]].text), 60)),
-			Expected: "rows of numbers separated by commas, semicolons, tabs or spaces"}
-	}
-	shape := best
-	shape.eol = lineEnd(head)
-	if shape.dataCols == nil {
-		shape.dataCols = make([]int, shape.fields)
-		for i := range shape.dataCols {
-			shape.dataCols[i] = i
-		}
-	}
-	plain := len(shape.dataCols) == shape.fields // no metadata columns
-	isData := make([]bool, shape.fields)
-	for _, c := range shape.dataCols {
-		isData[c] = true
-	}
-	// Rows are split as the streaming pass splits them: a trailing
-	// delimiter's empty field is dropped when it is one field too many.
-	split := func(i int) ([][]byte, []int) {
-		fields, cols, err := splitRecord(lines[i].text, shape.delim, nil, nil)
-		if err != nil {
-			return nil, nil
-		}
-		if len(fields) == shape.fields+1 {
-			fields = dropTrailingEmpty(fields, shape.delim)
-		}
-		return fields, cols[:len(fields)]
-	}
-	isNumber := func(f []byte) bool {
-		_, ok := parseNumber(f, shape.decimalComma)
-		return ok
-	}
-	numbers := func(fields [][]byte) int {
-		n := 0
-		for _, f := range fields {
-			if isNumber(f) {
-				n++
-			}
-		}
-		return n
-	}
-	// dataNumbers counts the numbers in the data columns of a row.
-	dataNumbers := func(fields [][]byte) int {
-		n := 0
-		for _, c := range shape.dataCols {
-			if c < len(fields) && isNumber(fields[c]) {
-				n++
-			}
-		}
-		return n
-	}
-	// dataFields are the cells of a row in the data columns.
-	dataFields := func(f [][]byte) [][]byte {
-		var out [][]byte
-		for _, c := range shape.dataCols {
-			if c < len(f) {
-				out = append(out, f[c])
-			}
-		}
-		return out
-	}
-	// The data start at the first run of numeric rows with the data's field
-	// count (three rows, or fewer at the end of the sample) ...
-	numericRow := func(i int) bool {
-		f, _ := split(i)
-		return len(f) == shape.fields && dataNumbers(f) == len(shape.dataCols)
-	}
-	start := -1
-	for k := range idx {
-		run := min(3, len(idx)-k)
-		good := true
-		for m := 0; m < run; m++ {
-			if !numericRow(idx[k+m]) {
-				good = false
-				break
-			}
-		}
-		if good {
-			start = k
-			break
-		}
-	}
-	if start < 0 {
-		for k := range idx {
-			if numericRow(idx[k]) {
-				start = k
-				break
-			}
-		}
-	}
-	// ... or earlier, at damaged data rows just before that run: rows with
-	// the data's field count holding some numbers, or rows of numbers with
-	// another field count. Those are read as data so that the error names
-	// them, rather than being skipped as preamble.
-	for start > 0 {
-		f, _ := split(idx[start-1])
-		if f == nil && shape.delim != whitespaceDelim {
-			// a quoting error: judge the row by its bare delimiter split
-			f = bytes.Split(lines[idx[start-1]].text, []byte{shape.delim})
-		}
-		var damaged bool
-		switch {
-		case len(scanMetaCells(f, make([]int, len(f)), 0, shape.decimalComma, nil)) > 0, keyCell(f):
-			// "Sample interval,1e-05" or `"Record Length=",120,` above the data
-		case numberNames(dataFields(f)):
-			// a header naming channels by number: "Time,1,2"
-		case plain:
-			nums := numbers(f)
-			damaged = len(f) > 0 && (len(f) == shape.fields && nums > 0 || nums == len(f))
-		default:
-			damaged = len(f) == shape.fields && dataNumbers(f) > 0
-		}
-		if !damaged {
-			break
-		}
-		start--
-	}
-	first := idx[start]
-	shape.dataLine = lines[first].line
-	shape.dataOffset = lines[first].offset
-	if fields, _, _ := splitRecord(lines[first].text, shape.delim, nil, nil); len(fields) == shape.fields+1 && len(bytes.TrimSpace(fields[shape.fields])) == 0 {
-		shape.trailingDrop = true
-	}
-	if last := lines[len(lines)-1]; len(lines) > first+1 {
-		shape.avgRowBytes = float64(last.offset-lines[first].offset) / float64(len(lines)-1-first)
-	}
-	// Header: a non-blank row just before the data with at least as many
-	// fields and no number in the data columns. Cells past the data's
-	// field count, or in metadata columns, are kept for key/value pairs.
-	type headerRow struct {
-		cells [][]byte
-		cols  []int
-		line  int
-	}
-	header := func(k int) *headerRow {
-		if k < 0 {
-			return nil
-		}
-		f, cols := split(idx[k])
-		if len(f) < shape.fields || dataNumbers(f) > 0 && !numberNames(dataFields(f)) {
-			return nil
-		}
-		return &headerRow{f, cols, lines[idx[k]].line}
-	}
-	dataCells := func(h *headerRow) []string {
-		out := make([]string, len(shape.dataCols))
-		for i, c := range shape.dataCols {
-			out[i] = strings.TrimSpace(string(h.cells[c]))
-		}
-		return out
-	}
-	// otherCells are the cells of a row outside the data columns.
-	otherCells := func(f [][]byte, cols []int) ([][]byte, []int) {
-		var of [][]byte
-		var oc []int
-		for j := range f {
-			if j >= shape.fields || !isData[j] {
-				of, oc = append(of, f[j]), append(oc, cols[j])
-			}
-		}
-		return of, oc
-	}
-	// A header row longer than the data rows must name a sample interval
-	// or rate among its extra cells ("X,CH1,CH2,Start,Increment"); any
-	// other longer row (a sentence split at its spaces) is preamble.
-	statesRate := func(h *headerRow) bool {
-		of, _ := otherCells(h.cells, h.cols)
-		for _, c := range of {
-			if key, _ := normalizeMetaKey(string(c)); metaKeys[key] != 0 {
-				return true
-			}
-		}
-		return false
-	}
-	shape.names = make([]string, shape.fields)
-	shape.units = make([]string, shape.fields)
-	preambleEnd := start // idx position of the first header or data row
-	h, u := header(start-1), header(start-2)
-	if h == nil || u != nil && !(len(u.cells) == shape.fields && len(h.cells) == shape.fields || statesRate(u)) {
-		u = nil
-	}
-	if h != nil && u == nil && len(h.cells) != shape.fields && !statesRate(h) {
-		h = nil
-	}
-	if h != nil {
-		if u != nil && looksLikeUnits(dataCells(h)) {
-			// names row, then a units row; cells beyond the data are keys
-			// over their values ("Start,Increment" over "-0.01,1e-05")
-			for _, c := range shape.dataCols {
-				shape.names[c] = strings.TrimSpace(string(u.cells[c]))
-				shape.units[c] = strings.Trim(strings.TrimSpace(string(h.cells[c])), "()[] ")
-			}
-			for j := range min(len(u.cells), len(h.cells)) {
-				if j < shape.fields && isData[j] {
-					continue
-				}
-				key, unit := normalizeMetaKey(string(u.cells[j]))
-				if kind, ok := metaKeys[key]; ok && len(bytes.TrimSpace(h.cells[j])) > 0 {
-					shape.meta = append(shape.meta, newMeta(kind, string(u.cells[j]), string(h.cells[j]), unit, h.line, h.cols[j], shape.decimalComma))
-				}
-			}
-			shape.headerLine = u.line
-			preambleEnd = start - 2
-		} else {
-			for i, cell := range dataCells(h) {
-				shape.names[shape.dataCols[i]], shape.units[shape.dataCols[i]] = splitNameUnit(cell)
-			}
-			of, oc := otherCells(h.cells, h.cols)
-			shape.meta = scanMetaCells(of, oc, h.line, shape.decimalComma, shape.meta)
-			shape.headerLine = h.line
-			preambleEnd = start - 1
-		}
-	}
-	// Statements in the preamble come before those beside the data.
-	var meta []csvMeta
-	for _, i := range idx[:preambleEnd] {
-		meta = scanMetaLine(lines[i].text, lines[i].line, shape.delim, shape.decimalComma, meta)
-		if cells, _, err := splitRecord(lines[i].text, shape.delim, nil, nil); err == nil {
-			shape.labels = scanLabelCells(cells, nil, shape.labels)
-		}
-	}
-	shape.meta = append(meta, shape.meta...)
-	// Metadata columns beside the sniffed data rows, and what the data
-	// columns of those rows look like.
-	var values [][]float64
-	var lastText [][]byte
-	for _, i := range idx[start:] {
-		f, cols := split(i)
-		if !plain && len(f) == shape.fields {
-			of, oc := otherCells(f, cols)
-			shape.meta = scanMetaCells(of, oc, lines[i].line, shape.decimalComma, shape.meta)
-			var fieldsOf []int
-			for j := range f {
-				if !isData[j] {
-					fieldsOf = append(fieldsOf, j)
-				}
-			}
-			shape.labels = scanLabelCells(of, fieldsOf, shape.labels)
-		}
-		if len(f) != shape.fields || len(values) >= sniffFactRows {
-			continue
-		}
-		row := make([]float64, len(shape.dataCols))
-		ok := true
-		for k, c := range shape.dataCols {
-			v, isNum := parseNumber(f[c], shape.decimalComma)
-			if !isNum {
-				ok = false
-				break
-			}
-			row[k] = v
-		}
-		if ok {
-			values = append(values, row)
-			lastText = lastText[:0]
-			for _, c := range shape.dataCols {
-				lastText = append(lastText, f[c])
-			}
-		}
-	}
-	shape.facts = make([]columnFacts, shape.fields)
-	for k, c := range shape.dataCols {
-		var q float64
-		if len(lastText) > k {
-			q = printQuantum(lastText[k])
-		}
-		shape.facts[c] = columnFactsOf(values, k, q)
-	}
-	return shape, nil
-}
-
 // sniffFactRows is how many sniffed data rows columnFacts looks at.
 const sniffFactRows = 4096
 
@@ -1172,19 +856,42 @@ func timeExpectation(guessed bool) string {
 }
 
 // printQuantum is the value of one unit in the last digit of a printed
-// number: 0.001 for "1.234", 1e-7 for "-1.2340e-03".
+// number: 0.001 for "1.234", 1e-7 for "-1.2340e-03". It runs once per row
+// of a time column, so it scans the cell once by hand.
 func printQuantum(b []byte) float64 {
 	b = bytes.TrimSpace(b)
+	point, mark := -1, len(b)
+	for i, c := range b {
+		if c == 'e' || c == 'E' {
+			mark = i
+			break
+		}
+		if (c == '.' || c == ',') && point < 0 {
+			point = i
+		}
+	}
 	exp := 0
-	if i := bytes.IndexAny(b, "eE"); i >= 0 {
-		e, err := strconv.Atoi(string(b[i+1:]))
-		if err != nil {
+	if mark < len(b) {
+		digits := b[mark+1:]
+		neg := len(digits) > 0 && digits[0] == '-'
+		if len(digits) > 0 && (digits[0] == '-' || digits[0] == '+') {
+			digits = digits[1:]
+		}
+		if len(digits) == 0 || len(digits) > 6 {
 			return 0
 		}
-		exp, b = e, b[:i]
+		for _, c := range digits {
+			if c < '0' || c > '9' {
+				return 0
+			}
+			exp = 10*exp + int(c-'0')
+		}
+		if neg {
+			exp = -exp
+		}
 	}
-	if i := bytes.IndexAny(b, ".,"); i >= 0 {
-		exp -= len(b) - i - 1
+	if point >= 0 {
+		exp -= mark - point - 1
 	}
 	switch {
 	case exp >= 0 && exp < len(pow10):

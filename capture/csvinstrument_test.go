@@ -84,3 +84,14 @@ func TestCSVTimeErrors(t *testing.T) {
 		}
 	}
 }
+
+// TestPrintQuantum: one unit of the last printed digit, worked by hand.
+func TestPrintQuantum(t *testing.T) {
+	for cell, want := range map[string]float64{
+		"1.234": 0.001, "-1.2340e-03": 1e-7, "12": 1, "5e3": 1000, "0,25": 0.01, "1.5E+02": 10, " 0.00000012 ": 1e-8, "1e": 0, "2ex": 0,
+	} {
+		if got := printQuantum([]byte(cell)); math.Abs(got-want) > 1e-12*want {
+			t.Errorf("printQuantum(%q) = %g, want %g", cell, got, want)
+		}
+	}
+}
