@@ -186,3 +186,23 @@ func printable(b []byte) string {
 	}
 	return sb.String()
 }
+
+// LooksLikeCapture reports whether path is named as a capture Open reads:
+// a WAV, a text capture (.csv, .txt, …), a raw dump (.bin, .raw, …), or any
+// file with a raw layout sidecar beside it (see LayoutPaths). It looks at
+// names only, so a file chooser can offer captures without reading them.
+func LooksLikeCapture(path string) bool {
+	ext := strings.ToLower(filepath.Ext(path))
+	if ext == ".wav" || ext == ".wave" || textExtensions[ext] || rawExtensions[ext] {
+		return true
+	}
+	if strings.HasSuffix(strings.ToLower(path), ".layout.json") {
+		return false
+	}
+	for _, p := range LayoutPaths(path) {
+		if fi, err := os.Stat(p); err == nil && fi.Mode().IsRegular() {
+			return true
+		}
+	}
+	return false
+}

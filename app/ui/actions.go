@@ -582,26 +582,6 @@ func (ws *Workstation) showRunning(on bool) {
 	}
 }
 
-// ChooseCapture asks for a capture file and opens it.
-func (ws *Workstation) ChooseCapture() {
-	d := dialog.NewFileOpen(func(rc fyne.URIReadCloser, err error) {
-		if err != nil {
-			ws.showProblem("Cannot open the file", err.Error(), "pick the file again.")
-			return
-		}
-		if rc == nil {
-			return
-		}
-		path := rc.URI().Path()
-		rc.Close()
-		ws.OpenFile(path, nil)
-	}, ws.win)
-	ws.startIn(d, ws.sourcePath)
-	d.SetConfirmText("Open")
-	d.Resize(fyne.NewSize(820, 560))
-	d.Show()
-}
-
 func (ws *Workstation) startIn(d *dialog.FileDialog, near string) {
 	dir := ""
 	if near != "" {
@@ -633,18 +613,6 @@ func (ws *Workstation) ChooseRecipe() {
 	d.Show()
 }
 
-// LoadRecipe applies the recipe in path; if it does not fit the capture
-// the settings stay as they were.
-func (ws *Workstation) LoadRecipe(path string) {
-	r, err := recipe.Load(path)
-	if err != nil {
-		ws.showProblem("Cannot use "+filepath.Base(path), err.Error()+".",
-			"fix the key named above (the recipe format is spotloom-recipe/1) or save a fresh recipe with Save recipe… and edit that. The settings are unchanged.")
-		return
-	}
-	ws.applyRecipe(r, "The recipe "+filepath.Base(path))
-}
-
 // applyRecipe replaces the recipe and rebuilds; if the build fails the
 // settings go back to those of the image shown.
 func (ws *Workstation) applyRecipe(r recipe.Recipe, reason string) {
@@ -658,38 +626,6 @@ func (ws *Workstation) applyRecipe(r recipe.Recipe, reason string) {
 	ws.controls.show(ws.cur, ws.result)
 	ws.source.showRoles(ws.cur.Recipe)
 	ws.rebuild(reason)
-}
-
-// SaveRecipe writes the recipe of the image shown, every automatic value
-// filled in, so the frame can be rebuilt exactly.
-func (ws *Workstation) SaveRecipe() {
-	if ws.result == nil {
-		return
-	}
-	data := ws.result.Recipe.JSON()
-	d := dialog.NewFileSave(func(wc fyne.URIWriteCloser, err error) {
-		if err != nil || wc == nil {
-			return
-		}
-		_, werr := wc.Write(data)
-		cerr := wc.Close()
-		if werr == nil {
-			werr = cerr
-		}
-		if werr != nil {
-			ws.showProblem("Cannot save the recipe", werr.Error(), "choose a folder you can write to.")
-			return
-		}
-		ws.stage.SetText("Recipe saved to " + wc.URI().Path())
-	}, ws.win)
-	name := "spotloom.recipe.json"
-	if ws.sourcePath != "" {
-		name = strings.TrimSuffix(filepath.Base(ws.sourcePath), filepath.Ext(ws.sourcePath)) + ".recipe.json"
-	}
-	d.SetFileName(name)
-	ws.startIn(d, ws.sourcePath)
-	d.Resize(fyne.NewSize(820, 560))
-	d.Show()
 }
 
 // recentKey is the preference that lists recently opened captures.

@@ -41,121 +41,160 @@ func exportPlan(path string, frames []*recon.Frame, opts export.Options) []expor
 	return []exportRequest{{path: path, frames: frames, opts: opts}}
 }
 
+// exportForm is the export dialog's fields. The file lands where the
+// folder field points; a relative name is relative to that folder.
+type exportForm struct {
+	ws          *Workstation
+	which       *widget.RadioGroup
+	folder      *widget.Entry
+	name        *widget.Entry
+	format      *widget.Select
+	depth       *widget.Select
+	compression *widget.Select
+	useTone     *widget.Check
+	scaleBar    *widget.Entry
+	caption     *widget.Entry
+	noData      *widget.Entry
+	dialog      *dialog.FormDialog
+}
+
 // ShowExport asks what to export and writes it with export.Write, asking
 // before replacing a file.
 func (ws *Workstation) ShowExport() {
-	if ws.result == nil || len(ws.result.Frames) == 0 {
-		ws.showProblem("Nothing to export", "no frame has been built yet.", "open a capture first.")
-		return
+	if f := ws.newExportForm(); f != nil {
+		f.dialog.Show()
 	}
-	which := widget.NewRadioGroup([]string{"The frame shown", "All frames"}, nil)
-	which.SetSelected("The frame shown")
-	if len(ws.result.Frames) < 2 {
-		which.Disable()
-	}
-	pathEntry := widget.NewEntry()
-	pathEntry.SetText(ws.defaultExportPath())
-	format := widget.NewSelect([]string{"TIFF", "PNG"}, func(f string) {
-		p := pathEntry.Text
-		ext := ".tiff"
-		if f == "PNG" {
-			ext = ".png"
-		}
-		pathEntry.SetText(strings.TrimSuffix(p, filepath.Ext(p)) + ext)
-	})
-	format.SetSelected("TIFF")
-	browse := widget.NewButton("Folder…", func() {
-		d := dialog.NewFolderOpen(func(dir fyne.ListableURI, err error) {
-			if err != nil || dir == nil {
-				return
-			}
-			pathEntry.SetText(filepath.Join(dir.Path(), filepath.Base(pathEntry.Text)))
-		}, ws.win)
-		d.Resize(fyne.NewSize(820, 560))
-		d.Show()
-	})
-	depth := widget.NewSelect([]string{"16-bit grey (tone applied)", "8-bit grey (tone applied)", "32-bit float (frame values, TIFF)"}, nil)
-	depth.SetSelected("16-bit grey (tone applied)")
-	compression := widget.NewSelect([]string{"deflate", "lzw", "none"}, nil)
-	compression.SetSelected("deflate")
-	useTone := widget.NewCheck("use the tone of the view (else automatic per frame)", nil)
-	useTone.SetChecked(true)
-	scaleBar := widget.NewEntry()
-	scaleBar.SetText("auto")
-	scaleBar.SetPlaceHolder("mm, auto or none")
-	caption := widget.NewEntry()
-	caption.SetPlaceHolder("text burned into the corner (optional)")
-	noData := widget.NewEntry()
-	noData.SetText("0")
-	items := []*widget.FormItem{
-		widget.NewFormItem("Frames", which),
-		widget.NewFormItem("File", container.NewBorder(nil, nil, nil, browse, pathEntry)),
-		widget.NewFormItem("Format", format),
-		widget.NewFormItem("Samples", depth),
-		widget.NewFormItem("Compression", compression),
-		widget.NewFormItem("Tone", useTone),
-		widget.NewFormItem("Scale bar", scaleBar),
-		widget.NewFormItem("Caption", caption),
-		widget.NewFormItem("No-data value", noData),
-	}
-	d := dialog.NewForm("Export frames", "Export", "Cancel", items, func(ok bool) {
-		if !ok {
-			return
-		}
-		opts := export.Options{Compression: compression.Selected, Caption: strings.TrimSpace(caption.Text)}
-		switch depth.Selected {
-		case "8-bit grey (tone applied)":
-			opts.Depth = 8
-		case "32-bit float (frame values, TIFF)":
-			opts.Depth, opts.Raw = 32, true
-		default:
-			opts.Depth = 16
-		}
-		if useTone.Checked {
-			opts.Tone = ws.cur.Tone
-		}
-		switch s := strings.ToLower(strings.TrimSpace(scaleBar.Text)); s {
-		case "auto", "":
-			opts.ScaleBarMM = -1
-		case "none", "0":
-			opts.ScaleBarMM = 0
-		default:
-			v, err := parseNumber(s)
-			if err != nil || v <= 0 {
-				ws.showProblem("Cannot export", fmt.Sprintf("scale bar %q is not a length in mm.", scaleBar.Text), "type a length such as 50, or auto, or none.")
-				return
-			}
-			opts.ScaleBarMM = v
-		}
-		if opts.Raw {
-			opts.ScaleBarMM = 0
-			opts.Caption = ""
-		}
-		nd, err := strconv.ParseFloat(strings.TrimSpace(noData.Text), 64)
-		if err != nil {
-			ws.showProblem("Cannot export", fmt.Sprintf("no-data value %q is not a number.", noData.Text), "type 0 for black, 1 for white, or NaN for a 32-bit float export.")
-			return
-		}
-		opts.NoData = nd
-		frames := []*recon.Frame{ws.result.Frames[ws.frameIndex]}
-		if which.Selected == "All frames" {
-			frames = ws.result.Frames
-		}
-		ws.runExport(exportPlan(strings.TrimSpace(pathEntry.Text), frames, opts))
-	}, ws.win)
-	d.Resize(fyne.NewSize(620, 560))
-	d.Show()
 }
 
-func (ws *Workstation) defaultExportPath() string {
-	dir, name := "", "spotloom-demo"
+func (ws *Workstation) newExportForm() *exportForm {
+	if ws.result == nil || len(ws.result.Frames) == 0 {
+		ws.showProblem("Nothing to export", "no frame has been built yet.", "open a capture first.")
+		return nil
+	}
+	f := &exportForm{ws: ws, folder: widget.NewEntry(), name: widget.NewEntry()}
+	f.which = widget.NewRadioGroup([]string{"The frame shown", "All frames"}, nil)
+	f.which.SetSelected("The frame shown")
+	if len(ws.result.Frames) < 2 {
+		f.which.Disable()
+	}
+	dir, name := ws.defaultExportPlace()
+	f.folder.SetText(dir)
+	f.name.SetText(name)
+	f.format = widget.NewSelect([]string{"TIFF", "PNG"}, func(format string) {
+		ext := ".tiff"
+		if format == "PNG" {
+			ext = ".png"
+		}
+		n := f.name.Text
+		f.name.SetText(strings.TrimSuffix(n, filepath.Ext(n)) + ext)
+	})
+	f.format.SetSelected("TIFF")
+	browse := widget.NewButton("Folder…", func() { ws.chooseFolder(f.folder) })
+	f.depth = widget.NewSelect([]string{"16-bit grey (tone applied)", "8-bit grey (tone applied)", "32-bit float (frame values, TIFF)"}, nil)
+	f.depth.SetSelected("16-bit grey (tone applied)")
+	f.compression = widget.NewSelect([]string{"deflate", "lzw", "none"}, nil)
+	f.compression.SetSelected("deflate")
+	f.useTone = widget.NewCheck("use the tone of the view (else automatic per frame)", nil)
+	f.useTone.SetChecked(true)
+	f.scaleBar = widget.NewEntry()
+	f.scaleBar.SetText("auto")
+	f.scaleBar.SetPlaceHolder("mm, auto or none")
+	f.caption = widget.NewEntry()
+	f.caption.SetPlaceHolder("text burned into the corner (optional)")
+	f.noData = widget.NewEntry()
+	f.noData.SetText("0")
+	items := []*widget.FormItem{
+		widget.NewFormItem("Frames", f.which),
+		widget.NewFormItem("Folder", container.NewBorder(nil, nil, nil, browse, f.folder)),
+		widget.NewFormItem("Name", f.name),
+		widget.NewFormItem("Format", f.format),
+		widget.NewFormItem("Samples", f.depth),
+		widget.NewFormItem("Compression", f.compression),
+		widget.NewFormItem("Tone", f.useTone),
+		widget.NewFormItem("Scale bar", f.scaleBar),
+		widget.NewFormItem("Caption", f.caption),
+		widget.NewFormItem("No-data value", f.noData),
+	}
+	f.dialog = dialog.NewForm("Export frames", "Export", "Cancel", items, func(ok bool) {
+		if ok {
+			f.export()
+		}
+	}, ws.win)
+	f.dialog.Resize(fyne.NewSize(620, 600))
+	return f
+}
+
+// path is where the export lands: the name inside the folder field.
+func (f *exportForm) path() string { return inFolder(f.folder.Text, f.name.Text) }
+
+// plan reads the fields; a field that cannot be used is named in problem.
+func (f *exportForm) plan() (plan []exportRequest, problem, try string) {
+	ws := f.ws
+	if strings.TrimSpace(f.name.Text) == "" {
+		return nil, "the export needs a file name.", "type one ending in .tiff or .png."
+	}
+	opts := export.Options{Compression: f.compression.Selected, Caption: strings.TrimSpace(f.caption.Text)}
+	switch f.depth.Selected {
+	case "8-bit grey (tone applied)":
+		opts.Depth = 8
+	case "32-bit float (frame values, TIFF)":
+		opts.Depth, opts.Raw = 32, true
+	default:
+		opts.Depth = 16
+	}
+	if f.useTone.Checked {
+		opts.Tone = ws.cur.Tone
+	}
+	switch s := strings.ToLower(strings.TrimSpace(f.scaleBar.Text)); s {
+	case "auto", "":
+		opts.ScaleBarMM = -1
+	case "none", "0":
+		opts.ScaleBarMM = 0
+	default:
+		v, err := parseNumber(s)
+		if err != nil || v <= 0 {
+			return nil, fmt.Sprintf("scale bar %q is not a length in mm.", f.scaleBar.Text), "type a length such as 50, or auto, or none."
+		}
+		opts.ScaleBarMM = v
+	}
+	if opts.Raw {
+		opts.ScaleBarMM = 0
+		opts.Caption = ""
+	}
+	nd, err := strconv.ParseFloat(strings.TrimSpace(f.noData.Text), 64)
+	if err != nil {
+		return nil, fmt.Sprintf("no-data value %q is not a number.", f.noData.Text), "type 0 for black, 1 for white, or NaN for a 32-bit float export."
+	}
+	opts.NoData = nd
+	frames := []*recon.Frame{ws.result.Frames[ws.frameIndex]}
+	if f.which.Selected == "All frames" {
+		frames = ws.result.Frames
+	}
+	return exportPlan(f.path(), frames, opts), "", ""
+}
+
+// export writes the plan, or brings the dialog back with what was typed
+// and says which field is wrong.
+func (f *exportForm) export() {
+	plan, problem, try := f.plan()
+	if problem != "" {
+		f.ws.problemOver(f.dialog, "Cannot export", problem, try)
+		return
+	}
+	f.ws.runExport(plan)
+}
+
+// defaultExportPlace is the folder and name the export dialog offers: the
+// capture's folder and name (the working folder for the demo).
+func (ws *Workstation) defaultExportPlace() (dir, name string) {
+	name = "spotloom-demo"
 	if ws.sourcePath != "" {
 		dir = filepath.Dir(ws.sourcePath)
 		name = strings.TrimSuffix(filepath.Base(ws.sourcePath), filepath.Ext(ws.sourcePath))
 	} else if wd, err := os.Getwd(); err == nil {
 		dir = wd
 	}
-	return filepath.Join(dir, name+".tiff")
+	return dir, name + ".tiff"
 }
 
 // runExport writes the requests in turn off the UI goroutine. A file that

@@ -1,6 +1,7 @@
 package ui
 
 import (
+	"errors"
 	"fmt"
 	"path/filepath"
 	"strconv"
@@ -178,49 +179,62 @@ func (p *sourcePanel) rolesChanged() {
 	})
 }
 
+// rawLayoutForm is the raw-layout dialog's fields, in the order shown.
+type rawLayoutForm struct {
+	ws                                    *Workstation
+	file                                  *widget.Entry
+	sampleType, byteOrder                 *widget.Select
+	channels, header, rate, scale, offset *widget.Entry
+	interleaved                           *widget.Check
+	dialog                                *dialog.FormDialog
+}
+
 // askRawLayout asks how a raw sample file is laid out and opens it with
 // that layout. With path "" it first asks for the file.
-func (ws *Workstation) askRawLayout(path string) {
-	fileEntry := widget.NewEntry()
-	fileEntry.SetText(path)
-	fileEntry.SetPlaceHolder("/path/to/capture.bin")
+func (ws *Workstation) askRawLayout(path string) { ws.newRawLayoutForm(path).dialog.Show() }
+
+func (ws *Workstation) newRawLayoutForm(path string) *rawLayoutForm {
+	f := &rawLayoutForm{ws: ws}
+	f.file = widget.NewEntry()
+	f.file.SetText(path)
+	f.file.SetPlaceHolder("/path/to/capture.bin")
 	browse := widget.NewButton("Choose…", func() {
 		d := dialog.NewFileOpen(func(rc fyne.URIReadCloser, err error) {
 			if err != nil || rc == nil {
 				return
 			}
-			fileEntry.SetText(rc.URI().Path())
+			f.file.SetText(rc.URI().Path())
 			rc.Close()
 		}, ws.win)
 		d.Resize(fyne.NewSize(820, 560))
 		d.Show()
 	})
-	sampleType := widget.NewSelect([]string{"int8", "uint8", "int16", "uint16", "int32", "uint32", "float32", "float64"}, nil)
-	sampleType.SetSelected("int16")
-	byteOrder := widget.NewSelect([]string{"little", "big"}, nil)
-	byteOrder.SetSelected("little")
-	channels := widget.NewEntry()
-	channels.SetText("3")
-	interleaved := widget.NewCheck("frame after frame (ch0 ch1 ch2 ch0 …)", nil)
-	interleaved.SetChecked(true)
-	header := widget.NewEntry()
-	header.SetText("0")
-	rate := widget.NewEntry()
-	rate.SetPlaceHolder("e.g. 200000")
-	scale := widget.NewEntry()
-	scale.SetPlaceHolder("volts per count, blank = full scale ±1")
-	offset := widget.NewEntry()
-	offset.SetPlaceHolder("volts, blank = 0")
+	f.sampleType = widget.NewSelect([]string{"int8", "uint8", "int16", "uint16", "int32", "uint32", "float32", "float64"}, nil)
+	f.sampleType.SetSelected("int16")
+	f.byteOrder = widget.NewSelect([]string{"little", "big"}, nil)
+	f.byteOrder.SetSelected("little")
+	f.channels = widget.NewEntry()
+	f.channels.SetText("3")
+	f.interleaved = widget.NewCheck("frame after frame (ch0 ch1 ch2 ch0 …)", nil)
+	f.interleaved.SetChecked(true)
+	f.header = widget.NewEntry()
+	f.header.SetText("0")
+	f.rate = widget.NewEntry()
+	f.rate.SetPlaceHolder("e.g. 200000")
+	f.scale = widget.NewEntry()
+	f.scale.SetPlaceHolder("volts per count, blank = full scale ±1")
+	f.offset = widget.NewEntry()
+	f.offset.SetPlaceHolder("volts, blank = 0")
 	items := []*widget.FormItem{
-		widget.NewFormItem("File", container.NewBorder(nil, nil, nil, browse, fileEntry)),
-		widget.NewFormItem("Sample type", sampleType),
-		widget.NewFormItem("Byte order", byteOrder),
-		widget.NewFormItem("Channels", channels),
-		widget.NewFormItem("Interleaved", interleaved),
-		widget.NewFormItem("Header bytes", header),
-		widget.NewFormItem("Sample rate (Hz)", rate),
-		widget.NewFormItem("Scale", scale),
-		widget.NewFormItem("Offset", offset),
+		widget.NewFormItem("File", container.NewBorder(nil, nil, nil, browse, f.file)),
+		widget.NewFormItem("Sample type", f.sampleType),
+		widget.NewFormItem("Byte order", f.byteOrder),
+		widget.NewFormItem("Channels", f.channels),
+		widget.NewFormItem("Interleaved", f.interleaved),
+		widget.NewFormItem("Header bytes", f.header),
+		widget.NewFormItem("Sample rate (Hz)", f.rate),
+		widget.NewFormItem("Scale", f.scale),
+		widget.NewFormItem("Offset", f.offset),
 	}
 	if path != "" {
 		why := widget.NewLabel(filepath.Base(path) + " holds bare samples and no " +
@@ -229,23 +243,35 @@ func (ws *Workstation) askRawLayout(path string) {
 		why.Wrapping = fyne.TextWrapWord
 		items = append([]*widget.FormItem{widget.NewFormItem("", why)}, items...)
 	}
-	d := dialog.NewForm("Raw sample layout", "Open", "Cancel", items, func(ok bool) {
-		if !ok {
-			return
+	f.dialog = dialog.NewForm("Raw sample layout", "Open", "Cancel", items, func(ok bool) {
+		if ok {
+			f.open()
 		}
-		layout, err := readLayoutForm(sampleType.Selected, byteOrder.Selected, channels.Text, interleaved.Checked, header.Text, rate.Text, scale.Text, offset.Text)
-		if err != nil {
-			ws.showProblem("Cannot use this layout", err.Error(), "correct the field and open again.")
-			return
-		}
-		if strings.TrimSpace(fileEntry.Text) == "" {
-			ws.showProblem("No file chosen", "the layout form needs the raw file to open.", "type its path or press Choose….")
-			return
-		}
-		ws.openWith(strings.TrimSpace(fileEntry.Text), capture.Options{Layout: &layout}, nil)
 	}, ws.win)
-	d.Resize(fyne.NewSize(560, 520))
-	d.Show()
+	f.dialog.Resize(fyne.NewSize(560, 520))
+	return f
+}
+
+// check reads the fields in the order they appear and names the first
+// one that cannot be used.
+func (f *rawLayoutForm) check() (string, capture.RawLayout, error) {
+	path := expandPath(f.file.Text)
+	if path == "" {
+		return "", capture.RawLayout{}, errors.New("file: type the raw file's path or press Choose…")
+	}
+	layout, err := readLayoutForm(f.sampleType.Selected, f.byteOrder.Selected, f.channels.Text, f.interleaved.Checked, f.header.Text, f.rate.Text, f.scale.Text, f.offset.Text)
+	return path, layout, err
+}
+
+// open opens the file with the layout typed; after an error the dialog
+// comes back with everything as it was typed.
+func (f *rawLayoutForm) open() {
+	path, layout, err := f.check()
+	if err != nil {
+		f.ws.problemOver(f.dialog, "Cannot use this layout", err.Error()+".", "correct the field and open again.")
+		return
+	}
+	f.ws.openWith(path, capture.Options{Layout: &layout}, nil)
 }
 
 func readLayoutForm(sampleType, byteOrder, channels string, interleaved bool, header, rate, scale, offset string) (capture.RawLayout, error) {
