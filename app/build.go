@@ -113,12 +113,9 @@ func runBuild(args []string, stdout, stderr io.Writer) error {
 		return forceHint(err)
 	}
 
-	r, err := recipe.Load(bf.recipePath)
+	r, err := loadRecipe(bf.recipePath)
 	if err != nil {
 		return err
-	}
-	if err := r.Validate(); err != nil {
-		return fmt.Errorf("%s: %w", bf.recipePath, err)
 	}
 	ctx, stop := interruptContext()
 	defer stop()
@@ -218,6 +215,19 @@ func (bf *buildFlags) exportOptions(fs *flag.FlagSet) (export.Options, error) {
 		opts.NoData = math.NaN()
 	}
 	return opts, nil
+}
+
+// loadRecipe reads a recipe file and checks it, naming the file in any
+// error.
+func loadRecipe(path string) (recipe.Recipe, error) {
+	r, err := recipe.Load(path)
+	if err != nil {
+		return r, err
+	}
+	if err := r.Validate(); err != nil {
+		return r, fmt.Errorf("%s: %w", path, err)
+	}
+	return r, nil
 }
 
 // forceHint adds what to do when the output exists.

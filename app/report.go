@@ -1,21 +1,17 @@
 package main
 
 import (
-	"context"
 	"encoding/json"
 	"fmt"
 	"io"
 	"os"
-	"os/signal"
 	"path/filepath"
 	"strings"
 	"time"
 
-	"spotloom/capture"
 	"spotloom/recon"
 	"spotloom/recon/export"
 	"spotloom/recon/measure"
-	"spotloom/recon/recipe"
 )
 
 func init() {
@@ -85,25 +81,22 @@ func runReport(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 	}
-	r, err := recipe.Load(recipePath)
+	r, err := loadRecipe(recipePath)
 	if err != nil {
 		return err
 	}
-	if err := r.Validate(); err != nil {
-		return fmt.Errorf("%s: %w", recipePath, err)
-	}
+	ctx, stop := interruptContext()
+	defer stop()
 	progress := newProgress(stderr)
 	defer progress.Done()
 	captureOpts.Progress = func(fraction float64) { progress.Report("reading", fraction) }
-	rec, err := capture.Open(positional[0], captureOpts)
+	rec, err := openCapture(ctx, positional[0], captureOpts)
 	if err != nil {
 		return err
 	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
-	defer stop()
 	res, err := recon.NewSession(rec).Build(ctx, r, progress.Report)
 	if err != nil {
-		return fmt.Errorf("%s: %w", positional[0], err)
+		return interrupted(ctx, fmt.Errorf("%s: %w", positional[0], err))
 	}
 	if page > len(res.Frames) {
 		return fmt.Errorf("%s: the recipe makes %d frame(s), not %d", positional[0], len(res.Frames), page)
