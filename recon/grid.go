@@ -205,6 +205,7 @@ type gridInput struct {
 	pitch         float64
 	invert        bool
 	fill          int
+	maxGapMM      float64 // widest gap between lines filled down a column
 	clipHi        float32
 	clipLo        float32 // -Inf when the low end cannot clip
 	yTop, yBottom float64 // frame extent in y, mm
@@ -304,9 +305,11 @@ func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, er
 			f.Covered[i] = true
 		}
 	}
-	if in.fill > 0 {
-		fillGaps(f, in.fill)
-	}
+	// Down a column, rows between two lines at most maxGapMM apart are
+	// interpolated between them: covered pixel centres N+1 pitches apart
+	// hold N empty rows.
+	down := max(in.fill, int(math.Floor(in.maxGapMM/p+1e-9))-1)
+	fillGaps(f, down, in.fill)
 	// Rows with gaps: inside the covered span of rows, under half the
 	// columns that a typical row covers.
 	perRow := make([]int, rows)
@@ -514,11 +517,15 @@ func splatLine(in gridInput, l *placedLine, sum, wt []float64, cols, rows int, x
 	return clipped, ties
 }
 
-// fillGaps fills runs of at most maxRun uncovered pixels that have covered
-// pixels on both sides, first down each column, then along each row, by
-// linear interpolation between the two ends. Wider holes stay no-data.
-func fillGaps(f *Frame, maxRun int) {
-	fillRuns := func(n, stride, count, step int) {
+// fillGaps fills runs of uncovered pixels that have covered pixels on both
+// sides, first down each column (runs of at most down pixels), then along
+// each row (at most along), by linear interpolation between the two ends.
+// Wider holes stay no-data.
+func fillGaps(f *Frame, down, along int) {
+	fillRuns := func(n, stride, count, step, maxRun int) {
+		if maxRun <= 0 {
+			return
+		}
 		for line := 0; line < count; line++ {
 			base := line * step
 			prev := -1
@@ -541,6 +548,6 @@ func fillGaps(f *Frame, maxRun int) {
 			}
 		}
 	}
-	fillRuns(f.Height, f.Width, f.Width, 1) // down each column
-	fillRuns(f.Width, 1, f.Height, f.Width) // along each row
+	fillRuns(f.Height, f.Width, f.Width, 1, down)  // down each column
+	fillRuns(f.Width, 1, f.Height, f.Width, along) // along each row
 }

@@ -270,6 +270,9 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 	if r.Image.PitchMM == 0 {
 		r.Image.PitchMM = autoPitch(t, rows, r.Sweep, s.rec.SampleRateHz)
 	}
+	if r.Image.MaxGapMM == nil {
+		r.Image.MaxGapMM = recipe.Float(autoMaxGap(t, rows, r.Sweep))
+	}
 	return &resolved{r: r, ch: ch, aperturesSeen: aperturesSeen}, warns, nil
 }
 
@@ -388,13 +391,47 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 	return d, w, nil
 }
 
-// autoPitch picks a pixel size near the spacing of neighbouring lines and
-// of samples along a line, rounded up to 1, 2 or 5 times a power of ten.
-func autoPitch(t *timingResult, rows *rowsResult, sw recipe.Sweep, rate float64) float64 {
+// lineSpacings is the cross-scan distance between each line and the next,
+// mm.
+func lineSpacings(t *timingResult, rows *rowsResult) []float64 {
 	var dys []float64
 	for i := 1; i < len(t.lines); i++ {
 		dys = append(dys, math.Abs(rows.at(t.lines[i].edge)-rows.at(t.lines[i-1].edge)))
 	}
+	return dys
+}
+
+// autoMaxGap is the automatic image.max_gap_mm: four times the median
+// spacing of neighbouring lines while the head moves (spacings under a
+// tenth of the mean are rests and turns, and are left out), so a fast
+// stretch of a hand scan is filled and a jump of the head is not. The
+// sine law's two lines per period halve the spacing.
+func autoMaxGap(t *timingResult, rows *rowsResult, sw recipe.Sweep) float64 {
+	dys := lineSpacings(t, rows)
+	if len(dys) == 0 {
+		return 0
+	}
+	mean := meanOf(dys)
+	var moving []float64
+	for _, d := range dys {
+		if d > 0.1*mean {
+			moving = append(moving, d)
+		}
+	}
+	if len(moving) == 0 {
+		return 0
+	}
+	v := 4 * median(moving)
+	if sw.Law == "sine" {
+		v /= 2
+	}
+	return v
+}
+
+// autoPitch picks a pixel size near the spacing of neighbouring lines and
+// of samples along a line, rounded up to 1, 2 or 5 times a power of ten.
+func autoPitch(t *timingResult, rows *rowsResult, sw recipe.Sweep, rate float64) float64 {
+	dys := lineSpacings(t, rows)
 	v := 0.0
 	if len(dys) > 0 {
 		v = median(dys)
@@ -706,7 +743,7 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 		}
 		f, st, _, err := gridFrame(ctx, gridInput{
 			det: det, recorded: recorded, lines: g, sweep: pl.sweep, rows: rows, pitch: r.Image.PitchMM,
-			invert: r.Signal.Invert, fill: r.Image.FillGapsPx, clipHi: hi, clipLo: clipLo,
+			invert: r.Signal.Invert, fill: r.Image.FillGapsPx, maxGapMM: *r.Image.MaxGapMM, clipHi: hi, clipLo: clipLo,
 			yTop: yTop, yBottom: yBottom, edge: pl.edge,
 			progress: func(f float64) { progress.report("gridding", (float64(gi)+f)/float64(len(groups))) },
 		})
@@ -745,7 +782,7 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 	}
 	warns = append(slices.Clone(s.rec.Warnings), warns...)
 	if totalGapRows > 0 {
-		warns = append(warns, gapWarning(lines, r.Image.PitchMM, r.Image.FillGapsPx, totalGapRows))
+		warns = append(warns, gapWarning(lines, r.Image.PitchMM, *r.Image.MaxGapMM, totalGapRows))
 	}
 	rep.Warnings = append([]string{}, warns...)
 	res.Report = rep
@@ -764,9 +801,10 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 	return res, nil
 }
 
-// gapWarning describes where the head outran the lines.
-func gapWarning(lines []placedLine, pitch float64, fill, gapRows int) string {
-	limit := float64(fill+1) * pitch
+// gapWarning describes where the head outran the lines: where two
+// neighbouring lines of a stroke lie further apart than the gap filled.
+func gapWarning(lines []placedLine, pitch, maxGapMM float64, gapRows int) string {
+	limit := math.Max(maxGapMM, pitch)
 	from, to := math.Inf(1), math.Inf(-1)
 	for i := 1; i < len(lines); i++ {
 		if lines[i].Stroke == lines[i-1].Stroke && math.Abs(lines[i].YMM-lines[i-1].YMM) > limit {
@@ -777,7 +815,7 @@ func gapWarning(lines []placedLine, pitch float64, fill, gapRows int) string {
 	if math.IsInf(from, 1) {
 		return fmt.Sprintf("%d rows have gaps where no line passed", gapRows)
 	}
-	return fmt.Sprintf("the head moved faster than one line per row between %.1f s and %.1f s: %d rows have gaps", from, to, gapRows)
+	return fmt.Sprintf("the head moved more than image.max_gap_mm (%.3g mm) from one line to the next between %.1f s and %.1f s: %d rows have gaps", limit, from, to, gapRows)
 }
 
 // automaticSpeed is the head speed assumed when the recipe gives neither a

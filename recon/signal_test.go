@@ -95,8 +95,9 @@ func TestClippingReported(t *testing.T) {
 	}
 }
 
-// A head that moves faster than one line per row leaves rows without data
-// (not stretched lines) and says where.
+// A head that jumps further between two lines than image.max_gap_mm (here
+// automatic: four times the 1.5 mm spacing while the head moves, 6 mm)
+// leaves rows without data (not stretched lines) and says where.
 func TestFastMotionLeavesGaps(t *testing.T) {
 	rig := baseRig()
 	// 30 mm/s, then 400 mm/s from 1.0 s to 1.2 s: lines 20 mm apart.
@@ -114,7 +115,7 @@ func TestFastMotionLeavesGaps(t *testing.T) {
 		t.Fatal(err)
 	}
 	w := strings.Join(res.Report.Warnings, " ")
-	if !strings.Contains(w, "the head moved faster than one line per row between 1.0 s and 1.") || !strings.Contains(w, "rows have gaps") {
+	if !strings.Contains(w, "image.max_gap_mm (6 mm) from one line to the next between 1.0 s and 1.") || !strings.Contains(w, "rows have gaps") {
 		t.Errorf("warnings %q", res.Report.Warnings)
 	}
 	f := res.Frames[0]
@@ -143,7 +144,7 @@ func TestFillGaps(t *testing.T) {
 	set(0, 1)
 	set(3, 4) // hole of 2: filled linearly
 	set(8, 9) // hole of 4: stays
-	fillGaps(f, 2)
+	fillGaps(f, 2, 2)
 	for i, want := range []float32{1, 2, 3, 4} {
 		if !f.Covered[i] || math.Abs(float64(f.Pix[i]-want)) > 1e-6 {
 			t.Errorf("pixel %d: %v %g, want %g", i, f.Covered[i], f.Pix[i], want)

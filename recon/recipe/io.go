@@ -148,6 +148,7 @@ func (r Recipe) Clone() Recipe {
 	c.Rows.CarrierHz = clonePtr(r.Rows.CarrierHz)
 	c.Rows.MMPerStep = clonePtr(r.Rows.MMPerStep)
 	c.Rows.SpeedMMS = clonePtr(r.Rows.SpeedMMS)
+	c.Image.MaxGapMM = clonePtr(r.Image.MaxGapMM)
 	if r.Sweep.ApertureOffsetsDeg != nil {
 		c.Sweep.ApertureOffsetsDeg = append([]float64{}, r.Sweep.ApertureOffsetsDeg...)
 	}

@@ -115,6 +115,12 @@ type Signal struct {
 type Image struct {
 	PitchMM    float64 `json:"pitch_mm"`
 	FillGapsPx int     `json:"fill_gaps_px"`
+	// MaxGapMM is the widest cross-scan gap between two neighbouring
+	// lines that is filled by interpolating down the columns between
+	// them; a wider one stays no data and is warned about. nil =
+	// automatic: four times the typical spacing of the lines while the
+	// head moves.
+	MaxGapMM *float64 `json:"max_gap_mm"`
 }
 
 // Recipe holds every reconstruction parameter; a frame can be rebuilt

@@ -94,6 +94,7 @@ func TestValidateNamesKeyAndAllowedValues(t *testing.T) {
 		{func(r *Recipe) { r.Sweep.Law = "table" }, `"sweep.table" has 0 points`},
 		{func(r *Recipe) { r.Sweep.ApertureOffsetsDeg = []float64{1} }, `"sweep.aperture_offsets_deg" has 1 values`},
 		{func(r *Recipe) { r.Image.PitchMM = -1 }, `"image.pitch_mm" is -1`},
+		{func(r *Recipe) { r.Image.MaxGapMM = Float(-1) }, `"image.max_gap_mm" is -1`},
 	} {
 		r := Default()
 		c.edit(&r)
