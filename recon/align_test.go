@@ -58,8 +58,7 @@ func TestAutomaticAlignmentAgainstTruth(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		rmsAuto, _, _, _ := truthDotFit(t, auto.Frames[0], truth.Dots, truth.DotDiameterMM)
-		rmsKnown, _, _, _ := truthDotFit(t, known.Frames[0], truth.Dots, truth.DotDiameterMM)
+		rmsAuto, rmsKnown := dotRMS(t, auto, truth), dotRMS(t, known, truth)
 		t.Logf("%s: worst field start error %.4f°; dot centres %.3f mm RMS automatic, %.3f mm with the truth given; warnings %q",
 			c.name, worst, rmsAuto, rmsKnown, auto.Report.Warnings)
 		// "As well as": within a tenth of the RMS, or 0.02 mm (a
@@ -159,12 +158,7 @@ func TestFieldEdgesKeepTheirBrightness(t *testing.T) {
 // frame is striped.
 func TestFinePitchHasNoStripes(t *testing.T) {
 	ctx := context.Background()
-	rig := handRig()
-	rec, truth, err := sampledata.Simulate(ctx, rig, "dot-grid", sampledata.SimOptions{Seed: 7})
-	if err != nil {
-		t.Fatal(err)
-	}
-	s := NewSession(rec)
+	rig, s, truth := handDotGrid(t)
 	r := rig.Recipe()
 	r.Sweep.ApertureOffsetsDeg = nil
 	coarse, err := s.Build(ctx, r, nil)
@@ -225,8 +219,7 @@ func TestFinePitchHasNoStripes(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		rmsCoarse, _, _, _ := truthDotFit(t, coarse.Frames[0], truth.Dots, truth.DotDiameterMM)
-		rmsFine, _, _, _ := truthDotFit(t, res.Frames[0], truth.Dots, truth.DotDiameterMM)
+		rmsCoarse, rmsFine := dotRMS(t, coarse, truth), dotRMS(t, res, truth)
 		t.Logf("line spacing %.3f mm, pitch %.3f mm, max gap %.3f mm: %d striped rows (%d without filling); dot centres %.3f mm RMS fine, %.3f mm coarse; warnings %q",
 			spacing, fine.Image.PitchMM, *res.Recipe.Image.MaxGapMM, striped(res), striped(before), rmsFine, rmsCoarse, res.Report.Warnings)
 		if n := striped(res); n > 0 {
@@ -241,9 +234,9 @@ func TestFinePitchHasNoStripes(t *testing.T) {
 			}
 		}
 		// At a quarter of the spacing a pixel holds about one sample along
-	// the sweep, and the centroids get noisy: only the half is held to
-	// the coarse accuracy.
-	if c.fraction == 0.5 && rmsFine > rmsCoarse+0.05 {
+		// the sweep, and the centroids get noisy: only the half is held to
+		// the coarse accuracy.
+		if c.fraction == 0.5 && rmsFine > rmsCoarse+0.05 {
 			t.Errorf("dot centres %.3f mm RMS at %.3f mm pitch, %.3f mm at 1 mm", rmsFine, fine.Image.PitchMM, rmsCoarse)
 		}
 	}

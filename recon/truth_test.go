@@ -127,14 +127,29 @@ func lineSlope(a, b []float64) float64 {
 	return num / den
 }
 
-func TestDotGridAgainstTruth(t *testing.T) {
-	ctx := context.Background()
+// handDotGrid is the dot grid scanned by the hand rig (seed 7), in a new
+// session, with its truth.
+func handDotGrid(t *testing.T) (sampledata.Rig, *Session, *sampledata.Truth) {
+	t.Helper()
 	rig := handRig()
-	rec, truth, err := sampledata.Simulate(ctx, rig, "dot-grid", sampledata.SimOptions{Seed: 7})
+	rec, truth, err := sampledata.Simulate(context.Background(), rig, "dot-grid", sampledata.SimOptions{Seed: 7})
 	if err != nil {
 		t.Fatal(err)
 	}
-	s := NewSession(rec)
+	return rig, NewSession(rec), truth
+}
+
+// dotRMS is the RMS distance of the first frame's dot centres from the
+// truth's after a translation fit (truthDotFit).
+func dotRMS(t *testing.T, res *Result, truth *sampledata.Truth) float64 {
+	t.Helper()
+	rms, _, _, _ := truthDotFit(t, res.Frames[0], truth.Dots, truth.DotDiameterMM)
+	return rms
+}
+
+func TestDotGridAgainstTruth(t *testing.T) {
+	ctx := context.Background()
+	rig, s, truth := handDotGrid(t)
 	r := rig.Recipe()
 	r.Rows.Strokes = "merge"
 
