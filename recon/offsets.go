@@ -55,16 +55,17 @@ func (s *Session) offsetStage(ctx context.Context, r recipe.Recipe, ch channels,
 		AC     float64
 		Invert bool
 	}{s.timingKey, ch.detector, sw, r.Signal.ACCornerHz, r.Signal.Invert})
-	if s.offsetsKey == k {
-		return slices.Clone(s.offsets), s.offsetsErr
+	if o, ok := s.offsets.get(k); ok {
+		return slices.Clone(o.offsets), o.err
 	}
 	rough := r.Clone()
 	rough.Sweep.ApertureOffsetsDeg = []float64{}
 	rough.Sweep.DelayDeg = nil
 	d, cache := 0.0, true
-	if sw.Law != "table" {
+	if sw.Law != recipe.LawTable {
 		var err error
-		if d, _, err = s.delayStage(ctx, rough, ch, t); err != nil {
+		var found delayFound
+		if found, err = s.delayStage(ctx, rough, ch, t); err != nil {
 			if ctx.Err() != nil || r.Sweep.DelayDeg == nil {
 				return nil, err
 			}
@@ -72,6 +73,8 @@ func (s *Session) offsetStage(ctx context.Context, r recipe.Recipe, ch channels,
 			// little back): the delay given by hand places it, and the
 			// result then depends on it, so it is not kept.
 			d, cache = *r.Sweep.DelayDeg, false
+		} else {
+			d = found.DelayDeg
 		}
 	}
 	sw.DelayDeg = &d
@@ -84,17 +87,25 @@ func (s *Session) offsetStage(ctx context.Context, r recipe.Recipe, ch channels,
 		return nil, err
 	}
 	if cache {
-		s.offsets, s.offsetsErr, s.offsetsKey = offsets, err, k
+		// That the offsets cannot be measured is a finding too.
+		s.offsets.put(k, offsetsFound{offsets, err})
 	}
 	s.runs["offsets"]++
 	return slices.Clone(offsets), err
+}
+
+// offsetsFound is what the offset estimate finds: one offset per
+// aperture, or why they could not be measured.
+type offsetsFound struct {
+	offsets []float64
+	err     error
 }
 
 // resolveOffsets fills in sweep.aperture_offsets_deg when it is null: the
 // estimate from the image, or all zero with a warning when the scene has
 // too little detail to measure them.
 func (s *Session) resolveOffsets(ctx context.Context, r *recipe.Recipe, ch channels, t *timingResult) ([]string, error) {
-	if r.Sweep.Law == "sine" {
+	if r.Sweep.Law == recipe.LawSine {
 		r.Sweep.ApertureOffsetsDeg = []float64{}
 		return nil, nil
 	}

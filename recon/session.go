@@ -2,7 +2,6 @@ package recon
 
 import (
 	"context"
-	"encoding/json"
 	"fmt"
 	"math"
 	"slices"
@@ -72,17 +71,11 @@ type Session struct {
 	// rowsResolvedKey is the key with the carrier found written in.
 	rowsResolvedKey string
 	rows            *rowsResult
-	delayKey        string
-	delay           float64
-	delayWarn       []string
-	delayNegative   bool          // the detector's beam-on level lies below its beam-off level
-	delayApertures  int           // aperture count the beam-on fraction implies, 0 when it fits
+	delays          *memo[delayFound]
 	acKey           string        // channel and corner of acDet
 	acDet           []float32     // the detector with its AC coupling undone
 	acStats         *channelStats // statistics of acDet
-	offsetsKey      string
-	offsets         []float64 // estimated aperture offsets
-	offsetsErr      error     // why they could not be estimated
+	offsets         *memo[offsetsFound]
 	placeKey        string
 	place           *placement
 	gridKey         string
@@ -97,7 +90,7 @@ type Session struct {
 
 // NewSession starts a session on a recording.
 func NewSession(rec *capture.Recording) *Session {
-	return &Session{rec: rec, chanStats: map[int]*channelStats{}, runs: map[string]int{}}
+	return &Session{rec: rec, chanStats: map[int]*channelStats{}, runs: map[string]int{}, delays: newMemo[delayFound](4), offsets: newMemo[offsetsFound](4)}
 }
 
 // Recording returns the session's recording.
@@ -160,13 +153,6 @@ func (s *Session) resolveChannels(r *recipe.Recipe) (channels, error) {
 		seen[i] = role
 	}
 	return c, nil
-}
-
-// key is the cache key of a stage's parameters: their JSON, so only
-// exported fields count.
-func key(v any) string {
-	b, _ := json.Marshal(v)
-	return string(b)
 }
 
 // resolved carries everything the later stages need.
@@ -255,16 +241,16 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 	aperturesSeen := 0
 	if r.Sweep.DelayDeg == nil {
 		progress.report("delay", 0)
-		d, w, err := s.delayStage(ctx, r, ch, t)
+		d, err := s.delayStage(ctx, r, ch, t)
 		if err != nil {
 			return nil, nil, err
 		}
-		warns = append(warns, w...)
-		r.Sweep.DelayDeg = recipe.Float(d)
-		if s.delayNegative && !r.Signal.Invert {
+		warns = append(warns, d.Warnings...)
+		r.Sweep.DelayDeg = recipe.Float(d.DelayDeg)
+		if d.Negative && !r.Signal.Invert {
 			warns = append(warns, WarnNegativeDetector)
 		}
-		aperturesSeen = s.delayApertures
+		aperturesSeen = d.AperturesSeen
 		progress.report("delay", 1)
 	}
 	if r.Image.PitchMM == 0 {
@@ -344,51 +330,58 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 	return rows, nil
 }
 
-func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, t *timingResult) (float64, []string, error) {
+// delayFound is everything the delay stage finds: the delay, whether the
+// detector is negative-going, the aperture count its beam-on stretch
+// implies when that does not fit the recipe (else 0), and warnings.
+type delayFound struct {
+	DelayDeg      float64
+	Negative      bool
+	AperturesSeen int
+	Warnings      []string
+}
+
+// delayParams are the values the delay estimate depends on: the edges
+// (by their timing key), the detector as the engine sees it, and the
+// sweep.
+type delayParams struct {
+	Timing   string
+	Detector int
+	Law      recipe.Law
+	Field    float64
+	Aper     int
+	Offsets  []float64
+	Keep     float64
+	Period   *float64
+	AC       float64
+	Invert   bool
+}
+
+// delayStage finds the delay of r's sweep from the folded detector: a pure
+// function of the edges, the detector and the sweep, cached by them.
+func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, t *timingResult) (delayFound, error) {
 	sw := r.Sweep
 	if sw.Law == recipe.LawTable {
 		// A measured table is written against the index edge.
-		return 0, nil, nil
+		return delayFound{}, nil
 	}
-	p := struct {
-		T        string
-		Detector int
-		Law      recipe.Law
-		Field    float64
-		Aper     int
-		Offsets  []float64
-		Keep     float64
-		Period   *float64
-		AC       float64
-		Invert   bool
-	}{s.timingKey, ch.detector, sw.Law, sw.FieldDeg, sw.Apertures, sw.ApertureOffsetsDeg, sw.SineKeep, sw.SinePeriodS, r.Signal.ACCornerHz, r.Signal.Invert}
-	k := key(p)
-	if s.delayKey == k {
-		return s.delay, s.delayWarn, nil
-	}
-	det, _, derr := s.detector(ctx, ch.detector, r.Signal)
-	if derr != nil {
-		return 0, nil, derr
-	}
-	var d float64
-	var w []string
-	var err error
-	s.delayNegative, s.delayApertures = false, 0
-	if sw.Law == recipe.LawSine {
-		period := 0.0
-		if sw.SinePeriodS != nil {
-			period = *sw.SinePeriodS * s.rec.SampleRateHz
+	p := delayParams{s.timingKey, ch.detector, sw.Law, sw.FieldDeg, sw.Apertures, sw.ApertureOffsetsDeg, sw.SineKeep, sw.SinePeriodS, r.Signal.ACCornerHz, r.Signal.Invert}
+	return cachedStage(s.delays, s.runs, "delay", p, func() (delayFound, error) {
+		det, _, err := s.detector(ctx, ch.detector, r.Signal)
+		if err != nil {
+			return delayFound{}, err
 		}
-		d, w, err = estimateSineDelay(ctx, t, det, sw, period)
-	} else {
-		d, s.delayNegative, s.delayApertures, w, err = estimateDelay(ctx, t, det, sw, r.Signal.Invert)
-	}
-	if err != nil {
-		return 0, nil, err
-	}
-	s.delay, s.delayWarn, s.delayKey = d, w, k
-	s.runs["delay"]++
-	return d, w, nil
+		var d delayFound
+		if sw.Law == recipe.LawSine {
+			period := 0.0
+			if sw.SinePeriodS != nil {
+				period = *sw.SinePeriodS * s.rec.SampleRateHz
+			}
+			d.DelayDeg, d.Warnings, err = estimateSineDelay(ctx, t, det, sw, period)
+		} else {
+			d.DelayDeg, d.Negative, d.AperturesSeen, d.Warnings, err = estimateDelay(ctx, t, det, sw, r.Signal.Invert)
+		}
+		return d, err
+	})
 }
 
 // lineSpacings is the cross-scan distance between each line and the next,
