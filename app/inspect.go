@@ -125,25 +125,23 @@ confidence from 0 to 1.`, stderr)
 	}
 	progress := newProgress(stderr)
 	opts.Progress = func(f float64) { progress.Report("reading", f) }
-	rec, err := capture.Open(rest[0], opts)
+	sum, err := capture.Inspect(rest[0], opts)
 	progress.Done()
 	if err != nil {
 		return err
 	}
 	report := inspectReport{
-		Format:       rec.Source.Format,
-		SampleType:   rec.Source.SampleType,
-		SampleRateHz: rec.SampleRateHz,
-		Frames:       rec.Frames(),
-		DurationS:    rec.DurationS(),
+		Format:       sum.Source.Format,
+		SampleType:   sum.Source.SampleType,
+		SampleRateHz: sum.SampleRateHz,
+		Frames:       sum.Frames,
+		DurationS:    sum.DurationS(),
 		Channels:     []inspectChannel{},
-		Warnings:     append([]string{}, rec.Warnings...),
+		Warnings:     append([]string{}, sum.Warnings...),
 	}
-	roles := capture.GuessRoles(rec)
-	for c, ch := range rec.Channels {
-		st := ch.Stats()
-		report.Channels = append(report.Channels, inspectChannel{Name: ch.Name, Unit: ch.Unit, Min: st.Min, Max: st.Max,
-			Mean: st.Mean, RMS: st.RMS, Role: roles[c].Role, RoleConfidence: roles[c].Confidence})
+	for c, ch := range sum.Channels {
+		report.Channels = append(report.Channels, inspectChannel{Name: ch.Name, Unit: ch.Unit, Min: ch.Min, Max: ch.Max,
+			Mean: ch.Mean, RMS: ch.RMS, Role: sum.Roles[c].Role, RoleConfidence: sum.Roles[c].Confidence})
 	}
 	if *asJSON {
 		enc := json.NewEncoder(stdout)
@@ -152,10 +150,10 @@ confidence from 0 to 1.`, stderr)
 	}
 	tw := tabwriter.NewWriter(stdout, 0, 0, 2, ' ', 0)
 	bits := ""
-	if rec.Source.BitDepth > 0 {
-		bits = fmt.Sprintf(", %d-bit", rec.Source.BitDepth)
+	if sum.Source.BitDepth > 0 {
+		bits = fmt.Sprintf(", %d-bit", sum.Source.BitDepth)
 	}
-	fmt.Fprintf(tw, "file\t%s\n", rec.Source.Path)
+	fmt.Fprintf(tw, "file\t%s\n", sum.Source.Path)
 	fmt.Fprintf(tw, "format\t%s (%s%s)\n", report.Format, report.SampleType, bits)
 	fmt.Fprintf(tw, "sample rate\t%.10g Hz\n", report.SampleRateHz)
 	fmt.Fprintf(tw, "frames\t%d\n", report.Frames)

@@ -23,6 +23,9 @@ type Options struct {
 	// Progress, when not nil, is called now and then with the fraction of
 	// the file read so far.
 	Progress func(fraction float64)
+	// summary, when not nil, asks the WAV and raw readers to stream the
+	// samples into it instead of keeping them (Inspect).
+	summary *summarizer
 }
 
 // sniffBytes is how much of a file Open looks at to choose a reader.

@@ -41,8 +41,14 @@ func readRaw(r io.ReaderAt, size int64, l RawLayout, opts Options) (*Recording, 
 	dst := make([][]float32, l.Channels)
 	scales := make([]float32, l.Channels)
 	offsets := make([]float32, l.Channels)
+	sum := opts.summary
+	if sum != nil {
+		sum.start(l.Channels, frames)
+	}
 	for c := range dst {
-		dst[c] = make([]float32, frames)
+		if sum == nil {
+			dst[c] = make([]float32, frames)
+		}
 		s, o, unit := l.channelScale(c)
 		if kind != kindFloat32 && kind != kindFloat64 {
 			if peak := math.Abs(s)*math.Ldexp(1, 8*sampleBytes) + math.Abs(o); peak > math.MaxFloat32 {
@@ -64,7 +70,13 @@ func readRaw(r io.ReaderAt, size int64, l RawLayout, opts Options) (*Recording, 
 				decodeInto(dst[c][at:at+n], src[c*sampleBytes:], int(frameBytes), kind, big, scales[c], offsets[c])
 			}
 		}
-		if err := readFrames(r, l.HeaderBytes, frames, int(frameBytes), dst, conv, opts.Progress, "raw"); err != nil {
+		var err error
+		if sum != nil {
+			err = streamFrames(r, l.HeaderBytes, frames, int(frameBytes), l.Channels, 0, conv, opts.Progress, "raw", sum)
+		} else {
+			err = readFrames(r, l.HeaderBytes, frames, int(frameBytes), dst, conv, opts.Progress, "raw")
+		}
+		if err != nil {
 			return nil, err
 		}
 	} else {
@@ -78,14 +90,22 @@ func readRaw(r io.ReaderAt, size int64, l RawLayout, opts Options) (*Recording, 
 				progress = func(f float64) { opts.Progress((float64(c) + f) / float64(len(dst))) }
 			}
 			start := l.HeaderBytes + int64(c)*frames*int64(sampleBytes)
-			if err := readFrames(r, start, frames, sampleBytes, one, conv, progress, "raw"); err != nil {
+			var err error
+			if sum != nil {
+				err = streamFrames(r, start, frames, sampleBytes, 1, c, conv, progress, "raw", sum)
+			} else {
+				err = readFrames(r, start, frames, sampleBytes, one, conv, progress, "raw")
+			}
+			if err != nil {
 				return nil, err
 			}
 		}
 	}
-	if kind == kindFloat32 || kind == kindFloat64 {
+	if sum != nil {
+		rec.Warnings = append(rec.Warnings, sum.nonFiniteWarning()...)
+	} else if kind == kindFloat32 || kind == kindFloat64 {
 		if n := replaceNonFinite(dst); n > 0 {
-			rec.Warnings = append(rec.Warnings, fmt.Sprintf("%d samples were NaN or infinite and were set to 0", n))
+			rec.Warnings = append(rec.Warnings, nonFiniteText(n))
 		}
 	}
 	return rec, nil

@@ -72,13 +72,20 @@ func readStretch(r io.ReaderAt, start, first, last int64, frameBytes int, dst []
 	for at := first; at < last; {
 		n := min(perBlock, last-at)
 		b := buf[:n*int64(frameBytes)]
-		off := start + at*int64(frameBytes)
-		if got, err := r.ReadAt(b, off); err != nil && !(errors.Is(err, io.EOF) && got == len(b)) {
-			return &FormatError{Format: format, Place: AtByte(off + int64(got)), Problem: "file ends early: " + err.Error(), Expected: fmt.Sprintf("%d more bytes", int64(len(b)-got))}
+		if err := readBlock(r, b, start+at*int64(frameBytes), format); err != nil {
+			return err
 		}
 		conv(dst, int(at), b)
 		at += n
 		report(n)
+	}
+	return nil
+}
+
+// readBlock fills b from offset off, or says where the file ends early.
+func readBlock(r io.ReaderAt, b []byte, off int64, format string) error {
+	if got, err := r.ReadAt(b, off); err != nil && !(errors.Is(err, io.EOF) && got == len(b)) {
+		return &FormatError{Format: format, Place: AtByte(off + int64(got)), Problem: "file ends early: " + err.Error(), Expected: fmt.Sprintf("%d more bytes", int64(len(b)-got))}
 	}
 	return nil
 }

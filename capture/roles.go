@@ -74,7 +74,12 @@ func measureTraits(s []float32) signalTraits {
 	var sum, sumSq, diffSq float64
 	for i, v := range s {
 		x := float64(v)
-		lo, hi = math.Min(lo, x), math.Max(hi, x)
+		if x < lo {
+			lo = x
+		}
+		if x > hi {
+			hi = x
+		}
 		sum += x
 		sumSq += x * x
 		if i > 0 {

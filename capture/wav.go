@@ -337,17 +337,28 @@ func readWAV(r io.ReaderAt, size int64, opts Options) (*Recording, error) {
 		rec.Warnings = append(rec.Warnings, fmt.Sprintf("the data chunk at byte %d claims %s but the file ends %d bytes after its header (a recording that was never finished); the %d whole frames there were read, %.6g s",
 			data.offset, claimedSize(data.size), file.dataBytes, frames, float64(frames)/float64(f.sampleRate)))
 	}
+	for c := range rec.Channels {
+		rec.Channels[c] = Channel{Name: fmt.Sprintf("ch%d", c), Unit: UnitFullScale}
+	}
+	if sum := opts.summary; sum != nil {
+		sum.start(f.channels, frames)
+		if err := streamFrames(r, data.body(), frames, f.blockAlign, f.channels, 0, wavConverter(f, file.order), opts.Progress, "wav", sum); err != nil {
+			return nil, err
+		}
+		rec.Warnings = append(rec.Warnings, sum.nonFiniteWarning()...)
+		return rec, nil
+	}
 	dst := make([][]float32, f.channels)
 	for c := range rec.Channels {
 		dst[c] = make([]float32, frames)
-		rec.Channels[c] = Channel{Name: fmt.Sprintf("ch%d", c), Unit: UnitFullScale, Samples: dst[c]}
+		rec.Channels[c].Samples = dst[c]
 	}
 	if err := readFrames(r, data.body(), frames, f.blockAlign, dst, wavConverter(f, file.order), opts.Progress, "wav"); err != nil {
 		return nil, err
 	}
 	if f.tag == waveFormatIEEEFloat {
 		if n := replaceNonFinite(dst); n > 0 {
-			rec.Warnings = append(rec.Warnings, fmt.Sprintf("%d samples were NaN or infinite and were set to 0", n))
+			rec.Warnings = append(rec.Warnings, nonFiniteText(n))
 		}
 	}
 	return rec, nil
