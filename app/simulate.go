@@ -22,7 +22,7 @@ func init() {
 }
 
 const simulateDescription = `
-Scans one of the built-in scenes (parcel, dot-grid, edge-card, bars) with a
+Scans one of the built-in scenes (parcel, dot-grid, edge-card, bars, sheet) with a
 simulated flying-spot scanner and writes the capture as WAV, CSV or raw
 binary (with FILE.layout.json beside it). The rig is the demo rig unless
 --rig gives one; "spotloom simulate --print-rig" prints the demo rig as a

@@ -183,7 +183,7 @@ func TestToneNeedsPositiveAmplitude(t *testing.T) {
 
 func TestUnknownScene(t *testing.T) {
 	_, err := Scene("teapot")
-	if err == nil || !strings.Contains(err.Error(), "parcel, dot-grid, edge-card, bars") {
+	if err == nil || !strings.Contains(err.Error(), "parcel, dot-grid, edge-card, bars, sheet") {
 		t.Fatalf("err = %v", err)
 	}
 }

@@ -60,7 +60,7 @@ type Feature struct {
 }
 
 // SceneNames lists the built-in scenes.
-func SceneNames() []string { return []string{"parcel", "dot-grid", "edge-card", "bars"} }
+func SceneNames() []string { return []string{"parcel", "dot-grid", "edge-card", "bars", "sheet"} }
 
 // Scene returns a built-in scene by name.
 func Scene(name string) (SceneModel, error) {
@@ -73,6 +73,8 @@ func Scene(name string) (SceneModel, error) {
 		return edgeCardScene(), nil
 	case "bars":
 		return barsScene(), nil
+	case "sheet":
+		return uniformSheetScene(), nil
 	}
 	return SceneModel{}, fmt.Errorf("unknown scene %q; allowed: %s", name, strings.Join(SceneNames(), ", "))
 }

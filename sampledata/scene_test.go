@@ -29,7 +29,14 @@ func TestScenesRenderAtAnyPitch(t *testing.T) {
 				sum += float64(v)
 				lo, hi = math.Min(lo, float64(v)), math.Max(hi, float64(v))
 			}
-			if lo < 0 || hi > 1 || hi-lo < 0.3 {
+			switch {
+			case name == "sheet":
+				// The uniform sheet fills the raster: one yield, the
+				// sheet's, everywhere.
+				if lo != hi || math.Abs(lo-yieldSheet) > 1e-6 {
+					t.Errorf("%s at %g mm: yields from %g to %g, want %g everywhere", name, pitch, lo, hi, yieldSheet)
+				}
+			case lo < 0 || hi > 1 || hi-lo < 0.3:
 				t.Errorf("%s at %g mm: yields from %g to %g", name, pitch, lo, hi)
 			}
 			means = append(means, sum/float64(len(r.Pix)))

@@ -145,6 +145,26 @@ func edgeCardScene() SceneModel {
 	return s
 }
 
+// Uniform-sheet geometry: wider than the demo field and longer than its
+// travel, so every line of a scan crosses nothing else.
+const (
+	uniformSheetWMM = 700
+	uniformSheetHMM = 900
+)
+
+// uniformSheetScene is one flat scattering sheet filling the field, for
+// noise: any structure in its frame is the scanner's.
+func uniformSheetScene() SceneModel {
+	s := SceneModel{
+		Name:            "sheet",
+		Description:     "a uniform acrylic sheet filling the field, for noise measurement",
+		BackgroundYield: yieldAir,
+	}
+	s.Shapes = append(s.Shapes, shape("sheet", "acrylic", yieldSheet, 0,
+		boxDistance(0, 0, uniformSheetWMM, uniformSheetHMM, 0, 0), -uniformSheetWMM/2, -uniformSheetHMM/2, uniformSheetWMM/2, uniformSheetHMM/2))
+	return s
+}
+
 // barsLinePairsPerCM are the bar-group frequencies of the bars scene.
 var barsLinePairsPerCM = []float64{0.5, 1, 1.5, 2, 2.5, 3}
 

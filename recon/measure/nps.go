@@ -26,6 +26,10 @@ type NPSResult struct {
 	ROIs, ROISize int
 	// Variance is the variance of the detrended region.
 	Variance float64
+	// PowerSum is the 2-D spectrum summed over every frequency bin times
+	// the bin's area, which by Parseval's theorem is the ROIs' mean
+	// variance about their own means.
+	PowerSum float64
 }
 
 // maxROI is the ROI size IEC 62220-1-1:2015 §7.2.3 asks for (256 × 256).
@@ -114,6 +118,9 @@ func NPS(f *recon.Frame, r Rect) (NPSResult, error) {
 		return k
 	}
 	du, dv := 1/(float64(n)*f.PitchXMM), 1/(float64(n)*f.PitchYMM)
+	for _, p := range power {
+		res.PowerSum += p * du * dv
+	}
 
 	// Cuts along each axis: the mean of the lines 1 … 7 either side of
 	// the axis, the axis itself left out (IEC 62220-1-1:2015 §7.2.4).

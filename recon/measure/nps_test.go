@@ -42,6 +42,10 @@ func TestNPSOfWhiteNoise(t *testing.T) {
 		if res.ROISize != 128 || res.ROIs != 9 {
 			t.Errorf("%d ROIs of %d, want 9 of 128 (half-overlapping, §7.2.3)", res.ROIs, res.ROISize)
 		}
+		// Parseval: the spectrum's integral is the variance, σ².
+		if math.Abs(res.PowerSum-sigma*sigma)/(sigma*sigma) > 0.03 {
+			t.Errorf("trend %v: ∫NPS %.4f, σ² %.4f", trend, res.PowerSum, sigma*sigma)
+		}
 		all := mean(res.Radial)
 		if math.Abs(all-want)/want > 0.03 {
 			t.Errorf("trend %v: mean radial NPS %.5f mm², want σ²·px·py = %.5f", trend, all, want)

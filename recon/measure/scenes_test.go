@@ -5,6 +5,8 @@ import (
 	"math"
 	"testing"
 
+	"gonum.org/v1/gonum/stat"
+
 	"spotloom/recon"
 	"spotloom/recon/recipe"
 	"spotloom/sampledata"
@@ -128,4 +130,40 @@ func TestDotGridAgainstTruth(t *testing.T) {
 	}
 	t.Logf("%d dots (truth %d): scale %.5f × %.5f, rotation %.3f°, shear %.3f°, RMS %.3f mm, worst %.3f mm; %q",
 		g.Found, len(truth.Dots), g.ScaleX, g.ScaleY, g.RotationDeg, g.ShearDeg, g.RMSMM, g.MaxMM, c.Steps)
+}
+
+func TestUniformSheetNoise(t *testing.T) {
+	// The simulator's uniform sheet carries photon noise only. Parseval's
+	// theorem (closed form) makes the spectrum's integral the variance of
+	// the region about its trend; gonum's stat.Variance of the ROIs'
+	// pixels gives that variance independently. The engine's bilinear
+	// splat averages neighbouring samples, so the noise is not white: the
+	// spectrum near Nyquist lies below the low-frequency level.
+	rig := sampledata.DemoRig()
+	f, truth := simulateFrame(t, rig, "sheet", false, nil)
+	cy := (truth.YRangeMM[0] + truth.YRangeMM[1]) / 2
+	r := Rect{-100, cy - 100, 100, cy + 100}
+	res, err := NPS(f, r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, _ := box(f, r)
+	var vals []float64
+	for row := b.r0; row <= b.r1; row++ {
+		for col := b.c0; col <= b.c1; col++ {
+			v, _ := f.At(col, row)
+			vals = append(vals, float64(v))
+		}
+	}
+	detrend(vals, b.width(), b.height())
+	want := stat.Variance(vals, nil)
+	if math.Abs(res.PowerSum-want)/want > 0.05 {
+		t.Errorf("∫NPS = %.5g, the detrended variance (gonum) %.5g", res.PowerSum, want)
+	}
+	low := mean(res.Radial[1:4])
+	high := mean(res.Radial[len(res.Radial)-4:])
+	if !(high < low) {
+		t.Errorf("NPS near Nyquist %.4g, at low frequency %.4g: gridded noise should fall", high, low)
+	}
+	t.Logf("%d ROIs of %d px: ∫NPS %.5g, variance %.5g; NPS low %.4g, near Nyquist %.4g mm²", res.ROIs, res.ROISize, res.PowerSum, want, low, high)
 }
