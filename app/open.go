@@ -98,6 +98,7 @@ func runOpen(args []string, _, stderr io.Writer) error {
 		return forceHint(export.SaveFile(*snapshot, data.Bytes(), *force))
 	}
 
+	opts.SessionFile = ui.DefaultSessionFile()
 	a := app.NewWithID("org.spotloom.workstation")
 	a.SetIcon(assets.Icon)
 	a.Settings().SetTheme(ui.Theme())
@@ -105,9 +106,13 @@ func runOpen(args []string, _, stderr io.Writer) error {
 	w.SetIcon(assets.Icon)
 	ws := ui.New(a, w, opts)
 	w.Resize(fyne.NewSize(1440, 900))
-	if file == "" {
+	switch {
+	case file == "" && r == nil:
+		// Started bare: offer back tuning the last session did not save.
+		ws.Start(ws.OpenDemo)
+	case file == "":
 		ws.OpenDemoWithRecipe(r)
-	} else {
+	default:
 		ws.OpenFileWith(file, copts, r)
 	}
 	w.ShowAndRun()

@@ -246,17 +246,30 @@ func (ws *Workstation) finishOpen(o *opened) {
 	ws.frameIndex = 0
 	ws.result = nil
 	ws.view.Reset()
+	resume := ws.resume
+	ws.resume = nil
 	ws.applyResult(o.result, true)
 	ws.good = ws.cur.clone()
+	ws.clean = ws.cur.clone()
+	if resume != nil {
+		// The tuning came back from the last session: its tone and view
+		// too, and it is still not saved.
+		ws.cur.Tone, ws.good.Tone = resume.Tone, resume.Tone
+		ws.clean = settings{}
+		ws.view.SetTone(ws.cur.Tone)
+		ws.view.setPlace(resume.View)
+	}
 	ws.source.showCapture(o.rec, o.path, o.note)
-	ws.relayout()
-	ws.setTitle()
-	ws.updateUndo()
+	ws.render()
 	if o.path != "" {
 		ws.addRecent(o.path)
 	}
 	ws.settled = "Opened " + o.name
+	if resume != nil {
+		ws.settled = "Resumed the last session on " + o.name
+	}
 	ws.stage.SetText(ws.settled)
+	ws.saveSession()
 }
 
 // rebuild asks for a build of the current settings; a newer call cancels
@@ -331,15 +344,12 @@ func (ws *Workstation) restoreGood() {
 		ws.hist.dropLast()
 	}
 	ws.cur = ws.good.clone()
-	if ws.result != nil {
-		ws.controls.show(ws.cur, ws.result)
-		ws.source.showRoles(ws.cur.Recipe)
-	}
-	ws.updateUndo()
+	ws.render()
 }
 
 // applyResult shows a finished build. first means a new capture: the tone
-// is set automatically and the view fits the frame.
+// is set automatically. A new detector polarity re-fits the tone too, since
+// the old window and level lie on the other side of zero.
 func (ws *Workstation) applyResult(res *Result, first bool) {
 	ws.result = res
 	if len(res.Frames) == 0 {
@@ -351,26 +361,51 @@ func (ws *Workstation) applyResult(res *Result, first bool) {
 	if len(res.Frames) > 0 {
 		frame = res.Frames[ws.frameIndex]
 	}
-	if first || ws.controls.autoEachBuild() {
-		if frame != nil {
-			ws.cur.Tone = recon.AutoTone(frame)
+	refit := first || ws.controls.autoEachBuild() || res.Recipe.Signal.Invert != ws.tonedInvert
+	if refit && frame != nil {
+		shownInverted := ws.cur.Tone.Invert
+		ws.cur.Tone = recon.AutoTone(frame)
+		if !first {
+			ws.cur.Tone.Invert = shownInverted
 		}
+		ws.good.Tone = ws.cur.Tone
 	}
+	ws.tonedInvert = res.Recipe.Signal.Invert
 	ws.view.SetFrame(frame, ws.cur.Tone)
 	ws.showZoom(ws.view.Zoom())
 	det, idx, pos := ws.roleChannels(res.Recipe)
 	ws.strip.SetData(ws.rec, det, idx, pos, res.Lines, res.Report.Threshold)
 	ws.showLineNumber()
 	ws.facts.show(res.Report, ws.rec)
-	ws.controls.show(ws.cur, res)
-	ws.showFrameControls()
-	ws.relayout()
+	ws.render()
 	// The pointer has not moved but the frame under it has.
 	if p, ok := ws.view.Hover(); ok {
 		ws.pointerMoved(p)
 	} else {
 		ws.readout.SetText("")
 	}
+}
+
+// shown is what the controls show now.
+func (ws *Workstation) shown() shown {
+	v := shown{s: ws.cur, res: ws.result, rec: ws.rec, frame: ws.view.Frame()}
+	if _, idx, _ := ws.roleChannels(ws.result.Recipe); idx >= 0 && ws.rec != nil {
+		v.indexSpan = channelRange(ws.rec, idx)
+	}
+	return v
+}
+
+// render is the one step that puts the window's state into its panels:
+// the controls, the channel roles, undo, the title.
+func (ws *Workstation) render() {
+	if ws.result != nil {
+		ws.controls.show(ws.shown())
+		ws.source.showRoles(ws.cur.Recipe)
+	}
+	ws.showFrameControls()
+	ws.updateUndo()
+	ws.setTitle()
+	ws.relayout()
 }
 
 // roleChannels returns the channel numbers of the detector, index and
@@ -393,36 +428,49 @@ func (ws *Workstation) roleChannels(r recipe.Recipe) (det, idx, pos int) {
 	return det, idx, pos
 }
 
-// change edits the recipe from control and rebuilds.
-func (ws *Workstation) change(control string, edit func(r *recipe.Recipe)) {
+// edit changes the settings as control says: a recipe change rebuilds, a
+// tone change only redraws. f returns false to refuse the value (the
+// controls then show the settings as they are).
+func (ws *Workstation) edit(control string, f func(*settings) bool) {
 	if ws.result == nil {
 		return
 	}
 	before := ws.cur.clone()
 	next := ws.cur.clone()
-	edit(&next.Recipe)
-	if sameRecipe(next.Recipe, before.Recipe) {
+	if !f(&next) {
+		ws.render()
+		return
+	}
+	if sameSettings(next, before) {
 		return
 	}
 	ws.hist.record(control, before)
 	ws.cur = next
-	ws.updateUndo()
-	ws.rebuild("")
+	if sameRecipe(next.Recipe, before.Recipe) {
+		ws.good.Tone = next.Tone
+		ws.view.SetTone(next.Tone)
+		ws.render()
+	} else {
+		ws.updateUndo()
+		ws.setTitle()
+		ws.rebuild("")
+	}
+	ws.sessionChanged()
 }
 
-// changeTone edits the tone from control; only the view is redrawn.
-func (ws *Workstation) changeTone(control string, edit func(t *recon.Tone)) {
-	before := ws.cur.clone()
-	t := ws.cur.Tone
-	edit(&t)
-	if t == before.Tone {
-		return
+// change edits the recipe from control and rebuilds.
+func (ws *Workstation) change(control string, f func(r *recipe.Recipe)) {
+	ws.edit(control, func(s *settings) bool { f(&s.Recipe); return true })
+}
+
+// gesture opens or closes the undo step of a drag of control.
+func (ws *Workstation) gesture(control string, start bool) {
+	if start {
+		ws.hist.begin(control)
+	} else {
+		ws.hist.end()
+		ws.sessionChanged()
 	}
-	ws.hist.record(control, before)
-	ws.cur.Tone = t
-	ws.good.Tone = t
-	ws.view.SetTone(t)
-	ws.updateUndo()
 }
 
 // AutoTone sets the tone from the histogram of the frame shown.
@@ -433,8 +481,7 @@ func (ws *Workstation) AutoTone() {
 	}
 	t := recon.AutoTone(f)
 	t.Invert = ws.cur.Tone.Invert
-	ws.changeTone("auto tone", func(tone *recon.Tone) { *tone = t })
-	ws.controls.showTone(ws.cur.Tone, f)
+	ws.edit("auto tone", func(s *settings) bool { s.Tone = t; return true })
 }
 
 // Undo restores the settings before the last change.
@@ -450,14 +497,13 @@ func (ws *Workstation) restore(s settings, ok bool) {
 	recipeChanged := !sameRecipe(s.Recipe, ws.cur.Recipe)
 	ws.cur = s.clone()
 	ws.view.SetTone(ws.cur.Tone)
-	ws.controls.show(ws.cur, ws.result)
-	ws.source.showRoles(ws.cur.Recipe)
-	ws.updateUndo()
 	if recipeChanged {
 		ws.rebuild("The restored settings")
 	} else {
 		ws.good.Tone = ws.cur.Tone
 	}
+	ws.render()
+	ws.sessionChanged()
 }
 
 func (ws *Workstation) updateUndo() {
@@ -622,10 +668,9 @@ func (ws *Workstation) applyRecipe(r recipe.Recipe, reason string) {
 	before := ws.cur.clone()
 	ws.hist.record("", before)
 	ws.cur.Recipe = cloneRecipe(r)
-	ws.updateUndo()
-	ws.controls.show(ws.cur, ws.result)
-	ws.source.showRoles(ws.cur.Recipe)
+	ws.render()
 	ws.rebuild(reason)
+	ws.sessionChanged()
 }
 
 // recentKey is the preference that lists recently opened captures.
@@ -661,7 +706,9 @@ func (ws *Workstation) refreshRecentMenu() {
 	var items []*fyne.MenuItem
 	for _, p := range list {
 		p := p
-		items = append(items, fyne.NewMenuItem(p, func() { ws.OpenFile(p, nil) }))
+		items = append(items, fyne.NewMenuItem(p, func() {
+			ws.askDiscard("open "+filepath.Base(p), func() { ws.OpenFile(p, nil) })
+		}))
 	}
 	if len(items) == 0 {
 		none := fyne.NewMenuItem("(none yet)", nil)

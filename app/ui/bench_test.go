@@ -44,7 +44,7 @@ func BenchmarkDelayChangeInWindow(b *testing.B) {
 	d0 := ws.result.Report.DelayDeg
 	start := time.Now()
 	for i := 0; b.Loop(); i++ {
-		ws.controls.delay.typed(fmt.Sprintf("%.3f", d0+0.25*float64(i%2+1)))
+		ws.controls.number(ctlDelay).typed(fmt.Sprintf("%.3f", d0+0.25*float64(i%2+1)))
 		ws.Wait()
 		if ws.Problem() != "" {
 			b.Fatal(ws.Problem())

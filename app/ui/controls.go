@@ -3,59 +3,76 @@ package ui
 import (
 	"fmt"
 	"math"
-	"strconv"
 	"strings"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/widget"
 
+	"spotloom/capture"
 	"spotloom/recon"
 	"spotloom/recon/recipe"
 )
 
-// controlPanel holds the reconstruction and tone controls. Every change
-// goes through Workstation.change (a rebuild) or changeTone (a redraw).
-type controlPanel struct {
-	ws    *Workstation
-	quiet bool
+// shown is what the controls show: the settings being edited, the build
+// shown (its recipe has every automatic value filled in, its report what
+// was found), the capture and the frame on screen.
+type shown struct {
+	s     settings
+	res   *Result
+	rec   *capture.Recording
+	frame *recon.Frame
+	// indexSpan is the index channel's lowest and highest level (equal
+	// when unknown).
+	indexSpan [2]float64
+}
 
-	threshold     *numberControl
-	thresholdAuto *widget.Button
-	edge          *widget.Select
-	delay         *numberControl
-	delayAuto     *widget.Button
-	delayNote     *widget.Label
-	offsetsBox    *fyne.Container
-	offsets       []*numberControl
-	estimate      *widget.Button
-	apertures     *numberControl
-	pulses        *widget.Select
-	law           *widget.Select
-	field         *numberControl
-	distance      *numberControl
-	projection    *widget.Select
-	pitch         *numberControl
-	calibration   *widget.Entry
-	calApply      *widget.Button
-	rowsNote      *widget.Label
-	rowsSource    *widget.Select
-	speed         *numberControl
-	mmPerStep     *numberControl
-	strokes       *widget.Select
-	signalInvert  *widget.Check
-	acCorner      *numberControl
-	baseline      *widget.Select
+func (v shown) r() recipe.Recipe        { return v.s.Recipe }
+func (v shown) resolved() recipe.Recipe { return v.res.Recipe }
 
-	window    *numberControl
-	level     *numberControl
-	gamma     *numberControl
-	invert    *widget.Check
-	autoTone  *widget.Button
-	autoEach  *widget.Check
-	toneFrame *recon.Frame
+// controlKind is the widget a control is shown with.
+type controlKind int
 
-	box fyne.CanvasObject
+const (
+	kindNumber controlKind = iota // slider with a typed entry
+	kindChoice                    // drop-down list
+	kindToggle                    // check box
+)
+
+// control is one row of the controls table: how it looks, how its value is
+// read from what is shown and how the user's value is written back. Both
+// directions come from here; nothing else in the panel knows a recipe key.
+type control struct {
+	name  string // the label, also the name of its undo step
+	group string
+	kind  controlKind
+
+	// kindNumber: slider span and step, entry format, arrow-key nudge
+	// (0: a round fraction of the span).
+	lo, hi, step, nudge float64
+	format              string
+	// span, when set, gives the slider's span for what is shown.
+	span func(v shown) (lo, hi float64, ok bool)
+	get  func(v shown) float64
+	// set writes x; false refuses it (the control shows the old value).
+	set func(s *settings, x float64) bool
+
+	// kindChoice: the names shown and their recipe values.
+	names, keys []string
+	getKey      func(v shown) string
+	setKey      func(s *settings, key string)
+
+	// kindToggle.
+	getOn func(v shown) bool
+	setOn func(s *settings, on bool)
+
+	// auto, when set, makes a "Find automatically" button: isAuto says the
+	// value shown was found automatically, toAuto asks for that again.
+	isAuto func(v shown) bool
+	toAuto func(s *settings)
+
+	// enabled says when the control applies (nil: always).
+	enabled func(v shown) bool
 }
 
 // Names shown for recipe values, and back.
@@ -65,6 +82,7 @@ var (
 	strokeNames     = []string{"merge all passes", "one frame per pass", "first pass only"}
 	strokeKeys      = []string{"merge", "split", "first"}
 	pulseNames      = []string{"one per aperture", "one per revolution"}
+	pulseKeys       = []string{"aperture", "revolution"}
 	// lawNames and rowsSourceNames follow the order of the recipe's own
 	// lists of allowed values (recipe.Laws, recipe.RowSources).
 	lawNames        = []string{"spinning wheel or polygon (uniform)", "resonant mirror (sine)", "measured table"}
@@ -73,6 +91,44 @@ var (
 	rowsSourceKeys  = recipe.RowSources
 	baselineNames   = []string{"from the beam-off interval", "none (keep the raw level)"}
 	baselineKeys    = []string{"beam-off", "none"}
+	edgeNames       = []string{"rising", "falling"}
+)
+
+func modeKeys[T ~string](modes []T) []string {
+	out := make([]string, len(modes))
+	for i, m := range modes {
+		out[i] = string(m)
+	}
+	return out
+}
+
+// The groups of the left column, nearest the image first.
+const (
+	groupAlign  = "Line alignment"
+	groupTone   = "Tone"
+	groupSweep  = "Sweep geometry"
+	groupRows   = "Cross-scan"
+	groupSignal = "Detector signal"
+)
+
+// Names of the controls the code refers to.
+const (
+	ctlThreshold = "Index threshold"
+	ctlDelay     = "Delay after the index edge (°)"
+	ctlLaw       = "Sweep"
+	ctlApertures = "Apertures on the wheel"
+	ctlField     = "Field of view (°)"
+	ctlDistance  = "Distance to the scene (mm)"
+	ctlProject   = "Projection"
+	ctlPitch     = "Pitch (mm per pixel)"
+	ctlRows      = "Rows from"
+	ctlSpeed     = "Head speed (mm/s)"
+	ctlStep      = "Travel per step (mm)"
+	ctlPolarity  = "Detector polarity: negative-going (invert the signal)"
+	ctlWindow    = "Window"
+	ctlLevel     = "Level"
+	ctlGamma     = "Gamma"
+	ctlShowNeg   = "Show inverted (negative)"
 )
 
 // setApertures sets the wheel's aperture count, keeping one index pulse
@@ -88,363 +144,392 @@ func setApertures(r *recipe.Recipe, n int) {
 	r.Sweep.Apertures = n
 }
 
-func nameFor[T ~string](key T, keys []T, names []string) string {
+func nameFor(key string, keys, names []string) string {
 	for i, k := range keys {
 		if k == key {
 			return names[i]
 		}
 	}
-	return string(key)
+	return key
 }
 
-func keyFor[T ~string](name string, keys []T, names []string) T {
+func keyFor(name string, keys, names []string) string {
 	for i, n := range names {
 		if n == name {
 			return keys[i]
 		}
 	}
-	return T(name)
+	return name
 }
 
-func newControlPanel(ws *Workstation) *controlPanel {
-	c := &controlPanel{ws: ws}
-	c.threshold = newNumberControl("Index threshold", 0, 1, 0, "%.4g", func(v float64) {
-		ws.change("threshold", func(r *recipe.Recipe) { r.Timing.Threshold = recipe.Float(v) })
-	})
-	c.thresholdAuto = widget.NewButton("Find automatically", func() {
-		ws.change("threshold auto", func(r *recipe.Recipe) { r.Timing.Threshold = nil })
-	})
-	c.edge = widget.NewSelect([]string{"rising", "falling"}, func(e string) {
-		if c.quiet {
-			return
+// orFound is the value set by hand, else the value the build found.
+func orFound(set, resolved *float64, found float64) float64 {
+	switch {
+	case set != nil:
+		return *set
+	case resolved != nil:
+		return *resolved
+	}
+	return found
+}
+
+func isSine(v shown) bool { return v.r().Sweep.Law == recipe.LawSine }
+
+// controlTable lists every plain control of the panel, group by group.
+func controlTable() []control {
+	positive := func(x float64) bool { return x > 0 }
+	rebuilt := func(f func(r *recipe.Recipe, x float64)) func(s *settings, x float64) bool {
+		return func(s *settings, x float64) bool { f(&s.Recipe, x); return true }
+	}
+	return []control{
+		{name: ctlThreshold, group: groupAlign, kind: kindNumber, lo: 0, hi: 1, format: "%.4g",
+			span: func(v shown) (float64, float64, bool) {
+				return v.indexSpan[0], v.indexSpan[1], v.indexSpan[1] > v.indexSpan[0]
+			},
+			get: func(v shown) float64 {
+				return orFound(v.r().Timing.Threshold, v.resolved().Timing.Threshold, v.res.Report.Threshold)
+			},
+			set:    rebuilt(func(r *recipe.Recipe, x float64) { r.Timing.Threshold = recipe.Float(x) }),
+			isAuto: func(v shown) bool { return v.r().Timing.Threshold == nil },
+			toAuto: func(s *settings) { s.Recipe.Timing.Threshold = nil }},
+		{name: "Index edge", group: groupAlign, kind: kindChoice, names: edgeNames, keys: edgeNames,
+			getKey: func(v shown) string {
+				if e := v.r().Timing.Edge; e != "" {
+					return e
+				}
+				return v.resolved().Timing.Edge
+			},
+			setKey: func(s *settings, k string) { s.Recipe.Timing.Edge = k }},
+		{name: ctlDelay, group: groupAlign, kind: kindNumber, lo: 0, hi: 90, step: 0.001, nudge: 0.01, format: "%.3f",
+			span: func(v shown) (float64, float64, bool) {
+				if r := v.r(); !isSine(v) && r.Timing.PulsesPerRev > 1 {
+					return 0, 360 / float64(r.Timing.PulsesPerRev), true
+				}
+				return 0, 360, true
+			},
+			get: func(v shown) float64 {
+				return orFound(v.r().Sweep.DelayDeg, v.resolved().Sweep.DelayDeg, v.res.Report.DelayDeg)
+			},
+			set:    rebuilt(func(r *recipe.Recipe, x float64) { r.Sweep.DelayDeg = recipe.Float(x) }),
+			isAuto: func(v shown) bool { return v.r().Sweep.DelayDeg == nil },
+			toAuto: func(s *settings) { s.Recipe.Sweep.DelayDeg = nil }},
+
+		{name: ctlWindow, group: groupTone, kind: kindNumber, lo: 0, hi: 1, format: "%.4g",
+			span: frameSpan(func(lo, hi, span float64) (float64, float64) { return span / 1000, 2 * span }),
+			get: func(v shown) float64 { return v.s.Tone.Window },
+			set: func(s *settings, x float64) bool { s.Tone.Window = math.Max(x, 0); return true }},
+		{name: ctlLevel, group: groupTone, kind: kindNumber, lo: 0, hi: 1, format: "%.4g",
+			span: frameSpan(func(lo, hi, span float64) (float64, float64) { return lo - 0.25*span, hi + 0.25*span }),
+			get: func(v shown) float64 { return v.s.Tone.Level },
+			set: func(s *settings, x float64) bool { s.Tone.Level = x; return true }},
+		{name: ctlGamma, group: groupTone, kind: kindNumber, lo: 0.2, hi: 4, step: 0.01, format: "%.2f",
+			get: func(v shown) float64 {
+				if v.s.Tone.Gamma == 0 {
+					return 1
+				}
+				return v.s.Tone.Gamma
+			},
+			set: func(s *settings, x float64) bool { s.Tone.Gamma = x; return positive(x) }},
+		{name: ctlShowNeg, group: groupTone, kind: kindToggle,
+			getOn: func(v shown) bool { return v.s.Tone.Invert },
+			setOn: func(s *settings, on bool) { s.Tone.Invert = on }},
+
+		{name: ctlLaw, group: groupSweep, kind: kindChoice, names: lawNames, keys: modeKeys(lawKeys),
+			getKey: func(v shown) string { return string(v.r().Sweep.Law) },
+			setKey: func(s *settings, k string) { s.Recipe.Sweep.Law = recipe.Law(k) }},
+		{name: ctlApertures, group: groupSweep, kind: kindNumber, lo: 1, hi: 24, step: 1, format: "%.0f",
+			get: func(v shown) float64 { return float64(v.r().Sweep.Apertures) },
+			set: func(s *settings, x float64) bool {
+				n := int(math.Round(x))
+				if n < 1 {
+					return false
+				}
+				setApertures(&s.Recipe, n)
+				return true
+			},
+			enabled: func(v shown) bool { return !isSine(v) }},
+		{name: "Index pulses", group: groupSweep, kind: kindChoice, names: pulseNames, keys: pulseKeys,
+			getKey: func(v shown) string {
+				if r := v.r(); r.Timing.PulsesPerRev == 1 && r.Sweep.Apertures > 1 {
+					return "revolution"
+				}
+				return "aperture"
+			},
+			setKey: func(s *settings, k string) {
+				if k == "revolution" {
+					s.Recipe.Timing.PulsesPerRev = 1
+				} else {
+					s.Recipe.Timing.PulsesPerRev = s.Recipe.Sweep.Apertures
+				}
+			},
+			enabled: func(v shown) bool { return !isSine(v) }},
+		{name: ctlField, group: groupSweep, kind: kindNumber, lo: 1, hi: 120, step: 0.1, format: "%.2f",
+			get: func(v shown) float64 { return v.r().Sweep.FieldDeg },
+			set: func(s *settings, x float64) bool { s.Recipe.Sweep.FieldDeg = x; return positive(x) }},
+		{name: ctlDistance, group: groupSweep, kind: kindNumber, lo: 10, hi: 3000, step: 1, format: "%.0f",
+			get: func(v shown) float64 { return v.r().Sweep.DistanceMM },
+			set: func(s *settings, x float64) bool { s.Recipe.Sweep.DistanceMM = x; return positive(x) }},
+		{name: ctlProject, group: groupSweep, kind: kindChoice, names: projectionNames, keys: projectionKeys,
+			getKey: func(v shown) string { return v.r().Sweep.Projection },
+			setKey: func(s *settings, k string) { s.Recipe.Sweep.Projection = k }},
+		{name: ctlPitch, group: groupSweep, kind: kindNumber, lo: 0.1, hi: 10, step: 0.01, format: "%.2f",
+			get: func(v shown) float64 { return v.r().Image.PitchMM },
+			set: func(s *settings, x float64) bool { s.Recipe.Image.PitchMM = x; return positive(x) }},
+
+		{name: ctlRows, group: groupRows, kind: kindChoice, names: rowsSourceNames, keys: modeKeys(rowsSourceKeys),
+			getKey: func(v shown) string { return string(v.r().Rows.Source) },
+			setKey: func(s *settings, k string) { s.Recipe.Rows.Source = recipe.RowSource(k) }},
+		{name: ctlSpeed, group: groupRows, kind: kindNumber, lo: 1, hi: 500, step: 0.5, format: "%.1f",
+			get: func(v shown) float64 { return orFound(v.r().Rows.SpeedMMS, v.resolved().Rows.SpeedMMS, 0) },
+			set: func(s *settings, x float64) bool {
+				s.Recipe.Rows.SpeedMMS = recipe.Float(x)
+				return x != 0
+			},
+			enabled: func(v shown) bool { return v.r().Rows.Source == recipe.SourceEven }},
+		{name: ctlStep, group: groupRows, kind: kindNumber, lo: 0.001, hi: 5, step: 0.001, format: "%.4g",
+			get: func(v shown) float64 { return orFound(v.r().Rows.MMPerStep, v.resolved().Rows.MMPerStep, 0) },
+			set: func(s *settings, x float64) bool {
+				s.Recipe.Rows.MMPerStep = recipe.Float(x)
+				return x != 0
+			},
+			enabled: func(v shown) bool { return v.r().Rows.Source == recipe.SourceSteps }},
+		{name: "Passes of the head", group: groupRows, kind: kindChoice, names: strokeNames, keys: strokeKeys,
+			getKey: func(v shown) string { return v.r().Rows.Strokes },
+			setKey: func(s *settings, k string) { s.Recipe.Rows.Strokes = k }},
+
+		{name: ctlPolarity, group: groupSignal, kind: kindToggle,
+			getOn: func(v shown) bool { return v.r().Signal.Invert },
+			setOn: func(s *settings, on bool) { s.Recipe.Signal.Invert = on }},
+		{name: "AC coupling to undo (Hz, 0 = DC coupled)", group: groupSignal, kind: kindNumber, lo: 0, hi: 100, step: 0.5, format: "%.1f",
+			get: func(v shown) float64 { return v.r().Signal.ACCornerHz },
+			set: func(s *settings, x float64) bool { s.Recipe.Signal.ACCornerHz = x; return x >= 0 }},
+		{name: "Baseline", group: groupSignal, kind: kindChoice, names: baselineNames, keys: baselineKeys,
+			getKey: func(v shown) string { return v.r().Signal.Baseline },
+			setKey: func(s *settings, k string) { s.Recipe.Signal.Baseline = k }},
+	}
+}
+
+// frameSpan makes a slider span from the values of the frame shown: f
+// gets their lowest, highest and the distance between (1 when flat).
+func frameSpan(f func(lo, hi, span float64) (float64, float64)) func(v shown) (float64, float64, bool) {
+	return func(v shown) (float64, float64, bool) {
+		if v.frame == nil {
+			return 0, 0, false
 		}
-		ws.change("edge", func(r *recipe.Recipe) { r.Timing.Edge = e })
-	})
-	c.delay = newNumberControl("Delay after the index edge (°)", 0, 90, 0.01, "%.2f", func(v float64) {
-		ws.change("delay", func(r *recipe.Recipe) { r.Sweep.DelayDeg = recipe.Float(v) })
-	})
-	c.delayAuto = widget.NewButton("Find automatically", func() {
-		ws.change("delay auto", func(r *recipe.Recipe) { r.Sweep.DelayDeg = nil })
-	})
-	c.delayNote = widget.NewLabel("")
-	c.delayNote.Wrapping = fyne.TextWrapWord
+		lo, hi := coveredRange(v.frame)
+		span := hi - lo
+		if !(span > 0) {
+			span = 1
+		}
+		a, b := f(lo, hi, span)
+		return a, b, true
+	}
+}
+
+// panelActions are what the control panel may ask of the window.
+type panelActions struct {
+	// edit changes the settings as the control name says; the window
+	// rebuilds or re-tones as the change needs and records an undo step.
+	edit func(name string, f func(*settings) bool)
+	// gesture opens (start) or closes one undo step over a drag.
+	gesture  func(name string, start bool)
+	problem  func(title, what, try string)
+	estimate func()
+	autoTone func()
+}
+
+// bound is one control of the table with its widgets.
+type bound struct {
+	control
+	number *numberControl
+	choice *choice
+	toggle *toggle
+	auto   *widget.Button
+	note   *widget.Label
+	box    fyne.CanvasObject
+}
+
+// controlPanel shows the controls of the table, the aperture offsets and
+// the position calibration, in groups the user can fold.
+type controlPanel struct {
+	act    panelActions
+	ctls   []*bound
+	byName map[string]*bound
+
+	offsetsBox *fyne.Container
+	offsets    []*numberControl
+	// autoOffsets are the offsets the build shown found (nil when they
+	// are set by hand).
+	autoOffsets []float64
+	offsetNote  *widget.Label
+	estimate    *widget.Button
+	rowsNote    *widget.Label
+	cal         *calibrationEditor
+	autoTone    *widget.Button
+	autoEach    *toggle
+
+	groups *widget.Accordion
+	box    fyne.CanvasObject
+}
+
+func newControlPanel(act panelActions) *controlPanel {
+	c := &controlPanel{act: act, byName: map[string]*bound{}}
+	for _, ctl := range controlTable() {
+		b := c.bind(ctl)
+		c.ctls = append(c.ctls, b)
+		c.byName[ctl.name] = b
+	}
+
 	c.offsetsBox = container.NewVBox()
-	c.estimate = widget.NewButton("Estimate offsets from the image", ws.EstimateOffsets)
-
-	c.apertures = newNumberControl("Apertures on the wheel", 1, 24, 1, "%.0f", func(v float64) {
-		n := int(math.Round(v))
-		if n < 1 {
-			return
-		}
-		ws.change("apertures", func(r *recipe.Recipe) { setApertures(r, n) })
-	})
-	c.pulses = widget.NewSelect(pulseNames, func(name string) {
-		if c.quiet {
-			return
-		}
-		ws.change("index pulses", func(r *recipe.Recipe) {
-			if name == pulseNames[1] {
-				r.Timing.PulsesPerRev = 1
-			} else {
-				r.Timing.PulsesPerRev = r.Sweep.Apertures
-			}
-		})
-	})
-	c.law = widget.NewSelect(lawNames, func(name string) {
-		if c.quiet {
-			return
-		}
-		ws.change("sweep law", func(r *recipe.Recipe) { r.Sweep.Law = keyFor(name, lawKeys, lawNames) })
-	})
-	c.field = newNumberControl("Field of view (°)", 1, 120, 0.1, "%.2f", func(v float64) {
-		if v <= 0 {
-			return
-		}
-		ws.change("field", func(r *recipe.Recipe) { r.Sweep.FieldDeg = v })
-	})
-	c.distance = newNumberControl("Distance to the scene (mm)", 10, 3000, 1, "%.0f", func(v float64) {
-		if v <= 0 {
-			return
-		}
-		ws.change("distance", func(r *recipe.Recipe) { r.Sweep.DistanceMM = v })
-	})
-	c.projection = widget.NewSelect(projectionNames, func(name string) {
-		if c.quiet {
-			return
-		}
-		ws.change("projection", func(r *recipe.Recipe) { r.Sweep.Projection = keyFor(name, projectionKeys, projectionNames) })
-	})
-	c.pitch = newNumberControl("Pitch (mm per pixel)", 0.1, 10, 0.05, "%.2f", func(v float64) {
-		if v <= 0 {
-			return
-		}
-		ws.change("pitch", func(r *recipe.Recipe) { r.Image.PitchMM = v })
-	})
-
-	c.calibration = widget.NewMultiLineEntry()
-	c.calibration.SetMinRowsVisible(3)
-	c.calibration.SetPlaceHolder("level  mm\n0.5  0\n4.5  400")
-	c.calApply = widget.NewButton("Apply calibration", c.applyCalibration)
+	c.offsetNote = widget.NewLabel("")
+	c.offsetNote.Wrapping = fyne.TextWrapWord
+	c.offsetNote.Importance = widget.LowImportance
+	c.estimate = widget.NewButton("Estimate offsets from the image", act.estimate)
 	c.rowsNote = widget.NewLabel("")
 	c.rowsNote.Wrapping = fyne.TextWrapWord
-	c.rowsSource = widget.NewSelect(rowsSourceNames, func(name string) {
-		if c.quiet {
-			return
-		}
-		ws.change("rows source", func(r *recipe.Recipe) { r.Rows.Source = keyFor(name, rowsSourceKeys, rowsSourceNames) })
-	})
-	c.speed = newNumberControl("Head speed (mm/s)", 1, 500, 0.5, "%.1f", func(v float64) {
-		if v == 0 {
-			return
-		}
-		ws.change("head speed", func(r *recipe.Recipe) { r.Rows.SpeedMMS = recipe.Float(v) })
-	})
-	c.mmPerStep = newNumberControl("Travel per step (mm)", 0.001, 5, 0.001, "%.4g", func(v float64) {
-		if v == 0 {
-			return
-		}
-		ws.change("travel per step", func(r *recipe.Recipe) { r.Rows.MMPerStep = recipe.Float(v) })
-	})
-	c.strokes = widget.NewSelect(strokeNames, func(name string) {
-		if c.quiet {
-			return
-		}
-		ws.change("strokes", func(r *recipe.Recipe) { r.Rows.Strokes = keyFor(name, strokeKeys, strokeNames) })
-	})
+	c.cal = newCalibrationEditor(func(points [][2]float64) {
+		act.edit("calibration", func(s *settings) bool { s.Recipe.Rows.Calibration = points; return true })
+	}, act.problem)
+	c.autoTone = widget.NewButton("Auto from histogram", act.autoTone)
+	c.autoEach = newToggle("Auto after every build", nil)
 
-	c.signalInvert = widget.NewCheck("Negative-going detector: invert the signal", func(on bool) {
-		if c.quiet {
-			return
+	groupBoxes := map[string]*fyne.Container{}
+	var order []string
+	for _, b := range c.ctls {
+		g := groupBoxes[b.group]
+		if g == nil {
+			g = container.NewVBox()
+			groupBoxes[b.group] = g
+			order = append(order, b.group)
 		}
-		ws.change("invert signal", func(r *recipe.Recipe) { r.Signal.Invert = on })
-	})
-	c.acCorner = newNumberControl("AC coupling to undo (Hz, 0 = DC coupled)", 0, 100, 0.5, "%.1f", func(v float64) {
-		if v < 0 {
-			return
-		}
-		ws.change("ac coupling", func(r *recipe.Recipe) { r.Signal.ACCornerHz = v })
-	})
-	c.baseline = widget.NewSelect(baselineNames, func(name string) {
-		if c.quiet {
-			return
-		}
-		ws.change("baseline", func(r *recipe.Recipe) { r.Signal.Baseline = keyFor(name, baselineKeys, baselineNames) })
-	})
-
-	c.window = newNumberControl("Window", 0, 1, 0, "%.4g", func(v float64) {
-		ws.changeTone("window", func(t *recon.Tone) { t.Window = math.Max(v, 0) })
-	})
-	c.level = newNumberControl("Level", 0, 1, 0, "%.4g", func(v float64) {
-		ws.changeTone("level", func(t *recon.Tone) { t.Level = v })
-	})
-	c.gamma = newNumberControl("Gamma", 0.2, 4, 0.01, "%.2f", func(v float64) {
-		if v <= 0 {
-			return
-		}
-		ws.changeTone("gamma", func(t *recon.Tone) { t.Gamma = v })
-	})
-	c.invert = widget.NewCheck("Invert", func(on bool) {
-		if c.quiet {
-			return
-		}
-		ws.changeTone("invert", func(t *recon.Tone) { t.Invert = on })
-	})
-	c.autoTone = widget.NewButton("Auto from histogram", ws.AutoTone)
-	c.autoEach = widget.NewCheck("Auto after every build", nil)
-
-	heading := func(s string) *widget.Label {
-		return widget.NewLabelWithStyle(s, fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
+		g.Add(b.box)
 	}
-	c.box = container.NewVBox(
-		widget.NewSeparator(),
-		heading("Line alignment"),
-		c.threshold.box, container.NewHBox(c.thresholdAuto, widget.NewLabel("edge"), c.edge),
-		c.delay.box, container.NewHBox(c.delayAuto), c.delayNote,
-		widget.NewLabel("Aperture offsets (°)"),
-		c.offsetsBox, c.estimate,
-		widget.NewSeparator(),
-		heading("Sweep geometry"),
-		widget.NewLabel("Sweep"), c.law,
-		c.apertures.box,
-		widget.NewLabel("Index pulses"), c.pulses,
-		c.field.box, c.distance.box,
-		widget.NewLabel("Projection"), c.projection,
-		c.pitch.box,
-		widget.NewSeparator(),
-		heading("Cross-scan"),
-		widget.NewLabel("Rows from"), c.rowsSource,
-		c.rowsNote,
-		c.speed.box, c.mmPerStep.box,
-		widget.NewLabel("Calibration: position level → mm, one pair a line"),
-		c.calibration, c.calApply,
-		widget.NewLabel("Passes of the head"), c.strokes,
-		widget.NewSeparator(),
-		heading("Detector signal"),
-		c.signalInvert,
-		c.acCorner.box,
-		widget.NewLabel("Baseline"), c.baseline,
-		widget.NewSeparator(),
-		heading("Tone"),
-		c.window.box, c.level.box, c.gamma.box,
-		container.NewHBox(c.invert, c.autoTone), c.autoEach,
-	)
+	align := groupBoxes[groupAlign]
+	align.Add(widget.NewLabel("Aperture offsets (°)"))
+	align.Add(c.offsetNote)
+	align.Add(c.offsetsBox)
+	align.Add(c.estimate)
+	groupBoxes[groupTone].Add(container.NewHBox(c.autoTone, c.autoEach))
+	rows := groupBoxes[groupRows]
+	rows.Objects = append([]fyne.CanvasObject{rows.Objects[0], c.rowsNote}, rows.Objects[1:]...)
+	rows.Add(c.cal.box)
+
+	c.groups = widget.NewAccordion()
+	c.groups.MultiOpen = true
+	for _, g := range order {
+		c.groups.Append(widget.NewAccordionItem(g, groupBoxes[g]))
+	}
+	c.groups.Open(0)
+	c.groups.Open(1)
+	c.box = c.groups
 	return c
+}
+
+// bind makes the widgets of one control; every user change goes through
+// the control's set and the panel's edit.
+func (c *controlPanel) bind(ctl control) *bound {
+	b := &bound{control: ctl}
+	var body fyne.CanvasObject
+	switch ctl.kind {
+	case kindNumber:
+		b.number = newNumberControl(ctl.name, ctl.lo, ctl.hi, ctl.step, ctl.format, func(x float64) {
+			c.act.edit(ctl.name, func(s *settings) bool { return ctl.set(s, x) })
+		})
+		b.number.nudgeStep = ctl.nudge
+		b.number.slider.gesture = func(start bool) { c.act.gesture(ctl.name, start) }
+		body = b.number.box
+	case kindChoice:
+		b.choice = newChoice(ctl.names, func(name string) {
+			key := keyFor(name, ctl.keys, ctl.names)
+			c.act.edit(ctl.name, func(s *settings) bool { ctl.setKey(s, key); return true })
+		})
+		body = container.NewBorder(nil, nil, widget.NewLabel(ctl.name), nil, b.choice)
+	case kindToggle:
+		b.toggle = newToggle(ctl.name, func(on bool) {
+			c.act.edit(ctl.name, func(s *settings) bool { ctl.setOn(s, on); return true })
+		})
+		body = b.toggle
+	}
+	if ctl.toAuto != nil {
+		b.auto = widget.NewButton("Find automatically", func() {
+			c.act.edit(ctl.name+" automatic", func(s *settings) bool { ctl.toAuto(s); return true })
+		})
+		b.note = widget.NewLabel("")
+		b.note.Importance = widget.LowImportance
+		body = container.NewVBox(body, container.NewBorder(nil, nil, b.auto, nil, b.note))
+	}
+	b.box = body
+	return b
 }
 
 func (c *controlPanel) object() fyne.CanvasObject { return c.box }
 
 func (c *controlPanel) autoEachBuild() bool { return c.autoEach.Checked }
 
-// applyCalibration reads "level mm" pairs, one a line.
-func (c *controlPanel) applyCalibration() {
-	var points [][2]float64
-	for n, line := range strings.Split(c.calibration.Text, "\n") {
-		fields := strings.FieldsFunc(line, func(r rune) bool { return r == ' ' || r == '\t' || r == ';' || r == '→' })
-		if len(fields) == 0 {
-			continue
-		}
-		if len(fields) != 2 {
-			c.ws.showProblem("Cannot read the calibration", fmt.Sprintf("line %d holds %q; each line needs two numbers: a position level and its millimetres.", n+1, line),
-				"write one pair a line, e.g. \"0.5 0\" and \"4.5 400\".")
-			return
-		}
-		var p [2]float64
-		for k, f := range fields {
-			v, err := parseNumber(f)
-			if err != nil {
-				c.ws.showProblem("Cannot read the calibration", fmt.Sprintf("line %d:%d: %q is not a number.", n+1, k+1, f),
-					"write one pair a line, e.g. \"0.5 0\" and \"4.5 400\".")
-				return
+// number returns the number control named name (for the window's keys
+// and tests).
+func (c *controlPanel) number(name string) *numberControl { return c.byName[name].number }
+func (c *controlPanel) choice(name string) *choice        { return c.byName[name].choice }
+func (c *controlPanel) toggle(name string) *toggle        { return c.byName[name].toggle }
+
+// show puts what is shown into every control, from the table.
+func (c *controlPanel) show(v shown) {
+	for _, b := range c.ctls {
+		on := b.enabled == nil || b.enabled(v)
+		switch b.kind {
+		case kindNumber:
+			if b.span != nil {
+				if lo, hi, ok := b.span(v); ok {
+					if b.step == 0 {
+						b.number.slider.Step = (hi - lo) / 1000
+					}
+					b.number.setRange(lo, hi)
+				}
 			}
-			p[k] = v
+			b.number.set(b.get(v))
+			b.number.enable(on)
+		case kindChoice:
+			b.choice.show(nameFor(b.getKey(v), b.keys, b.names))
+			enable(b.choice, on)
+		case kindToggle:
+			b.toggle.show(b.getOn(v))
+			enable(b.toggle, on)
 		}
-		points = append(points, p)
+		if b.auto != nil {
+			if b.isAuto(v) {
+				b.auto.Disable()
+				b.note.SetText("found automatically; move it to set it by hand")
+			} else {
+				b.auto.Enable()
+				b.note.SetText("set by hand")
+			}
+		}
 	}
-	if len(points) < 2 {
-		c.ws.showProblem("Cannot use the calibration", fmt.Sprintf("it holds %d point(s); at least two are needed.", len(points)),
-			"give two or more pairs of level and millimetres.")
-		return
-	}
-	c.ws.change("calibration", func(r *recipe.Recipe) { r.Rows.Calibration = points })
-}
-
-// show puts settings s into the controls; res supplies the values found
-// automatically and the ranges that make sense for this capture.
-func (c *controlPanel) show(s settings, res *Result) {
-	c.quiet = true
-	defer func() { c.quiet = false }()
-	r, resolved := s.Recipe, res.Recipe
-
-	maxDelay := 360.0
-	if r.Sweep.Law != recipe.LawSine && r.Timing.PulsesPerRev > 1 {
-		maxDelay = 360 / float64(r.Timing.PulsesPerRev)
-	}
-	c.delay.setRange(0, maxDelay)
-	switch {
-	case r.Sweep.DelayDeg != nil:
-		c.delay.set(*r.Sweep.DelayDeg)
-		c.delayNote.SetText("")
-		c.delayNote.Hide()
-		c.delayAuto.Enable()
-	case resolved.Sweep.DelayDeg != nil:
-		c.delay.set(*resolved.Sweep.DelayDeg)
-		c.delayNote.SetText("Found automatically; move it to set it by hand.")
-		c.delayNote.Show()
-		c.delayAuto.Disable()
-	default:
-		c.delay.set(res.Report.DelayDeg)
-		c.delayNote.SetText("Found automatically; move it to set it by hand.")
-		c.delayNote.Show()
-		c.delayAuto.Disable()
-	}
-
-	c.showThreshold(r, resolved, res)
-
-	apertures := resolved.Sweep.Apertures
-	if r.Sweep.Law == recipe.LawSine {
+	r, resolved := v.r(), v.resolved()
+	apertures, values := resolved.Sweep.Apertures, r.Sweep.ApertureOffsetsDeg
+	if isSine(v) {
 		apertures = 0
 	}
-	c.showOffsets(apertures, r.Sweep.ApertureOffsetsDeg)
-
-	c.law.SetSelected(nameFor(r.Sweep.Law, lawKeys, lawNames))
-	c.apertures.set(float64(r.Sweep.Apertures))
-	if r.Timing.PulsesPerRev == 1 && r.Sweep.Apertures > 1 {
-		c.pulses.SetSelected(pulseNames[1])
-	} else {
-		c.pulses.SetSelected(pulseNames[0])
-	}
-	// A resonant mirror has one index pulse per period and no apertures.
-	c.apertures.enable(r.Sweep.Law != recipe.LawSine)
-	if r.Sweep.Law == recipe.LawSine {
-		c.pulses.Disable()
-	} else {
-		c.pulses.Enable()
-	}
-	c.field.set(r.Sweep.FieldDeg)
-	c.distance.set(r.Sweep.DistanceMM)
-	c.projection.SetSelected(nameFor(r.Sweep.Projection, projectionKeys, projectionNames))
-	c.pitch.set(r.Image.PitchMM)
-	var cal []string
-	for _, p := range r.Rows.Calibration {
-		cal = append(cal, strconv.FormatFloat(p[0], 'g', -1, 64)+"  "+strconv.FormatFloat(p[1], 'g', -1, 64))
-	}
-	c.calibration.SetText(strings.Join(cal, "\n"))
-	usesCal := r.Rows.Source.ReadsPosition()
-	if usesCal {
-		c.calibration.Enable()
-		c.calApply.Enable()
-	} else {
-		c.calibration.Disable()
-		c.calApply.Disable()
-	}
-	c.rowsNote.SetText(rowsDescription(resolved.Rows))
-	c.rowsSource.SetSelected(nameFor(r.Rows.Source, rowsSourceKeys, rowsSourceNames))
-	if v := resolved.Rows.SpeedMMS; v != nil {
-		c.speed.set(*v)
-	}
-	if v := resolved.Rows.MMPerStep; v != nil {
-		c.mmPerStep.set(*v)
-	}
-	c.speed.enable(r.Rows.Source == recipe.SourceEven)
-	c.mmPerStep.enable(r.Rows.Source == recipe.SourceSteps)
-	c.strokes.SetSelected(nameFor(r.Rows.Strokes, strokeKeys, strokeNames))
-	c.signalInvert.SetChecked(r.Signal.Invert)
-	c.acCorner.set(r.Signal.ACCornerHz)
-	c.baseline.SetSelected(nameFor(r.Signal.Baseline, baselineKeys, baselineNames))
-
-	var frame *recon.Frame
-	if len(res.Frames) > 0 {
-		frame = res.Frames[min(c.ws.frameIndex, len(res.Frames)-1)]
-	}
-	c.showToneQuiet(s.Tone, frame)
-}
-
-// showThreshold shows the index threshold, its range being the index
-// channel's span, and the edge polarity.
-func (c *controlPanel) showThreshold(r, resolved recipe.Recipe, res *Result) {
-	if _, idx, _ := c.ws.roleChannels(resolved); idx >= 0 && c.ws.rec != nil {
-		span := channelRange(c.ws.rec, idx)
-		if span[1] > span[0] {
-			c.threshold.slider.Step = (span[1] - span[0]) / 1000
-			c.threshold.setRange(span[0], span[1])
+	c.offsetNote.SetText("")
+	c.autoOffsets = nil
+	if values == nil {
+		c.autoOffsets = resolved.Sweep.ApertureOffsetsDeg
+		values = resolved.Sweep.ApertureOffsetsDeg
+		if apertures > 0 {
+			c.offsetNote.SetText("Estimated in every build; move one to set them by hand.")
 		}
 	}
-	switch {
-	case r.Timing.Threshold != nil:
-		c.threshold.set(*r.Timing.Threshold)
-		c.thresholdAuto.Enable()
-	case resolved.Timing.Threshold != nil:
-		c.threshold.set(*resolved.Timing.Threshold)
-		c.thresholdAuto.Disable()
-	default:
-		c.threshold.set(res.Report.Threshold)
-		c.thresholdAuto.Disable()
+	c.showOffsets(apertures, values)
+	c.rowsNote.SetText(rowsDescription(resolved.Rows))
+	c.cal.show(r.Rows.Calibration, r.Rows.Source.ReadsPosition())
+}
+
+func enable(w fyne.Disableable, on bool) {
+	if on {
+		w.Enable()
+	} else {
+		w.Disable()
 	}
-	edge := r.Timing.Edge
-	if edge == "" {
-		edge = resolved.Timing.Edge
-	}
-	c.edge.SetSelected(edge)
 }
 
 func rowsDescription(rows recipe.Rows) string {
@@ -472,30 +557,34 @@ func (c *controlPanel) showOffsets(apertures int, values []float64) {
 	if apertures < 0 || apertures > 64 {
 		apertures = 0
 	}
-	if len(c.offsets) != apertures {
+	if len(c.offsets) != apertures || len(c.offsetsBox.Objects) == 0 {
 		c.offsets = nil
 		c.offsetsBox.RemoveAll()
 		for k := 0; k < apertures; k++ {
-			k := k
-			ctl := newNumberControl(fmt.Sprintf("Aperture %d", k), -3, 3, 0.01, "%.2f", func(v float64) {
-				c.ws.change(fmt.Sprintf("offset %d", k), func(r *recipe.Recipe) {
+			name := fmt.Sprintf("Aperture %d", k)
+			ctl := newNumberControl(name, -3, 3, 0.001, "%.3f", func(v float64) {
+				c.act.edit("offset "+name, func(s *settings) bool {
+					r := &s.Recipe
 					n := max(r.Sweep.Apertures, k+1)
 					offs := make([]float64, n)
+					// Automatic offsets become the start of hand-set ones.
+					copy(offs, c.autoOffsets)
 					copy(offs, r.Sweep.ApertureOffsetsDeg)
 					offs[k] = v
 					r.Sweep.ApertureOffsetsDeg = offs
+					return true
 				})
 			})
+			ctl.nudgeStep = 0.01
+			ctl.slider.gesture = func(start bool) { c.act.gesture("offset "+name, start) }
 			c.offsets = append(c.offsets, ctl)
 			c.offsetsBox.Add(ctl.box)
 		}
 		if apertures == 0 {
 			c.offsetsBox.Add(widget.NewLabel("(none: this sweep has no apertures)"))
-			c.estimate.Disable()
-		} else {
-			c.estimate.Enable()
 		}
 	}
+	enable(c.estimate, apertures > 0)
 	for k, ctl := range c.offsets {
 		v := 0.0
 		if k < len(values) {
@@ -503,36 +592,6 @@ func (c *controlPanel) showOffsets(apertures int, values []float64) {
 		}
 		ctl.set(v)
 	}
-}
-
-// showTone puts a tone into the tone controls (after Auto).
-func (c *controlPanel) showTone(t recon.Tone, f *recon.Frame) {
-	c.quiet = true
-	defer func() { c.quiet = false }()
-	c.showToneQuiet(t, f)
-}
-
-func (c *controlPanel) showToneQuiet(t recon.Tone, f *recon.Frame) {
-	if f != nil && f != c.toneFrame {
-		c.toneFrame = f
-		lo, hi := coveredRange(f)
-		span := hi - lo
-		if !(span > 0) {
-			span = 1
-		}
-		c.level.slider.Step = span / 1000
-		c.window.slider.Step = span / 1000
-		c.level.setRange(lo-0.25*span, hi+0.25*span)
-		c.window.setRange(span/1000, 2*span)
-	}
-	c.window.set(t.Window)
-	c.level.set(t.Level)
-	g := t.Gamma
-	if g == 0 {
-		g = 1
-	}
-	c.gamma.set(g)
-	c.invert.SetChecked(t.Invert)
 }
 
 // coveredRange is the smallest and largest value of the covered pixels.
@@ -547,4 +606,13 @@ func coveredRange(f *recon.Frame) (lo, hi float64) {
 		return 0, 1
 	}
 	return lo, hi
+}
+
+// formatPairs writes calibration points one "level  mm" pair a line.
+func formatPairs(points [][2]float64) string {
+	var b strings.Builder
+	for _, p := range points {
+		fmt.Fprintf(&b, "%g  %g\n", p[0], p[1])
+	}
+	return strings.TrimSuffix(b.String(), "\n")
 }

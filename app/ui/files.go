@@ -189,7 +189,7 @@ func (c *captureChooser) open() {
 	case st.IsDir():
 		c.again("This is a folder", fmt.Sprintf("%s is a folder, not a capture.", path), "add the file's name, or press Browse… to pick it.")
 	default:
-		c.ws.OpenFile(path, nil)
+		c.ws.askDiscard("open "+filepath.Base(path), func() { c.ws.OpenFile(path, nil) })
 	}
 }
 
@@ -216,7 +216,7 @@ func (c *captureChooser) browse() {
 		rc.Close()
 		c.path.SetText(path)
 		c.dialog.Hide()
-		c.ws.OpenFile(path, nil)
+		c.ws.askDiscard("open "+filepath.Base(path), func() { c.ws.OpenFile(path, nil) })
 	}, c.ws.win)
 	if c.offer.Selected != offerAll {
 		d.SetFilter(captureFilter{})
@@ -325,6 +325,7 @@ func (s *recipeSaver) save() {
 			again("Cannot save the recipe", err.Error()+".", "choose a folder you can write to.")
 			return
 		}
+		s.ws.tuningSaved()
 		s.ws.stage.SetText("Recipe saved to " + path)
 	}
 	if fileExists(path) {

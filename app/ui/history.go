@@ -2,7 +2,6 @@ package ui
 
 import (
 	"encoding/json"
-	"time"
 
 	"spotloom/recon"
 	"spotloom/recon/recipe"
@@ -43,33 +42,36 @@ func sameSettings(a, b settings) bool {
 	return a.Tone == b.Tone && sameRecipe(a.Recipe, b.Recipe)
 }
 
-// mergeWindow is how long a run of changes to one control counts as a
-// single step of undo: dragging a slider is one step, not a hundred.
-const mergeWindow = 1200 * time.Millisecond
-
-// history keeps undo and redo stacks of settings.
+// history keeps undo and redo stacks of settings. A drag of a slider is
+// one step: the step is recorded when the drag starts and the changes
+// until it ends (Fyne's drag end) merge into it.
 type history struct {
-	undo, redo  []settings
-	lastControl string
-	lastAt      time.Time
-	now         func() time.Time
-	limit       int
+	undo, redo []settings
+	// gesture is the control being dragged ("" when none) and stepped
+	// whether its step was already recorded.
+	gesture string
+	stepped bool
+	limit   int
 }
 
 func newHistory() *history {
-	return &history{now: time.Now, limit: 200}
+	return &history{limit: 200}
 }
 
+// begin and end bracket a drag of control.
+func (h *history) begin(control string) { h.gesture, h.stepped = control, false }
+func (h *history) end()                 { h.gesture, h.stepped = "", false }
+
 // record notes that control is about to change the settings from before.
-// Changes to the same control in quick succession merge into one step.
-// It returns true when a new step was pushed.
+// Changes during one drag of a control merge into one step. It returns
+// true when a new step was pushed.
 func (h *history) record(control string, before settings) bool {
-	t := h.now()
-	merge := control != "" && control == h.lastControl && t.Sub(h.lastAt) < mergeWindow && len(h.undo) > 0
-	h.lastControl, h.lastAt = control, t
 	h.redo = nil
-	if merge {
-		return false
+	if control != "" && control == h.gesture {
+		if h.stepped && len(h.undo) > 0 {
+			return false
+		}
+		h.stepped = true
 	}
 	h.undo = append(h.undo, before.clone())
 	if len(h.undo) > h.limit {
@@ -83,7 +85,7 @@ func (h *history) dropLast() {
 	if len(h.undo) > 0 {
 		h.undo = h.undo[:len(h.undo)-1]
 	}
-	h.lastControl = ""
+	h.stepped = false
 }
 
 // back returns the settings to restore for undo, given the current ones.
@@ -94,7 +96,7 @@ func (h *history) back(current settings) (settings, bool) {
 	prev := h.undo[len(h.undo)-1]
 	h.undo = h.undo[:len(h.undo)-1]
 	h.redo = append(h.redo, current.clone())
-	h.lastControl = ""
+	h.end()
 	return prev, true
 }
 
@@ -106,7 +108,7 @@ func (h *history) forward(current settings) (settings, bool) {
 	next := h.redo[len(h.redo)-1]
 	h.redo = h.redo[:len(h.redo)-1]
 	h.undo = append(h.undo, current.clone())
-	h.lastControl = ""
+	h.end()
 	return next, true
 }
 

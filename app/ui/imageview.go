@@ -86,6 +86,30 @@ func (v *ImageView) SetFrame(f *recon.Frame, t recon.Tone) {
 	v.Refresh()
 }
 
+// place returns the zoom and centre, for the session file.
+func (v *ImageView) place() viewPlace {
+	v.mu.Lock()
+	defer v.mu.Unlock()
+	if v.autoFit {
+		return viewPlace{}
+	}
+	v.applyFit()
+	return viewPlace{Zoom: v.zoom, CentreX: v.centreX, CentreY: v.centreY}
+}
+
+// setPlace puts back a zoom and centre from place.
+func (v *ImageView) setPlace(p viewPlace) {
+	if !(p.Zoom > 0) {
+		return
+	}
+	v.mu.Lock()
+	v.fit, v.autoFit = false, false
+	v.zoom, v.centreX, v.centreY = p.Zoom, p.CentreX, p.CentreY
+	v.mu.Unlock()
+	v.Refresh()
+	v.zoomChanged()
+}
+
 // Reset makes the next frame fit the view (a new capture).
 func (v *ImageView) Reset() {
 	v.mu.Lock()

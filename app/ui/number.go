@@ -12,14 +12,17 @@ import (
 )
 
 // numberControl is a labelled slider with an entry beside it for typing an
-// exact value. Setting the value from code (set) does not call onChange.
+// exact value. Showing a value (set) never calls onChange; the user's
+// moves, nudges and typed values do.
 type numberControl struct {
 	label  *widget.Label
-	slider *widget.Slider
+	slider *fineSlider
 	entry  *widget.Entry
 	format string
-	quiet  bool
 	value  float64
+	// nudgeStep is the step of one arrow key (0: a round fraction of the
+	// slider's span, never below its step).
+	nudgeStep float64
 	// onChange is called with the new value as the user moves or types.
 	onChange func(v float64)
 	box      fyne.CanvasObject
@@ -30,13 +33,11 @@ type numberControl struct {
 func newNumberControl(name string, lo, hi, step float64, format string, onChange func(float64)) *numberControl {
 	c := &numberControl{format: format, onChange: onChange}
 	c.label = widget.NewLabel(name)
-	c.slider = widget.NewSlider(lo, hi)
+	c.slider = newFineSlider(lo, hi)
 	c.slider.Step = step
 	c.entry = widget.NewEntry()
-	c.slider.OnChanged = func(v float64) {
-		if c.quiet {
-			return
-		}
+	c.slider.nudge = c.nudge
+	c.slider.moved = func(v float64) {
 		c.value = v
 		c.showEntry()
 		if c.onChange != nil {
@@ -53,6 +54,14 @@ func newNumberControl(name string, lo, hi, step float64, format string, onChange
 	entryBox := container.NewGridWrap(fyne.NewSize(100, c.entry.MinSize().Height), c.entry)
 	c.box = container.NewBorder(c.label, nil, nil, entryBox, c.slider)
 	return c
+}
+
+// nudge is the step of one arrow key press.
+func (c *numberControl) nudge() float64 {
+	if c.nudgeStep > 0 {
+		return c.nudgeStep
+	}
+	return math.Max(c.slider.Step, niceLength((c.slider.Max-c.slider.Min)/200))
 }
 
 func parseNumber(text string) (float64, error) {
@@ -72,7 +81,7 @@ func (c *numberControl) typed(text string) {
 		c.showEntry()
 		return
 	}
-	c.setQuiet(v)
+	c.set(v)
 	if c.onChange != nil {
 		c.onChange(v)
 	}
@@ -80,12 +89,6 @@ func (c *numberControl) typed(text string) {
 
 // set shows v without calling onChange.
 func (c *numberControl) set(v float64) {
-	c.setQuiet(v)
-}
-
-func (c *numberControl) setQuiet(v float64) {
-	c.quiet = true
-	defer func() { c.quiet = false }()
 	c.value = v
 	if v < c.slider.Min {
 		c.slider.Min = v
@@ -93,7 +96,7 @@ func (c *numberControl) setQuiet(v float64) {
 	if v > c.slider.Max {
 		c.slider.Max = v
 	}
-	c.slider.SetValue(v)
+	c.slider.show(v)
 	c.showEntry()
 }
 
@@ -102,17 +105,12 @@ func (c *numberControl) setRange(lo, hi float64) {
 	if !(hi > lo) {
 		return
 	}
-	c.quiet = true
-	defer func() { c.quiet = false }()
 	c.slider.Min, c.slider.Max = math.Min(lo, c.value), math.Max(hi, c.value)
 	c.slider.Refresh()
 }
 
 func (c *numberControl) showEntry() {
-	was := c.quiet
-	c.quiet = true
 	c.entry.SetText(fmt.Sprintf(c.format, c.value))
-	c.quiet = was
 }
 
 func (c *numberControl) enable(on bool) {

@@ -21,13 +21,12 @@ import (
 // the recipe buttons.
 type sourcePanel struct {
 	ws       *Workstation
-	quiet    bool
 	info     *widget.Label
 	note     *widget.Label
-	recent   *widget.Select
-	detector *widget.Select
-	index    *widget.Select
-	position *widget.Select
+	recent   *choice
+	detector *choice
+	index    *choice
+	position *choice
 	options  []string // "N · name (unit)" per channel
 	box      fyne.CanvasObject
 }
@@ -41,16 +40,16 @@ func newSourcePanel(ws *Workstation) *sourcePanel {
 	p.note = widget.NewLabel("")
 	p.note.Wrapping = fyne.TextWrapWord
 	p.note.Importance = widget.LowImportance
-	p.recent = widget.NewSelect(nil, func(path string) {
-		if p.quiet || path == "" {
+	p.recent = newChoice(nil, func(path string) {
+		if path == "" {
 			return
 		}
-		ws.OpenFile(path, nil)
+		ws.askDiscard("open "+filepath.Base(path), func() { ws.OpenFile(path, nil) })
 	})
 	p.recent.PlaceHolder = "Recent captures"
-	p.detector = widget.NewSelect(nil, func(string) { p.rolesChanged() })
-	p.index = widget.NewSelect(nil, func(string) { p.rolesChanged() })
-	p.position = widget.NewSelect(nil, func(string) { p.rolesChanged() })
+	p.detector = newChoice(nil, func(o string) { p.roleChosen(roleDetector, o) })
+	p.index = newChoice(nil, func(o string) { p.roleChosen(roleIndex, o) })
+	p.position = newChoice(nil, func(o string) { p.roleChosen(rolePosition, o) })
 	roles := container.New(layout.NewFormLayout(),
 		roleLabel(0, "Detector"), p.detector,
 		roleLabel(1, "Index pulse"), p.index,
@@ -77,11 +76,8 @@ func newSourcePanel(ws *Workstation) *sourcePanel {
 func (p *sourcePanel) object() fyne.CanvasObject { return p.box }
 
 func (p *sourcePanel) showRecent(list []string) {
-	p.quiet = true
-	p.recent.Options = list
-	p.recent.ClearSelected()
+	p.recent.Options, p.recent.Selected = list, ""
 	p.recent.Refresh()
-	p.quiet = false
 }
 
 // showCapture describes rec and fills the role lists from its channels.
@@ -99,11 +95,8 @@ func (p *sourcePanel) showCapture(rec *capture.Recording, path, note string) {
 	for i, c := range rec.Channels {
 		p.options = append(p.options, channelOption(i, c))
 	}
-	p.quiet = true
-	p.detector.Options = p.options
-	p.index.Options = p.options
-	p.position.Options = append([]string{noChannel}, p.options...)
-	p.quiet = false
+	withNone := append([]string{noChannel}, p.options...)
+	p.detector.Options, p.index.Options, p.position.Options = withNone, withNone, withNone
 	if note != "" {
 		p.note.SetText("Settings: " + note + ".")
 		p.note.Show()
@@ -125,24 +118,19 @@ func channelOption(i int, c capture.Channel) string {
 	return fmt.Sprintf("%d · %s", i, name)
 }
 
-// showRoles selects the channels r names.
+// showRoles selects the channels r names ("none" for a role without one).
 func (p *sourcePanel) showRoles(r recipe.Recipe) {
-	p.quiet = true
-	defer func() { p.quiet = false }()
 	det, idx, pos := p.ws.roleChannels(r)
-	pick := func(s *widget.Select, i int, allowNone bool) {
-		switch {
-		case i >= 0 && i < len(p.options):
-			s.SetSelected(p.options[i])
-		case allowNone:
-			s.SetSelected(noChannel)
-		default:
-			s.ClearSelected()
+	pick := func(s *choice, i int) {
+		if i >= 0 && i < len(p.options) {
+			s.show(p.options[i])
+		} else {
+			s.show(noChannel)
 		}
 	}
-	pick(p.detector, det, false)
-	pick(p.index, idx, false)
-	pick(p.position, pos, true)
+	pick(p.detector, det)
+	pick(p.index, idx)
+	pick(p.position, pos)
 }
 
 func optionChannel(option string) (recipe.ChannelRef, bool) {
@@ -156,25 +144,38 @@ func optionChannel(option string) (recipe.ChannelRef, bool) {
 	return recipe.ChannelRef(num), true
 }
 
-func (p *sourcePanel) rolesChanged() {
-	if p.quiet {
-		return
-	}
-	det, okDet := optionChannel(p.detector.Selected)
-	idx, okIdx := optionChannel(p.index.Selected)
-	pos, okPos := optionChannel(p.position.Selected)
-	if !okDet || !okIdx {
-		return
-	}
-	p.ws.change("channels", func(r *recipe.Recipe) {
-		r.Channels.Detector, r.Channels.Index = det, idx
-		switch {
-		case r.Rows.Source == recipe.SourceSteps:
-			r.Channels.Steps = pos
-		case okPos:
-			r.Channels.Position = pos
-		default:
-			r.Channels.Position = ""
+// The channel roles, in the order of the role lists.
+const (
+	roleDetector = iota
+	roleIndex
+	rolePosition
+)
+
+// roleChosen gives role the channel option names. A channel another role
+// holds moves to this role in one step, and that role takes this role's
+// old channel (or none): roles swap rather than clash.
+func (p *sourcePanel) roleChosen(role int, option string) {
+	ch, _ := optionChannel(option)
+	p.ws.change("channel roles", func(r *recipe.Recipe) {
+		det, idx, pos := p.ws.roleChannels(*r)
+		refs := [3]recipe.ChannelRef{}
+		for i, n := range [3]int{det, idx, pos} {
+			if n >= 0 {
+				refs[i] = recipe.ChannelRef(strconv.Itoa(n))
+			}
+		}
+		old := refs[role]
+		for i := range refs {
+			if i != role && ch != "" && refs[i] == ch {
+				refs[i] = old
+			}
+		}
+		refs[role] = ch
+		r.Channels.Detector, r.Channels.Index = refs[roleDetector], refs[roleIndex]
+		if r.Rows.Source == recipe.SourceSteps {
+			r.Channels.Steps = refs[rolePosition]
+		} else {
+			r.Channels.Position = refs[rolePosition]
 		}
 	})
 }

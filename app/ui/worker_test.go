@@ -6,7 +6,6 @@ import (
 	"sync"
 	"sync/atomic"
 	"testing"
-	"time"
 
 	"spotloom/recon"
 )
@@ -120,24 +119,27 @@ func TestWorkerKeepsOtherJobs(t *testing.T) {
 	}
 }
 
-func TestHistoryMergesRunsOfOneControl(t *testing.T) {
+// TestHistoryStepsEndWithTheDrag: the changes of one drag are one step,
+// however long it lasts; the next drag of the same control, a typed value
+// or another control each make a step of their own.
+func TestHistoryStepsEndWithTheDrag(t *testing.T) {
 	h := newHistory()
-	now := time.Unix(0, 0)
-	h.now = func() time.Time { return now }
 	s := func(level float64) settings { return settings{Tone: recon.Tone{Level: level}} }
 
+	h.begin("level")
 	h.record("level", s(1)) // 1 → 2
-	now = now.Add(100 * time.Millisecond)
-	h.record("level", s(2)) // 2 → 3, same drag
-	now = now.Add(100 * time.Millisecond)
-	h.record("gamma", s(3)) // another control: a new step
-	now = now.Add(3 * time.Second)
-	h.record("gamma", s(4)) // after a pause: a new step
-	if len(h.undo) != 3 {
-		t.Fatalf("%d steps, want 3", len(h.undo))
+	h.record("level", s(2)) // 2 → 3, same drag, even much later
+	h.end()
+	h.begin("level")
+	h.record("level", s(3)) // a second drag: a new step
+	h.end()
+	h.record("gamma", s(4)) // another control, typed
+	h.record("gamma", s(5)) // typed again: a new step
+	if len(h.undo) != 4 {
+		t.Fatalf("%d steps, want 4", len(h.undo))
 	}
-	cur := s(5)
-	for _, want := range []float64{4, 3, 1} {
+	cur := s(6)
+	for _, want := range []float64{5, 4, 3, 1} {
 		var ok bool
 		cur, ok = h.back(cur)
 		if !ok || cur.Tone.Level != want {

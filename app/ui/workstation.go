@@ -3,6 +3,7 @@ package ui
 import (
 	"fmt"
 	"image/color"
+	"io"
 	"path/filepath"
 	"strings"
 	"time"
@@ -30,6 +31,9 @@ type Options struct {
 	// rate, a raw layout); files opened later from the window are read
 	// with their own settings.
 	Capture capture.Options
+	// SessionFile is where the session is autosaved and offered back from
+	// on the next start ("" keeps none; DefaultSessionFile is the usual).
+	SessionFile string
 }
 
 // Workstation is the Spotloom window: the source and controls on the
@@ -45,21 +49,26 @@ type Workstation struct {
 	work *worker
 
 	// State of the capture shown.
-	rec        *capture.Recording
-	engine     Engine
-	sourcePath string // "" for the built-in demo
-	sourceName string
-	cur        settings // what the controls show
-	good       settings // what the image was built with
-	result     *Result
-	frameIndex int
-	hist       *history
-	followLine bool // the trace strip follows the pointer
-	problem    string
-	buildSeq   int
-	lastBuild  time.Duration
-	afterBuild string // a note to show with the next finished build
-	settled    string // what the status line said after the last open or build
+	rec         *capture.Recording
+	engine      Engine
+	sourcePath  string // "" for the built-in demo
+	sourceName  string
+	cur         settings // what the controls show
+	good        settings // what the image was built with
+	result      *Result
+	frameIndex  int
+	hist        *history
+	followLine  bool // the trace strip follows the pointer
+	problem     string
+	buildSeq    int
+	lastBuild   time.Duration
+	afterBuild  string   // a note to show with the next finished build
+	settled     string   // what the status line said after the last open or build
+	clean       settings // the settings as opened or last saved
+	tonedInvert bool     // the detector polarity the tone was fitted for
+	resume      *savedSession
+	sessionNote string
+	saveTimer   *time.Timer
 
 	view     *ImageView
 	strip    *TraceStrip
@@ -142,7 +151,14 @@ func (ws *Workstation) build() {
 	ws.view.OnTap = ws.imageTapped
 	ws.view.OnZoom = func(z float32) { ws.showZoom(z) }
 	ws.strip = NewTraceStrip()
-	ws.controls = newControlPanel(ws)
+	ws.controls = newControlPanel(panelActions{
+		edit: ws.edit, gesture: ws.gesture, problem: ws.showProblem,
+		estimate: ws.EstimateOffsets, autoTone: ws.AutoTone,
+	})
+	ws.controls.cal.load = ws.choosePairs
+	ws.controls.cal.list = func(title string, body fyne.CanvasObject) {
+		ws.showDialog(dialog.NewCustom(title, "Close", body, ws.win))
+	}
 	ws.facts = newFactsPanel()
 	ws.source = newSourcePanel(ws)
 
@@ -187,7 +203,8 @@ func (ws *Workstation) build() {
 	middle := container.NewVSplit(imageArea, stripArea)
 	middle.Offset = 0.68
 
-	ws.leftBox = container.NewVBox(ws.source.object(), ws.controls.object())
+	ws.controls.groups.Append(widget.NewAccordionItem("Source and channel roles", ws.source.object()))
+	ws.leftBox = container.NewVBox(ws.controls.object())
 	ws.leftScroll = container.NewVScroll(ws.leftBox)
 	left := container.New(fixedWidth{340}, ws.leftScroll)
 	right := container.New(fixedWidth{260}, container.NewVScroll(ws.facts.object()))
@@ -206,7 +223,7 @@ func (ws *Workstation) build() {
 	ws.redoButton = widget.NewButtonWithIcon("Redo", theme.ContentRedoIcon(), ws.Redo)
 	top := container.NewHBox(
 		widget.NewButtonWithIcon("Open capture…", theme.FolderOpenIcon(), ws.ChooseCapture),
-		widget.NewButtonWithIcon("Demo", theme.MediaPlayIcon(), ws.OpenDemo),
+		widget.NewButtonWithIcon("Demo", theme.MediaPlayIcon(), ws.ChooseDemo),
 		widget.NewSeparator(),
 		widget.NewButtonWithIcon("Export…", theme.DocumentSaveIcon(), ws.ShowExport),
 		widget.NewSeparator(),
@@ -242,6 +259,9 @@ func (ws *Workstation) buildMenu() {
 		m.Shortcut = sc
 		return m
 	}
+	quit := item("Quit", short(fyne.KeyQ, ctrl), ws.Quit)
+	quit.IsQuit = true
+	ws.win.SetCloseIntercept(ws.Quit)
 	ws.recentMenu = fyne.NewMenuItem("Recent captures", nil)
 	ws.refreshRecentMenu()
 	ws.menuUndo = item("Undo", &fyne.ShortcutUndo{}, ws.Undo)
@@ -253,12 +273,14 @@ func (ws *Workstation) buildMenu() {
 	file := fyne.NewMenu("File",
 		item("Open capture…", short(fyne.KeyO, ctrl), ws.ChooseCapture),
 		ws.recentMenu,
-		item("Open built-in demo", short(fyne.KeyD, ctrl), ws.OpenDemo),
+		item("Open built-in demo", short(fyne.KeyD, ctrl), ws.ChooseDemo),
 		fyne.NewMenuItemSeparator(),
 		item("Load recipe…", short(fyne.KeyL, ctrl), ws.ChooseRecipe),
 		item("Save recipe…", short(fyne.KeyS, ctrl), ws.SaveRecipe),
 		fyne.NewMenuItemSeparator(),
 		item("Export…", short(fyne.KeyE, ctrl), ws.ShowExport),
+		fyne.NewMenuItemSeparator(),
+		quit,
 	)
 	edit := fyne.NewMenu("Edit",
 		ws.menuUndo, ws.menuRedo,
@@ -407,12 +429,97 @@ func (m *minWidth) Layout(objects []fyne.CanvasObject, size fyne.Size) {
 	}
 }
 
+// modified reports whether the settings differ from those opened or last
+// saved.
+func (ws *Workstation) modified() bool {
+	return ws.result != nil && !sameSettings(ws.cur, ws.clean)
+}
+
+// Modified reports whether the window holds tuning that is not saved.
+func (ws *Workstation) Modified() bool { return ws.modified() }
+
 func (ws *Workstation) setTitle() {
 	name := ws.sourceName
 	if name == "" {
 		name = "no capture"
 	}
+	if ws.modified() {
+		name = "● " + name + " (not saved)"
+	}
 	ws.win.SetTitle("Spotloom — " + name)
+}
+
+// tuningSaved notes that the settings shown are kept in a file.
+func (ws *Workstation) tuningSaved() {
+	ws.clean = ws.cur.clone()
+	ws.setTitle()
+	ws.saveSession()
+}
+
+// askDiscard runs then at once when nothing is unsaved, else after the
+// user agrees to leave the tuning (which the session file still keeps).
+func (ws *Workstation) askDiscard(what string, then func()) {
+	if !ws.modified() {
+		then()
+		return
+	}
+	d := dialog.NewConfirm("Leave the tuning?",
+		fmt.Sprintf("The settings of %s have changed since they were opened or saved.\nLeave them and %s? (Save recipe… keeps them.)", ws.sourceName, what),
+		func(yes bool) {
+			if yes {
+				then()
+			}
+		}, ws.win)
+	d.SetConfirmText("Leave them")
+	d.SetDismissText("Keep tuning")
+	ws.showDialog(d)
+}
+
+// ChooseDemo opens the built-in demo, asking first if tuning would be lost.
+func (ws *Workstation) ChooseDemo() { ws.askDiscard("open the built-in demo", ws.OpenDemo) }
+
+// Quit closes the window, asking first if tuning would be lost.
+func (ws *Workstation) Quit() {
+	ws.askDiscard("quit", func() {
+		ws.saveSession()
+		ws.win.SetCloseIntercept(nil)
+		ws.win.Close()
+		if ws.app != nil {
+			ws.app.Quit()
+		}
+	})
+}
+
+// sessionChanged saves the session a moment after the last change, so a
+// drag does not write the file at every step.
+func (ws *Workstation) sessionChanged() {
+	ws.setTitle()
+	if ws.opts.SessionFile == "" {
+		return
+	}
+	if ws.saveTimer != nil {
+		ws.saveTimer.Stop()
+	}
+	ws.saveTimer = time.AfterFunc(time.Second, func() { fyne.Do(ws.saveSession) })
+}
+
+// choosePairs asks for a text file of calibration pairs.
+func (ws *Workstation) choosePairs(done func(text, name string)) {
+	d := dialog.NewFileOpen(func(rc fyne.URIReadCloser, err error) {
+		if err != nil || rc == nil {
+			return
+		}
+		defer rc.Close()
+		data, err := io.ReadAll(io.LimitReader(rc, 64<<20))
+		if err != nil {
+			ws.showProblem("Cannot read the calibration", err.Error(), "pick the file again.")
+			return
+		}
+		done(string(data), rc.URI().Name())
+	}, ws.win)
+	ws.startIn(d, ws.sourcePath)
+	d.Resize(fyne.NewSize(820, 560))
+	d.Show()
 }
 
 func (ws *Workstation) showZoom(unitsPerMM float32) {

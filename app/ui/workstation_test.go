@@ -134,7 +134,7 @@ func TestDelayControlChangesImage(t *testing.T) {
 	pixBefore := framePixels(before)
 	d0 := ws.result.Report.DelayDeg
 	const stepDeg = 1.5
-	ws.controls.delay.typed(fmt.Sprintf("%.4f", d0+stepDeg))
+	ws.controls.number(ctlDelay).typed(fmt.Sprintf("%.4f", d0+stepDeg))
 	ws.Wait()
 	if p := ws.Problem(); p != "" {
 		t.Fatalf("the delay change was refused: %s", p)
@@ -179,7 +179,7 @@ func TestUndoRestoresSettingsAndImage(t *testing.T) {
 	r0 := cloneRecipe(ws.cur.Recipe)
 	pix0 := framePixels(ws.result.Frames[0])
 	d0 := ws.result.Report.DelayDeg
-	ws.controls.delay.typed(fmt.Sprintf("%.4f", d0+2))
+	ws.controls.number(ctlDelay).typed(fmt.Sprintf("%.4f", d0+2))
 	ws.Wait()
 	pix1 := framePixels(ws.result.Frames[0])
 	if !ws.hist.canUndo() {
@@ -193,8 +193,8 @@ func TestUndoRestoresSettingsAndImage(t *testing.T) {
 	if !equalPix(ws.result.Frames[0].Pix, pix0) {
 		t.Error("undo did not bring the first image back")
 	}
-	if math.Abs(ws.controls.delay.value-d0) > 1e-6 {
-		t.Errorf("the delay control shows %.4f after undo, want %.4f", ws.controls.delay.value, d0)
+	if math.Abs(ws.controls.number(ctlDelay).value-d0) > 1e-6 {
+		t.Errorf("the delay control shows %.4f after undo, want %.4f", ws.controls.number(ctlDelay).value, d0)
 	}
 	ws.Redo()
 	ws.Wait()
@@ -388,7 +388,7 @@ func TestThresholdControlReachesTheEngine(t *testing.T) {
 	// 70 % of the swing both levels are well clear of the noise.
 	for _, frac := range []float64{0.3, 0.7} {
 		level := span[0] + frac*(span[1]-span[0])
-		ws.controls.threshold.typed(fmt.Sprintf("%.5f", level))
+		ws.controls.number(ctlThreshold).typed(fmt.Sprintf("%.5f", level))
 		ws.Wait()
 		if p := ws.Problem(); p != "" {
 			t.Fatalf("threshold %.3f refused: %s", level, p)
@@ -438,7 +438,7 @@ func TestCancelKeepsImageAndSettings(t *testing.T) {
 		t.Error("Stop is enabled with nothing running")
 	}
 	shown, before := ws.result, ws.cur.clone()
-	ws.controls.delay.typed(fmt.Sprintf("%.3f", ws.result.Report.DelayDeg+3))
+	ws.controls.number(ctlDelay).typed(fmt.Sprintf("%.3f", ws.result.Report.DelayDeg+3))
 	<-slow.started
 	if !ws.work.busy() {
 		t.Fatal("the build is not running")
@@ -473,7 +473,7 @@ func TestApertureControlReachesTheEngine(t *testing.T) {
 		t.Fatalf("demo recipe has %d apertures, want the demo rig's 6", ws.result.Recipe.Sweep.Apertures)
 	}
 	for _, n := range []int{4, 6} {
-		ws.controls.apertures.typed(fmt.Sprint(n))
+		ws.controls.number(ctlApertures).typed(fmt.Sprint(n))
 		ws.Wait()
 		if p := ws.Problem(); p != "" {
 			t.Fatalf("%d apertures refused: %s", n, p)
@@ -545,7 +545,7 @@ func TestSignalInvertNegatesTheFrame(t *testing.T) {
 	ws, _ := newTestWorkstation(t)
 	before := ws.result.Frames[0]
 	pix := framePixels(before)
-	ws.controls.signalInvert.SetChecked(true)
+	ws.controls.toggle(ctlPolarity).SetChecked(true)
 	ws.Wait()
 	if p := ws.Problem(); p != "" {
 		t.Fatalf("invert refused: %s", p)
@@ -572,10 +572,10 @@ func TestSignalInvertNegatesTheFrame(t *testing.T) {
 // edge rows), and a new speed rescales it.
 func TestEvenSpeedControl(t *testing.T) {
 	ws, _ := newTestWorkstation(t)
-	ws.controls.rowsSource.SetSelected(rowsSourceNames[3])
+	ws.controls.choice(ctlRows).SetSelected(rowsSourceNames[3])
 	ws.Wait()
 	for _, v := range []float64{10, 20} {
-		ws.controls.speed.typed(fmt.Sprint(v))
+		ws.controls.number(ctlSpeed).typed(fmt.Sprint(v))
 		ws.Wait()
 		if p := ws.Problem(); p != "" {
 			t.Fatalf("speed %g refused: %s", v, p)
