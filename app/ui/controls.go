@@ -216,12 +216,12 @@ func controlTable() []control {
 
 		{name: ctlWindow, group: groupTone, kind: kindNumber, lo: 0, hi: 1, format: "%.4g",
 			span: frameSpan(func(lo, hi, span float64) (float64, float64) { return span / 1000, 2 * span }),
-			get: func(v shown) float64 { return v.s.Tone.Window },
-			set: func(s *settings, x float64) bool { s.Tone.Window = math.Max(x, 0); return true }},
+			get:  func(v shown) float64 { return v.s.Tone.Window },
+			set:  func(s *settings, x float64) bool { s.Tone.Window = math.Max(x, 0); return true }},
 		{name: ctlLevel, group: groupTone, kind: kindNumber, lo: 0, hi: 1, format: "%.4g",
 			span: frameSpan(func(lo, hi, span float64) (float64, float64) { return lo - 0.25*span, hi + 0.25*span }),
-			get: func(v shown) float64 { return v.s.Tone.Level },
-			set: func(s *settings, x float64) bool { s.Tone.Level = x; return true }},
+			get:  func(v shown) float64 { return v.s.Tone.Level },
+			set:  func(s *settings, x float64) bool { s.Tone.Level = x; return true }},
 		{name: ctlGamma, group: groupTone, kind: kindNumber, lo: 0.2, hi: 4, step: 0.01, format: "%.2f",
 			get: func(v shown) float64 {
 				if v.s.Tone.Gamma == 0 {
