@@ -434,7 +434,7 @@ func splitRecord(rec []byte, delim byte, fields [][]byte, cols []int) ([][]byte,
 			for {
 				k := bytes.IndexByte(rec[j:], '"')
 				if k < 0 {
-					return fields, cols, &csvSyntaxError{col: i + 1, msg: "quoted field does not close", expected: "a closing double quote (RFC 4180 section 2, rule 5)"}
+					return fields, cols, quotingError(i+1, "quoted field does not close", "a closing double quote (RFC 4180 section 2, rule 5)")
 				}
 				if j+k+1 < len(rec) && rec[j+k+1] == '"' {
 					if !doubled {
@@ -469,7 +469,7 @@ func splitRecord(rec []byte, delim byte, fields [][]byte, cols []int) ([][]byte,
 				return fields, cols, nil
 			}
 			if rec[i] != delim {
-				return fields, cols, &csvSyntaxError{col: i + 1, msg: fmt.Sprintf("%q after a closing quote", rec[i]), expected: "the " + delimName(delim) + " delimiter or the end of the row (RFC 4180 section 2, rule 7)"}
+				return fields, cols, quotingError(i+1, fmt.Sprintf("%q after a closing quote", rec[i]), "the "+delimName(delim)+" delimiter or the end of the row (RFC 4180 section 2, rule 7)")
 			}
 			i++
 			continue
@@ -499,14 +499,11 @@ func splitRecord(rec []byte, delim byte, fields [][]byte, cols []int) ([][]byte,
 	}
 }
 
-// csvSyntaxError is a quoting error inside one record.
-type csvSyntaxError struct {
-	col      int
-	msg      string
-	expected string
+// quotingError is a quoting error at byte column col of a record; the
+// caller places it on its line with cellPlace.
+func quotingError(col int, problem, expected string) *FormatError {
+	return &FormatError{Format: "csv", Place: AtLine(0, col), Problem: problem, Expected: expected}
 }
-
-func (e *csvSyntaxError) Error() string { return e.msg }
 
 // pow10 holds the powers of ten that float64 represents exactly.
 var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}

@@ -32,6 +32,8 @@ func TestCSVInstrumentQuirks(t *testing.T) {
 		{"repeating time, rate from the span", "time,a\n0,1\n0,2\n1,3\n1,4\n2,5\n2,6\n", 2.5, []string{"a"}, []string{""}, []float32{1}, "too few digits"},
 		// the same with a stated interval of 0.4 s that fits the ramp
 		{"repeating time, stated interval", "Sample interval,0.4\ntime,a\n0,1\n0,2\n1,3\n1,4\n2,5\n2,6\n", 2.5, []string{"a"}, []string{""}, []float32{1}, "from the stated interval"},
+		// without a header, a repeating first column is still the time
+		{"repeating time, no header", "Sample interval,0.4\n0,1\n0,2\n1,3\n1,4\n2,5\n2,6\n", 2.5, []string{"ch0"}, []string{""}, []float32{1}, "from the stated interval"},
 		// a spreadsheet's generic header: the ramp "x" is time, "y" a signal
 		{"generic header, time ramp", "x,y\n0.0,5\n0.1,7\n0.2,6\n0.3,8\n", 10, []string{"y"}, []string{""}, []float32{5}, ""},
 		{"numeric channel names", "Time,1,2\n0,5,6\n0.5,7,8\n1.0,9,10\n", 2, []string{"1", "2"}, []string{"", ""}, []float32{5, 6}, ""},

@@ -245,8 +245,9 @@ func (r *csvRowReader) next() (ok bool, err error) {
 	r.text, r.line = text, line
 	r.fields, r.cols, err = splitRecord(text, r.shape.delim, r.fields, r.cols)
 	if err != nil {
-		se := err.(*csvSyntaxError)
-		return false, &FormatError{Format: "csv", Place: cellPlace(text, line, se.col), Problem: se.msg, Expected: se.expected}
+		fe := err.(*FormatError)
+		fe.Place = cellPlace(text, line, fe.Place.Column)
+		return false, fe
 	}
 	if r.shape.trailingDrop || len(r.fields) == r.shape.fields+1 {
 		r.fields = dropTrailingEmpty(r.fields, r.shape.delim)
