@@ -31,7 +31,7 @@ func EstimateApertureOffsets(ctx context.Context, s *Session, r recipe.Recipe) (
 	if err != nil {
 		return nil, err
 	}
-	return s.offsetStage(ctx, rs.r, rs.ch, s.timing)
+	return s.offsetStage(ctx, rs.r, rs.ch, rs.timing)
 }
 
 // offsetStage estimates the aperture offsets of a resolved recipe (its own
@@ -54,7 +54,7 @@ func (s *Session) offsetStage(ctx context.Context, r recipe.Recipe, ch channels,
 		Sweep  recipe.Sweep
 		AC     float64
 		Invert bool
-	}{s.timingKey, ch.detector, sw, r.Signal.ACCornerHz, r.Signal.Invert})
+	}{t.key, ch.detector, sw, r.Signal.ACCornerHz, r.Signal.Invert})
 	if o, ok := s.offsets.get(k); ok {
 		return slices.Clone(o.offsets), o.err
 	}

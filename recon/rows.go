@@ -128,6 +128,7 @@ type stroke struct{ first, last int }
 // block j covers samples [j·blockLen, (j+1)·blockLen) and its value is the
 // position at sample j·blockLen + blockLen/2.
 type rowsResult struct {
+	key      string // of the resolved parameters it was found with
 	blockLen int
 	y        []float64 // mm
 	strokes  []stroke

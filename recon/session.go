@@ -62,27 +62,19 @@ type Session struct {
 	rec *capture.Recording
 	mu  sync.Mutex
 
-	timingKey string
-	// timingResolvedKey is the key of the same timing with the automatic
-	// threshold and hysteresis written in.
-	timingResolvedKey string
-	timing            *timingResult
-	rowsKey           string
-	// rowsResolvedKey is the key with the carrier found written in.
-	rowsResolvedKey string
-	rows            *rowsResult
-	delays          *memo[delayFound]
-	acKey           string        // channel and corner of acDet
-	acDet           []float32     // the detector with its AC coupling undone
-	acStats         *channelStats // statistics of acDet
-	offsets         *memo[offsetsFound]
-	placeKey        string
-	place           *placement
-	gridKey         string
-	grid            *Result
-	chanStats       map[int]*channelStats
-	flat            map[int]flatRunsResult // constant stretches of each channel, once needed
-	roles           []capture.RoleGuess    // the capture's guessed roles, once needed
+	// Each stage's results, by the key of its resolved parameters.
+	splits   *memo[OtsuResult]    // index channel → its two levels
+	carriers *memo[float64]       // position channel → its strongest tone
+	timings  *memo[*timingResult] // index edges and lines
+	rows     *memo[*rowsResult]   // cross-scan position of every sample
+	delays   *memo[delayFound]
+	offsets  *memo[offsetsFound]
+	coupled  *memo[detectorView] // the detector with its AC coupling undone
+	places   *memo[*placement]
+	grids    *memo[*Result]
+	stats    *memo[*channelStats]   // whole-channel statistics of the recording
+	flat     map[int]flatRunsResult // constant stretches of each channel, once needed
+	roles    []capture.RoleGuess    // the capture's guessed roles, once needed
 	// runs counts how often each stage was computed (not reused), for
 	// tests of the caching.
 	runs map[string]int
@@ -90,7 +82,16 @@ type Session struct {
 
 // NewSession starts a session on a recording.
 func NewSession(rec *capture.Recording) *Session {
-	return &Session{rec: rec, chanStats: map[int]*channelStats{}, runs: map[string]int{}, delays: newMemo[delayFound](4), offsets: newMemo[offsetsFound](4)}
+	return &Session{
+		rec: rec, runs: map[string]int{},
+		splits: newMemo[OtsuResult](4), carriers: newMemo[float64](4),
+		timings: newMemo[*timingResult](2), rows: newMemo[*rowsResult](2),
+		delays: newMemo[delayFound](4), offsets: newMemo[offsetsFound](4),
+		// A corrected detector and a grid are as large as the capture
+		// and the image: keep one of each.
+		coupled: newMemo[detectorView](1), places: newMemo[*placement](2), grids: newMemo[*Result](1),
+		stats: newMemo[*channelStats](len(rec.Channels)),
+	}
 }
 
 // Recording returns the session's recording.
@@ -157,8 +158,10 @@ func (s *Session) resolveChannels(r *recipe.Recipe) (channels, error) {
 
 // resolved carries everything the later stages need.
 type resolved struct {
-	r  recipe.Recipe
-	ch channels
+	r      recipe.Recipe
+	ch     channels
+	timing *timingResult
+	rows   *rowsResult
 	// aperturesSeen is the aperture count the automatic delay's beam-on
 	// stretch implies when it does not fit the recipe, else 0.
 	aperturesSeen int
@@ -192,7 +195,7 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 	if err != nil {
 		return nil, nil, err
 	}
-	detStats, err := s.stats(ctx, ch.detector)
+	detStats, err := s.channelStats(ctx, ch.detector)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -259,10 +262,16 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 	if r.Image.MaxGapMM == nil {
 		r.Image.MaxGapMM = recipe.Float(autoMaxGap(t, rows, r.Sweep))
 	}
-	return &resolved{r: r, ch: ch, aperturesSeen: aperturesSeen}, warns, nil
+	return &resolved{r: r, ch: ch, timing: t, rows: rows, aperturesSeen: aperturesSeen}, warns, nil
 }
 
+// timingStage finds the index edges and lines. The automatic threshold
+// and hysteresis are resolved from the index channel's two levels first,
+// so a recipe and its resolved copy share one key.
 func (s *Session) timingStage(ctx context.Context, r recipe.Recipe, ch channels) (*timingResult, error) {
+	c := s.rec.Channels[ch.index]
+	name, unit := fmt.Sprintf("%d (%s)", ch.index, c.Name), unitOf(c)
+	o, _ := cachedStage(s.splits, nil, "", ch.index, func() (OtsuResult, error) { return Otsu(c.Samples), nil })
 	p := timingParams{
 		Channel:      ch.index,
 		Rising:       r.Timing.Edge != "falling",
@@ -272,22 +281,17 @@ func (s *Session) timingStage(ctx context.Context, r recipe.Recipe, ch channels)
 		Apertures:    r.Sweep.Apertures,
 		Sine:         r.Sweep.Law == recipe.LawSine,
 	}
-	k := key(p)
-	if s.timing != nil && (s.timingKey == k || s.timingResolvedKey == k) {
-		return s.timing, nil
-	}
-	c := s.rec.Channels[ch.index]
-	t, err := findTiming(ctx, c.Samples, s.rec.SampleRateHz, fmt.Sprintf("%d (%s)", ch.index, c.Name), unitOf(c), p)
+	p, err := p.withLevels(o, name, unit)
 	if err != nil {
 		return nil, err
 	}
-	s.timing, s.timingKey = t, k
-	// The resolved recipe (threshold and hysteresis filled in) asks for
-	// the same edges: it gets the cached result too.
-	p.Threshold, p.Hysteresis = &t.threshold, &t.hysteresis
-	s.timingResolvedKey = key(p)
-	s.runs["timing"]++
-	return t, nil
+	return cachedStage(s.timings, s.runs, "timing", p, func() (*timingResult, error) {
+		t, err := findTiming(ctx, c.Samples, o, s.rec.SampleRateHz, name, unit, p)
+		if t != nil {
+			t.key = key(p)
+		}
+		return t, err
+	})
 }
 
 func unitOf(c capture.Channel) string {
@@ -297,6 +301,9 @@ func unitOf(c capture.Channel) string {
 	return c.Unit
 }
 
+// rowsStage finds the cross-scan position of every sample. An automatic
+// carrier is resolved first (the position channel's strongest tone), so a
+// recipe and its resolved copy share one key.
 func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (*rowsResult, error) {
 	p := rowsParams{
 		Source: r.Rows.Source, Channel: -1, Calib: r.Rows.Calibration,
@@ -308,26 +315,31 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 	case recipe.SourceSteps:
 		p.Channel = ch.steps
 	}
-	k := key(p)
-	if s.rows != nil && (s.rowsKey == k || s.rowsResolvedKey == k) {
-		return s.rows, nil
-	}
 	in := rowsInput{n: s.rec.Frames(), rateHz: s.rec.SampleRateHz}
 	if p.Channel >= 0 {
 		c := s.rec.Channels[p.Channel]
 		in.channel, in.name, in.unit = c.Samples, fmt.Sprintf("%d (%s)", p.Channel, c.Name), unitOf(c)
 	}
-	rows, err := findRows(ctx, in, p)
-	if err != nil {
-		return nil, err
+	if p.Source == recipe.SourceTone && p.CarrierHz == nil {
+		fc, err := cachedStage(s.carriers, nil, "", p.Channel, func() (float64, error) {
+			fc, err := strongestTone(in.channel, in.rateHz)
+			if err != nil {
+				return 0, fmt.Errorf("position channel %s: %w", in.name, err)
+			}
+			return fc, nil
+		})
+		if err != nil {
+			return nil, err
+		}
+		p.CarrierHz = &fc
 	}
-	s.rows, s.rowsKey = rows, k
-	if p.Source == recipe.SourceTone {
-		p.CarrierHz = &rows.carrier
-	}
-	s.rowsResolvedKey = key(p)
-	s.runs["rows"]++
-	return rows, nil
+	return cachedStage(s.rows, s.runs, "rows", p, func() (*rowsResult, error) {
+		rows, err := findRows(ctx, in, p)
+		if rows != nil {
+			rows.key = key(p)
+		}
+		return rows, err
+	})
 }
 
 // delayFound is everything the delay stage finds: the delay, whether the
@@ -364,7 +376,7 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		// A measured table is written against the index edge.
 		return delayFound{}, nil
 	}
-	p := delayParams{s.timingKey, ch.detector, sw.Law, sw.FieldDeg, sw.Apertures, sw.ApertureOffsetsDeg, sw.SineKeep, sw.SinePeriodS, r.Signal.ACCornerHz, r.Signal.Invert}
+	p := delayParams{t.key, ch.detector, sw.Law, sw.FieldDeg, sw.Apertures, sw.ApertureOffsetsDeg, sw.SineKeep, sw.SinePeriodS, r.Signal.ACCornerHz, r.Signal.Invert}
 	return cachedStage(s.delays, s.runs, "delay", p, func() (delayFound, error) {
 		det, _, err := s.detector(ctx, ch.detector, r.Signal)
 		if err != nil {
@@ -473,11 +485,20 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		Detector int
 		Baseline string
 		AC       float64
-	}{s.timingKey, sw, ch.detector, r.Signal.Baseline, r.Signal.ACCornerHz}
-	k := key(p)
-	if s.place != nil && s.placeKey == k {
-		return s.place, nil
-	}
+	}{t.key, sw, ch.detector, r.Signal.Baseline, r.Signal.ACCornerHz}
+	return cachedStage(s.places, s.runs, "placement", p, func() (*placement, error) {
+		pl, err := s.placeLines(ctx, r, ch, t)
+		if pl != nil {
+			pl.key = key(p)
+		}
+		return pl, err
+	})
+}
+
+// placeLines places every line of t in the field of r's sweep and takes
+// its baseline from the beam-off stretch before it.
+func (s *Session) placeLines(ctx context.Context, r recipe.Recipe, ch channels, t *timingResult) (*placement, error) {
+	sw := r.Sweep
 	m, err := lawMap(sw)
 	if err != nil {
 		return nil, err
@@ -509,31 +530,29 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		}
 		pl.edge = measureEdgeResponse(det, pl.lines)
 	}
-	s.place, s.placeKey = pl, k
-	s.runs["placement"]++
 	return pl, nil
 }
 
-// stats returns the cached whole-channel statistics.
+// detectorView is the detector as the stages see it, and its statistics.
+type detectorView struct {
+	samples []float32
+	stats   *channelStats
+}
+
 // detector returns the detector samples the stages work on, and their
 // statistics: the recorded channel, or with signal.ac_corner_hz set, the
 // channel with that high-pass undone (computed once per corner).
 func (s *Session) detector(ctx context.Context, ch int, sig recipe.Signal) ([]float32, *channelStats, error) {
 	if sig.ACCornerHz <= 0 {
-		st, err := s.stats(ctx, ch)
+		st, err := s.channelStats(ctx, ch)
 		return s.rec.Channels[ch].Samples, st, err
 	}
-	k := fmt.Sprint(ch, "/", sig.ACCornerHz)
-	if s.acKey != k {
+	v, err := cachedStage(s.coupled, s.runs, "ac", [2]float64{float64(ch), sig.ACCornerHz}, func() (detectorView, error) {
 		det := undoHighPass(s.rec.Channels[ch].Samples, sig.ACCornerHz, s.rec.SampleRateHz)
 		st, err := newChannelStats(ctx, det)
-		if err != nil {
-			return nil, nil, err
-		}
-		s.acDet, s.acStats, s.acKey = det, st, k
-		s.runs["ac"]++
-	}
-	return s.acDet, s.acStats, nil
+		return detectorView{det, st}, err
+	})
+	return v.samples, v.stats, err
 }
 
 // flatRuns returns the stretches of at least minQuietS over which channel
@@ -555,16 +574,11 @@ type flatRunsResult struct {
 	total int
 }
 
-func (s *Session) stats(ctx context.Context, ch int) (*channelStats, error) {
-	if st, ok := s.chanStats[ch]; ok {
-		return st, nil
-	}
-	st, err := newChannelStats(ctx, s.rec.Channels[ch].Samples)
-	if err != nil {
-		return nil, err
-	}
-	s.chanStats[ch] = st
-	return st, nil
+// channelStats returns the whole-channel statistics of recorded channel ch.
+func (s *Session) channelStats(ctx context.Context, ch int) (*channelStats, error) {
+	return cachedStage(s.stats, nil, "", ch, func() (*channelStats, error) {
+		return newChannelStats(ctx, s.rec.Channels[ch].Samples)
+	})
 }
 
 // Build reconstructs the frames of a recipe. Stages whose parameters are
@@ -577,8 +591,7 @@ func (s *Session) Build(ctx context.Context, r recipe.Recipe, progress Progress)
 	if err != nil {
 		return nil, err
 	}
-	t := s.timing
-	rows := s.rows
+	t, rows := rs.timing, rs.rows
 	progress.report("placement", 0)
 	pl, err := s.placeStage(ctx, rs.r, rs.ch, t)
 	if err != nil {
@@ -586,23 +599,21 @@ func (s *Session) Build(ctx context.Context, r recipe.Recipe, progress Progress)
 	}
 	warns = append(warns, pl.warnings...)
 	progress.report("placement", 1)
-	k := key(struct {
+	p := struct {
 		P, R  string
 		Rows  recipe.Rows
 		Sig   recipe.Signal
 		Image recipe.Image
-	}{s.placeKey, s.rowsKey, rs.r.Rows, rs.r.Signal, rs.r.Image})
-	if s.grid != nil && s.gridKey == k {
-		return cloneResult(s.grid, rs.r), nil
-	}
-	progress.report("gridding", 0)
-	res, err := s.gridStage(ctx, rs, t, rows, pl, warns, progress)
+		Warn  []string
+	}{pl.key, rows.key, rs.r.Rows, rs.r.Signal, rs.r.Image, warns}
+	res, err := cachedStage(s.grids, s.runs, "gridding", p, func() (*Result, error) {
+		progress.report("gridding", 0)
+		defer progress.report("gridding", 1)
+		return s.gridStage(ctx, rs, t, rows, pl, warns, progress)
+	})
 	if err != nil {
 		return nil, err
 	}
-	progress.report("gridding", 1)
-	s.grid, s.gridKey = res, k
-	s.runs["gridding"]++
 	return cloneResult(res, rs.r), nil
 }
 
@@ -633,7 +644,7 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 	// Clipping is a property of the recording: test the recorded samples
 	// against the recorded range, even when det is a corrected copy.
 	recorded := s.rec.Channels[rs.ch.detector].Samples
-	st, err := s.stats(ctx, rs.ch.detector)
+	st, err := s.channelStats(ctx, rs.ch.detector)
 	if err != nil {
 		return nil, err
 	}

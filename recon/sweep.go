@@ -141,6 +141,7 @@ type placedLine struct {
 
 // placement is the output of the placement stage.
 type placement struct {
+	key      string // of the parameters it was placed with
 	lines    []placedLine
 	sweep    *sweepMap
 	warnings []string

@@ -327,6 +327,7 @@ type lineTiming struct {
 
 // timingResult is the output of the timing stage.
 type timingResult struct {
+	key        string // of the resolved parameters it was found with
 	otsu       OtsuResult
 	threshold  float64
 	hysteresis float64
@@ -350,16 +351,16 @@ type timingParams struct {
 	Sine         bool
 }
 
-// findTiming runs the timing stage: threshold, edges, repair, lines.
-func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit string, p timingParams) (*timingResult, error) {
-	res := &timingResult{}
-	o := Otsu(x)
-	res.otsu = o
-	noPulses := func() error {
-		return fmt.Errorf("index channel %s stays between %s and %s: no pulses; check channels.index, or the index sensor and its cable", chName, level(o.Min, unit), level(o.Max, unit))
-	}
+func noPulses(o OtsuResult, chName, unit string) error {
+	return fmt.Errorf("index channel %s stays between %s and %s: no pulses; check channels.index, or the index sensor and its cable", chName, level(o.Min, unit), level(o.Max, unit))
+}
+
+// withLevels returns p with an automatic threshold and hysteresis filled
+// in from o, the index channel's two levels, and checks a threshold given
+// by hand against the channel's range.
+func (p timingParams) withLevels(o OtsuResult, chName, unit string) (timingParams, error) {
 	if p.Threshold == nil && (o.Separability < minSeparability || !(o.Max > o.Min)) {
-		return nil, noPulses()
+		return p, noPulses(o, chName, unit)
 	}
 	// Otsu's split tells the two levels apart; the edge is timed where the
 	// signal crosses the middle of the two class means (the 50 % point of
@@ -369,7 +370,7 @@ func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit s
 	if p.Threshold != nil {
 		thr = *p.Threshold
 		if thr <= o.Min || thr >= o.Max {
-			return nil, fmt.Errorf("timing.threshold %s is outside the index channel %s, which stays between %s and %s: no pulses; set threshold to null to find it automatically", level(thr, unit), chName, level(o.Min, unit), level(o.Max, unit))
+			return p, fmt.Errorf("timing.threshold %s is outside the index channel %s, which stays between %s and %s: no pulses; set threshold to null to find it automatically", level(thr, unit), chName, level(o.Min, unit), level(o.Max, unit))
 		}
 	}
 	// Automatic hysteresis: a fifth of the step between the levels, kept
@@ -379,6 +380,16 @@ func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit s
 	if p.Hysteresis != nil {
 		h = *p.Hysteresis
 	}
+	p.Threshold, p.Hysteresis = &thr, &h
+	return p, nil
+}
+
+// findTiming runs the timing stage on the index channel x, whose two
+// levels are o, with the threshold and hysteresis of p resolved
+// (withLevels): edges, repair, lines.
+func findTiming(ctx context.Context, x []float32, o OtsuResult, rateHz float64, chName, unit string, p timingParams) (*timingResult, error) {
+	res := &timingResult{otsu: o}
+	thr, h := *p.Threshold, *p.Hysteresis
 	res.threshold, res.hysteresis = thr, h
 	raw, err := rawEdges(ctx, x, thr, h, p.Rising)
 	if err != nil {
@@ -386,7 +397,7 @@ func findTiming(ctx context.Context, x []float32, rateHz float64, chName, unit s
 	}
 	if len(raw) < 3 {
 		if len(raw) == 0 {
-			return nil, noPulses()
+			return nil, noPulses(o, chName, unit)
 		}
 		return nil, fmt.Errorf("index channel %s has only %d pulse(s) crossing %s in %.3g s: at least 3 are needed; check channels.index and timing.edge", chName, len(raw), level(thr, unit), float64(len(x))/rateHz)
 	}
