@@ -50,6 +50,11 @@ const (
 	// MaxSampleRateHz is the highest sample rate accepted from a file; a
 	// header above it is damaged rather than fast.
 	MaxSampleRateHz = 1e10
+	// MinSampleRateHz is the lowest sample rate accepted: a capture of a
+	// scanner takes thousands of samples a second, and a rate like 1e-300
+	// (a damaged header, a typing slip) would turn sample counts into
+	// times beyond any clock.
+	MinSampleRateHz = 1
 	// maxWAVRateHz is the highest rate a WAV header may state: 100 MHz is
 	// far beyond any sound card or WAV-writing ADC, so a higher field (such
 	// as 0xFFFFFFFF) is damage.

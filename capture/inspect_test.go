@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"reflect"
 	"runtime"
+	"strings"
 	"testing"
 	"time"
 )
@@ -186,4 +187,29 @@ func BenchmarkOpenAndSummarizeWAVInt16(b *testing.B) {
 		Summarize(whole)
 	}
 	reportSamples(b, rec.Frames()*3, start)
+}
+
+// A sample rate like 1e-300 Hz is refused up front, from a layout, from
+// the caller, or from a recording made in memory.
+func TestTinySampleRateRefused(t *testing.T) {
+	l := RawLayout{SampleType: "int16", Channels: 1, Interleaved: true, SampleRateHz: 1e-300}
+	if err := l.Validate(); err == nil || !strings.Contains(err.Error(), "sample_rate_hz 1e-300: expected 1 to 1e+10 Hz") {
+		t.Errorf("layout: %v", err)
+	}
+	path := filepath.Join(t.TempDir(), "a.wav")
+	var buf bytes.Buffer
+	if err := WriteWAV(&buf, benchRecording(1000), "int16"); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Open(path, Options{SampleRateHz: 1e-300}); err == nil || !strings.Contains(err.Error(), "sample rate 1e-300 Hz is not between 1 and 1e+10 Hz") {
+		t.Errorf("given rate: %v", err)
+	}
+	rec := benchRecording(10)
+	rec.SampleRateHz = 1e-300
+	if err := rec.Validate(); err == nil {
+		t.Error("a recording at 1e-300 Hz validates")
+	}
 }

@@ -68,8 +68,8 @@ func (l RawLayout) Validate() error {
 	if l.HeaderBytes < 0 {
 		return fmt.Errorf("header_bytes %d: expected 0 or more", l.HeaderBytes)
 	}
-	if l.SampleRateHz < 0 || l.SampleRateHz > MaxSampleRateHz || l.SampleRateHz != l.SampleRateHz {
-		return fmt.Errorf("sample_rate_hz %g: expected above 0 and at most %g (or 0 to give it separately)", l.SampleRateHz, MaxSampleRateHz)
+	if l.SampleRateHz != 0 && !(l.SampleRateHz >= MinSampleRateHz && l.SampleRateHz <= MaxSampleRateHz) {
+		return fmt.Errorf("sample_rate_hz %g: expected %g to %g Hz (or 0 to give it separately)", l.SampleRateHz, float64(MinSampleRateHz), MaxSampleRateHz)
 	}
 	for _, p := range []struct {
 		key  string

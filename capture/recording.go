@@ -61,8 +61,8 @@ func (r *Recording) Validate() error {
 	if r == nil {
 		return fmt.Errorf("no recording")
 	}
-	if !(r.SampleRateHz > 0) || r.SampleRateHz > 1e12 {
-		return fmt.Errorf("sample rate %g Hz is not between 0 and 1e12 Hz", r.SampleRateHz)
+	if !(r.SampleRateHz >= MinSampleRateHz) || r.SampleRateHz > MaxSampleRateHz {
+		return fmt.Errorf("sample rate %g Hz is not between %g and %g Hz", r.SampleRateHz, float64(MinSampleRateHz), MaxSampleRateHz)
 	}
 	if len(r.Channels) == 0 {
 		return fmt.Errorf("recording has no channels")

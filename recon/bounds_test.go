@@ -140,3 +140,37 @@ func TestBuildWarnsAboutTinyFrame(t *testing.T) {
 		t.Errorf("no warning about a %d × %d frame: %q", res.Report.Columns, res.Report.Rows, res.Report.Warnings)
 	}
 }
+
+// A split build of many strokes at a fine pitch is refused before any
+// frame is gridded, with the sizes, instead of running out of memory: ten
+// strokes (about 50 mm between the line centres) at 0.03 mm over the
+// 214 mm field are ten frames of about 7,150 × 1,660 pixels, 118 M pixels
+// in all, above the 64 M limit. At a coarser pitch the same capture builds
+// its ten pages.
+func TestSplitBuildRefusedAboveMemoryLimit(t *testing.T) {
+	rig := baseRig()
+	rig.y = func(t float64) float64 { // up and down every 0.2 s
+		ph := math.Mod(t, 0.4) / 0.2
+		if ph > 1 {
+			ph = 2 - ph
+		}
+		return 10 + 60*ph
+	}
+	rec := rig.recording()
+	r := rig.recipe()
+	r.Rows.Strokes = "split"
+	r.Image.PitchMM = 0.03
+	_, err := NewSession(rec).Build(context.Background(), r, nil)
+	if err == nil || !strings.Contains(err.Error(), "frames (rows.strokes split)") || !strings.Contains(err.Error(), "raise image.pitch_mm, or use rows.strokes merge or first") {
+		t.Fatalf("fine split build: %v", err)
+	}
+	t.Log(err)
+	r.Image.PitchMM = 2
+	res, err := NewSession(rec).Build(context.Background(), r, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Frames) < 9 {
+		t.Errorf("%d frames from ten strokes", len(res.Frames))
+	}
+}

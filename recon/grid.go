@@ -8,6 +8,7 @@ import (
 	"slices"
 	"sync"
 
+	"spotloom/internal/strictjson"
 	"spotloom/recon/recipe"
 )
 
@@ -217,6 +218,46 @@ type gridInput struct {
 	progress func(fraction float64)
 }
 
+// frameSize is the number of columns and rows of the grid over the sweep's
+// x extent and the y extent yTop…yBottom at pitch p, in floating point so
+// an absurd extent cannot wrap round when converted.
+func frameSize(sweep *sweepMap, yTop, yBottom, p float64) (cols, rows float64) {
+	return math.Ceil((sweep.xMax-sweep.xMin)/p-1e-9) + 1, math.Ceil((yTop-yBottom)/p-1e-9) + 1
+}
+
+// maxResultPixels bounds the pixels of all the frames of one build: each
+// keeps 5 bytes a pixel (value and coverage), and a caller's copy as much
+// again, so 64 M pixels hold about 640 MB.
+const maxResultPixels = 4 * maxPixels
+
+// checkResultSize refuses, before any frame is gridded, a build whose
+// frames together would not fit: rows.strokes split makes one frame per
+// stroke, and a hand scan of many strokes at a fine pitch adds up.
+func checkResultSize(r recipe.Recipe, sweep *sweepMap, extents [][2]float64) error {
+	total, largest := 0.0, 0.0
+	for _, e := range extents {
+		cols, rows := frameSize(sweep, e[0], e[1], r.Image.PitchMM)
+		px := cols * rows
+		total += px
+		largest = math.Max(largest, px)
+	}
+	if total <= maxResultPixels { // NaN fails too
+		return nil
+	}
+	const bytesPerPixel = 5
+	return fmt.Errorf("the build would make %d frames (rows.strokes %s) of up to %s pixels, %s pixels in all (about %s): more than the %s pixels (%s) one build holds; raise image.pitch_mm, or use rows.strokes merge or first",
+		len(extents), r.Rows.Strokes, strictjson.Count(int(math.Min(largest, 1e15))), strictjson.Count(int(math.Min(total, 1e15))),
+		byteText(total*bytesPerPixel), strictjson.Count(maxResultPixels), byteText(maxResultPixels*bytesPerPixel))
+}
+
+// byteText prints a size in MB or GB.
+func byteText(b float64) string {
+	if b >= 1e9 {
+		return fmt.Sprintf("%.3g GB", b/1e9)
+	}
+	return fmt.Sprintf("%.3g MB", b/1e6)
+}
+
 // gridFrame accumulates every beam-on sample of the lines into the frame
 // with a bilinear kernel, divides by the weight, marks coverage and fills
 // small gaps.
@@ -227,8 +268,7 @@ func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, er
 	// reversed sweep gives the exact mirror image.
 	// The size is checked in floating point before any conversion, so an
 	// absurd extent cannot wrap round to a negative or small int.
-	colsF := math.Ceil((in.sweep.xMax-in.sweep.xMin)/p-1e-9) + 1
-	rowsF := math.Ceil((in.yTop-in.yBottom)/p-1e-9) + 1
+	colsF, rowsF := frameSize(in.sweep, in.yTop, in.yBottom, p)
 	if !(colsF*rowsF <= maxPixels) {
 		return nil, st, nil, fmt.Errorf("the frame would be %.3g × %.3g pixels (%.4g mm × %.4g mm at image.pitch_mm %g), more than %d pixels: raise pitch_mm or check the sweep and rows keys",
 			colsF, rowsF, in.sweep.xMax-in.sweep.xMin, in.yTop-in.yBottom, p, maxPixels)

@@ -734,6 +734,9 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 	res := &Result{Recipe: r}
 	totalClipped, totalGapRows, covered, pixels := 0, 0, 0, 0
 	var frameCover []float64
+	// Every frame's extent first, so the memory of all of them is known
+	// before any is gridded.
+	extents := make([][2]float64, len(groups))
 	for gi, g := range groups {
 		if len(g) == 0 {
 			return nil, fmt.Errorf("rows.strokes %s: no lines in the first stroke", r.Rows.Strokes)
@@ -745,6 +748,13 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 				yBottom = math.Min(yBottom, y)
 			}
 		}
+		extents[gi] = [2]float64{yTop, yBottom}
+	}
+	if err := checkResultSize(r, pl.sweep, extents); err != nil {
+		return nil, err
+	}
+	for gi, g := range groups {
+		yTop, yBottom := extents[gi][0], extents[gi][1]
 		f, st, _, err := gridFrame(ctx, gridInput{
 			det: det, recorded: recorded, lines: g, sweep: pl.sweep, rows: rows, pitch: r.Image.PitchMM,
 			invert: r.Signal.Invert, fill: r.Image.FillGapsPx, maxGapMM: *r.Image.MaxGapMM, clipHi: hi, clipLo: clipLo,
