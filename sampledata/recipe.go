@@ -59,6 +59,11 @@ func (r Rig) Recipe() recipe.Recipe {
 		speed := r.Motion.TravelMM / r.Motion.StrokeS
 		rows.SpeedMMS = &speed
 	}
+	law, baseline := recipe.LawUniform, "beam-off"
+	if r.sine() {
+		// A mirror's beam never goes off, so there is no baseline.
+		law, baseline = recipe.LawSine, "none"
+	}
 	return recipe.Recipe{
 		Format: recipe.RecipeFormat,
 		Channels: recipe.Channels{
@@ -73,7 +78,7 @@ func (r Rig) Recipe() recipe.Recipe {
 		},
 		Sweep: recipe.Sweep{
 			Apertures:          r.Wheel.ApertureCount,
-			Law:                recipe.LawUniform,
+			Law:                law,
 			FieldDeg:           r.FieldDeg,
 			ApertureOffsetsDeg: []float64{},
 			Projection:         "flat",
@@ -82,7 +87,7 @@ func (r Rig) Recipe() recipe.Recipe {
 			Table:              [][2]float64{},
 		},
 		Rows:   rows,
-		Signal: recipe.Signal{Baseline: "beam-off", ACCornerHz: r.Detector.ACCouplingCornerHz},
+		Signal: recipe.Signal{Baseline: baseline, ACCornerHz: r.Detector.ACCouplingCornerHz},
 		Image:  recipe.Image{PitchMM: 1.0, FillGapsPx: 2},
 	}
 }

@@ -37,12 +37,68 @@ type Rig struct {
 	FieldDeg     float64        `json:"field_deg"`    // full sweep angle of one line
 	DistanceMM   float64        `json:"distance_mm"`  // source to target plane
 	SpotFWHMMM   float64        `json:"spot_fwhm_mm"` // beam spot full width at half maximum on the target plane
+	// Sweep is "wheel" (or empty) for a collimator wheel or polygon, or
+	// "sine" for a resonant mirror (see SweepSine).
+	Sweep string `json:"sweep,omitempty" rig:"optional"`
 	Wheel        Wheel          `json:"wheel"`
 	Index        IndexSensor    `json:"index"`
 	Motion       Motion         `json:"motion"`
 	Position     PositionSensor `json:"position_sensor"`
 	Detector     Detector       `json:"detector"`
 	ADC          ADC            `json:"adc"`
+}
+
+// Sweep kinds of a rig.
+const (
+	SweepWheel = "wheel"
+	// SweepSine is a resonant mirror. The wheel then describes the
+	// mirror's phase: rev_per_min is 60 × the oscillation frequency (its
+	// wobble a slow drift of the frequency), the wheel angle is the phase
+	// φ, and the beam angle is θ = (field_deg/2)·sin φ, so field_deg is
+	// the full swing. aperture_count is 2: a forward line while φ runs
+	// from −90° to 90° and a backward line from 90° to 270°, the beam
+	// always on. The index sensor fires once per period (pulses_per_rev
+	// 1), lead_deg of phase before φ = 0, which is the recipe's
+	// sweep.delay_deg for the sine law.
+	SweepSine = "sine"
+)
+
+func (r Rig) sine() bool { return r.Sweep == SweepSine }
+
+// fieldSpanDeg is the wheel rotation (or mirror phase) a field lasts.
+func (r Rig) fieldSpanDeg() float64 {
+	if r.sine() {
+		return 180
+	}
+	return r.FieldDeg
+}
+
+// fieldOriginDeg is the wheel angle at which aperture 0's nominal field
+// opens: 0 for a wheel, φ = −90° for a mirror's forward line.
+func (r Rig) fieldOriginDeg() float64 {
+	if r.sine() {
+		return -90
+	}
+	return 0
+}
+
+// beamAngleRad is the beam angle from the field axis at wheel angle phi
+// inside the field that opened at startDeg.
+func (r Rig) beamAngleRad(phi, startDeg float64) float64 {
+	const rad = math.Pi / 180
+	if r.sine() {
+		return r.FieldDeg / 2 * rad * math.Sin(phi*rad)
+	}
+	return (phi - startDeg - r.FieldDeg/2) * rad
+}
+
+// beamRateRadS is the fastest angular rate of the beam at the mean speed.
+func (r Rig) beamRateRadS() float64 {
+	omega := r.Wheel.RevPerMin * 2 * math.Pi / 60
+	if r.sine() {
+		return r.FieldDeg / 2 * math.Pi / 180 * omega
+	}
+	return omega
 }
 
 // Wheel is the rotating collimator wheel.
@@ -185,7 +241,7 @@ func (r Rig) SweepS() float64 {
 	if r.Wheel.RevPerMin <= 0 {
 		return 0
 	}
-	return r.FieldDeg / (r.Wheel.RevPerMin * 6)
+	return r.fieldSpanDeg() / (r.Wheel.RevPerMin * 6)
 }
 
 // SpotSigmaMM is the standard deviation of the Gaussian beam spot:
@@ -197,6 +253,25 @@ var fwhmPerSigma = 2 * math.Sqrt(2*math.Ln2)
 // HalfWidthMM is the x of the field edge on the target plane.
 func (r Rig) HalfWidthMM() float64 {
 	return r.DistanceMM * math.Tan(r.FieldDeg/2*math.Pi/180)
+}
+
+// MirrorRig is our own resonant-mirror laser scanner, built from the
+// demo rig: a mirror swinging 30° peak to peak at 100 Hz (a forward and a
+// backward line every 10 ms), an index photodiode 30° of phase before the
+// swing's centre, a 3 mm spot and a fast photodiode without afterglow.
+func MirrorRig() Rig {
+	r := DemoRig()
+	r.Name = "resonant mirror"
+	r.Sweep = SweepSine
+	r.SpotFWHMMM = 3
+	r.Wheel = Wheel{ApertureCount: 2, RevPerMin: 6000, WobblePct: 0.05, WobblePeriodS: 7}
+	r.Index.PulsesPerRev = 1
+	r.Index.LeadDeg = 30
+	r.Index.PulseWidthDeg = 20
+	r.Index.JitterS = 1e-6
+	r.Detector.AfterglowS = 0
+	r.Detector.LowPassCornerHz = 0
+	return r
 }
 
 // DemoRig is our own demonstration rig: a six-aperture wheel at 420 rev/min
@@ -454,6 +529,23 @@ func (r Rig) check(c *checker) {
 	// The field must leave a beam-off gap before the next aperture, and the
 	// flat projection needs the whole field within ±90°.
 	fieldMax := math.Min(spacing, 170)
+	c.choice("sweep", r.Sweep, "", SweepWheel, SweepSine)
+	if r.sine() {
+		// A mirror's forward and backward lines fill each period.
+		fieldMax = 170
+		if w.ApertureCount != 2 {
+			c.fail("wheel.aperture_count", fmt.Sprint(w.ApertureCount), "2 for a resonant mirror (a forward and a backward line per period)")
+		}
+		if r.Index.PulsesPerRev != 1 {
+			c.fail("index.pulses_per_rev", fmt.Sprint(r.Index.PulsesPerRev), "1 for a resonant mirror (one pulse per period)")
+		}
+		for _, e := range w.ApertureErrorsDeg {
+			if e != 0 {
+				c.fail("wheel.aperture_errors_deg", fmt.Sprint(w.ApertureErrorsDeg), "empty or zero for a resonant mirror")
+				break
+			}
+		}
+	}
 	c.num("field_deg", r.FieldDeg, excl(0), excl(fieldMax), fmt.Sprintf("degrees (the aperture spacing is %g°)", spacing))
 	c.num("wheel.rev_per_min", w.RevPerMin, excl(0), incl(60000), "rev/min")
 	c.num("wheel.wobble_pct", w.WobblePct, incl(0), incl(20), "%")
@@ -602,7 +694,11 @@ func (r Rig) check(c *checker) {
 // maxBeamSpeedMMS is the fastest beam speed on the target plane: the field
 // edge (dx/dθ = D/cos²θ) at the highest wheel speed.
 func (r Rig) maxBeamSpeedMMS() float64 {
-	omega := r.Wheel.RevPerMin * 2 * math.Pi / 60 * (1 + (r.Wheel.WobblePct+4*r.Wheel.RevJitterPct)/100)
+	omega := r.beamRateRadS() * (1 + (r.Wheel.WobblePct+4*r.Wheel.RevJitterPct)/100)
+	if r.sine() {
+		// Fastest at the centre of the swing, where θ = 0.
+		return r.DistanceMM * omega
+	}
 	half := r.FieldDeg / 2 * math.Pi / 180
 	return r.DistanceMM * omega / (math.Cos(half) * math.Cos(half))
 }

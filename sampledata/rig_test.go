@@ -317,3 +317,26 @@ func TestRigStrictJSON(t *testing.T) {
 		t.Errorf("null quantity: %v", err)
 	}
 }
+
+func TestMirrorRigRules(t *testing.T) {
+	// A resonant mirror makes a forward and a backward line per period
+	// and has one index pulse per period (Rig.Sweep, SweepSine).
+	if err := MirrorRig().Validate(); err != nil {
+		t.Fatalf("the mirror rig: %v", err)
+	}
+	for name, edit := range map[string]func(*Rig){
+		"wheel.aperture_count":      func(r *Rig) { r.Wheel.ApertureCount = 6 },
+		"index.pulses_per_rev":      func(r *Rig) { r.Index.PulsesPerRev = 2 },
+		"wheel.aperture_errors_deg": func(r *Rig) { r.Wheel.ApertureErrorsDeg = []float64{0, 0.1} },
+		"sweep":                     func(r *Rig) { r.Sweep = "polygon" },
+	} {
+		r := MirrorRig()
+		edit(&r)
+		if err := r.Validate(); err == nil || !strings.Contains(err.Error(), name) {
+			t.Errorf("%s: %v", name, err)
+		}
+	}
+	if r := MirrorRig().Recipe(); r.Sweep.Law != "sine" || r.Signal.Baseline != "none" || r.Timing.PulsesPerRev != 1 {
+		t.Errorf("mirror recipe: law %s, baseline %s, %d pulses per revolution", r.Sweep.Law, r.Signal.Baseline, r.Timing.PulsesPerRev)
+	}
+}

@@ -226,7 +226,7 @@ func (s *spotSampler) at(x, y, cos float64) float64 {
 // reach (the field at the target plane × the head's travel, plus 4σ).
 func newSpotSampler(rig Rig, scene SceneModel, offX, offY, yLo, yHi float64) (*spotSampler, error) {
 	sigma := rig.SpotSigmaMM()
-	dwell := rig.DistanceMM * rig.Wheel.RevPerMin * 2 * math.Pi / 60 / rig.SampleRateHz
+	dwell := rig.DistanceMM * rig.beamRateRadS() / rig.SampleRateHz
 	sigmaX := math.Sqrt(sigma*sigma + dwell*dwell/12)
 	cosEdge := math.Cos(rig.FieldDeg / 2 * math.Pi / 180)
 	grow := 1 / (cosEdge * cosEdge)
@@ -288,9 +288,7 @@ func expectedCounts(ctx context.Context, rig Rig, wheel *wheelPath, motion *moti
 	fs := rig.SampleRateHz
 	dark := rig.Detector.DarkRateCPS / fs
 	flux := rig.Detector.FullScatterRateCPS / fs
-	halfField := rig.FieldDeg / 2
 	d := rig.DistanceMM
-	const rad = math.Pi / 180
 	return parallelChunks(ctx, len(det), func(chunk, i0, i1 int) {
 		draw := poissonSampler{rng: rand.New(rand.NewPCG(seed, streamCounts+uint64(chunk)))}
 		// First field that ends after i0.
@@ -311,8 +309,7 @@ func expectedCounts(ctx context.Context, rig Rig, wheel *wheelPath, motion *moti
 			}
 			lambda := dark
 			if k < len(fields) && i >= fields[k].i0 {
-				theta := (wheel.phi[i] - fields[k].startDeg - halfField) * rad
-				sin, cos := math.Sincos(theta)
+				sin, cos := math.Sincos(rig.beamAngleRad(wheel.phi[i], fields[k].startDeg))
 				x := d * sin / cos
 				y := motion.at(float64(i) / fs)
 				lambda += flux * s.at(x, y, cos) * cos * cos

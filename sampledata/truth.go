@@ -191,13 +191,13 @@ func newTruth(rig Rig, scene SceneModel, opts SimOptions, wheel *wheelPath, moti
 			if !ok {
 				continue
 			}
-			te, ok := wheel.timeOf(f.startDeg + rig.FieldDeg)
+			te, ok := wheel.timeOf(f.startDeg + rig.fieldSpanDeg())
 			if !ok {
 				// The field ends after the capture: extrapolate at the
 				// final speed.
 				last := len(wheel.phi) - 1
 				rate := (wheel.phi[last] - wheel.phi[last-1]) * fs
-				te = durationS + (f.startDeg+rig.FieldDeg-wheel.phi[last])/rate
+				te = durationS + (f.startDeg+rig.fieldSpanDeg()-wheel.phi[last])/rate
 			}
 			mid := (ts + te) / 2
 			if number == 0 {
@@ -214,6 +214,9 @@ func newTruth(rig Rig, scene SceneModel, opts SimOptions, wheel *wheelPath, moti
 		}
 	}
 	j0 := t.FirstWheelAperture
+	// A wheel's delay runs from the edge to its field's start; the sine
+	// law's from the edge to φ = 0 (DESIGN.md, sweep.law sine), both
+	// lead_deg plus the aperture's error (none for a mirror).
 	t.DelayDeg = rig.Index.LeadDeg + apertureError(rig, j0)
 	t.DelayMeanDeg = rig.Index.LeadDeg
 	for j := 0; j < apertures; j++ {

@@ -98,11 +98,12 @@ func (w *wheelPath) fields(r Rig) []field {
 	var out []field
 	for rev := first; rev <= last; rev++ {
 		for j := 0; j < r.Wheel.ApertureCount; j++ {
-			a := 360*float64(rev) + float64(j)*spacing + apertureError(r, j)
-			if a+r.FieldDeg < w.phi[0] || a > w.phi[n] {
+			a := 360*float64(rev) + r.fieldOriginDeg() + float64(j)*spacing + apertureError(r, j)
+			span := r.fieldSpanDeg()
+			if a+span < w.phi[0] || a > w.phi[n] {
 				continue
 			}
-			f := field{rev: rev, aperture: j, startDeg: a, i0: w.firstSampleAt(a), i1: w.firstSampleAt(a + r.FieldDeg)}
+			f := field{rev: rev, aperture: j, startDeg: a, i0: w.firstSampleAt(a), i1: w.firstSampleAt(a + span)}
 			if f.i1 > f.i0 {
 				out = append(out, f)
 			}
