@@ -30,22 +30,22 @@ const RigFormat = "spotloom-rig/1"
 // target plane at distance_mm at x = distance_mm·tan θ (x = 0 on the field
 // axis). Between fields the beam is off.
 type Rig struct {
-	Format       string  `json:"format"`
-	Name         string  `json:"name" rig:"optional"`
-	SampleRateHz float64 `json:"sample_rate_hz"`
-	DurationS    float64 `json:"duration_s"`
-	FieldDeg     float64 `json:"field_deg"`    // full sweep angle of one line
-	DistanceMM   float64 `json:"distance_mm"`  // source to target plane
-	SpotFWHMMM   float64 `json:"spot_fwhm_mm"` // beam spot full width at half maximum on the target plane
+	Format       string         `json:"format"`
+	Name         string         `json:"name" rig:"optional"`
+	SampleRateHz float64        `json:"sample_rate_hz"`
+	DurationS    float64        `json:"duration_s"`
+	FieldDeg     float64        `json:"field_deg"`    // full sweep angle of one line
+	DistanceMM   float64        `json:"distance_mm"`  // source to target plane
+	SpotFWHMMM   float64        `json:"spot_fwhm_mm"` // beam spot full width at half maximum on the target plane
+	Wheel        Wheel          `json:"wheel"`
+	Index        IndexSensor    `json:"index"`
+	Motion       Motion         `json:"motion"`
+	Position     PositionSensor `json:"position_sensor"`
+	Detector     Detector       `json:"detector"`
+	ADC          ADC            `json:"adc"`
 	// Sweep is "wheel" (or empty) for a collimator wheel or polygon, or
 	// "sine" for a resonant mirror (see SweepSine).
-	Sweep    string         `json:"sweep,omitempty" rig:"optional"`
-	Wheel    Wheel          `json:"wheel"`
-	Index    IndexSensor    `json:"index"`
-	Motion   Motion         `json:"motion"`
-	Position PositionSensor `json:"position_sensor"`
-	Detector Detector       `json:"detector"`
-	ADC      ADC            `json:"adc"`
+	Sweep string `json:"sweep,omitempty" rig:"optional"`
 }
 
 // Sweep kinds of a rig.
