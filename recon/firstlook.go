@@ -12,7 +12,7 @@ import (
 )
 
 // assumedTravelMM is the cross-scan travel a first look assumes when the
-// position calibration is unknown: DESIGN.md's example calibration spans
+// position calibration is unknown: the default recipe's calibration spans
 // it, and it keeps the frame near square for a bench head.
 const assumedTravelMM = 400
 

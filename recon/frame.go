@@ -31,7 +31,7 @@ func (f *Frame) At(col, row int) (float32, bool) {
 }
 
 // Report is what a build found and resolved; its JSON keys are fixed by
-// DESIGN.md ("Build report").
+// docs/pipeline.md ("Build report").
 type Report struct {
 	Lines         int      `json:"lines"`          // lines placed
 	LinesRepaired int      `json:"lines_repaired"` // lines whose index edge was filled in

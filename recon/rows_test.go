@@ -131,7 +131,7 @@ func TestStrokesSplit(t *testing.T) {
 		if f.Report.Columns != f.Width || f.Report.Rows != f.Height || !(f.Report.Coverage > 0.9) {
 			t.Errorf("frame %d report %d × %d coverage %g, frame %d × %d", i, f.Report.Columns, f.Report.Rows, f.Report.Coverage, f.Width, f.Height)
 		}
-		// DESIGN.md "Build report": origin_x_mm, origin_y_mm are the
+		// docs/pipeline.md "Build report": origin_x_mm, origin_y_mm are the
 		// centre of pixel column 0 / row 0.
 		if f.Report.OriginXMM != f.OriginXMM || f.Report.OriginYMM != f.OriginYMM {
 			t.Errorf("frame %d report origin %g, %g mm, frame's %g, %g mm", i, f.Report.OriginXMM, f.Report.OriginYMM, f.OriginXMM, f.OriginYMM)

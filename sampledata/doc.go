@@ -11,7 +11,7 @@
 // and returns a capture.Recording and its Truth: the time of every index
 // edge and line, the true speed, delay and aperture offsets, the true y of
 // every line, and the scene's measurable features, in the terms of the
-// recipe of DESIGN.md. Rig.Recipe gives the recipe a builder of the rig
+// recipe of docs/pipeline.md. Rig.Recipe gives the recipe a builder of the rig
 // would write.
 //
 // Published methods: photon counts are Poisson draws, by inversion below a

@@ -14,7 +14,7 @@ import (
 const TruthFormat = "spotloom-truth/1"
 
 // Truth is the ground truth of a simulated capture, in the terms of the
-// recipe (DESIGN.md) so that a reconstruction can be checked against it.
+// recipe (docs/pipeline.md) so that a reconstruction can be checked against it.
 //
 // Coordinates: x in mm on the target plane from the field axis (the sweep
 // runs from −half_width_mm to +half_width_mm, so image column 0 is the most

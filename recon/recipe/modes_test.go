@@ -8,7 +8,7 @@ import (
 )
 
 // TestModesKeepTheirJSON: the typed law and source read and write the same
-// strings DESIGN.md's recipe shows, and every listed value parses back to
+// strings docs/pipeline.md's recipe lists, and every listed value parses back to
 // itself (the JSON text is the standard library's encoding/json).
 func TestModesKeepTheirJSON(t *testing.T) {
 	for _, law := range Laws {

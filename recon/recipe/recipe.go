@@ -125,7 +125,7 @@ type Image struct {
 
 // Recipe holds every reconstruction parameter; a frame can be rebuilt
 // exactly from its capture and its recipe. Nil pointers mean "find it
-// automatically". The keys are fixed by DESIGN.md: extend, do not rename.
+// automatically". The keys are listed in docs/pipeline.md: extend, do not rename.
 type Recipe struct {
 	Format   string   `json:"format"`
 	Channels Channels `json:"channels"`

@@ -25,7 +25,7 @@ func TestDefaultIsValidAndRoundTrips(t *testing.T) {
 	if !bytes.Equal(p.JSON(), b) {
 		t.Errorf("round trip changed the recipe:\n%s\n%s", b, p.JSON())
 	}
-	// The keys of DESIGN.md, checked with the standard library's decoder.
+	// The keys of docs/pipeline.md, checked with the standard library's decoder.
 	var m map[string]map[string]any
 	_ = json.Unmarshal(b, &m)
 	for _, k := range []string{"timing.threshold", "sweep.delay_deg", "sweep.aperture_offsets_deg", "rows.calibration", "image.fill_gaps_px", "signal.baseline"} {
