@@ -15,6 +15,7 @@ import (
 
 	"spotloom/capture"
 	"spotloom/recon"
+	"spotloom/recon/recipe"
 	"spotloom/sampledata"
 )
 
@@ -154,4 +155,33 @@ func readForBuildTest(t *testing.T, path string) []byte {
 		t.Fatal(err)
 	}
 	return b
+}
+
+// A hostile recipe (a 44 KB calibration of one repeated level with a
+// megabyte law name) gets one short line on stderr, exit 1, and so does a
+// distance that would overflow the frame: the recipe check names the key
+// before any work.
+func TestBuildBoundedRecipeErrors(t *testing.T) {
+	dir, wav, _ := demoFiles(t)
+	r := sampledata.DemoRecipe()
+	r.Rows.Calibration = make([][2]float64, 3000)
+	for i := range r.Rows.Calibration {
+		r.Rows.Calibration[i] = [2]float64{1, float64(i)}
+	}
+	r.Sweep.Law = recipe.Law(strings.Repeat("spiral", 200_000))
+	bad := filepath.Join(dir, "bad.json")
+	os.WriteFile(bad, r.JSON(), 0o644)
+	far := sampledata.DemoRecipe()
+	far.Sweep.DistanceMM = 1e308
+	farPath := filepath.Join(dir, "far.json")
+	os.WriteFile(farPath, far.JSON(), 0o644)
+	for _, c := range []struct{ recipe, want string }{
+		{bad, "(and 2,998 more points repeat a level)"},
+		{farPath, `recipe key "sweep.distance_mm" is 1e+308`},
+	} {
+		code, _, stderr := runCmd("build", wav, "--recipe", c.recipe, "--out", filepath.Join(dir, "f.tiff"))
+		if code != 1 || !strings.Contains(stderr, c.want) || len(stderr) > 2000 || strings.Count(strings.TrimSpace(stderr), "\n") > 0 {
+			t.Errorf("%s: exit %d, %d bytes on stderr: %.400q; want exit 1, one short line with %q", filepath.Base(c.recipe), code, len(stderr), stderr, c.want)
+		}
+	}
 }
