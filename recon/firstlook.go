@@ -175,7 +175,7 @@ func mustLookup(rec *capture.Recording, ref recipe.ChannelRef) int {
 
 // hasBeamOff reports whether a law leaves the beam off for part of each
 // line (a wheel between apertures); a resonant mirror never does.
-func hasBeamOff(law recipe.Law) bool { return law != recipe.LawSine }
+func hasBeamOff(law recipe.Law) bool { return mustLaw(law).hasBeamOff() }
 
 // roundSignificant rounds v to n significant digits.
 func roundSignificant(v float64, n int) float64 {

@@ -372,9 +372,9 @@ type delayParams struct {
 // function of the edges, the detector and the sweep, cached by them.
 func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, t *timingResult) (delayFound, error) {
 	sw := r.Sweep
-	if sw.Law == recipe.LawTable {
-		// A measured table is written against the index edge.
-		return delayFound{}, nil
+	law, err := lawOf(sw.Law)
+	if err != nil {
+		return delayFound{}, err
 	}
 	p := delayParams{t.key, ch.detector, sw.Law, sw.FieldDeg, sw.Apertures, sw.ApertureOffsetsDeg, sw.SineKeep, sw.SinePeriodS, r.Signal.ACCornerHz, r.Signal.Invert}
 	return cachedStage(s.delays, s.runs, "delay", p, func() (delayFound, error) {
@@ -382,17 +382,11 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		if err != nil {
 			return delayFound{}, err
 		}
-		var d delayFound
-		if sw.Law == recipe.LawSine {
-			period := 0.0
-			if sw.SinePeriodS != nil {
-				period = *sw.SinePeriodS * s.rec.SampleRateHz
-			}
-			d.DelayDeg, d.Warnings, err = estimateSineDelay(ctx, t, det, sw, period)
-		} else {
-			d.DelayDeg, d.Negative, d.AperturesSeen, d.Warnings, err = estimateDelay(ctx, t, det, sw, r.Signal.Invert)
+		period := 0.0
+		if sw.SinePeriodS != nil {
+			period = *sw.SinePeriodS * s.rec.SampleRateHz
 		}
-		return d, err
+		return law.estimateDelay(ctx, t, det, sw, r.Signal.Invert, period)
 	})
 }
 
@@ -427,9 +421,7 @@ func autoMaxGap(t *timingResult, rows *rowsResult, sw recipe.Sweep) float64 {
 		return 0
 	}
 	v := 4 * median(moving)
-	if sw.Law == "sine" {
-		v /= 2
-	}
+	v /= float64(mustLaw(sw.Law).linesPerIndex())
 	return v
 }
 
@@ -439,10 +431,7 @@ func autoPitch(t *timingResult, rows *rowsResult, sw recipe.Sweep, rate float64)
 	dys := lineSpacings(t, rows)
 	v := 0.0
 	if len(dys) > 0 {
-		v = median(dys)
-		if sw.Law == recipe.LawSine {
-			v /= 2
-		}
+		v = median(dys) / float64(mustLaw(sw.Law).linesPerIndex())
 	}
 	if m, err := lawMap(sw); err == nil && len(t.lines) > 0 {
 		periods := make([]float64, len(t.lines))
@@ -467,15 +456,7 @@ func autoPitch(t *timingResult, rows *rowsResult, sw recipe.Sweep, rate float64)
 }
 
 // fieldFraction is the share of a line period spent inside the field.
-func fieldFraction(sw recipe.Sweep) float64 {
-	switch sw.Law {
-	case recipe.LawSine:
-		return sineKeepDeg(sw.SineKeep) / 180
-	case recipe.LawTable:
-		return sw.Table[len(sw.Table)-1][0] - sw.Table[0][0]
-	}
-	return sw.FieldDeg / apertureSpacingDeg(sw)
-}
+func fieldFraction(sw recipe.Sweep) float64 { return mustLaw(sw.Law).fieldFraction(sw) }
 
 func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, t *timingResult) (*placement, error) {
 	sw := r.Sweep
@@ -504,8 +485,8 @@ func (s *Session) placeLines(ctx context.Context, r recipe.Recipe, ch channels, 
 		return nil, err
 	}
 	rate := s.rec.SampleRateHz
-	period := 0.0
-	if sw.Law == recipe.LawSine && sw.SinePeriodS != nil {
+	period := 0.0 // for a resonant mirror: the measured index period
+	if sw.SinePeriodS != nil {
 		period = *sw.SinePeriodS * rate
 	}
 	det, st, err := s.detector(ctx, ch.detector, r.Signal)
@@ -518,8 +499,8 @@ func (s *Session) placeLines(ctx context.Context, r recipe.Recipe, ch channels, 
 	}
 	switch {
 	case r.Signal.Baseline == "none":
-	case sw.Law == recipe.LawSine:
-		pl.warnings = append(pl.warnings, "the sine law has no beam-off interval, so no baseline was removed; set signal.baseline to none to silence this")
+	case !mustLaw(sw.Law).hasBeamOff():
+		pl.warnings = append(pl.warnings, fmt.Sprintf("the %s law has no beam-off interval, so no baseline was removed; set signal.baseline to none to silence this", sw.Law))
 	default:
 		if err := baselineLines(ctx, det, st, pl.lines); err != nil {
 			return nil, err
@@ -726,10 +707,9 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 	}
 	pMean := meanOf(periods)
 	rep.SweepMS = 1000 * pMean * fieldFraction(r.Sweep) / rate
-	rep.LineRateHz = rate / pMean
+	rep.LineRateHz = float64(mustLaw(r.Sweep.Law).linesPerIndex()) * rate / pMean
 	if r.Sweep.Law == recipe.LawSine {
-		rep.LineRateHz *= 2
-		rep.RPMMean, rep.RPMSpreadPct = 0, 0
+		rep.RPMMean, rep.RPMSpreadPct = 0, 0 // a mirror, not a wheel
 	}
 	res := &Result{Recipe: r}
 	totalClipped, totalGapRows, covered, pixels := 0, 0, 0, 0
@@ -846,9 +826,7 @@ func automaticSpeed(t *timingResult, r recipe.Recipe, rateHz float64) (float64, 
 	if len(periods) > 0 && median(periods) > 0 {
 		lineRate = rateHz / median(periods)
 	}
-	if r.Sweep.Law == recipe.LawSine {
-		lineRate *= 2 // a forward and a backward line per period
-	}
+	lineRate *= float64(mustLaw(r.Sweep.Law).linesPerIndex()) // a resonant mirror: a line each way
 	pitch := r.Image.PitchMM
 	if pitch <= 0 {
 		pitch = 1

@@ -6,8 +6,6 @@ import (
 	"math"
 	"slices"
 
-	"gonum.org/v1/gonum/interp"
-
 	"spotloom/recon/recipe"
 )
 
@@ -75,42 +73,15 @@ func Project(projection string, distanceMM, thetaDeg float64) float64 {
 
 // lawMap builds the x lookup for a resolved sweep.
 func lawMap(s recipe.Sweep) (*sweepMap, error) {
+	law, err := lawOf(s.Law)
+	if err != nil {
+		return nil, err
+	}
 	sign := 1.0
 	if s.Reverse {
 		sign = -1
 	}
-	half := s.FieldDeg / 2
-	switch s.Law {
-	case recipe.LawUniform:
-		m := newSweepMap(-half, half, func(u float64) float64 { return sign * Project(s.Projection, s.DistanceMM, u) })
-		m.extent([2]float64{-half, half})
-		return m, nil
-	case recipe.LawSine:
-		m := newSweepMap(-90, 270, func(u float64) float64 {
-			return sign * Project(s.Projection, s.DistanceMM, half*math.Sin(u*math.Pi/180))
-		})
-		a := sineKeepDeg(s.SineKeep)
-		m.extent([2]float64{-a, a}, [2]float64{180 - a, 180 + a})
-		return m, nil
-	case recipe.LawTable:
-		if len(s.Table) < 2 {
-			return nil, fmt.Errorf("sweep.table has %d points: law table needs two or more [fraction_of_line, x_mm] points", len(s.Table))
-		}
-		xs := make([]float64, len(s.Table))
-		ys := make([]float64, len(s.Table))
-		for i, p := range s.Table {
-			xs[i], ys[i] = p[0], p[1]
-		}
-		var pl interp.PiecewiseLinear
-		if err := pl.Fit(xs, ys); err != nil {
-			return nil, fmt.Errorf("sweep.table: %v; fractions must increase", err)
-		}
-		lo, hi := xs[0], xs[len(xs)-1]
-		m := newSweepMap(lo, hi, func(u float64) float64 { return sign * pl.Predict(math.Min(math.Max(u, lo), hi)) })
-		m.extent([2]float64{lo, hi})
-		return m, nil
-	}
-	return nil, fmt.Errorf("sweep.law %q: allowed values are %s", s.Law, recipe.Allowed(recipe.Laws))
+	return law.xMap(s, sign)
 }
 
 // sineKeepDeg is the phase half-width a (degrees) with sin a = keep: the
@@ -152,12 +123,6 @@ type placement struct {
 
 // placeLines turns each line's timing into sample ranges and the u map.
 func placeLines(t *timingResult, s recipe.Sweep, delay float64, sinePeriod float64, n int, rateHz float64) []placedLine {
-	offset := func(k int) float64 {
-		if k < len(s.ApertureOffsetsDeg) {
-			return s.ApertureOffsetsDeg[k]
-		}
-		return 0
-	}
 	clamp := func(v float64) int {
 		switch {
 		case v < 0:
@@ -184,37 +149,9 @@ func placeLines(t *timingResult, s recipe.Sweep, delay float64, sinePeriod float
 		}
 		out = append(out, pl)
 	}
-	switch s.Law {
-	case recipe.LawSine:
-		a := sineKeepDeg(s.SineKeep)
-		for i, lt := range t.lines {
-			p := lt.period
-			if sinePeriod > 0 {
-				p = sinePeriod
-			}
-			du := 360 / p
-			// φ(s) = 360(s−e)/P − delay; s(φ) = e + (φ+delay)P/360.
-			at := func(phi float64) float64 { return lt.edge + (phi+delay)*p/360 }
-			add(2*i, 0, lt.edge, p, at(-a), at(a), -a, du, lt.repaired)
-			add(2*i+1, 1, lt.edge, p, at(180-a), at(180+a), 180-a, du, false)
-		}
-	case recipe.LawTable:
-		spacing := apertureSpacingDeg(s)
-		f0, f1 := s.Table[0][0], s.Table[len(s.Table)-1][0]
-		for i, lt := range t.lines {
-			d := (delay + offset(lt.aperture)) / spacing
-			at := func(f float64) float64 { return lt.edge + (f+d)*lt.period }
-			add(i, lt.aperture, lt.edge, lt.period, at(f0), at(f1), f0, 1/lt.period, lt.repaired)
-		}
-	default: // uniform
-		spacing := apertureSpacingDeg(s)
-		half := s.FieldDeg / 2
-		for i, lt := range t.lines {
-			d := delay + offset(lt.aperture)
-			// α(s) = (s−e)/T·spacing; θ = α − d − F/2.
-			at := func(theta float64) float64 { return lt.edge + (theta+d+half)/spacing*lt.period }
-			add(i, lt.aperture, lt.edge, lt.period, at(-half), at(half), -half, spacing/lt.period, lt.repaired)
-		}
+	law := mustLaw(s.Law)
+	for i, lt := range t.lines {
+		law.place(s, lt, i, delay, sinePeriod, add)
 	}
 	return out
 }
