@@ -35,13 +35,15 @@ for "spotloom inspect": a CSV without a time column needs --rate.
 
 With --snapshot the window is rendered without a display (software renderer)
 to a PNG once the first image is built, and the command exits: for
-documentation and tests. An existing file is replaced only with --force.`
+documentation and tests; --size WxH sets the window's size (1440x900 unless
+given). An existing file is replaced only with --force.`
 
 func runOpen(args []string, _, stderr io.Writer) error {
-	fs := newFlagSet("open", "open [FILE] [--recipe R.json] [--rate HZ | --layout L.json | --raw TYPE ...] [--snapshot OUT.png [--force]]", openDescription, stderr)
+	fs := newFlagSet("open", "open [FILE] [--recipe R.json] [--rate HZ | --layout L.json | --raw TYPE ...] [--snapshot OUT.png [--size WxH] [--force]]", openDescription, stderr)
 	recipePath := fs.String("recipe", "", "build with this recipe `R.json`")
 	snapshot := fs.String("snapshot", "", "render the window to `OUT.png` and exit")
 	force := fs.Bool("force", false, "with --snapshot: replace an existing file")
+	sizeText := fs.String("size", "", "with --snapshot: the window's size `WxH` in units (default 1440x900), e.g. 1366x768")
 	cf := addCaptureFlags(fs)
 	positional, err := parseFlags(fs, args)
 	if err != nil {
@@ -59,6 +61,15 @@ func runOpen(args []string, _, stderr io.Writer) error {
 		file = positional[0]
 		if _, err := os.Stat(file); err != nil {
 			return fmt.Errorf("%s: %w", file, unwrapStat(err))
+		}
+	}
+	size := ui.SnapshotSize
+	if *sizeText != "" {
+		if *snapshot == "" {
+			return usagef("--size goes with --snapshot; the window itself can be resized")
+		}
+		if size, err = ui.ParseSize(*sizeText); err != nil {
+			return usagef("%v", err)
 		}
 	}
 	if *snapshot != "" {
@@ -84,7 +95,7 @@ func runOpen(args []string, _, stderr io.Writer) error {
 	}
 	opts := ui.Options{Icon: assets.Icon, Capture: copts}
 	if *snapshot != "" {
-		img, err := ui.Snapshot(file, r, opts)
+		img, err := ui.SnapshotAt(size, file, r, opts)
 		if err != nil {
 			if file == "" {
 				return fmt.Errorf("snapshot of the built-in demo: %w", err)

@@ -69,3 +69,35 @@ func TestOpenCSVWithoutTimeNeedsRate(t *testing.T) {
 		t.Errorf("snapshot %dx%d, %v", cfg.Width, cfg.Height, err)
 	}
 }
+
+// TestSnapshotSize: --size sets the snapshot's window size (the PNG is
+// that size in units times the painter's scale, read back with the
+// standard library), and a malformed size is a usage error (exit 2).
+func TestSnapshotSize(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders the window")
+	}
+	shot := filepath.Join(t.TempDir(), "small.png")
+	var stdout, stderr bytes.Buffer
+	if code := run([]string{"open", "--snapshot", shot, "--size", "1024x700"}, &stdout, &stderr); code != 0 {
+		t.Fatalf("exit %d, stderr %q", code, stderr.String())
+	}
+	f, err := os.Open(shot)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	cfg, err := png.DecodeConfig(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if cfg.Width*700 != cfg.Height*1024 || cfg.Width < 1024 {
+		t.Errorf("snapshot is %d×%d, want 1024×700 times the painter's scale", cfg.Width, cfg.Height)
+	}
+	for _, bad := range []string{"1024", "axb", "100x100"} {
+		stderr.Reset()
+		if code := run([]string{"open", "--snapshot", filepath.Join(t.TempDir(), "x.png"), "--size", bad}, &stdout, &stderr); code != 2 {
+			t.Errorf("--size %s: exit %d, want 2 (stderr %q)", bad, code, stderr.String())
+		}
+	}
+}

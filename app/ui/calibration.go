@@ -51,7 +51,8 @@ func newCalibrationEditor(apply func([][2]float64), problem func(title, what, tr
 	e.box = container.NewVBox(
 		widget.NewLabel("Calibration: position level → mm"),
 		e.summary, e.text,
-		container.NewGridWithColumns(3, e.applyB, e.loadB, e.listB),
+		e.applyB,
+		container.NewGridWithColumns(2, e.loadB, e.listB),
 	)
 	return e
 }

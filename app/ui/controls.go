@@ -124,7 +124,7 @@ const (
 	ctlRows      = "Rows from"
 	ctlSpeed     = "Head speed (mm/s)"
 	ctlStep      = "Travel per step (mm)"
-	ctlPolarity  = "Detector polarity: negative-going (invert the signal)"
+	ctlPolarity  = "Detector polarity: negative-going"
 	ctlWindow    = "Window"
 	ctlLevel     = "Level"
 	ctlGamma     = "Gamma"
@@ -345,7 +345,6 @@ type bound struct {
 	choice *choice
 	toggle *toggle
 	auto   *widget.Button
-	note   *widget.Label
 	box    fyne.CanvasObject
 }
 
@@ -409,7 +408,8 @@ func newControlPanel(act panelActions) *controlPanel {
 	align.Add(c.offsetNote)
 	align.Add(c.offsetsBox)
 	align.Add(c.estimate)
-	groupBoxes[groupTone].Add(container.NewHBox(c.autoTone, c.autoEach))
+	groupBoxes[groupTone].Add(c.autoTone)
+	groupBoxes[groupTone].Add(c.autoEach)
 	rows := groupBoxes[groupRows]
 	rows.Objects = append([]fyne.CanvasObject{rows.Objects[0], c.rowsNote}, rows.Objects[1:]...)
 	rows.Add(c.cal.box)
@@ -454,9 +454,7 @@ func (c *controlPanel) bind(ctl control) *bound {
 		b.auto = widget.NewButton("Find automatically", func() {
 			c.act.edit(ctl.name+" automatic", func(s *settings) bool { ctl.toAuto(s); return true })
 		})
-		b.note = widget.NewLabel("")
-		b.note.Importance = widget.LowImportance
-		body = container.NewVBox(body, container.NewBorder(nil, nil, b.auto, nil, b.note))
+		body = container.NewVBox(body, container.NewHBox(b.auto))
 	}
 	b.box = body
 	return b
@@ -496,12 +494,14 @@ func (c *controlPanel) show(v shown) {
 			enable(b.toggle, on)
 		}
 		if b.auto != nil {
+			// The button says how the value was found; pressed, it finds
+			// it again after a change by hand.
 			if b.isAuto(v) {
+				b.auto.SetText("Found automatically")
 				b.auto.Disable()
-				b.note.SetText("found automatically; move it to set it by hand")
 			} else {
+				b.auto.SetText("Find automatically")
 				b.auto.Enable()
-				b.note.SetText("set by hand")
 			}
 		}
 	}

@@ -41,12 +41,13 @@ func newFactsPanel() *factsPanel {
 	}
 	p.warnings = widget.NewLabel("none")
 	p.warnings.Wrapping = fyne.TextWrapWord
+	// Warnings first: on a small screen they stay in sight above the facts.
 	p.box = container.NewVBox(
-		widget.NewLabelWithStyle("Facts", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
-		form,
-		widget.NewSeparator(),
 		widget.NewLabelWithStyle("Warnings", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 		p.warnings,
+		widget.NewSeparator(),
+		widget.NewLabelWithStyle("Facts", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
+		form,
 	)
 	return p
 }

@@ -33,6 +33,7 @@ type numberControl struct {
 func newNumberControl(name string, lo, hi, step float64, format string, onChange func(float64)) *numberControl {
 	c := &numberControl{format: format, onChange: onChange}
 	c.label = widget.NewLabel(name)
+	c.label.Wrapping = fyne.TextWrapWord // a long name never widens its column
 	c.slider = newFineSlider(lo, hi)
 	c.slider.Step = step
 	c.entry = widget.NewEntry()

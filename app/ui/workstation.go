@@ -82,7 +82,7 @@ type Workstation struct {
 	prevFrame   *widget.Button
 	nextFrame   *widget.Button
 	lineEntry   *widget.Entry
-	followCheck *widget.Check
+	followCheck *toggle
 	progress    *widget.ProgressBar
 	stage       *widget.Label
 	cancel      *widget.Button
@@ -94,6 +94,12 @@ type Workstation struct {
 	recentMenu  *fyne.MenuItem
 	mainMenu    *fyne.MainMenu
 	leftBox     *fyne.Container
+	topBar      fyne.CanvasObject // the window's toolbar
+	viewBar     fyne.CanvasObject // the image's toolbar
+	stripBar    fyne.CanvasObject // the trace strip's toolbar
+	statusBar   fyne.CanvasObject
+	middle      fyne.CanvasObject
+	rightScroll fyne.CanvasObject
 	leftScroll  *container.Scroll
 	dialogs     []dialog.Dialog // messages shown, newest last
 }
@@ -127,22 +133,40 @@ func (ws *Workstation) Wait() { ws.work.wait() }
 // none), for tests.
 func (ws *Workstation) Problem() string { return ws.problem }
 
-// fixedWidth lays out its objects at a fixed width and full height.
-type fixedWidth struct{ width float32 }
+// columns lays out the left panel, the middle and the right panel: the
+// side panels take a share of the window's width within bounds, so a
+// small screen keeps room for the image and a large one does not waste it.
+type columns struct{}
 
-func (l fixedWidth) MinSize(objects []fyne.CanvasObject) fyne.Size {
+// Bounds of the side columns' widths, and their share of the window.
+const (
+	leftMin, leftMax, leftShare    = 270, 340, 0.25
+	rightMin, rightMax, rightShare = 245, 270, 0.19
+)
+
+func sideWidths(total float32) (left, right float32) {
+	left = min(max(leftShare*total, leftMin), leftMax)
+	right = min(max(rightShare*total, rightMin), rightMax)
+	return left, right
+}
+
+// MinSize: objects are left, middle, right.
+func (columns) MinSize(objects []fyne.CanvasObject) fyne.Size {
 	h := float32(0)
 	for _, o := range objects {
 		h = max(h, o.MinSize().Height)
 	}
-	return fyne.NewSize(l.width, h)
+	return fyne.NewSize(leftMin+rightMin+objects[1].MinSize().Width, h)
 }
 
-func (l fixedWidth) Layout(objects []fyne.CanvasObject, size fyne.Size) {
-	for _, o := range objects {
-		o.Move(fyne.NewPos(0, 0))
-		o.Resize(size)
-	}
+func (columns) Layout(objects []fyne.CanvasObject, size fyne.Size) {
+	l, r := sideWidths(size.Width)
+	objects[0].Move(fyne.NewPos(0, 0))
+	objects[0].Resize(fyne.NewSize(l, size.Height))
+	objects[1].Move(fyne.NewPos(l, 0))
+	objects[1].Resize(fyne.NewSize(max(size.Width-l-r, 0), size.Height))
+	objects[2].Move(fyne.NewPos(size.Width-r, 0))
+	objects[2].Resize(fyne.NewSize(r, size.Height))
 }
 
 func (ws *Workstation) build() {
@@ -186,7 +210,7 @@ func (ws *Workstation) build() {
 	ws.lineEntry = widget.NewEntry()
 	ws.lineEntry.SetPlaceHolder("line")
 	ws.lineEntry.OnSubmitted = func(s string) { ws.chooseLineNumber(s) }
-	ws.followCheck = widget.NewCheck("Follow pointer", func(on bool) { ws.followLine = on })
+	ws.followCheck = newToggle("Follow pointer", func(on bool) { ws.followLine = on })
 	ws.followCheck.SetChecked(true)
 	stripBar := container.NewHBox(
 		widget.NewLabelWithStyle("Traces", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
@@ -194,10 +218,11 @@ func (ws *Workstation) build() {
 		widget.NewButtonWithIcon("", theme.MoveDownIcon(), func() { ws.stepLine(1) }),
 		container.NewGridWrap(fyne.NewSize(90, ws.lineEntry.MinSize().Height), ws.lineEntry),
 		ws.followCheck,
-		ws.traceTools(),
 	)
-	// The legend scrolls rather than widening the window when it is narrow.
-	stripBar = container.NewBorder(nil, nil, stripBar, nil, container.NewHScroll(container.NewHBox(layout.NewSpacer(), TraceLegend())))
+	// Two rows, so a narrow window keeps every button in sight; the legend
+	// scrolls rather than widening the window.
+	stripBar = container.NewVBox(stripBar,
+		container.NewBorder(nil, nil, ws.traceTools(), nil, container.NewHScroll(container.NewHBox(layout.NewSpacer(), TraceLegend()))))
 	imageArea := container.NewBorder(viewBar, nil, nil, nil, ws.view)
 	stripArea := container.NewBorder(stripBar, nil, nil, nil, ws.strip)
 	middle := container.NewVSplit(imageArea, stripArea)
@@ -206,8 +231,7 @@ func (ws *Workstation) build() {
 	ws.controls.groups.Append(widget.NewAccordionItem("Source and channel roles", ws.source.object()))
 	ws.leftBox = container.NewVBox(ws.controls.object())
 	ws.leftScroll = container.NewVScroll(ws.leftBox)
-	left := container.New(fixedWidth{340}, ws.leftScroll)
-	right := container.New(fixedWidth{260}, container.NewVScroll(ws.facts.object()))
+	right := container.NewVScroll(ws.facts.object())
 
 	ws.progress = widget.NewProgressBar()
 	ws.stage = widget.NewLabel("Ready")
@@ -239,7 +263,8 @@ func (ws *Workstation) build() {
 	topBox := container.NewVBox(top, line)
 	statusGround := canvas.NewRectangle(theme.Color(theme.ColorNameBackground))
 	statusBox := container.NewStack(statusGround, container.NewVBox(widget.NewSeparator(), status))
-	inner := container.NewBorder(nil, nil, left, right, middle)
+	inner := container.New(columns{}, ws.leftScroll, middle, right)
+	ws.topBar, ws.viewBar, ws.stripBar, ws.statusBar, ws.middle, ws.rightScroll = top, viewBar, stripBar, statusBox, middle, right
 	content := container.New(layout.NewBorderLayout(topBox, statusBox, nil, nil), inner, topBox, statusBox)
 	ws.win.SetContent(content)
 	ws.buildMenu()

@@ -1,0 +1,136 @@
+package ui
+
+import (
+	"fmt"
+	"image/png"
+	"os"
+	"path/filepath"
+	"testing"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/test"
+	"fyne.io/fyne/v2/widget"
+)
+
+// area is a box in window coordinates.
+type area struct{ x0, y0, x1, y1 float32 }
+
+func boxOf(o fyne.CanvasObject) area {
+	// AbsolutePositionForObject leaves out the canvas's inset.
+	p := fyne.CurrentApp().Driver().AbsolutePositionForObject(o)
+	if c := fyne.CurrentApp().Driver().CanvasForObject(o); c != nil {
+		inset, _ := c.InteractiveArea()
+		p = p.Add(inset)
+	}
+	s := o.Size()
+	return area{p.X, p.Y, p.X + s.Width, p.Y + s.Height}
+}
+
+func (r area) inside(o area) bool {
+	const slack = 0.5
+	return r.x0 >= o.x0-slack && r.y0 >= o.y0-slack && r.x1 <= o.x1+slack && r.y1 <= o.y1+slack
+}
+
+func (r area) overlaps(o area) bool {
+	const slack = 0.5
+	return r.x0 < o.x1-slack && o.x0 < r.x1-slack && r.y0 < o.y1-slack && o.y0 < r.y1-slack
+}
+
+// buttons lists the visible buttons under o, leaving out what lies in a
+// scrolled container (that may be scrolled out of sight by design).
+func buttons(o fyne.CanvasObject) []*widget.Button {
+	if !o.Visible() {
+		return nil
+	}
+	switch v := o.(type) {
+	case *widget.Button:
+		return []*widget.Button{v}
+	case *container.Scroll:
+		return nil
+	case *fyne.Container:
+		var out []*widget.Button
+		for _, c := range v.Objects {
+			out = append(out, buttons(c)...)
+		}
+		return out
+	case fyne.Widget:
+		var out []*widget.Button
+		if r := widgetRenderer(v); r != nil {
+			for _, c := range r.Objects() {
+				out = append(out, buttons(c)...)
+			}
+		}
+		return out
+	}
+	return nil
+}
+
+// TestLayoutFitsSmallScreens renders the window at two common laptop
+// sizes: the window's minimum size fits, the main regions do not overlap,
+// every toolbar button lies inside its toolbar's region and the window,
+// and the warnings are in sight.
+func TestLayoutFitsSmallScreens(t *testing.T) {
+	for _, size := range []fyne.Size{fyne.NewSize(1366, 768), fyne.NewSize(1024, 700)} {
+		t.Run(fmt.Sprintf("%.0fx%.0f", size.Width, size.Height), func(t *testing.T) {
+			ws, err := snapshotWindow(size, "", nil, Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			c := ws.win.Canvas()
+			if min := c.Content().MinSize(); min.Width > size.Width || min.Height > size.Height {
+				t.Errorf("the window needs at least %v, more than the screen's %v", min, size)
+			}
+			window := area{0, 0, size.Width, size.Height}
+			regions := map[string]fyne.CanvasObject{
+				"toolbar": ws.topBar, "left column": ws.leftScroll, "middle": ws.middle,
+				"right column": ws.rightScroll, "status bar": ws.statusBar,
+			}
+			for name, o := range regions {
+				if !boxOf(o).inside(window) {
+					t.Errorf("the %s %v reaches outside the window", name, boxOf(o))
+				}
+				for other, p := range regions {
+					if name < other && boxOf(o).overlaps(boxOf(p)) {
+						t.Errorf("the %s %v overlaps the %s %v", name, boxOf(o), other, boxOf(p))
+					}
+				}
+			}
+			bars := map[string]struct {
+				bar, region fyne.CanvasObject
+			}{
+				"window toolbar": {ws.topBar, ws.topBar}, "image toolbar": {ws.viewBar, ws.middle},
+				"trace toolbar": {ws.stripBar, ws.middle}, "status bar": {ws.statusBar, ws.statusBar},
+			}
+			for name, b := range bars {
+				bs := buttons(b.bar)
+				if len(bs) == 0 {
+					t.Errorf("no buttons found in the %s", name)
+				}
+				for _, btn := range bs {
+					if r := boxOf(btn); !r.inside(boxOf(b.region)) || !r.inside(window) {
+						t.Errorf("%s: button %q at %v lies outside %v", name, btn.Text, r, boxOf(b.region))
+					}
+				}
+			}
+			for _, col := range []struct {
+				name           string
+				content, outer fyne.CanvasObject
+			}{{"left", ws.leftBox, ws.leftScroll}, {"right", ws.facts.object(), ws.rightScroll}} {
+				if need, have := col.content.MinSize().Width, col.outer.Size().Width; need > have {
+					t.Errorf("the %s column's content needs %.0f wide, the column is %.0f: its right edge is cut", col.name, need, have)
+				}
+			}
+			if r := boxOf(ws.facts.warnings); !(r.y0 < size.Height-ws.statusBar.Size().Height) {
+				t.Errorf("the warnings start at y %.0f, below the visible part of the window", r.y0)
+			}
+			if dir := os.Getenv("SPOTLOOM_LAYOUT_SHOTS"); dir != "" {
+				f, _ := os.Create(filepath.Join(dir, fmt.Sprintf("layout-%.0fx%.0f.png", size.Width, size.Height)))
+				png.Encode(f, c.Capture())
+				f.Close()
+			}
+		})
+	}
+}
+
+func widgetRenderer(w fyne.Widget) fyne.WidgetRenderer { return test.WidgetRenderer(w) }
