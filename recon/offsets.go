@@ -52,9 +52,9 @@ func (s *Session) offsetStage(ctx context.Context, r recipe.Recipe, ch channels,
 		T      string
 		Det    int
 		Sweep  recipe.Sweep
-		AC     float64
+		AC     string
 		Invert bool
-	}{t.key, ch.detector, sw, r.Signal.ACCornerHz, r.Signal.Invert})
+	}{t.key, ch.detector, sw, detectorKey(r.Signal), r.Signal.Invert})
 	if o, ok := s.offsets.get(k); ok {
 		return slices.Clone(o.offsets), o.err
 	}

@@ -69,12 +69,14 @@ type Session struct {
 	rows     *memo[*rowsResult]   // cross-scan position of every sample
 	delays   *memo[delayFound]
 	offsets  *memo[offsetsFound]
-	coupled  *memo[detectorView] // the detector with its AC coupling undone
-	places   *memo[*placement]
-	grids    *memo[*Result]
-	stats    *memo[*channelStats]   // whole-channel statistics of the recording
-	flat     map[int]flatRunsResult // constant stretches of each channel, once needed
-	roles    []capture.RoleGuess    // the capture's guessed roles, once needed
+	// afterglows holds estimated afterglows, µs
+	afterglows *memo[float64]
+	coupled    *memo[detectorView] // the detector with its AC coupling undone
+	places     *memo[*placement]
+	grids      *memo[*Result]
+	stats      *memo[*channelStats]   // whole-channel statistics of the recording
+	flat       map[int]flatRunsResult // constant stretches of each channel, once needed
+	roles      []capture.RoleGuess    // the capture's guessed roles, once needed
 	// runs counts how often each stage was computed (not reused), for
 	// tests of the caching.
 	runs map[string]int
@@ -86,7 +88,7 @@ func NewSession(rec *capture.Recording) *Session {
 		rec: rec, runs: map[string]int{},
 		splits: newMemo[OtsuResult](4), carriers: newMemo[float64](4),
 		timings: newMemo[*timingResult](2), rows: newMemo[*rowsResult](2),
-		delays: newMemo[delayFound](4), offsets: newMemo[offsetsFound](4),
+		delays: newMemo[delayFound](4), offsets: newMemo[offsetsFound](4), afterglows: newMemo[float64](2),
 		// A corrected detector and a grid are as large as the capture
 		// and the image: keep one of each.
 		coupled: newMemo[detectorView](1), places: newMemo[*placement](2), grids: newMemo[*Result](1),
@@ -234,6 +236,14 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 		r.Rows.CarrierHz = recipe.Float(rows.carrier)
 	}
 	progress.report("rows", 1)
+	if r.Signal.AfterglowUS == nil {
+		us, w, err := s.afterglowStage(ctx, r, ch, t)
+		if err != nil {
+			return nil, nil, err
+		}
+		r.Signal.AfterglowUS = recipe.Float(us)
+		warns = append(warns, w...)
+	}
 	if r.Sweep.ApertureOffsetsDeg == nil {
 		w, err := s.resolveOffsets(ctx, &r, ch, t)
 		if err != nil {
@@ -364,7 +374,7 @@ type delayParams struct {
 	Offsets  []float64
 	Keep     float64
 	Period   *float64
-	AC       float64
+	AC       string
 	Invert   bool
 }
 
@@ -376,7 +386,7 @@ func (s *Session) delayStage(ctx context.Context, r recipe.Recipe, ch channels, 
 	if err != nil {
 		return delayFound{}, err
 	}
-	p := delayParams{t.key, ch.detector, sw.Law, sw.FieldDeg, sw.Apertures, sw.ApertureOffsetsDeg, sw.SineKeep, sw.SinePeriodS, r.Signal.ACCornerHz, r.Signal.Invert}
+	p := delayParams{t.key, ch.detector, sw.Law, sw.FieldDeg, sw.Apertures, sw.ApertureOffsetsDeg, sw.SineKeep, sw.SinePeriodS, detectorKey(r.Signal), r.Signal.Invert}
 	return cachedStage(s.delays, s.runs, "delay", p, func() (delayFound, error) {
 		det, _, err := s.detector(ctx, ch.detector, r.Signal)
 		if err != nil {
@@ -465,8 +475,8 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 		Sweep    recipe.Sweep
 		Detector int
 		Baseline string
-		AC       float64
-	}{t.key, sw, ch.detector, r.Signal.Baseline, r.Signal.ACCornerHz}
+		AC       string
+	}{t.key, sw, ch.detector, r.Signal.Baseline, detectorKey(r.Signal)}
 	return cachedStage(s.places, s.runs, "placement", p, func() (*placement, error) {
 		pl, err := s.placeLines(ctx, r, ch, t)
 		if pl != nil {
@@ -521,19 +531,43 @@ type detectorView struct {
 }
 
 // detector returns the detector samples the stages work on, and their
-// statistics: the recorded channel, or with signal.ac_corner_hz set, the
-// channel with that high-pass undone (computed once per corner).
+// statistics: the recorded channel, or with signal.ac_corner_hz or
+// signal.afterglow_us set, the channel with that high-pass and afterglow
+// undone (computed once per setting).
 func (s *Session) detector(ctx context.Context, ch int, sig recipe.Signal) ([]float32, *channelStats, error) {
-	if sig.ACCornerHz <= 0 {
+	glow := afterglowS(sig)
+	if sig.ACCornerHz <= 0 && glow == 0 {
 		st, err := s.channelStats(ctx, ch)
 		return s.rec.Channels[ch].Samples, st, err
 	}
-	v, err := cachedStage(s.coupled, s.runs, "ac", [2]float64{float64(ch), sig.ACCornerHz}, func() (detectorView, error) {
-		det := undoHighPass(s.rec.Channels[ch].Samples, sig.ACCornerHz, s.rec.SampleRateHz)
+	v, err := cachedStage(s.coupled, s.runs, "ac", [3]float64{float64(ch), sig.ACCornerHz, glow}, func() (detectorView, error) {
+		// The chain was afterglow, then the input's high-pass: undo them
+		// in the reverse order.
+		det := s.rec.Channels[ch].Samples
+		if sig.ACCornerHz > 0 {
+			det = undoHighPass(det, sig.ACCornerHz, s.rec.SampleRateHz)
+		}
+		if glow > 0 {
+			det = undoAfterglow(det, glow, s.rec.SampleRateHz)
+		}
 		st, err := newChannelStats(ctx, det)
 		return detectorView{det, st}, err
 	})
 	return v.samples, v.stats, err
+}
+
+// afterglowS is the afterglow to undo, seconds (0 when none or not yet
+// estimated).
+func afterglowS(sig recipe.Signal) float64 {
+	if sig.AfterglowUS == nil || !(*sig.AfterglowUS > 0) {
+		return 0
+	}
+	return *sig.AfterglowUS * 1e-6
+}
+
+// detectorKey names the clean-up the detector gets, for the stages' keys.
+func detectorKey(sig recipe.Signal) string {
+	return fmt.Sprint(sig.ACCornerHz, "/", afterglowS(sig))
 }
 
 // flatRuns returns the stretches of at least minQuietS over which channel

@@ -117,16 +117,6 @@ func truthDotFit(t *testing.T, f *Frame, dots [][2]float64, diameter float64) (r
 	return math.Sqrt(ss / float64(n)), scaleX, scaleY, n
 }
 
-func lineSlope(a, b []float64) float64 {
-	ma, mb := meanOf(a), meanOf(b)
-	var num, den float64
-	for i := range a {
-		num += (a[i] - ma) * (b[i] - mb)
-		den += (a[i] - ma) * (a[i] - ma)
-	}
-	return num / den
-}
-
 // handDotGrid is the dot grid scanned by the hand rig (seed 7), in a new
 // session, with its truth.
 func handDotGrid(t *testing.T) (sampledata.Rig, *Session, *sampledata.Truth) {

@@ -87,7 +87,7 @@ func (r Rig) Recipe() recipe.Recipe {
 			Table:              [][2]float64{},
 		},
 		Rows:   rows,
-		Signal: recipe.Signal{Baseline: baseline, ACCornerHz: r.Detector.ACCouplingCornerHz},
+		Signal: recipe.Signal{Baseline: baseline, ACCornerHz: r.Detector.ACCouplingCornerHz, AfterglowUS: recipe.Float(0)},
 		Image:  recipe.Image{PitchMM: 1.0, FillGapsPx: 2},
 	}
 }

@@ -41,7 +41,7 @@ func Default() Recipe {
 			Calibration: [][2]float64{{0.5, 0}, {4.5, 400}},
 			Strokes:     "merge",
 		},
-		Signal: Signal{Baseline: "beam-off"},
+		Signal: Signal{Baseline: "beam-off", AfterglowUS: Float(0)},
 		Image:  Image{PitchMM: 1, FillGapsPx: 2},
 	}
 }
@@ -149,6 +149,7 @@ func (r Recipe) Clone() Recipe {
 	c.Rows.MMPerStep = clonePtr(r.Rows.MMPerStep)
 	c.Rows.SpeedMMS = clonePtr(r.Rows.SpeedMMS)
 	c.Image.MaxGapMM = clonePtr(r.Image.MaxGapMM)
+	c.Signal.AfterglowUS = clonePtr(r.Signal.AfterglowUS)
 	if r.Sweep.ApertureOffsetsDeg != nil {
 		c.Sweep.ApertureOffsetsDeg = append([]float64{}, r.Sweep.ApertureOffsetsDeg...)
 	}

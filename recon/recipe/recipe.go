@@ -109,6 +109,11 @@ type Signal struct {
 	// went through on its way to the recorder (a sound card's input, an
 	// AC-coupled scope channel); the engine undoes it. 0 = DC coupled.
 	ACCornerHz float64 `json:"ac_corner_hz"`
+	// AfterglowUS is the time constant of the detector's single-exponential
+	// afterglow (a phosphor screen's decay), in microseconds; the engine
+	// undoes it. 0 = none; nil = estimated from the detector's decay where
+	// the beam leaves the field.
+	AfterglowUS *float64 `json:"afterglow_us"`
 }
 
 // Image controls the output grid.

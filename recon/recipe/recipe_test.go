@@ -95,6 +95,7 @@ func TestValidateNamesKeyAndAllowedValues(t *testing.T) {
 		{func(r *Recipe) { r.Sweep.ApertureOffsetsDeg = []float64{1} }, `"sweep.aperture_offsets_deg" has 1 values`},
 		{func(r *Recipe) { r.Image.PitchMM = -1 }, `"image.pitch_mm" is -1`},
 		{func(r *Recipe) { r.Image.MaxGapMM = Float(-1) }, `"image.max_gap_mm" is -1`},
+		{func(r *Recipe) { r.Signal.AfterglowUS = Float(-3) }, `"signal.afterglow_us" is -3`},
 	} {
 		r := Default()
 		c.edit(&r)
@@ -143,6 +144,9 @@ func TestOffsetsNullAndEmptyDiffer(t *testing.T) {
 		if err := r.Validate(); err != nil {
 			t.Error(err)
 		}
+	}
+	if d := Default(); d.Signal.AfterglowUS == nil || *d.Signal.AfterglowUS != 0 || d.Image.MaxGapMM != nil {
+		t.Errorf("defaults: afterglow %v, max gap %v; want 0 and null", d.Signal.AfterglowUS, d.Image.MaxGapMM)
 	}
 }
 

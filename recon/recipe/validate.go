@@ -203,6 +203,9 @@ func (r Recipe) Validate() error {
 	if r.Image.FillGapsPx < 0 || r.Image.FillGapsPx > 16 {
 		bad("image.fill_gaps_px", "is %d: expected 0 (no filling) to 16 pixels", r.Image.FillGapsPx)
 	}
+	if finite("signal.afterglow_us", r.Signal.AfterglowUS) && !(*r.Signal.AfterglowUS >= 0 && *r.Signal.AfterglowUS <= 1e6) {
+		bad("signal.afterglow_us", "is %g: expected 0 (no afterglow) or the decay time constant in µs, up to 1000000, or null to estimate it", *r.Signal.AfterglowUS)
+	}
 	if finite("image.max_gap_mm", r.Image.MaxGapMM) && !(*r.Image.MaxGapMM >= 0 && *r.Image.MaxGapMM <= maxLengthMM) {
 		bad("image.max_gap_mm", "is %g: expected the widest gap between lines to fill, 0 to %g mm, or null for automatic", *r.Image.MaxGapMM, float64(maxLengthMM))
 	}
