@@ -5,7 +5,10 @@ import (
 	"fmt"
 	"image/png"
 	"io"
+	"log"
 	"os"
+	"runtime"
+	"strings"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/app"
@@ -109,12 +112,14 @@ func runOpen(args []string, _, stderr io.Writer) error {
 		return forceHint(export.SaveFile(*snapshot, data.Bytes(), *force))
 	}
 
+	if err := checkDisplay(); err != nil {
+		return err
+	}
 	opts.SessionFile = ui.DefaultSessionFile()
-	a := app.NewWithID("org.spotloom.workstation")
-	a.SetIcon(assets.Icon)
-	a.Settings().SetTheme(ui.Theme())
-	w := a.NewWindow("Spotloom")
-	w.SetIcon(assets.Icon)
+	a, w, err := startWindow()
+	if err != nil {
+		return err
+	}
 	ws := ui.New(a, w, opts)
 	w.Resize(fyne.NewSize(1440, 900))
 	switch {
@@ -128,6 +133,53 @@ func runOpen(args []string, _, stderr io.Writer) error {
 	}
 	w.ShowAndRun()
 	return nil
+}
+
+// noDisplayAdvice ends every "no display" error.
+const noDisplayAdvice = "use --snapshot OUT.png to render without one"
+
+// checkDisplay refuses, before the window toolkit starts, a session that
+// has no display at all, where the toolkit would log and panic.
+func checkDisplay() error {
+	switch runtime.GOOS {
+	case "windows", "darwin", "android", "ios", "js":
+		return nil
+	}
+	if os.Getenv("DISPLAY") == "" && os.Getenv("WAYLAND_DISPLAY") == "" {
+		return fmt.Errorf("no display: neither DISPLAY nor WAYLAND_DISPLAY is set; %s", noDisplayAdvice)
+	}
+	return nil
+}
+
+// startWindow makes the application and its window. A display that is
+// named but cannot be used (no server, no permission) makes the toolkit
+// log a platform error and panic: that becomes one "no display" error,
+// and what the toolkit logged at start-up is shown only if it started.
+func startWindow() (a fyne.App, w fyne.Window, err error) {
+	var logged bytes.Buffer
+	out := log.Writer()
+	log.SetOutput(&logged)
+	defer func() {
+		log.SetOutput(out)
+		if p := recover(); p != nil {
+			why := strings.TrimSpace(fmt.Sprint(p))
+			if first, _, _ := strings.Cut(strings.TrimSpace(logged.String()), "\n"); first != "" {
+				// "2026/12/02 04:19:02 PlatformError: X11: ..." without the time.
+				if f := strings.Fields(first); len(f) > 2 {
+					why = strings.Join(f[2:], " ")
+				}
+			}
+			a, w, err = nil, nil, fmt.Errorf("no display: %s; %s", why, noDisplayAdvice)
+			return
+		}
+		out.Write(logged.Bytes())
+	}()
+	a = app.NewWithID("org.spotloom.workstation")
+	a.SetIcon(assets.Icon)
+	a.Settings().SetTheme(ui.Theme())
+	w = a.NewWindow("Spotloom")
+	w.SetIcon(assets.Icon)
+	return a, w, nil
 }
 
 // unwrapStat drops the path that os.Stat repeats in its error.

@@ -6,9 +6,13 @@ import (
 	"context"
 	"image/png"
 	"os"
+	"os/exec"
 	"path/filepath"
+	"runtime"
+	"slices"
 	"strings"
 	"testing"
+	"time"
 
 	"spotloom/capture"
 	"spotloom/sampledata"
@@ -98,6 +102,68 @@ func TestSnapshotSize(t *testing.T) {
 		stderr.Reset()
 		if code := run([]string{"open", "--snapshot", filepath.Join(t.TempDir(), "x.png"), "--size", bad}, &stdout, &stderr); code != 2 {
 			t.Errorf("--size %s: exit %d, want 2 (stderr %q)", bad, code, stderr.String())
+		}
+	}
+}
+
+// builtBinary builds the spotloom command for tests that must run the
+// real program (the window toolkit needs the main thread, which a test
+// binary does not give it).
+func builtBinary(t *testing.T) string {
+	t.Helper()
+	goTool, err := exec.LookPath("go")
+	if err != nil {
+		goTool = filepath.Join(runtime.GOROOT(), "bin", "go")
+	}
+	bin := filepath.Join(t.TempDir(), "spotloom")
+	if out, err := exec.Command(goTool, "build", "-o", bin, ".").CombinedOutput(); err != nil {
+		t.Fatalf("go build: %v\n%s", err, out)
+	}
+	return bin
+}
+
+// TestNoDisplay: "spotloom" and "spotloom open" without a usable display
+// (none named, or one named that is not there) exit 1 with one line that
+// says so and names --snapshot, never a panic or a stack trace.
+func TestNoDisplay(t *testing.T) {
+	bin := builtBinary(t)
+	var env []string
+	for _, kv := range os.Environ() {
+		if !strings.HasPrefix(kv, "DISPLAY=") && !strings.HasPrefix(kv, "WAYLAND_DISPLAY=") {
+			env = append(env, kv)
+		}
+	}
+	cases := []struct {
+		args    []string
+		display []string
+	}{
+		{nil, nil},
+		{[]string{"open"}, nil},
+		{[]string{"open"}, []string{"DISPLAY="}},
+		// a display number nobody serves: the toolkit itself fails
+		{[]string{"open"}, []string{"DISPLAY=:97"}},
+		{nil, []string{"WAYLAND_DISPLAY=spotloom-none"}},
+	}
+	for _, c := range cases {
+		cmd := exec.Command(bin, c.args...)
+		cmd.Env = append(slices.Clone(env), c.display...)
+		var stdout, stderr bytes.Buffer
+		cmd.Stdout, cmd.Stderr = &stdout, &stderr
+		done := make(chan error, 1)
+		if err := cmd.Start(); err != nil {
+			t.Fatal(err)
+		}
+		go func() { done <- cmd.Wait() }()
+		select {
+		case <-done:
+		case <-time.After(60 * time.Second):
+			cmd.Process.Kill()
+			t.Fatalf("%q %q: still running after a minute", c.args, c.display)
+		}
+		msg := stderr.String()
+		if code := cmd.ProcessState.ExitCode(); code != 1 || strings.Count(msg, "\n") != 1 ||
+			!strings.HasPrefix(msg, "spotloom open: no display: ") || !strings.Contains(msg, "--snapshot OUT.png") {
+			t.Errorf("%q %q: exit %d, stderr %q; want exit 1 and one \"no display\" line", c.args, c.display, code, msg)
 		}
 	}
 }
