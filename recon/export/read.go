@@ -110,11 +110,25 @@ func readSidecar(path string) *sidecarFile {
 		return nil
 	}
 	// A sidecar lists the exports made from its recipe; it describes this
-	// file when it names it or when it names nothing else.
-	if sc.File != "" && sc.File != filepath.Base(path) {
+	// file when it names it (as the last export or among the others) or
+	// when it names nothing else.
+	if sc.File != "" && !sidecarNames(sc, filepath.Base(path)) {
 		return nil
 	}
 	return &sc
+}
+
+// sidecarNames says whether a sidecar lists the file name among its exports.
+func sidecarNames(sc sidecarFile, name string) bool {
+	if sc.File == name {
+		return true
+	}
+	for _, e := range sc.Exports {
+		if e.File == name {
+			return true
+		}
+	}
+	return false
 }
 
 // applySidecar takes the origin, report and recipe from the sidecar where

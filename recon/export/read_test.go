@@ -115,6 +115,32 @@ func TestReadWithoutSidecar(t *testing.T) {
 	}
 }
 
+func TestReadSharedSidecar(t *testing.T) {
+	// A TIFF and a PNG of one base name share F.recipe.json, whose "file"
+	// names the later export: the earlier one still takes its origin
+	// from the sidecar's list of exports.
+	dir := t.TempDir()
+	f := testFrame(12, 9, 0.5)
+	f.Report.OriginXMM, f.Report.OriginYMM = f.OriginXMM, f.OriginYMM
+	tiffPath, pngPath := filepath.Join(dir, "frame.tiff"), filepath.Join(dir, "frame.png")
+	if err := Write(tiffPath, []*recon.Frame{f}, Options{Raw: true}); err != nil {
+		t.Fatal(err)
+	}
+	if err := Write(pngPath, []*recon.Frame{f}, Options{Depth: 8}); err != nil {
+		t.Fatal(err)
+	}
+	for _, p := range []string{tiffPath, pngPath} {
+		l, err := Read(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !l.Origin || l.Frames[0].OriginXMM != f.OriginXMM || l.Frames[0].OriginYMM != f.OriginYMM {
+			t.Errorf("%s: origin %v at %g, %g mm, wrote %g, %g", filepath.Base(p), l.Origin,
+				l.Frames[0].OriginXMM, l.Frames[0].OriginYMM, f.OriginXMM, f.OriginYMM)
+		}
+	}
+}
+
 func TestReadRefusesBrokenFiles(t *testing.T) {
 	dir := t.TempDir()
 	good := filepath.Join(dir, "g.tiff")
