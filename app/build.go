@@ -171,6 +171,22 @@ func runBuild(args []string, stdout, stderr io.Writer) error {
 func (bf *buildFlags) exportOptions(fs *flag.FlagSet) (export.Options, error) {
 	set := map[string]bool{}
 	fs.Visit(func(f *flag.Flag) { set[f.Name] = true })
+	if err := positiveFlags(fs, "window", "gamma", "scale-bar-mm"); err != nil {
+		return export.Options{}, err
+	}
+	if err := finiteFlags(fs, "level"); err != nil {
+		return export.Options{}, err
+	}
+	switch bf.depth {
+	case 0, 8, 16, 32:
+	default:
+		return export.Options{}, usagef("--depth %d: expected 8, 16 or 32", bf.depth)
+	}
+	switch strings.ToLower(bf.compression) {
+	case "", "none", "deflate", "lzw":
+	default:
+		return export.Options{}, usagef("--compress %q: expected none, deflate or lzw (PNG: deflate or none)", bf.compression)
+	}
 	opts := export.Options{
 		Depth:       bf.depth,
 		Caption:     bf.caption,

@@ -22,6 +22,7 @@ func init() {
 // sample rate for files without one, and a raw layout given on the command
 // line instead of a NAME.layout.json sidecar.
 type captureFlags struct {
+	fs          *flag.FlagSet
 	rateHz      float64
 	layoutPath  string
 	sampleType  string
@@ -35,7 +36,7 @@ type captureFlags struct {
 
 // addCaptureFlags defines the capture flags on fs.
 func addCaptureFlags(fs *flag.FlagSet) *captureFlags {
-	cf := &captureFlags{}
+	cf := &captureFlags{fs: fs}
 	fs.Float64Var(&cf.rateHz, "rate", 0, "sample rate in `Hz` (CSV without a time column, raw files; overrides the file's rate)")
 	fs.StringVar(&cf.layoutPath, "layout", "", "raw layout JSON `file` (default: NAME.layout.json beside the capture)")
 	fs.StringVar(&cf.sampleType, "raw", "", "read as raw samples of this `type`: int8, uint8, int16, uint16, int32, uint32, float32, float64")
@@ -51,6 +52,12 @@ func addCaptureFlags(fs *flag.FlagSet) *captureFlags {
 // options turns the flags into capture.Options.
 func (cf *captureFlags) options() (capture.Options, error) {
 	opts := capture.Options{SampleRateHz: cf.rateHz}
+	if err := positiveFlags(cf.fs, "rate", "scale", "channels"); err != nil {
+		return opts, err
+	}
+	if err := finiteFlags(cf.fs, "offset"); err != nil {
+		return opts, err
+	}
 	if cf.rateHz < 0 || cf.rateHz > capture.MaxSampleRateHz {
 		return opts, usagef("--rate %g: expected a rate above 0 Hz and at most %g Hz", cf.rateHz, capture.MaxSampleRateHz)
 	}

@@ -7,8 +7,11 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
 	"os"
+	"regexp"
 	"sort"
+	"strconv"
 	"strings"
 
 	_ "spotloom/app/internal/localefix" // before Fyne reads the locale
@@ -63,10 +66,92 @@ func newFlagSet(name, synopsis, description string, stderr io.Writer) *flag.Flag
 		fs.VisitAll(func(*flag.Flag) { hasFlags = true })
 		if hasFlags {
 			fmt.Fprintf(stderr, "\nflags:\n")
-			fs.PrintDefaults()
+			printFlags(stderr, fs)
 		}
 	}
 	return fs
+}
+
+// printFlags lists the flags of fs spelled as the usage lines spell them,
+// "--name", where the flag package's PrintDefaults would print "-name".
+func printFlags(w io.Writer, fs *flag.FlagSet) {
+	fs.VisitAll(func(f *flag.Flag) {
+		arg, usage := flag.UnquoteUsage(f)
+		line := "  --" + f.Name
+		if arg != "" {
+			line += " " + arg
+		}
+		fmt.Fprintf(w, "%s\n    \t%s", line, strings.ReplaceAll(usage, "\n", "\n    \t"))
+		switch def := f.DefValue; def {
+		case "", "0", "false":
+		default:
+			if getter, ok := f.Value.(flag.Getter); ok {
+				if _, isString := getter.Get().(string); isString {
+					def = strconv.Quote(def)
+				}
+			}
+			fmt.Fprintf(w, " (default %s)", def)
+		}
+		fmt.Fprintln(w)
+	})
+}
+
+// singleDash finds a flag spelled with one dash in the flag package's
+// errors ("flag provided but not defined: -x").
+var singleDash = regexp.MustCompile(`(^|\s)-([A-Za-z][\w-]*)`)
+
+// positiveFlags refuses any of the named flags given on the command line
+// whose value is not a finite number above 0: the flag package takes 0,
+// NaN and Inf, which would otherwise be read as "not given" or reach the
+// work.
+func positiveFlags(fs *flag.FlagSet, names ...string) error {
+	given := map[string]bool{}
+	fs.Visit(func(f *flag.Flag) { given[f.Name] = true })
+	for _, name := range names {
+		f := fs.Lookup(name)
+		if f == nil || !given[name] {
+			continue
+		}
+		getter, ok := f.Value.(flag.Getter)
+		if !ok {
+			continue
+		}
+		var v float64
+		switch x := getter.Get().(type) {
+		case float64:
+			v = x
+		case int:
+			v = float64(x)
+		case int64:
+			v = float64(x)
+		case uint64:
+			v = float64(x)
+		default:
+			continue
+		}
+		if !(v > 0) || math.IsInf(v, 0) {
+			return usagef("--%s %s: expected a number above 0", name, f.Value.String())
+		}
+	}
+	return nil
+}
+
+// finiteFlags refuses any of the named float flags given as NaN or Inf.
+func finiteFlags(fs *flag.FlagSet, names ...string) error {
+	given := map[string]bool{}
+	fs.Visit(func(f *flag.Flag) { given[f.Name] = true })
+	for _, name := range names {
+		f := fs.Lookup(name)
+		if f == nil || !given[name] {
+			continue
+		}
+		if getter, ok := f.Value.(flag.Getter); ok {
+			if v, ok := getter.Get().(float64); ok && (math.IsNaN(v) || math.IsInf(v, 0)) {
+				return usagef("--%s %s: expected a finite number", name, f.Value.String())
+			}
+		}
+	}
+	return nil
 }
 
 // parseFlags parses args, allowing flags after positional arguments
@@ -88,7 +173,7 @@ func parseFlags(fs *flag.FlagSet, args []string) ([]string, error) {
 				usage()
 				return nil, flag.ErrHelp
 			}
-			return nil, usageError{err.Error()}
+			return nil, usageError{singleDash.ReplaceAllString(err.Error(), "$1--$2")}
 		}
 		args = fs.Args()
 		if len(args) == 0 {
@@ -129,9 +214,12 @@ func run(args []string, stdout, stderr io.Writer) int {
 		switch a := args[0]; {
 		case a == "help" || a == "-h" || a == "-help" || a == "--help":
 			if len(args) > 1 {
-				if c, ok := commands[args[1]]; ok {
-					return finish(c.name, c.run([]string{"--help"}, stdout, stderr), stderr)
+				c, ok := commands[args[1]]
+				if !ok {
+					fmt.Fprintf(stderr, "spotloom: unknown command %q (see \"spotloom help\")\n", args[1])
+					return 2
 				}
+				return finish(c.name, c.run([]string{"--help"}, stdout, stderr), stderr)
 			}
 			printCommands(stdout)
 			return 0

@@ -88,8 +88,8 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 			return fmt.Errorf("%s: %w", *from, err)
 		}
 	}
-	if *apertures < 0 {
-		return usagef("--apertures %d: expected a count of 1 or more", *apertures)
+	if err := positiveFlags(fs, "apertures", "pulses-per-rev", "field", "distance"); err != nil {
+		return err
 	}
 	if *apertures > 0 {
 		if r.Timing.PulsesPerRev != 1 {
@@ -97,9 +97,6 @@ func runRecipe(args []string, stdout, stderr io.Writer) error {
 		}
 		r.Sweep.Apertures = *apertures
 		known["sweep.apertures"] = true
-	}
-	if *pulses < 0 || *field < 0 || *distance < 0 {
-		return usagef("--pulses-per-rev, --field and --distance take positive values")
 	}
 	if *pulses > 0 {
 		r.Timing.PulsesPerRev = *pulses

@@ -69,6 +69,9 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 		_, err := stdout.Write(sampledata.DemoRig().JSON())
 		return err
 	}
+	if err := positiveFlags(fs, "seconds", "rate", "truth-pitch"); err != nil {
+		return err
+	}
 	return simulate(f, stderr)
 }
 
@@ -137,7 +140,7 @@ func simulate(f simulateFlags, stderr io.Writer) error {
 		}
 	}
 	if _, err := sampledata.Scene(f.scene); err != nil {
-		return fmt.Errorf("--scene: %w", err)
+		return usagef("--scene: %v", err)
 	}
 	opts := sampledata.SimOptions{Seed: f.seed, DurationS: f.seconds, SampleRateHz: f.rateHz, Noiseless: f.noiseless}
 	if f.truthPath != "" {
@@ -211,6 +214,15 @@ func simulate(f simulateFlags, stderr io.Writer) error {
 	if err := export.WriteFiles(ctx, files, true); err != nil {
 		return interrupted(ctx, err)
 	}
+	others := make([]string, 0, len(files)-1)
+	for _, file := range files[1:] {
+		others = append(others, file.Path)
+	}
+	wrote := fmt.Sprintf("wrote %s (%s, %.4g s: %d channels at %g Hz)", f.out, format, rec.DurationS(), len(rec.Channels), rec.SampleRateHz)
+	if len(others) > 0 {
+		wrote += ", " + strings.Join(others, ", ")
+	}
+	fmt.Fprintf(stderr, "spotloom simulate: %s\n", wrote)
 	return nil
 }
 

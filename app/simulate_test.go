@@ -225,7 +225,7 @@ func TestSimulateBadInput(t *testing.T) {
 		{"slow rate", []string{"--scene", "parcel", "--out", out, "--rate", "4000"},
 			1, []string{"sample_rate_hz is 4000", "samples per spot width", "allowed: at least"}},
 		{"unknown scene", []string{"--scene", "teapot", "--out", out},
-			1, []string{`unknown scene "teapot"`, "parcel, dot-grid, edge-card, bars, sheet"}},
+			2, []string{`unknown scene "teapot"`, "parcel, dot-grid, edge-card, bars, sheet"}},
 		{"no scene", []string{"--out", out}, 2, []string{"--scene is required"}},
 		{"no format", []string{"--scene", "parcel", "--out", filepath.Join(dir, "x.xyz")}, 2, []string{"--format wav, csv or raw"}},
 		{"bad sample type", []string{"--scene", "parcel", "--out", out, "--sample-type", "int8"}, 2, []string{"int16, int24 or float32"}},

@@ -110,7 +110,9 @@ func TestFolderAdviceWorks(t *testing.T) {
 	dir := t.TempDir()
 	folder := filepath.Join(dir, "out.png")
 	os.Mkdir(folder, 0o755)
+	// The obvious names inside are taken.
 	os.WriteFile(filepath.Join(folder, "out.png"), nil, 0o644)
+	os.WriteFile(filepath.Join(folder, "frame.png"), nil, 0o644)
 	frames := []*recon.Frame{testFrame(8, 6, 1)}
 	err := Write(folder, frames, Options{Depth: 8})
 	suggested := regexp.MustCompile(`such as (\S+)$`).FindStringSubmatch(fmt.Sprint(err))
