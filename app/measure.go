@@ -5,8 +5,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"strconv"
-	"strings"
 
 	"spotloom/recon/export"
 	"spotloom/recon/measure"
@@ -87,17 +85,9 @@ func (f fourFlag) String() string {
 }
 
 func (f fourFlag) Set(s string) error {
-	var v [4]float64
-	parts := strings.Split(s, ",")
-	if len(parts) != 4 {
-		return fmt.Errorf("expected X0,Y0,X1,Y1 in mm, got %q", s)
-	}
-	for i, p := range parts {
-		x, err := strconv.ParseFloat(strings.TrimSpace(p), 64)
-		if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
-			return fmt.Errorf("expected X0,Y0,X1,Y1 in mm, and %q is not a number", p)
-		}
-		v[i] = x
+	v, err := measure.ParseFour(s)
+	if err != nil {
+		return err
 	}
 	f.set(v)
 	return nil
@@ -159,55 +149,9 @@ func runMeasure(args []string, stdout, stderr io.Writer) error {
 		_, err = fmt.Fprintf(stdout, "%s\n", data)
 		return err
 	}
-	printMeasurements(stdout, out)
+	measure.WriteText(stdout, out)
 	for _, n := range out.Notes {
 		fmt.Fprintf(stderr, "note: %s\n", n)
 	}
 	return nil
-}
-
-func fmtOpt(v *float64, format string) string {
-	if v == nil {
-		return "not reached"
-	}
-	return fmt.Sprintf(format, *v)
-}
-
-// printMeasurements writes the results for a reader.
-func printMeasurements(w io.Writer, m measure.Results) {
-	if e := m.Edge; e != nil {
-		fmt.Fprintf(w, "edge: MTF50 %s, MTF10 %s, angle %.2f° (resolution along %s)\n",
-			fmtOpt(e.MTF50, "%.4g lp/mm"), fmtOpt(e.MTF10, "%.4g lp/mm"), e.Angle, e.Across)
-	}
-	if r := m.ROI; r != nil {
-		fmt.Fprintf(w, "roi: mean %.6g, SD %.4g, SNR %.4g, %d pixels\n", r.Mean, r.SD, r.SNR, r.Pixels)
-	}
-	if r := m.ROI2; r != nil {
-		fmt.Fprintf(w, "roi2: mean %.6g, SD %.4g, SNR %.4g, %d pixels\n", r.Mean, r.SD, r.SNR, r.Pixels)
-		fmt.Fprintf(w, "cnr: %s\n", fmtOpt(m.CNR, "%.4g"))
-	}
-	if m.DistanceMM != nil {
-		fmt.Fprintf(w, "distance: %.4g mm\n", *m.DistanceMM)
-		fmt.Fprintf(w, "profile (%d points, mm and value):", len(m.Profile))
-		for _, p := range m.Profile {
-			fmt.Fprintf(w, " %.4g:%.5g", p[0], p[1])
-		}
-		fmt.Fprintln(w)
-	}
-	if d := m.Dots; d != nil {
-		fmt.Fprintf(w, "dots: %d found, scale x %.5f y %.5f, rotation %.3f°, shear %.3f°, residual RMS %.3g mm, worst %.3g mm at %.1f, %.1f mm\n",
-			d.Found, d.ScaleX, d.ScaleY, d.RotationDeg, d.ShearDeg, d.RMSMM, d.MaxMM, d.WorstMM[0], d.WorstMM[1])
-		if d.Correction != nil {
-			for _, s := range d.Correction.Steps {
-				fmt.Fprintf(w, "  to make it true: %s\n", s)
-			}
-		}
-	}
-	if len(m.NPS) > 0 {
-		fmt.Fprintf(w, "nps (radial, lp/mm and mm²):")
-		for _, p := range m.NPS {
-			fmt.Fprintf(w, " %.3g:%.4g", p[0], p[1])
-		}
-		fmt.Fprintln(w)
-	}
 }

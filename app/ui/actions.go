@@ -377,6 +377,7 @@ func (ws *Workstation) applyResult(res *Result, first bool) {
 	ws.strip.SetData(ws.rec, det, idx, pos, res.Lines, res.Report.Threshold)
 	ws.showLineNumber()
 	ws.facts.show(res.Report, ws.rec)
+	ws.measures.show(frame)
 	ws.render()
 	// The pointer has not moved but the frame under it has.
 	if p, ok := ws.view.Hover(); ok {

@@ -74,6 +74,7 @@ type Workstation struct {
 	strip    *TraceStrip
 	controls *controlPanel
 	facts    *factsPanel
+	measures *measurePanel
 	source   *sourcePanel
 
 	readout     *widget.Label
@@ -184,6 +185,7 @@ func (ws *Workstation) build() {
 		ws.showDialog(dialog.NewCustom(title, "Close", body, ws.win))
 	}
 	ws.facts = newFactsPanel()
+	ws.measures = newMeasurePanel()
 	ws.source = newSourcePanel(ws)
 
 	ws.readout = widget.NewLabel("")
@@ -231,7 +233,7 @@ func (ws *Workstation) build() {
 	ws.controls.groups.Append(widget.NewAccordionItem("Source and channel roles", ws.source.object()))
 	ws.leftBox = container.NewVBox(ws.controls.object())
 	ws.leftScroll = container.NewVScroll(ws.leftBox)
-	right := container.NewVScroll(ws.facts.object())
+	right := container.NewVScroll(container.NewVBox(ws.facts.object(), widget.NewSeparator(), ws.measures.object()))
 
 	ws.progress = widget.NewProgressBar()
 	ws.stage = widget.NewLabel("Ready")
@@ -653,6 +655,7 @@ func (ws *Workstation) showFrame(i int) {
 	i = min(max(i, 0), len(ws.result.Frames)-1)
 	ws.frameIndex = i
 	ws.view.SetFrame(ws.result.Frames[i], ws.cur.Tone)
+	ws.measures.show(ws.result.Frames[i])
 	ws.showFrameControls()
 }
 

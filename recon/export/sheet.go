@@ -237,7 +237,7 @@ func measurementPage(pdf *fpdf.Fpdf, tr func(string) string, m *measure.Results)
 	pdf.Ln(1)
 	plotIndex := 0
 	addPlot := func(title, xLabel, yLabel string, colour [3]int, logY bool, series ...[][2]float64) error {
-		png, err := plotPNG(title, xLabel, yLabel, colour, logY, series...)
+		png, err := PlotPNG(title, xLabel, yLabel, colour, logY, series...)
 		if err != nil {
 			return fmt.Errorf("the %s plot: %w", title, err)
 		}
@@ -310,9 +310,9 @@ func measurementPage(pdf *fpdf.Fpdf, tr func(string) string, m *measure.Results)
 	return nil
 }
 
-// plotPNG draws the series as lines with gonum's plot package and returns
+// PlotPNG draws the series as lines with gonum's plot package and returns
 // a 120 × 55 mm PNG at 200 dpi.
-func plotPNG(title, xLabel, yLabel string, colour [3]int, logY bool, series ...[][2]float64) ([]byte, error) {
+func PlotPNG(title, xLabel, yLabel string, colour [3]int, logY bool, series ...[][2]float64) ([]byte, error) {
 	p := plot.New()
 	p.Title.Text = title
 	p.X.Label.Text = xLabel
