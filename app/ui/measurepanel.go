@@ -63,7 +63,7 @@ func newMeasurePanel() *measurePanel {
 	p.result.Wrapping = fyne.TextWrapWord
 	p.plot = canvas.NewImageFromImage(nil)
 	p.plot.FillMode = canvas.ImageFillContain
-	p.plot.SetMinSize(fyne.NewSize(240, 110))
+	p.plot.SetMinSize(fyne.NewSize(200, 100))
 	p.plot.Hide()
 	p.box = container.NewVBox(
 		widget.NewLabelWithStyle("Measure", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
