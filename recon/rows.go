@@ -176,71 +176,23 @@ type rowsParams struct {
 // smoothMS is the span of the position smoothing window.
 const smoothMS = 10.0
 
-// findRows runs the rows stage for every sample of the capture.
+// findRows runs the rows stage for every sample of the capture, with
+// the source p names.
 func findRows(ctx context.Context, rec rowsInput, p rowsParams) (*rowsResult, error) {
-	res := &rowsResult{}
+	src, err := sourceOf(p.Source)
+	if err != nil {
+		return nil, err
+	}
+	res := &rowsResult{blockLen: max(1, int(math.Round(rec.rateHz*0.25e-3)))}
+	return src.find(ctx, rec, p, res)
+}
+
+// levelRows turns the raw level of every block (a DC position or a tone's
+// amplitude) into y through the calibration, smoothed, and finds the
+// strokes.
+func levelRows(ctx context.Context, rec rowsInput, p rowsParams, res *rowsResult, levels []float64) (*rowsResult, error) {
 	n := rec.n
 	rate := rec.rateHz
-	res.blockLen = max(1, int(math.Round(rate*0.25e-3)))
-	var levels []float64 // raw level per block, before smoothing
-	switch p.Source {
-	case recipe.SourceEven:
-		if p.SpeedMMS == nil {
-			return nil, fmt.Errorf("rows.speed_mm_s is null: source even needs the head speed in mm/s")
-		}
-		nb := (n + res.blockLen - 1) / res.blockLen
-		res.y = make([]float64, nb)
-		for j := range res.y {
-			res.y[j] = *p.SpeedMMS * (float64(j*res.blockLen) + float64(res.blockLen)/2) / rate
-		}
-		res.strokes = []stroke{{0, n}}
-		return res, nil
-	case recipe.SourceSteps:
-		if p.MMPerStep == nil {
-			return nil, fmt.Errorf("rows.mm_per_step is null: source steps needs the head travel per step pulse in mm")
-		}
-		x := rec.channel
-		o := Otsu(x)
-		if o.Separability < minSeparability {
-			return nil, fmt.Errorf("steps channel %s stays between %s and %s: no step pulses; check channels.steps", rec.name, level(o.Min, rec.unit), level(o.Max, rec.unit))
-		}
-		edges, err := rawEdges(ctx, x, o.Threshold, 0.2*(o.HighMean-o.LowMean), true)
-		if err != nil {
-			return nil, err
-		}
-		if len(edges) == 0 {
-			return nil, fmt.Errorf("steps channel %s has no step pulses crossing %s", rec.name, level(o.Threshold, rec.unit))
-		}
-		nb := (n + res.blockLen - 1) / res.blockLen
-		res.y = make([]float64, nb)
-		k := 0
-		for j := range res.y {
-			c := float64(j*res.blockLen) + float64(res.blockLen)/2
-			for k < len(edges) && edges[k] <= c {
-				k++
-			}
-			// k edges at or before c; between edges the head moves evenly.
-			// Edge k−1 is step k; between edges the head moves evenly.
-			count := float64(k)
-			if k > 0 && k < len(edges) {
-				count += (c - edges[k-1]) / (edges[k] - edges[k-1])
-			}
-			res.y[j] = *p.MMPerStep * count
-		}
-		res.levelMin, res.levelMax = 0, float64(len(edges))
-		res.strokes = []stroke{{0, n}}
-		return res, nil
-	case recipe.SourcePosition:
-		levels = blockMeans(rec.channel, res.blockLen)
-	case recipe.SourceTone:
-		var err error
-		levels, res.blockLen, res.carrier, err = toneAmplitude(rec, p.CarrierHz)
-		if err != nil {
-			return nil, err
-		}
-	default:
-		return nil, fmt.Errorf("rows.source %q: allowed values are %s", p.Source, recipe.Allowed(recipe.RowSources))
-	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}

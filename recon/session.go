@@ -113,13 +113,11 @@ func (s *Session) lookup(key string, ref recipe.ChannelRef) (int, error) {
 // resolveChannels fills automatic channel roles and checks the named ones.
 func (s *Session) resolveChannels(r *recipe.Recipe) (channels, error) {
 	c := channels{-1, -1, -1, -1}
-	need := map[string]bool{"detector": true, "index": true}
-	switch r.Rows.Source {
-	case recipe.SourcePosition, recipe.SourceTone:
-		need["position"] = true
-	case recipe.SourceSteps:
-		need["steps"] = true
+	src, err := sourceOf(r.Rows.Source)
+	if err != nil {
+		return c, err
 	}
+	need := map[string]bool{"detector": true, "index": true, src.needs(): true}
 	refs := map[string]*recipe.ChannelRef{
 		"detector": &r.Channels.Detector, "index": &r.Channels.Index,
 		"position": &r.Channels.Position, "steps": &r.Channels.Steps,
@@ -319,12 +317,11 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 		Source: r.Rows.Source, Channel: -1, Calib: r.Rows.Calibration,
 		CarrierHz: r.Rows.CarrierHz, MMPerStep: r.Rows.MMPerStep, SpeedMMS: r.Rows.SpeedMMS,
 	}
-	switch p.Source {
-	case recipe.SourcePosition, recipe.SourceTone:
-		p.Channel = ch.position
-	case recipe.SourceSteps:
-		p.Channel = ch.steps
+	src, err := sourceOf(p.Source)
+	if err != nil {
+		return nil, err
 	}
+	p.Channel = src.channel(ch)
 	in := rowsInput{n: s.rec.Frames(), rateHz: s.rec.SampleRateHz}
 	if p.Channel >= 0 {
 		c := s.rec.Channels[p.Channel]

@@ -1,0 +1,37 @@
+package recon
+
+import (
+	"context"
+	"fmt"
+
+	"spotloom/recon/recipe"
+)
+
+// rowSource is one cross-scan source: where the head was at every sample.
+// Each source is one type in its own file; sourceOf is the only place that
+// chooses between them.
+type rowSource interface {
+	// find fills res (whose blockLen is set) with y in mm for every block
+	// of the capture, and the strokes.
+	find(ctx context.Context, rec rowsInput, p rowsParams, res *rowsResult) (*rowsResult, error)
+	// channel is the channel the source reads (-1 for none).
+	channel(ch channels) int
+	// needs is the channel role the source needs ("position", "steps"),
+	// or "" for none.
+	needs() string
+}
+
+// sourceOf returns the implementation of a rows source.
+func sourceOf(s recipe.RowSource) (rowSource, error) {
+	switch s {
+	case recipe.SourcePosition:
+		return positionSource{}, nil
+	case recipe.SourceTone:
+		return toneSource{}, nil
+	case recipe.SourceSteps:
+		return stepsSource{}, nil
+	case recipe.SourceEven:
+		return evenSource{}, nil
+	}
+	return nil, fmt.Errorf("rows.source %q: allowed values are %s", s, recipe.Allowed(recipe.RowSources))
+}

@@ -1,0 +1,28 @@
+package recon
+
+import (
+	"context"
+	"fmt"
+)
+
+// evenSource is a head moving at a constant rows.speed_mm_s from the
+// first sample, read by no sensor.
+type evenSource struct{}
+
+func (evenSource) find(_ context.Context, rec rowsInput, p rowsParams, res *rowsResult) (*rowsResult, error) {
+	n, rate := rec.n, rec.rateHz
+	if p.SpeedMMS == nil {
+		return nil, fmt.Errorf("rows.speed_mm_s is null: source even needs the head speed in mm/s")
+	}
+	nb := (n + res.blockLen - 1) / res.blockLen
+	res.y = make([]float64, nb)
+	for j := range res.y {
+		res.y[j] = *p.SpeedMMS * (float64(j*res.blockLen) + float64(res.blockLen)/2) / rate
+	}
+	res.strokes = []stroke{{0, n}}
+	return res, nil
+}
+
+func (evenSource) channel(channels) int { return -1 }
+
+func (evenSource) needs() string { return "" }

@@ -1,0 +1,16 @@
+package recon
+
+import "context"
+
+// positionSource is a DC level on the position channel (a potentiometer
+// or a linear encoder's analogue output), mapped to mm by
+// rows.calibration.
+type positionSource struct{}
+
+func (positionSource) find(ctx context.Context, rec rowsInput, p rowsParams, res *rowsResult) (*rowsResult, error) {
+	return levelRows(ctx, rec, p, res, blockMeans(rec.channel, res.blockLen))
+}
+
+func (positionSource) channel(ch channels) int { return ch.position }
+
+func (positionSource) needs() string { return "position" }
