@@ -73,6 +73,8 @@ func (ws *Workstation) saveSession() {
 		ws.sessionNote = "The session cannot be kept: " + err.Error()
 		return
 	}
+	// The session names the user's files: keep it theirs alone.
+	_ = os.Chmod(path, 0o600)
 	ws.sessionNote = ""
 }
 

@@ -3,11 +3,14 @@ package ui
 import (
 	"fmt"
 	"math"
+	"os"
+	"path/filepath"
 	"strings"
 	"testing"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/driver/desktop"
+	"fyne.io/fyne/v2/test"
 	"fyne.io/fyne/v2/theme"
 
 	"spotloom/recon"
@@ -341,5 +344,57 @@ func TestLongCalibrationIsACount(t *testing.T) {
 	got, err := parsePairs(formatPairs(pts), "test")
 	if err != nil || !samePairs(got, pts) {
 		t.Errorf("pairs do not survive writing and reading back: %v", err)
+	}
+}
+
+// TestSessionIsKeptAndOfferedBack: a change is written to the session
+// file (through a synced temporary file, readable by the user alone), and
+// the next window started on it offers it back and restores the settings
+// and the view.
+func TestSessionIsKeptAndOfferedBack(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "spotloom", "session.json")
+	a := test.NewTempApp(t)
+	w := a.NewWindow("Spotloom test")
+	ws := New(a, w, Options{SessionFile: path})
+	w.Resize(fyne.NewSize(1280, 800))
+	ws.OpenDemo()
+	ws.Wait()
+	ws.controls.number(ctlDelay).typed("9.5")
+	ws.Wait()
+	ws.view.ZoomBy(2)
+	ws.saveSession()
+	st, err := os.Stat(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if st.Mode().Perm()&0o077 != 0 {
+		t.Errorf("the session file is %v, want it private", st.Mode().Perm())
+	}
+	place := ws.view.place()
+
+	w2 := a.NewWindow("Spotloom test 2")
+	ws2 := New(a, w2, Options{SessionFile: path})
+	w2.Resize(fyne.NewSize(1280, 800))
+	fresh := false
+	ws2.Start(func() { fresh = true })
+	if fresh || w2.Canvas().Overlays().Top() == nil {
+		t.Fatal("unsaved tuning in the session was not offered back")
+	}
+	ws2.resume = nil
+	s, r, ok, err := loadSession(path)
+	if err != nil || !ok {
+		t.Fatalf("session: ok %v, %v", ok, err)
+	}
+	ws2.resume = &s
+	ws2.OpenDemoWithRecipe(&r)
+	ws2.Wait()
+	if d := ws2.cur.Recipe.Sweep.DelayDeg; d == nil || *d != 9.5 {
+		t.Errorf("resumed delay %v, want 9.5", d)
+	}
+	if got := ws2.view.place(); got != place {
+		t.Errorf("resumed view %+v, want %+v", got, place)
+	}
+	if !ws2.Modified() {
+		t.Error("resumed tuning is not marked as unsaved")
 	}
 }
