@@ -665,83 +665,12 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 	if lo < 0 {
 		clipLo = lo
 	}
-	lines := slices.Clone(pl.lines)
-	for i := range lines {
-		l := &lines[i]
-		mid := (l.first + l.last) / 2
-		l.YMM = rows.at(float64(mid))
-		l.Stroke = rows.strokeOf(mid)
-	}
-	// Group lines into frames.
-	var groups [][]placedLine
-	var groupStroke []int
-	switch r.Rows.Strokes {
-	case "split":
-		for si := range rows.strokes {
-			var g []placedLine
-			for _, l := range lines {
-				if l.Stroke == si {
-					g = append(g, l)
-				}
-			}
-			if len(g) > 0 {
-				groups = append(groups, g)
-				groupStroke = append(groupStroke, si)
-			}
-		}
-	case "first":
-		var g []placedLine
-		for _, l := range lines {
-			if l.Stroke == 0 {
-				g = append(g, l)
-			}
-		}
-		groups, groupStroke = [][]placedLine{g}, []int{0}
-	default:
-		groups, groupStroke = [][]placedLine{lines}, []int{0}
-	}
-	rep := Report{
-		Lines:         len(lines),
-		LinesRepaired: t.missing,
-		PulsesMissing: t.missing,
-		PulsesExtra:   t.extra,
-		Revolutions:   len(t.revPeriods),
-		DelayDeg:      *r.Sweep.DelayDeg,
-		Threshold:     t.threshold,
-		Strokes:       len(rows.strokes),
-		PitchMM:       r.Image.PitchMM,
-
-		AperturesSuggested: rs.aperturesSeen,
-	}
-	if r.Rows.Source.ReadsPosition() {
-		rep.PositionLevels = []float64{rows.levelMin, rows.levelMax}
-	}
-	if len(t.revPeriods) > 0 {
-		rpms := make([]float64, len(t.revPeriods))
-		sum := 0.0
-		for i, p := range t.revPeriods {
-			rpms[i] = 60 * rate / p
-			sum += p
-		}
-		rep.RPMMean = 60 * rate * float64(len(t.revPeriods)) / sum
-		v := 0.0
-		for _, x := range rpms {
-			v += (x - rep.RPMMean) * (x - rep.RPMMean)
-		}
-		if len(rpms) > 1 {
-			rep.RPMSpreadPct = 100 * math.Sqrt(v/float64(len(rpms)-1)) / rep.RPMMean
-		}
-	}
-	periods := make([]float64, len(pl.lines))
-	for i, l := range pl.lines {
-		periods[i] = l.period
-	}
-	pMean := meanOf(periods)
-	rep.SweepMS = 1000 * pMean * fieldFraction(r.Sweep) / rate
-	rep.LineRateHz = float64(mustLaw(r.Sweep.Law).linesPerIndex()) * rate / pMean
-	if r.Sweep.Law == recipe.LawSine {
-		rep.RPMMean, rep.RPMSpreadPct = 0, 0 // a mirror, not a wheel
-	}
+	lines := linesOnRows(pl.lines, rows)
+	groups, groupStroke := groupByStroke(lines, rows, r.Rows.Strokes)
+	rep := timingReport(t, rows, pl, r, rate)
+	pMean := meanLinePeriod(pl.lines)
+	rep.Lines = len(lines)
+	rep.AperturesSuggested = rs.aperturesSeen
 	res := &Result{Recipe: r}
 	totalClipped, totalGapRows, covered, pixels := 0, 0, 0, 0
 	var frameCover []float64
@@ -824,6 +753,99 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 		res.Lines[i] = l.Line
 	}
 	return res, nil
+}
+
+// linesOnRows returns a copy of the placed lines with their cross-scan
+// position (at mid-field) and stroke.
+func linesOnRows(placed []placedLine, rows *rowsResult) []placedLine {
+	lines := slices.Clone(placed)
+	for i := range lines {
+		l := &lines[i]
+		mid := (l.first + l.last) / 2
+		l.YMM = rows.at(float64(mid))
+		l.Stroke = rows.strokeOf(mid)
+	}
+	return lines
+}
+
+// groupByStroke groups the lines into frames as rows.strokes asks: all in
+// one (merge), one frame per stroke (split), or the first stroke only.
+// It returns the groups and the stroke of each.
+func groupByStroke(lines []placedLine, rows *rowsResult, mode string) ([][]placedLine, []int) {
+	strokeLines := func(si int) []placedLine {
+		var g []placedLine
+		for _, l := range lines {
+			if l.Stroke == si {
+				g = append(g, l)
+			}
+		}
+		return g
+	}
+	switch mode {
+	case "split":
+		var groups [][]placedLine
+		var strokes []int
+		for si := range rows.strokes {
+			if g := strokeLines(si); len(g) > 0 {
+				groups, strokes = append(groups, g), append(strokes, si)
+			}
+		}
+		return groups, strokes
+	case "first":
+		return [][]placedLine{strokeLines(0)}, []int{0}
+	}
+	return [][]placedLine{lines}, []int{0}
+}
+
+// timingReport is the part of the build report the timing, rows and
+// placement give: pulses, revolutions and their rev/min, the sweep time
+// and line rate, the resolved delay and threshold, strokes and pitch.
+func timingReport(t *timingResult, rows *rowsResult, pl *placement, r recipe.Recipe, rate float64) Report {
+	rep := Report{
+		LinesRepaired: t.missing,
+		PulsesMissing: t.missing,
+		PulsesExtra:   t.extra,
+		Revolutions:   len(t.revPeriods),
+		DelayDeg:      *r.Sweep.DelayDeg,
+		Threshold:     t.threshold,
+		Strokes:       len(rows.strokes),
+		PitchMM:       r.Image.PitchMM,
+	}
+	if r.Rows.Source.ReadsPosition() {
+		rep.PositionLevels = []float64{rows.levelMin, rows.levelMax}
+	}
+	if len(t.revPeriods) > 0 {
+		rpms := make([]float64, len(t.revPeriods))
+		sum := 0.0
+		for i, p := range t.revPeriods {
+			rpms[i] = 60 * rate / p
+			sum += p
+		}
+		rep.RPMMean = 60 * rate * float64(len(t.revPeriods)) / sum
+		v := 0.0
+		for _, x := range rpms {
+			v += (x - rep.RPMMean) * (x - rep.RPMMean)
+		}
+		if len(rpms) > 1 {
+			rep.RPMSpreadPct = 100 * math.Sqrt(v/float64(len(rpms)-1)) / rep.RPMMean
+		}
+	}
+	pMean := meanLinePeriod(pl.lines)
+	rep.SweepMS = 1000 * pMean * fieldFraction(r.Sweep) / rate
+	rep.LineRateHz = float64(mustLaw(r.Sweep.Law).linesPerIndex()) * rate / pMean
+	if r.Sweep.Law == recipe.LawSine {
+		rep.RPMMean, rep.RPMSpreadPct = 0, 0 // a mirror, not a wheel
+	}
+	return rep
+}
+
+// meanLinePeriod is the mean index period of the placed lines, samples.
+func meanLinePeriod(lines []placedLine) float64 {
+	periods := make([]float64, len(lines))
+	for i, l := range lines {
+		periods[i] = l.period
+	}
+	return meanOf(periods)
 }
 
 // gapWarning describes where the head outran the lines: where two
