@@ -442,6 +442,11 @@ func (ws *Workstation) edit(control string, f func(*settings) bool) {
 		ws.render()
 		return
 	}
+	if next.Recipe.Sweep.Law == recipe.LawTable && len(next.Recipe.Sweep.Table) < 2 {
+		ws.render() // the law list shows the law in use again
+		ws.ShowTableEditor()
+		return
+	}
 	if sameSettings(next, before) {
 		return
 	}

@@ -336,6 +336,7 @@ type panelActions struct {
 	problem  func(title, what, try string)
 	estimate func()
 	autoTone func()
+	table    func() // opens the measured sweep table's editor
 }
 
 // bound is one control of the table with its widgets.
@@ -410,6 +411,7 @@ func newControlPanel(act panelActions) *controlPanel {
 	align.Add(c.estimate)
 	groupBoxes[groupTone].Add(c.autoTone)
 	groupBoxes[groupTone].Add(c.autoEach)
+	groupBoxes[groupSweep].Add(widget.NewButton("Measured table…", act.table))
 	rows := groupBoxes[groupRows]
 	rows.Objects = append([]fyne.CanvasObject{rows.Objects[0], c.rowsNote}, rows.Objects[1:]...)
 	rows.Add(c.cal.box)

@@ -178,7 +178,7 @@ func (ws *Workstation) build() {
 	ws.strip = NewTraceStrip()
 	ws.controls = newControlPanel(panelActions{
 		edit: ws.edit, gesture: ws.gesture, problem: ws.showProblem,
-		estimate: ws.EstimateOffsets, autoTone: ws.AutoTone,
+		estimate: ws.EstimateOffsets, autoTone: ws.AutoTone, table: ws.ShowTableEditor,
 	})
 	ws.controls.cal.load = ws.choosePairs
 	ws.controls.cal.list = func(title string, body fyne.CanvasObject) {
