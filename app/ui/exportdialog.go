@@ -62,7 +62,7 @@ type exportForm struct {
 // before replacing a file.
 func (ws *Workstation) ShowExport() {
 	if f := ws.newExportForm(); f != nil {
-		f.dialog.Show()
+		ws.showDialog(f.dialog)
 	}
 }
 

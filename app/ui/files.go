@@ -149,7 +149,7 @@ type captureChooser struct {
 }
 
 // ChooseCapture asks for a capture file and opens it.
-func (ws *Workstation) ChooseCapture() { ws.newCaptureChooser().dialog.Show() }
+func (ws *Workstation) ChooseCapture() { ws.showDialog(ws.newCaptureChooser().dialog) }
 
 func (ws *Workstation) newCaptureChooser() *captureChooser {
 	c := &captureChooser{ws: ws, path: widget.NewEntry()}
@@ -195,11 +195,10 @@ func (c *captureChooser) open() {
 
 func (c *captureChooser) again(title, what, try string) { c.ws.problemOver(c.dialog, title, what, try) }
 
-// problemOver brings back the dialog d (with everything typed in it) and
-// shows the problem above it, so the user corrects the field and goes on.
+// problemOver shows the problem and then brings back the dialog d with
+// everything typed in it, so the user corrects the field and goes on.
 func (ws *Workstation) problemOver(d dialog.Dialog, title, what, try string) {
-	d.Show()
-	ws.showProblem(title, what, try)
+	ws.showProblem(title, what, try, func() { ws.showDialog(d) })
 }
 
 // browse picks a file with the toolkit's chooser and opens it.
@@ -274,7 +273,7 @@ type recipeSaver struct {
 // refuses to replace, the sidecar of an export.
 func (ws *Workstation) SaveRecipe() {
 	if s := ws.newRecipeSaver(); s != nil {
-		s.dialog.Show()
+		ws.showDialog(s.dialog)
 	}
 }
 
@@ -333,7 +332,7 @@ func (s *recipeSaver) save() {
 			if yes {
 				write(true)
 			} else {
-				s.dialog.Show()
+				s.ws.showDialog(s.dialog)
 			}
 		}, s.ws.win))
 		return

@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/dialog"
 	"fyne.io/fyne/v2/storage"
 
 	"spotloom/capture"
@@ -69,6 +70,16 @@ func writeDemoWAV(t *testing.T, ws *Workstation, dir, name string) string {
 // overlays counts the dialogs on the window.
 func overlays(w fyne.Window) int { return len(w.Canvas().Overlays().List()) }
 
+// comesBack closes the problem shown (as Escape does) and reports whether
+// the dialog d is then shown again.
+func comesBack(ws *Workstation, d dialog.Dialog) bool {
+	if ws.Problem() == "" || len(ws.dialogs) == 0 {
+		return false
+	}
+	ws.escape()
+	return len(ws.dialogs) > 0 && ws.dialogs[len(ws.dialogs)-1] == d
+}
+
 // TestCaptureFilterOffersCaptures checks the chooser's filter against the
 // formats capture.Open reads by name: WAV (RIFF/WAVE), delimited text, raw
 // dumps, and any file with a NAME.layout.json beside it.
@@ -94,17 +105,15 @@ func TestCaptureFilterOffersCaptures(t *testing.T) {
 // TestOpenCaptureTakesATypedPath types a path into the Open capture dialog;
 // a path with no file brings the dialog back with the typing kept.
 func TestOpenCaptureTakesATypedPath(t *testing.T) {
-	ws, w := newTestWorkstation(t)
+	ws, _ := newTestWorkstation(t)
 	dir := t.TempDir()
 	path := writeDemoWAV(t, ws, dir, "typed.wav")
 
 	c := ws.newCaptureChooser()
-	c.dialog.Show()
 	c.path.SetText(filepath.Join(dir, "missing.wav"))
-	c.dialog.Hide() // as the Open button does
-	c.open()
-	if !strings.Contains(ws.Problem(), "No such file") || overlays(w) < 2 {
-		t.Errorf("a missing file: problem %q with %d dialogs, want the dialog back and a message", ws.Problem(), overlays(w))
+	c.open() // as the Open button does
+	if !strings.Contains(ws.Problem(), "No such file") || !comesBack(ws, c.dialog) {
+		t.Errorf("a missing file: problem %q; want a message, then the dialog back", ws.Problem())
 	}
 	if c.path.Text != filepath.Join(dir, "missing.wav") {
 		t.Errorf("the typed path became %q", c.path.Text)
@@ -171,7 +180,7 @@ func TestLoadRecipeReadsSidecarsAndRefusesReports(t *testing.T) {
 // TestSaveRecipeLeavesSidecarsAlone: Save recipe… proposes no sidecar's
 // name and refuses to write over one, and writes a recipe that loads back.
 func TestSaveRecipeLeavesSidecarsAlone(t *testing.T) {
-	ws, w := newTestWorkstation(t)
+	ws, _ := newTestWorkstation(t)
 	dir := t.TempDir()
 	path := writeDemoWAV(t, ws, dir, "grid.wav")
 	ws.OpenFile(path, nil)
@@ -192,11 +201,9 @@ func TestSaveRecipeLeavesSidecarsAlone(t *testing.T) {
 	}
 
 	s.name.SetText("grid.recipe.json")
-	s.dialog.Show()
-	s.dialog.Hide()
 	s.save()
-	if !strings.Contains(ws.Problem(), "export") || overlays(w) < 2 {
-		t.Errorf("saving over the sidecar: problem %q, %d dialogs", ws.Problem(), overlays(w))
+	if !strings.Contains(ws.Problem(), "export") || !comesBack(ws, s.dialog) {
+		t.Errorf("saving over the sidecar: problem %q; want a message, then the dialog back", ws.Problem())
 	}
 	if now, _ := os.ReadFile(sidecar); !bytes.Equal(now, kept) {
 		t.Error("the sidecar was changed")
@@ -253,7 +260,7 @@ func TestExportWritesWhereTheFolderFieldPoints(t *testing.T) {
 // wrong field in the order shown (file before channels before rate) and
 // comes back with what was typed.
 func TestRawLayoutKeepsTypingAndChecksInOrder(t *testing.T) {
-	ws, w := newTestWorkstation(t)
+	ws, _ := newTestWorkstation(t)
 	f := ws.newRawLayoutForm("")
 	f.channels.SetText("lots")
 	f.rate.SetText("fast")
@@ -268,10 +275,8 @@ func TestRawLayoutKeepsTypingAndChecksInOrder(t *testing.T) {
 	if _, _, err := f.check(); err == nil || !strings.HasPrefix(err.Error(), "sample rate") {
 		t.Errorf("with a bad rate: %v, want the sample rate named", err)
 	}
-	f.dialog.Show()
-	f.dialog.Hide()
 	f.open()
-	if overlays(w) < 2 || f.rate.Text != "fast" || f.channels.Text != "2" {
-		t.Errorf("after the error: %d dialogs, rate %q, channels %q; want the dialog back as typed", overlays(w), f.rate.Text, f.channels.Text)
+	if !comesBack(ws, f.dialog) || f.rate.Text != "fast" || f.channels.Text != "2" {
+		t.Errorf("after the error: rate %q, channels %q; want the dialog back as typed", f.rate.Text, f.channels.Text)
 	}
 }

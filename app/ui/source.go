@@ -192,7 +192,7 @@ type rawLayoutForm struct {
 
 // askRawLayout asks how a raw sample file is laid out and opens it with
 // that layout. With path "" it first asks for the file.
-func (ws *Workstation) askRawLayout(path string) { ws.newRawLayoutForm(path).dialog.Show() }
+func (ws *Workstation) askRawLayout(path string) { ws.showDialog(ws.newRawLayoutForm(path).dialog) }
 
 func (ws *Workstation) newRawLayoutForm(path string) *rawLayoutForm {
 	f := &rawLayoutForm{ws: ws}

@@ -242,7 +242,7 @@ type tableEditor struct {
 // ShowTableEditor opens the editor of the measured sweep table.
 func (ws *Workstation) ShowTableEditor() {
 	if e := ws.newTableEditor(); e != nil {
-		e.dialog.Show()
+		ws.showDialog(e.dialog)
 	}
 }
 

@@ -177,7 +177,7 @@ func (ws *Workstation) build() {
 	ws.view.OnZoom = func(z float32) { ws.showZoom(z) }
 	ws.strip = NewTraceStrip()
 	ws.controls = newControlPanel(panelActions{
-		edit: ws.edit, gesture: ws.gesture, problem: ws.showProblem,
+		edit: ws.edit, gesture: ws.gesture, problem: func(title, what, try string) { ws.showProblem(title, what, try) },
 		estimate: ws.EstimateOffsets, autoTone: ws.AutoTone, table: ws.ShowTableEditor,
 	})
 	ws.controls.cal.load = ws.choosePairs
@@ -388,8 +388,9 @@ func (ws *Workstation) ShowKeys() {
 
 // showProblem tells the user what went wrong and what to try; nothing
 // else changes. The status line names the problem while its message is
-// up, and goes back to what it said before once the message is closed.
-func (ws *Workstation) showProblem(title, what, try string) {
+// up, and goes back to what it said before once the message is closed;
+// then runs after that.
+func (ws *Workstation) showProblem(title, what, try string, then ...func()) {
 	ws.problem = title + ": " + what
 	text := what
 	if try != "" {
@@ -401,11 +402,11 @@ func (ws *Workstation) showProblem(title, what, try string) {
 	body := container.NewBorder(nil, nil, container.NewVBox(icon), nil, label)
 	sized := container.New(&minWidth{w: 460}, body)
 	d := dialog.NewCustom(title, "OK", sized, ws.win)
-	ws.showDialog(d, func() {
+	ws.showDialog(d, append([]func(){func() {
 		if ws.stage.Text == title {
 			ws.stage.SetText(ws.settled)
 		}
-	})
+	}}, then...)...)
 	ws.stage.SetText(title)
 }
 
