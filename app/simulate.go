@@ -39,7 +39,7 @@ type simulateFlags struct {
 	scene, out, rigPath, format, sampleType, truthPath, recipePath string
 	seconds, rateHz, truthPitchMM                                  float64
 	seed                                                           uint64
-	printRig, noiseless                                            bool
+	printRig, noiseless, force                                     bool
 }
 
 func runSimulate(args []string, stdout, stderr io.Writer) error {
@@ -58,6 +58,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	fs.Uint64Var(&f.seed, "seed", 1, "random `seed`")
 	fs.BoolVar(&f.noiseless, "noiseless", false, "write expected values: no photon, electronics or timing noise")
 	fs.BoolVar(&f.printRig, "print-rig", false, "print the demo rig JSON and exit")
+	fs.BoolVar(&f.force, "force", false, "replace files that already exist (never the rig file)")
 	positional, err := parseFlags(fs, args)
 	if err != nil {
 		return err
@@ -211,7 +212,7 @@ func simulate(f simulateFlags, stderr io.Writer) error {
 		files = append(files, export.File{Path: f.recipePath, Data: r.JSON()})
 	}
 	progress.Done()
-	if err := export.WriteFiles(ctx, files, true); err != nil {
+	if err := export.WriteFiles(ctx, files, f.force); err != nil {
 		return interrupted(ctx, err)
 	}
 	others := make([]string, 0, len(files)-1)
@@ -251,8 +252,8 @@ func checkSimulateOutputs(f simulateFlags, format string) error {
 		if o.Path == "" {
 			continue
 		}
-		if err := export.CheckFile(o.Path, true); err != nil {
-			return err
+		if err := export.CheckFile(o.Path, f.force); err != nil {
+			return forceHint(err)
 		}
 	}
 	return nil

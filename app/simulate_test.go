@@ -249,6 +249,37 @@ func TestSimulateBadInput(t *testing.T) {
 	}
 }
 
+// TestSimulateKeepsExistingFiles: simulate never replaces a file that is
+// already there (a user's real capture, its truth or recipe) unless
+// --force says so, and then replaces it.
+func TestSimulateKeepsExistingFiles(t *testing.T) {
+	dir := t.TempDir()
+	out := filepath.Join(dir, "bench.wav")
+	truth := filepath.Join(dir, "bench.truth.json")
+	keep := []byte("the only copy of a real capture")
+	for _, existing := range []string{out, truth} {
+		os.Remove(out)
+		os.Remove(truth)
+		if err := os.WriteFile(existing, keep, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		code, _, stderr := runSimulateCmd("--scene", "bars", "--seconds", "0.5", "--out", out, "--truth", truth)
+		if code != 1 || !strings.Contains(stderr, filepath.Base(existing)) || !strings.Contains(stderr, "--force") {
+			t.Errorf("existing %s: exit %d, %q; want exit 1 naming it and --force", filepath.Base(existing), code, stderr)
+		}
+		if got, _ := os.ReadFile(existing); !bytes.Equal(got, keep) {
+			t.Errorf("existing %s was changed without --force", filepath.Base(existing))
+		}
+	}
+	code, _, stderr := runSimulateCmd("--scene", "bars", "--seconds", "0.5", "--out", out, "--truth", truth, "--force")
+	if code != 0 {
+		t.Fatalf("--force: exit %d, %s", code, stderr)
+	}
+	if got, _ := os.ReadFile(truth); bytes.Equal(got, keep) {
+		t.Errorf("--force left the old %s", filepath.Base(truth))
+	}
+}
+
 func TestPrintRig(t *testing.T) {
 	code, stdout, stderr := runSimulateCmd("--print-rig")
 	if code != 0 {
