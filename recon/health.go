@@ -38,10 +38,10 @@ type flatRun struct {
 	value float32
 }
 
-// flatRuns finds the stretches of at least minLen samples over which x
+// flatRunsSerial finds the stretches of at least minLen samples over which x
 // holds exactly one value, keeping at most maxFlatRuns of them (the first
-// ones) and counting all.
-func flatRuns(x []float32, minLen int) (runs []flatRun, total int) {
+// ones) and counting all, in one pass.
+func flatRunsSerial(x []float32, minLen int) (runs []flatRun, total int) {
 	minLen = max(minLen, 2)
 	start := 0
 	for i := 1; i <= len(x); i++ {

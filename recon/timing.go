@@ -125,25 +125,37 @@ const minSeparability = 0.8
 // Schmitt trigger (hysteresis h around thr) and returns their times in
 // samples, interpolated linearly between the two samples that straddle thr.
 func rawEdges(ctx context.Context, x []float32, thr, h float64, rising bool) ([]float64, error) {
-	upper := float32(thr + h/2)
-	lower := float32(thr - h/2)
-	t := float32(thr)
+	tr := newTrigger(thr, h, rising)
+	high := tr.sign*x[0] > tr.t
+	if w := workers(); w > 1 && len(x) >= minSplitSamples && h >= 0 {
+		return rawEdgesSplit(ctx, x, tr, high, w)
+	}
+	return tr.scan(ctx, x, 0, len(x), high, nil)
+}
+
+// trigger is a Schmitt trigger on sign·x: it goes high above upper, low
+// below lower, and an edge is placed where sign·x crosses t.
+type trigger struct{ upper, lower, t, sign float32 }
+
+func newTrigger(thr, h float64, rising bool) trigger {
 	if !rising {
 		// Work on the negated signal so one loop serves both polarities.
-		upper, lower, t = float32(-(thr - h/2)), float32(-(thr + h/2)), float32(-thr)
+		return trigger{float32(-(thr - h/2)), float32(-(thr + h/2)), float32(-thr), -1}
 	}
-	sign := float32(1)
-	if !rising {
-		sign = -1
-	}
-	var edges []float64
-	high := sign*x[0] > t
+	return trigger{float32(thr + h/2), float32(thr - h/2), float32(thr), 1}
+}
+
+// scan appends to edges the rising crossings of samples [from, to) of x,
+// starting in state high; the walk back to the crossing may read samples
+// before from.
+func (tr trigger) scan(ctx context.Context, x []float32, from, to int, high bool, edges []float64) ([]float64, error) {
+	upper, lower, t, sign := tr.upper, tr.lower, tr.t, tr.sign
 	const chunk = 1 << 20
-	for start := 0; start < len(x); start += chunk {
+	for start := from; start < to; start += chunk {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		end := min(start+chunk, len(x))
+		end := min(start+chunk, to)
 		for i := start; i < end; i++ {
 			v := sign * x[i]
 			if high {
