@@ -38,15 +38,17 @@ for "spotloom inspect": a CSV without a time column needs --rate.
 
 With --snapshot the window is rendered without a display (software renderer)
 to a PNG once the first image is built, and the command exits: for
-documentation and tests; --size WxH sets the window's size (1440x900 unless
-given). An existing file is replaced only with --force.`
+documentation and tests. --size WxH sets the window's size, for the real
+window and the snapshot alike; without it the window opens at 1440x900, or
+at the screen's work area when that is smaller, and the snapshot is
+1440x900. An existing file is replaced only with --force.`
 
 func runOpen(args []string, _, stderr io.Writer) error {
 	fs := newFlagSet("open", "open [FILE] [--recipe R.json] [--rate HZ | --layout L.json | --raw TYPE ...] [--snapshot OUT.png [--size WxH] [--force]]", openDescription, stderr)
 	recipePath := fs.String("recipe", "", "build with this recipe `R.json`")
 	snapshot := fs.String("snapshot", "", "render the window to `OUT.png` and exit")
 	force := fs.Bool("force", false, "with --snapshot: replace an existing file")
-	sizeText := fs.String("size", "", "with --snapshot: the window's size `WxH` in units (default 1440x900), e.g. 1366x768")
+	sizeText := fs.String("size", "", "the window's size `WxH` in units, e.g. 1366x768 (default: 1440x900, or the screen's work area when smaller)")
 	cf := addCaptureFlags(fs)
 	positional, err := parseFlags(fs, args)
 	if err != nil {
@@ -68,9 +70,6 @@ func runOpen(args []string, _, stderr io.Writer) error {
 	}
 	size := ui.SnapshotSize
 	if *sizeText != "" {
-		if *snapshot == "" {
-			return usagef("--size goes with --snapshot; the window itself can be resized")
-		}
 		if size, err = ui.ParseSize(*sizeText); err != nil {
 			return usagef("%v", err)
 		}
@@ -121,7 +120,11 @@ func runOpen(args []string, _, stderr io.Writer) error {
 		return err
 	}
 	ws := ui.New(a, w, opts)
-	w.Resize(fyne.NewSize(1440, 900))
+	if *sizeText != "" {
+		w.Resize(size)
+	} else {
+		w.Resize(fitScreen(w, fyne.NewSize(1440, 900)))
+	}
 	switch {
 	case file == "" && r == nil:
 		// Started bare: offer back tuning the last session did not save.
