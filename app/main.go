@@ -229,6 +229,11 @@ func run(args []string, stdout, stderr io.Writer) int {
 		case strings.HasPrefix(a, "-"):
 			// flags for the default command: "spotloom --snapshot x.png"
 		default:
+			if _, isCommand := commands[a]; !isCommand && isFile(a) {
+				// "spotloom capture.wav", as a file manager starts it:
+				// open that capture.
+				break
+			}
 			name, args = a, args[1:]
 		}
 	}
@@ -239,6 +244,12 @@ func run(args []string, stdout, stderr io.Writer) int {
 		return 2
 	}
 	return finish(c.name, c.run(args, stdout, stderr), stderr)
+}
+
+// isFile says path names an existing file that is not a folder.
+func isFile(path string) bool {
+	st, err := os.Stat(path)
+	return err == nil && !st.IsDir()
 }
 
 func finish(name string, err error, stderr io.Writer) int {

@@ -72,6 +72,22 @@ func TestOpenCSVWithoutTimeNeedsRate(t *testing.T) {
 	if err != nil || cfg.Width < 800 || cfg.Height < 500 {
 		t.Errorf("snapshot %dx%d, %v", cfg.Width, cfg.Height, err)
 	}
+
+	// "spotloom FILE", as a file manager starts it, opens the capture like
+	// "spotloom open FILE"; a word that is neither a command nor a file
+	// is still an unknown command.
+	stderr.Reset()
+	bare := filepath.Join(dir, "bare.png")
+	if code := run([]string{path, "--rate", "96000", "--snapshot", bare}, &stdout, &stderr); code != 0 {
+		t.Fatalf("spotloom FILE: exit %d, stderr %q", code, stderr.String())
+	}
+	if _, err := os.Stat(bare); err != nil {
+		t.Errorf("spotloom FILE wrote no snapshot: %v", err)
+	}
+	stderr.Reset()
+	if code := run([]string{filepath.Join(dir, "no-such.wav")}, &stdout, &stderr); code != 2 || !strings.Contains(stderr.String(), "unknown command") {
+		t.Errorf("a missing file: exit %d, %q; want exit 2, unknown command", code, stderr.String())
+	}
 }
 
 // TestSnapshotSize: --size sets the snapshot's window size (the PNG is
