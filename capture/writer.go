@@ -27,77 +27,18 @@ func WriteWAV(w io.Writer, rec *Recording, sampleType string) error {
 	if rate != rec.SampleRateHz || rate > math.MaxUint32 {
 		return fmt.Errorf("write WAV: sample rate %g Hz: expected a whole number of hertz below 2^32 (WAV stores an integer rate)", rec.SampleRateHz)
 	}
-	var kind sampleKind
-	tag := uint16(waveFormatPCM)
-	switch sampleType {
-	case "uint8":
-		kind = kindUint8
-	case "int16":
-		kind = kindInt16
-	case "int24":
-		kind = kindInt24
-	case "int32":
-		kind = kindInt32
-	case "float32":
-		kind, tag = kindFloat32, waveFormatIEEEFloat
-	case "float64":
-		kind, tag = kindFloat64, waveFormatIEEEFloat
-	default:
-		return fmt.Errorf("write WAV: sample type %q: expected uint8, int16, int24, int32, float32 or float64", sampleType)
+	kind, tag, err := wavSampleKind(sampleType)
+	if err != nil {
+		return fmt.Errorf("write WAV: %v", err)
 	}
 	nch := len(rec.Channels)
 	size := kindSize[kind]
 	frames := int64(rec.Frames())
 	dataBytes := frames * int64(nch*size)
-	extensible := nch > 2 || 8*size > 16
-	fmtSize := fmtPCMSize
-	switch {
-	case extensible:
-		fmtSize = fmtExtensibleSize
-	case tag == waveFormatIEEEFloat:
-		fmtSize = fmtExSize
+	header, _, err := wavHeader(nch, uint32(rate), kind, tag, frames, true)
+	if err != nil {
+		return fmt.Errorf("write WAV: %v", err)
 	}
-	header := make([]byte, 0, 80)
-	le := binary.LittleEndian
-	header = append(header, idRIFF[:]...)
-	riffSize := 4 + chunkHeaderSize + int64(fmtSize) + chunkHeaderSize + dataBytes + dataBytes&1
-	if tag == waveFormatIEEEFloat {
-		riffSize += chunkHeaderSize + 4
-	}
-	if riffSize > math.MaxUint32 {
-		return fmt.Errorf("write WAV: %d bytes of samples: expected under 4 GiB (RIFF sizes are 32-bit)", dataBytes)
-	}
-	header = le.AppendUint32(header, uint32(riffSize))
-	header = append(header, idWAVE[:]...)
-	header = append(header, idFmt[:]...)
-	header = le.AppendUint32(header, uint32(fmtSize))
-	storedTag := tag
-	if extensible {
-		storedTag = waveFormatExtensible
-	}
-	header = le.AppendUint16(header, storedTag)
-	header = le.AppendUint16(header, uint16(nch))
-	header = le.AppendUint32(header, uint32(rate))
-	header = le.AppendUint32(header, uint32(rate)*uint32(nch*size))
-	header = le.AppendUint16(header, uint16(nch*size))
-	header = le.AppendUint16(header, uint16(8*size))
-	switch {
-	case extensible:
-		header = le.AppendUint16(header, extensibleCbSize)
-		header = le.AppendUint16(header, uint16(8*size)) // wValidBitsPerSample
-		header = le.AppendUint32(header, 0)              // dwChannelMask: no speaker positions
-		sub := ksSubtype(tag, binary.LittleEndian)
-		header = append(header, sub[:]...)
-	case tag == waveFormatIEEEFloat:
-		header = le.AppendUint16(header, 0) // cbSize
-	}
-	if tag == waveFormatIEEEFloat {
-		header = append(header, idFact[:]...)
-		header = le.AppendUint32(header, 4)
-		header = le.AppendUint32(header, uint32(frames)) // dwSampleLength
-	}
-	header = append(header, idData[:]...)
-	header = le.AppendUint32(header, uint32(dataBytes))
 	bw := bufio.NewWriterSize(w, 1<<16)
 	bw.Write(header)
 	var fullScale float64
@@ -122,6 +63,99 @@ func WriteWAV(w io.Writer, rec *Recording, sampleType string) error {
 		return fmt.Errorf("write WAV: %w", err)
 	}
 	return nil
+}
+
+// wavSampleKind maps a WAV sample type name to its kind and format tag.
+func wavSampleKind(sampleType string) (sampleKind, uint16, error) {
+	switch sampleType {
+	case "uint8":
+		return kindUint8, waveFormatPCM, nil
+	case "int16":
+		return kindInt16, waveFormatPCM, nil
+	case "int24":
+		return kindInt24, waveFormatPCM, nil
+	case "int32":
+		return kindInt32, waveFormatPCM, nil
+	case "float32":
+		return kindFloat32, waveFormatIEEEFloat, nil
+	case "float64":
+		return kindFloat64, waveFormatIEEEFloat, nil
+	}
+	return 0, 0, fmt.Errorf("sample type %q: expected uint8, int16, int24, int32, float32 or float64", sampleType)
+}
+
+// wavSizeFields are the byte offsets of the header's size fields, which a
+// streaming writer rewrites as samples arrive.
+type wavSizeFields struct {
+	riff, fact, data int64 // fact is 0 when there is no fact chunk
+}
+
+// wavHeader builds the RIFF, fmt, optional fact and data chunk headers of a
+// file with the given number of frames. padded counts the RIFF pad byte
+// after an odd data chunk in the RIFF size (a finished file); a file still
+// being written has no pad byte yet. Captures with more than two channels or
+// more than 16 bits use WAVE_FORMAT_EXTENSIBLE, as that definition asks;
+// IEEE float files carry a fact chunk.
+func wavHeader(nch int, rate uint32, kind sampleKind, tag uint16, frames int64, padded bool) ([]byte, wavSizeFields, error) {
+	size := kindSize[kind]
+	dataBytes := frames * int64(nch*size)
+	extensible := nch > 2 || 8*size > 16
+	fmtSize := fmtPCMSize
+	switch {
+	case extensible:
+		fmtSize = fmtExtensibleSize
+	case tag == waveFormatIEEEFloat:
+		fmtSize = fmtExSize
+	}
+	var fields wavSizeFields
+	header := make([]byte, 0, 80)
+	le := binary.LittleEndian
+	header = append(header, idRIFF[:]...)
+	riffSize := 4 + chunkHeaderSize + int64(fmtSize) + chunkHeaderSize + dataBytes
+	if padded {
+		riffSize += dataBytes & 1
+	}
+	if tag == waveFormatIEEEFloat {
+		riffSize += chunkHeaderSize + 4
+	}
+	if riffSize > math.MaxUint32 {
+		return nil, fields, fmt.Errorf("%d bytes of samples: expected under 4 GiB (RIFF sizes are 32-bit)", dataBytes)
+	}
+	fields.riff = int64(len(header))
+	header = le.AppendUint32(header, uint32(riffSize))
+	header = append(header, idWAVE[:]...)
+	header = append(header, idFmt[:]...)
+	header = le.AppendUint32(header, uint32(fmtSize))
+	storedTag := tag
+	if extensible {
+		storedTag = waveFormatExtensible
+	}
+	header = le.AppendUint16(header, storedTag)
+	header = le.AppendUint16(header, uint16(nch))
+	header = le.AppendUint32(header, rate)
+	header = le.AppendUint32(header, rate*uint32(nch*size))
+	header = le.AppendUint16(header, uint16(nch*size))
+	header = le.AppendUint16(header, uint16(8*size))
+	switch {
+	case extensible:
+		header = le.AppendUint16(header, extensibleCbSize)
+		header = le.AppendUint16(header, uint16(8*size)) // wValidBitsPerSample
+		header = le.AppendUint32(header, 0)              // dwChannelMask: no speaker positions
+		sub := ksSubtype(tag, binary.LittleEndian)
+		header = append(header, sub[:]...)
+	case tag == waveFormatIEEEFloat:
+		header = le.AppendUint16(header, 0) // cbSize
+	}
+	if tag == waveFormatIEEEFloat {
+		header = append(header, idFact[:]...)
+		header = le.AppendUint32(header, 4)
+		fields.fact = int64(len(header))
+		header = le.AppendUint32(header, uint32(frames)) // dwSampleLength
+	}
+	header = append(header, idData[:]...)
+	fields.data = int64(len(header))
+	header = le.AppendUint32(header, uint32(dataBytes))
+	return header, fields, nil
 }
 
 // writeInterleaved writes the samples frame by frame in the given kind. For

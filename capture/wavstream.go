@@ -1,0 +1,242 @@
+package capture
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+)
+
+// StreamFile is what a WAVStream writes to: an *os.File, or in tests a
+// file that fails on purpose.
+type StreamFile interface {
+	io.WriterAt
+	Sync() error
+	Close() error
+}
+
+// ErrWAVSizeLimit is returned when a stream reaches the 4 GiB a RIFF file
+// can hold (its sizes are 32-bit; RIFF 1.0, 3-2).
+var ErrWAVSizeLimit = errors.New("the WAV file reached its 4 GiB size limit (RIFF sizes are 32-bit)")
+
+// WAVStream writes a WAV file while its samples arrive, so that a file cut
+// off at any moment (a kill, a crash, a power cut) is still a valid WAV: the
+// header's sizes are rewritten, and the file synced, at every Commit, and
+// samples past the last Commit are a cut-off data chunk that capture.Open
+// salvages. It never holds more than one buffer of samples in memory.
+//
+// A WAVStream is not safe for concurrent use; a recorder calls it from its
+// own goroutine, never from an audio callback.
+type WAVStream struct {
+	name     string
+	file     StreamFile
+	channels int
+	kind     sampleKind
+	tag      uint16
+	rate     uint32
+	enc      *sampleEncoder
+	fields   wavSizeFields
+	dataAt   int64 // file offset of the first sample byte
+	frames   int64 // whole frames on disk or in buf
+	flushed  int64 // data bytes handed to the file so far
+	buf      []byte
+	err      error // first write error; the stream takes no more samples
+	closed   bool
+}
+
+// WAVStreamFormat says what a WAVStream stores: a whole number of hertz,
+// 1 to MaxChannels channels and a WAV sample type (see WriteWAV).
+type WAVStreamFormat struct {
+	RateHz     int
+	Channels   int
+	SampleType string
+}
+
+// CreateWAVStream creates path, which must not exist yet (a recording never
+// overwrites a file), and starts a WAV stream in it.
+func CreateWAVStream(path string, format WAVStreamFormat) (*WAVStream, error) {
+	f, err := os.OpenFile(path, os.O_RDWR|os.O_CREATE|os.O_EXCL, 0o644)
+	if err != nil {
+		if errors.Is(err, os.ErrExist) {
+			return nil, fmt.Errorf("%s already exists; a recording never overwrites a file, choose another name", path)
+		}
+		return nil, err
+	}
+	s, err := NewWAVStream(path, f, format)
+	if err != nil {
+		f.Close()
+		os.Remove(path)
+		return nil, err
+	}
+	return s, nil
+}
+
+// NewWAVStream starts a WAV stream in file, named name in messages, and
+// writes its header (for zero frames) at once.
+func NewWAVStream(name string, file StreamFile, format WAVStreamFormat) (*WAVStream, error) {
+	if format.Channels < 1 || format.Channels > MaxChannels {
+		return nil, fmt.Errorf("%s: %d channels: expected 1 to %d", name, format.Channels, MaxChannels)
+	}
+	if format.RateHz < 1 || format.RateHz > maxWAVRateHz {
+		return nil, fmt.Errorf("%s: sample rate %d Hz: expected 1 to %g Hz", name, format.RateHz, float64(maxWAVRateHz))
+	}
+	kind, tag, err := wavSampleKind(format.SampleType)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %v", name, err)
+	}
+	s := &WAVStream{name: name, file: file, channels: format.Channels, kind: kind, tag: tag, rate: uint32(format.RateHz)}
+	s.enc = newSampleEncoder(kind, false, format.Channels, func(int) (float64, float64) {
+		if kind == kindFloat32 || kind == kindFloat64 {
+			return 1, 0
+		}
+		fullScale := float64(uint64(1) << (8*kindSize[kind] - 1))
+		if kind == kindUint8 {
+			return 1 / fullScale, -1
+		}
+		return 1 / fullScale, 0
+	})
+	header, fields, err := wavHeader(s.channels, s.rate, kind, tag, 0, false)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %v", name, err)
+	}
+	s.fields, s.dataAt = fields, int64(len(header))
+	if _, err := file.WriteAt(header, 0); err != nil {
+		return nil, fmt.Errorf("write %s: %w", name, err)
+	}
+	s.buf = make([]byte, 0, 1<<16)
+	return s, nil
+}
+
+// Frames is the number of frames taken so far (committed or not).
+func (s *WAVStream) Frames() int64 { return s.frames }
+
+// frameBytes is the size of one stored frame.
+func (s *WAVStream) frameBytes() int64 { return int64(s.channels * kindSize[s.kind]) }
+
+// Write appends interleaved frames (±1.0 full scale for integer types);
+// len(interleaved) must be a whole number of frames. After a write error
+// every call returns that error.
+func (s *WAVStream) Write(interleaved []float32) error {
+	if s.err != nil {
+		return s.err
+	}
+	if len(interleaved)%s.channels != 0 {
+		return fmt.Errorf("%s: %d samples are not a whole number of %d-channel frames", s.name, len(interleaved), s.channels)
+	}
+	for i := 0; i < len(interleaved); i += s.channels {
+		if err := s.roomFor(1); err != nil {
+			return err
+		}
+		for c := 0; c < s.channels; c++ {
+			s.buf = s.enc.append(s.buf, c, interleaved[i+c])
+		}
+		s.frames++
+		if len(s.buf) >= cap(s.buf)-int(s.frameBytes()) {
+			if err := s.flush(); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
+
+// WriteSilence appends frames of zeros: the mark of samples that were
+// lost, so that every later sample keeps its place in time.
+func (s *WAVStream) WriteSilence(frames int64) error {
+	zero := make([]float32, s.channels*1024)
+	for frames > 0 {
+		n := min(frames, 1024)
+		if err := s.Write(zero[:n*int64(s.channels)]); err != nil {
+			return err
+		}
+		frames -= n
+	}
+	return nil
+}
+
+// roomFor checks that n more frames still fit under the RIFF size limit.
+func (s *WAVStream) roomFor(n int64) error {
+	data := (s.frames + n) * s.frameBytes()
+	if s.dataAt+data+1 > math.MaxUint32 {
+		s.err = fmt.Errorf("%s: %w", s.name, ErrWAVSizeLimit)
+		return s.err
+	}
+	return nil
+}
+
+// flush hands the buffered samples to the file. On a short write only the
+// whole frames that reached the file count.
+func (s *WAVStream) flush() error {
+	if len(s.buf) == 0 {
+		return nil
+	}
+	n, err := s.file.WriteAt(s.buf, s.dataAt+s.flushed)
+	if err != nil {
+		kept := (s.flushed + int64(n)) / s.frameBytes()
+		s.flushed = kept * s.frameBytes()
+		s.frames = kept
+		s.buf = s.buf[:0]
+		s.err = fmt.Errorf("write %s: %w", s.name, err)
+		return s.err
+	}
+	s.flushed += int64(n)
+	s.buf = s.buf[:0]
+	return nil
+}
+
+// Commit writes the buffered samples, rewrites the header's sizes to cover
+// every whole frame on disk and syncs the file. After a write error it still
+// rewrites the sizes for what reached the file, so that stays readable, and
+// returns the write error.
+func (s *WAVStream) Commit() error {
+	werr := s.flush()
+	if err := s.writeSizes(false); err != nil && werr == nil {
+		werr = err
+	}
+	if err := s.file.Sync(); err != nil && werr == nil {
+		werr = fmt.Errorf("sync %s: %w", s.name, err)
+	}
+	return werr
+}
+
+// writeSizes rewrites the RIFF, fact and data sizes for the frames flushed.
+func (s *WAVStream) writeSizes(padded bool) error {
+	frames := s.flushed / s.frameBytes()
+	header, _, err := wavHeader(s.channels, s.rate, s.kind, s.tag, frames, padded)
+	if err != nil {
+		return fmt.Errorf("%s: %v", s.name, err)
+	}
+	for _, at := range []int64{s.fields.riff, s.fields.fact, s.fields.data} {
+		if at == 0 {
+			continue
+		}
+		if _, err := s.file.WriteAt(header[at:at+4], at); err != nil {
+			return fmt.Errorf("write %s header: %w", s.name, err)
+		}
+	}
+	return nil
+}
+
+// Close commits what is left, adds the RIFF pad byte after an odd-sized
+// data chunk, and closes the file. It returns the first error the stream
+// met, so a recording stopped by a full disk reports that.
+func (s *WAVStream) Close() error {
+	if s.closed {
+		return s.err
+	}
+	s.closed = true
+	err := s.Commit()
+	if data := s.flushed; err == nil && data&1 == 1 {
+		if _, perr := s.file.WriteAt([]byte{0}, s.dataAt+data); perr == nil {
+			err = s.writeSizes(true)
+		}
+	}
+	if cerr := s.file.Close(); cerr != nil && err == nil {
+		err = fmt.Errorf("close %s: %w", s.name, cerr)
+	}
+	if s.err != nil {
+		return s.err
+	}
+	return err
+}
