@@ -1,0 +1,296 @@
+package live
+
+import (
+	"bufio"
+	"context"
+	"fmt"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"syscall"
+	"testing"
+	"time"
+
+	"spotloom/capture"
+)
+
+// knownValue is sample c of frame i of the test signal: a multiple of
+// 2^-15, which int16 stores exactly (16-bit two's complement step, WAVE
+// form PCM data packing), and never zero, so a zero frame is a marked gap.
+func knownValue(i, c int) float32 {
+	v := (i*13+c*4099)%65535 - 32767
+	if v == 0 {
+		v = 1
+	}
+	return float32(v) / 32768
+}
+
+func knownRecording(rate, channels, frames int) *capture.Recording {
+	rec := &capture.Recording{SampleRateHz: float64(rate), Source: capture.Source{Format: "memory"}}
+	for c := 0; c < channels; c++ {
+		s := make([]float32, frames)
+		for i := range s {
+			s[i] = knownValue(i, c)
+		}
+		rec.Channels = append(rec.Channels, capture.Channel{Name: strconv.Itoa(c + 1), Samples: s})
+	}
+	return rec
+}
+
+// checkAgainstSource checks that every frame of the WAV is the source's
+// frame of the same number, or zero inside a listed overrun, and that the
+// overruns are all the zero frames.
+func checkAgainstSource(t *testing.T, rec *capture.Recording, side *Sidecar) {
+	t.Helper()
+	inGap := make([]bool, rec.Frames())
+	var gapFrames int64
+	for _, o := range side.Overruns {
+		for i := o.AtFrame; i < o.AtFrame+o.Frames && i < int64(len(inGap)); i++ {
+			inGap[i] = true
+		}
+		gapFrames += o.Frames
+	}
+	if gapFrames != side.OverrunFrames {
+		t.Errorf("overruns add up to %d frames, sidecar says %d", gapFrames, side.OverrunFrames)
+	}
+	for c, ch := range rec.Channels {
+		for i, v := range ch.Samples {
+			want := knownValue(i, c)
+			if inGap[i] {
+				want = 0
+			}
+			if v != want {
+				t.Fatalf("channel %d frame %d = %g, want %g (in a gap: %v)", c, i, v, want, inGap[i])
+			}
+		}
+	}
+}
+
+func TestRecordReplayKeepsEverySample(t *testing.T) {
+	src, err := NewReplay(knownRecording(8000, 3, 8000), 20)
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "take.wav")
+	var statuses int
+	res, err := Record(context.Background(), src, Options{Path: path, Status: func(Status) { statuses++ }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec, err := capture.Open(path, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	side, err := ReadSidecar(res.SidecarPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rec.Frames() != 8000 || side.Frames != 8000 || !side.Finished || side.OverrunFrames != 0 || side.Stopped != "the source ended" {
+		t.Errorf("read %d frames; sidecar %+v", rec.Frames(), side)
+	}
+	if side.SampleRateHz != 8000 || side.Channels != 3 || side.SampleType != "int16" || rec.SampleRateHz != 8000 {
+		t.Errorf("sidecar %+v, file %g Hz", side, rec.SampleRateHz)
+	}
+	checkAgainstSource(t, rec, side)
+	if statuses == 0 {
+		t.Error("no status reported")
+	}
+}
+
+func TestRecordStopsAtMaxFrames(t *testing.T) {
+	src, _ := NewReplay(knownRecording(8000, 2, 16000), 50)
+	path := filepath.Join(t.TempDir(), "take.wav")
+	if _, err := Record(context.Background(), src, Options{Path: path, MaxFrames: 5001}); err != nil {
+		t.Fatal(err)
+	}
+	rec, err := capture.Open(path, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	side, _ := ReadSidecar(SidecarPath(path))
+	if rec.Frames() != 5001 || side.Stopped != "reached the requested length" {
+		t.Errorf("%d frames, stopped %q; want 5001 and the length reached", rec.Frames(), side.Stopped)
+	}
+	checkAgainstSource(t, rec, side)
+}
+
+// A source far faster than the writer overflows a small ring: the lost
+// frames are zeros at their place, every other frame is where it belongs,
+// and the sidecar lists the gaps.
+func TestRecordOverrunIsMarkedNotClosedUp(t *testing.T) {
+	src, _ := NewReplay(knownRecording(48000, 2, 96000), 1000)
+	path := filepath.Join(t.TempDir(), "take.wav")
+	res, err := Record(context.Background(), src, Options{Path: path, RingSeconds: 0.005})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec, err := capture.Open(path, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rec.Frames() != 96000 {
+		t.Errorf("file holds %d frames, the source %d: a gap was closed up", rec.Frames(), 96000)
+	}
+	if len(res.Sidecar.Overruns) == 0 {
+		t.Fatal("no overrun with a 240-frame ring at 1000× real time")
+	}
+	checkAgainstSource(t, rec, &res.Sidecar)
+}
+
+func TestRingMarksGapAtItsPlace(t *testing.T) {
+	r := newRing(1, 4)
+	frames := func(from, n int) []float32 {
+		out := make([]float32, n)
+		for i := range out {
+			out[i] = float32(from + i)
+		}
+		return out
+	}
+	var got []float32
+	pop := func() {
+		r.pop(func(s []float32) error { got = append(got, s...); return nil },
+			func(n uint64) error {
+				for ; n > 0; n-- {
+					got = append(got, -1)
+				}
+				return nil
+			})
+	}
+	r.push(frames(0, 3)) // 0 1 2
+	r.push(frames(3, 3)) // 3 fits, 4 5 lost
+	pop()
+	r.push(frames(6, 2)) // gap of 2 before 6 7
+	pop()
+	want := []float32{0, 1, 2, 3, -1, -1, 6, 7}
+	if fmt.Sprint(got) != fmt.Sprint(want) {
+		t.Errorf("got %v, want %v", got, want)
+	}
+}
+
+func TestRecordNeverOverwrites(t *testing.T) {
+	dir := t.TempDir()
+	src, _ := NewReplay(knownRecording(8000, 1, 800), 10)
+	wav := filepath.Join(dir, "a.wav")
+	os.WriteFile(wav, []byte("keep"), 0o644)
+	if _, err := Record(context.Background(), src, Options{Path: wav}); err == nil || !strings.Contains(err.Error(), "already exists") {
+		t.Errorf("existing WAV: error %v", err)
+	}
+	if _, err := os.Stat(SidecarPath(wav)); err == nil {
+		t.Error("a sidecar was made for a recording that never started")
+	}
+	wav2 := filepath.Join(dir, "b.wav")
+	os.WriteFile(SidecarPath(wav2), []byte("keep"), 0o644)
+	if _, err := Record(context.Background(), src, Options{Path: wav2}); err == nil || !strings.Contains(err.Error(), "already exists") {
+		t.Errorf("existing sidecar: error %v", err)
+	}
+	if _, err := os.Stat(wav2); err == nil {
+		t.Error("WAV made although its sidecar was there")
+	}
+	if b, _ := os.ReadFile(wav); string(b) != "keep" {
+		t.Error("existing WAV changed")
+	}
+}
+
+// fullDisk takes limit bytes, then fails as a full disk does (ENOSPC,
+// write(2) ERRORS); rewriting bytes already there still works.
+type fullDisk struct {
+	f     *os.File
+	limit int64
+}
+
+func (d *fullDisk) WriteAt(b []byte, off int64) (int, error) {
+	if off+int64(len(b)) <= d.limit {
+		return d.f.WriteAt(b, off)
+	}
+	room := max(d.limit-off, 0)
+	n, _ := d.f.WriteAt(b[:room], off)
+	return n, syscall.ENOSPC
+}
+func (d *fullDisk) Sync() error  { return d.f.Sync() }
+func (d *fullDisk) Close() error { return d.f.Close() }
+
+func TestRecordDiskFullStopsAndKeepsWhatWasWritten(t *testing.T) {
+	old := createStream
+	defer func() { createStream = old }()
+	createStream = func(path string, f capture.WAVStreamFormat) (*capture.WAVStream, error) {
+		file, err := os.OpenFile(path, os.O_RDWR|os.O_CREATE|os.O_EXCL, 0o644)
+		if err != nil {
+			return nil, err
+		}
+		return capture.NewWAVStream(path, &fullDisk{f: file, limit: 44 + 4*30000}, f)
+	}
+	src, _ := NewReplay(knownRecording(8000, 2, 80000), 40)
+	path := filepath.Join(t.TempDir(), "take.wav")
+	res, err := Record(context.Background(), src, Options{Path: path})
+	if err == nil || !strings.Contains(err.Error(), "disk is full") || !strings.Contains(err.Error(), "3.8 s") {
+		t.Fatalf("error %v, want a full-disk message giving the 3.8 s kept", err)
+	}
+	rec, rerr := capture.Open(path, capture.Options{})
+	if rerr != nil {
+		t.Fatal(rerr)
+	}
+	if rec.Frames() != 30000 || res.Sidecar.Frames != 30000 || !strings.Contains(res.Sidecar.Stopped, "no space") {
+		t.Errorf("file holds %d frames, sidecar %d (%q); 30000 fit", rec.Frames(), res.Sidecar.Frames, res.Sidecar.Stopped)
+	}
+	checkAgainstSource(t, rec, &res.Sidecar)
+}
+
+// TestMain lets the test binary act as a recording process for the kill
+// test: SPOTLOOM_RECORD_HELPER=FILE records a real-time replay into FILE
+// and prints each committed frame count.
+func TestMain(m *testing.M) {
+	if out := os.Getenv("SPOTLOOM_RECORD_HELPER"); out != "" {
+		src, _ := NewReplay(knownRecording(16000, 3, 16000*60), 1)
+		_, err := Record(context.Background(), src, Options{Path: out, CommitEvery: 200 * time.Millisecond,
+			Status: func(s Status) { fmt.Printf("committed %d\n", s.Committed) }})
+		fmt.Fprintln(os.Stderr, err)
+		os.Exit(3)
+	}
+	os.Exit(m.Run())
+}
+
+// A recording process killed with SIGKILL (no chance to close anything)
+// leaves a valid WAV holding at least every frame committed before the
+// kill, each equal to the source's, and a sidecar that says it was cut off.
+func TestRecordSurvivesSIGKILL(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "killed.wav")
+	cmd := exec.Command(os.Args[0], "-test.run=^$")
+	cmd.Env = append(os.Environ(), "SPOTLOOM_RECORD_HELPER="+path)
+	stdout, _ := cmd.StdoutPipe()
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	lines := bufio.NewScanner(stdout)
+	var committed int64
+	for lines.Scan() {
+		n, _ := strconv.ParseInt(strings.TrimPrefix(lines.Text(), "committed "), 10, 64)
+		committed = max(committed, n)
+		if committed >= 16000 {
+			break
+		}
+	}
+	time.Sleep(150 * time.Millisecond) // kill between two commits
+	cmd.Process.Signal(syscall.SIGKILL)
+	cmd.Wait()
+	if committed < 16000 {
+		t.Fatalf("helper committed only %d frames before it ended", committed)
+	}
+	rec, err := capture.Open(path, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if int64(rec.Frames()) < committed || rec.SampleRateHz != 16000 || len(rec.Channels) != 3 {
+		t.Fatalf("killed file: %d frames at %g Hz, %d channels; %d were committed", rec.Frames(), rec.SampleRateHz, len(rec.Channels), committed)
+	}
+	side, err := ReadSidecar(SidecarPath(path))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if side.Finished || side.Frames < committed || side.Frames > int64(rec.Frames()) {
+		t.Errorf("sidecar of a killed recording: %+v (file %d frames, %d committed)", side, rec.Frames(), committed)
+	}
+	checkAgainstSource(t, rec, side)
+	t.Logf("killed after %d committed frames; the file holds %d", committed, rec.Frames())
+}
