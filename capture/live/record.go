@@ -99,24 +99,22 @@ func Record(ctx context.Context, src Source, opts Options) (*Result, error) {
 	}
 	werr := w.run(ctx, src)
 	src.Stop()
-	stopped := "stopped"
-	switch {
-	case werr != nil:
-		stopped = werr.Error()
-	case w.full():
-		stopped = "reached the requested length"
-	default:
+	if werr == nil && !w.full() {
 		// Drain what the source delivered before it stopped, and mark a
 		// loss at the very end too.
 		werr = w.ring.pop(w.data, w.lost)
 		if lost := w.ring.takeLost(); werr == nil && lost > 0 {
 			werr = w.lost(lost)
 		}
-		if werr != nil {
-			stopped = werr.Error()
-		} else if ctx.Err() == nil {
-			stopped = "the source ended"
-		}
+	}
+	stopped := "stopped"
+	switch {
+	case werr != nil:
+		stopped = werr.Error()
+	case w.full():
+		stopped = "reached the requested length"
+	case ctx.Err() == nil:
+		stopped = "the source ended"
 	}
 	if err := w.finish(stopped); err != nil && werr == nil {
 		werr = err
