@@ -121,6 +121,9 @@ func planCSV(shape csvShape, size int64, opts Options) (*csvPlan, *Recording, er
 	if shape.avgRowBytes > 0 {
 		estRows = min(maxRows, int64(float64(size)/shape.avgRowBytes*1.02)+16)
 	}
+	if opts.summary != nil {
+		estRows = 0 // a streamed inspect keeps no samples
+	}
 	for k, i := range signals {
 		p.scale[i] = 1
 		name, unit := names[k], units[k]
@@ -370,6 +373,10 @@ func (ct *counterTrack) add(v float64, cell []byte, place Place) error {
 
 // streamCSV reads the data rows described by shape from r, which starts at
 // the first data row.
+// csvSummaryBlock is how many values of one channel a streamed inspect
+// gathers before handing them to the summarizer.
+const csvSummaryBlock = 4096
+
 func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recording, error) {
 	p, rec, err := planCSV(shape, size, opts)
 	if err != nil {
@@ -380,6 +387,17 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 	ct := &counterTrack{shape: &shape, field: p.counterCol}
 	n, nonFinite := 0, 0
 	nextProgress := int64(1 << 20)
+	// Inspect streams: the values go to the summarizer a block at a time
+	// and the recording keeps no samples.
+	sum := opts.summary
+	var pending [][]float32
+	if sum != nil {
+		sum.start(len(rec.Channels), inspectRoleSamples)
+		pending = make([][]float32, len(rec.Channels))
+		for c := range pending {
+			pending[c] = make([]float32, 0, csvSummaryBlock)
+		}
+	}
 	for {
 		ok, err := rows.next()
 		if err != nil {
@@ -417,6 +435,14 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 					nonFinite++
 					x = 0
 				}
+				if sum != nil {
+					pending[role] = append(pending[role], x)
+					if len(pending[role]) == csvSummaryBlock {
+						sum.add(role, pending[role])
+						pending[role] = pending[role][:0]
+					}
+					break
+				}
 				c := &rec.Channels[role]
 				c.Samples = append(c.Samples, x)
 			}
@@ -432,6 +458,12 @@ func streamCSV(r io.Reader, size int64, shape csvShape, opts Options) (*Recordin
 	}
 	if n == 0 {
 		return nil, &FormatError{Format: "csv", Place: AtLine(shape.dataLine, 0), Problem: "no data rows", Expected: "rows of numbers after the header"}
+	}
+	if sum != nil {
+		for c, x := range pending {
+			sum.add(c, x)
+		}
+		sum.frames = n
 	}
 	if err := p.rate(rec, tt, ct, n, opts); err != nil {
 		return nil, err

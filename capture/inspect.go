@@ -47,7 +47,8 @@ const (
 // are streamed through a fixed buffer: the statistics are gathered block by
 // block, and only the start of each channel is kept for GuessRoles
 // (inspectRoleSamples, fewer when there are many channels), so memory does
-// not grow with the file. Text captures are read whole.
+// not grow with the file. Text captures are streamed row by row the same
+// way.
 func Inspect(path string, opts Options) (*Summary, error) {
 	sum := &summarizer{}
 	opts.summary = sum

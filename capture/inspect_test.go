@@ -213,3 +213,44 @@ func TestTinySampleRateRefused(t *testing.T) {
 		t.Error("a recording at 1e-300 Hz validates")
 	}
 }
+
+// TestInspectCSVMemoryIsBounded: a text capture is streamed too, so what
+// Inspect allocates does not grow with the file: 6 Mi rows cost no more
+// than 3 Mi rows plus a little, where holding the extra 3 Mi float32
+// samples would take 12 MB. The statistics are the closed form of the
+// values written (a repeating 0, 1, 2, 3: mean 1.5, RMS √3.5).
+func TestInspectCSVMemoryIsBounded(t *testing.T) {
+	if testing.Short() {
+		t.Skip("writes 18 MB of files")
+	}
+	inspect := func(n int) (uint64, *Summary) {
+		path := filepath.Join(t.TempDir(), "long.csv")
+		b := make([]byte, 0, 2*n)
+		for i := 0; i < n; i++ {
+			b = append(b, byte('0'+i%4), '\n')
+		}
+		if err := os.WriteFile(path, b, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		b = nil
+		var before, after runtime.MemStats
+		runtime.GC()
+		runtime.ReadMemStats(&before)
+		sum, err := Inspect(path, Options{SampleRateHz: 1000})
+		runtime.ReadMemStats(&after)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return after.TotalAlloc - before.TotalAlloc, sum
+	}
+	const n = 3 << 20
+	small, _ := inspect(n)
+	large, sum := inspect(2 * n)
+	if large > small+2<<20 {
+		t.Errorf("Inspect allocated %d MB for %d rows and %d MB for %d rows: it grows with the file", small>>20, n, large>>20, 2*n)
+	}
+	st := sum.Channels[0]
+	if sum.Frames != 2*n || st.Min != 0 || st.Max != 3 || math.Abs(st.Mean-1.5) > 1e-9 || math.Abs(st.RMS-math.Sqrt(3.5)) > 1e-9 {
+		t.Errorf("frames %d, stats %+v; want %d frames, 0…3, mean 1.5, RMS %g", sum.Frames, st.Stats, 2*n, math.Sqrt(3.5))
+	}
+}
