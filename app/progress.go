@@ -24,13 +24,17 @@ type progressPrinter struct {
 }
 
 func newProgress(stderr io.Writer) *progressPrinter {
-	p := &progressPrinter{w: stderr}
-	if f, ok := stderr.(*os.File); ok {
-		if st, err := f.Stat(); err == nil && st.Mode()&os.ModeCharDevice != 0 {
-			p.enabled = true
-		}
+	return &progressPrinter{w: stderr, enabled: isTerminal(stderr)}
+}
+
+// isTerminal says whether w is a terminal (a character device).
+func isTerminal(w io.Writer) bool {
+	f, ok := w.(*os.File)
+	if !ok {
+		return false
 	}
-	return p
+	st, err := f.Stat()
+	return err == nil && st.Mode()&os.ModeCharDevice != 0
 }
 
 // Report shows stage and fraction (0..1); calls closer than 100 ms apart
