@@ -8,8 +8,8 @@ import (
 	"fyne.io/fyne/v2/widget"
 )
 
-// SafetyCaution is shown in the About text. Spotloom only reads recorded
-// signals, but the people who record them work with X-ray sources.
+// SafetyCaution is shown in the About text. Spotloom only reads and
+// records signals, but the people who record them work with X-ray sources.
 const SafetyCaution = "X-rays are ionising radiation. Use only registered and shielded sources, " +
 	"and wear dosimetry. Never image people or animals without the authorisation " +
 	"local law requires. Local regulations and licensed radiation-safety practice " +
