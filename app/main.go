@@ -105,6 +105,18 @@ var singleDash = regexp.MustCompile(`(^|\s)-([A-Za-z][\w-]*)`)
 // NaN and Inf, which would otherwise be read as "not given" or reach the
 // work.
 func positiveFlags(fs *flag.FlagSet, names ...string) error {
+	return checkGivenFlags(fs, names, func(v float64) bool { return v > 0 && !math.IsInf(v, 0) }, "a number above 0")
+}
+
+// finiteFlags refuses any of the named flags given as NaN or Inf.
+func finiteFlags(fs *flag.FlagSet, names ...string) error {
+	return checkGivenFlags(fs, names, func(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }, "a finite number")
+}
+
+// checkGivenFlags refuses the first of the named numeric flags given on
+// the command line whose value ok rejects, saying what was expected.
+// Flags not given, and flags that are not numbers, are passed over.
+func checkGivenFlags(fs *flag.FlagSet, names []string, ok func(float64) bool, expected string) error {
 	given := map[string]bool{}
 	fs.Visit(func(f *flag.Flag) { given[f.Name] = true })
 	for _, name := range names {
@@ -112,8 +124,8 @@ func positiveFlags(fs *flag.FlagSet, names ...string) error {
 		if f == nil || !given[name] {
 			continue
 		}
-		getter, ok := f.Value.(flag.Getter)
-		if !ok {
+		getter, isGetter := f.Value.(flag.Getter)
+		if !isGetter {
 			continue
 		}
 		var v float64
@@ -129,26 +141,8 @@ func positiveFlags(fs *flag.FlagSet, names ...string) error {
 		default:
 			continue
 		}
-		if !(v > 0) || math.IsInf(v, 0) {
-			return usagef("--%s %s: expected a number above 0", name, f.Value.String())
-		}
-	}
-	return nil
-}
-
-// finiteFlags refuses any of the named float flags given as NaN or Inf.
-func finiteFlags(fs *flag.FlagSet, names ...string) error {
-	given := map[string]bool{}
-	fs.Visit(func(f *flag.Flag) { given[f.Name] = true })
-	for _, name := range names {
-		f := fs.Lookup(name)
-		if f == nil || !given[name] {
-			continue
-		}
-		if getter, ok := f.Value.(flag.Getter); ok {
-			if v, ok := getter.Get().(float64); ok && (math.IsNaN(v) || math.IsInf(v, 0)) {
-				return usagef("--%s %s: expected a finite number", name, f.Value.String())
-			}
+		if !ok(v) {
+			return usagef("--%s %s: expected %s", name, f.Value.String(), expected)
 		}
 	}
 	return nil
