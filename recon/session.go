@@ -408,19 +408,22 @@ func lineSpacings(t *timingResult, rows *rowsResult) []float64 {
 }
 
 // autoMaxGap is the automatic image.max_gap_mm: four times the median
-// spacing of neighbouring lines while the head moves (spacings under a
-// tenth of the mean are rests and turns, and are left out), so a fast
-// stretch of a hand scan is filled and a jump of the head is not. The
-// sine law's two lines per period halve the spacing.
+// spacing of neighbouring lines while the head moves, so a fast stretch of
+// a hand scan is filled and a jump of the head is not. Spacings under a
+// tenth of the 90th-percentile spacing are rests and turns and are left
+// out: the percentile follows the head's working speed, where a mean is
+// pulled down by long rests until their sensor noise counts as motion.
+// The sine law's two lines per period halve the spacing.
 func autoMaxGap(t *timingResult, rows *rowsResult, sw recipe.Sweep) float64 {
 	dys := lineSpacings(t, rows)
 	if len(dys) == 0 {
 		return 0
 	}
-	mean := meanOf(dys)
+	sorted := slices.Sorted(slices.Values(dys))
+	working := sorted[min(len(sorted)-1, int(0.9*float64(len(sorted))))]
 	var moving []float64
 	for _, d := range dys {
-		if d > 0.1*mean {
+		if d > 0.1*working {
 			moving = append(moving, d)
 		}
 	}

@@ -177,3 +177,35 @@ func TestStrokesFirst(t *testing.T) {
 		t.Errorf("first stroke frame spans y %.1f … %.1f mm, want 40 … 70", bottom, top)
 	}
 }
+
+// TestLongRestsKeepTheGapLimit: a hand scan that rests for most of the
+// capture (the position wavering by ±0.05 mm, as a sensor does) and then
+// moves at 30 mm/s. The automatic image.max_gap_mm follows the working
+// speed: closed form 4 × 30 mm/s ÷ 20 lines/s = 6 mm, so the moving lines,
+// 1.5 mm apart, are filled with no gap warning. (Taking "moving" against
+// the mean spacing let the wavering count as motion and set the limit
+// near 0.2 mm, striping the whole stroke.)
+func TestLongRestsKeepTheGapLimit(t *testing.T) {
+	rig := baseRig()
+	rig.seconds = 10
+	rig.y = func(t float64) float64 {
+		if t < 8 {
+			return 10 + 0.05*math.Sin(2*math.Pi*3.7*t)
+		}
+		return 10 + 30*(t-8)
+	}
+	r := rig.recipe()
+	r.Image.PitchMM = 0.5
+	res, err := NewSession(rig.recording()).Build(context.Background(), r, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := *res.Recipe.Image.MaxGapMM; math.Abs(got-6) > 1 {
+		t.Errorf("automatic max_gap_mm %.3g mm, want about 6 mm (4 line spacings while moving)", got)
+	}
+	for _, w := range res.Report.Warnings {
+		if strings.Contains(w, "rows have gaps") {
+			t.Errorf("warning %q on a stroke whose lines are 1.5 mm apart", w)
+		}
+	}
+}
