@@ -63,106 +63,186 @@ func FirstLook(ctx context.Context, s *Session, start recipe.Recipe, known Known
 	if err := rec.Validate(); err != nil {
 		return nil, err
 	}
+	d := newLookDraft(start, known)
+	d.guessSignals(rec)
+	res, err := s.Build(ctx, d.r, progress)
+	if err != nil {
+		return d.withoutBeamOff(ctx, s, err, progress)
+	}
+	if err := d.fitToBuild(ctx, s, res); err != nil {
+		return nil, err
+	}
+	if d.changed {
+		if res, err = s.Build(ctx, d.r, progress); err != nil {
+			return nil, err
+		}
+	}
+	return &Look{Recipe: res.Recipe, Settings: d.r, Result: res, Notes: d.notes}, nil
+}
+
+// lookDraft is a first look in progress: the settings so far (automatic
+// values left null), what the user stated, the notes, and whether a step
+// changed the settings since the last build. Each step of FirstLook is one
+// of its methods.
+type lookDraft struct {
+	r       recipe.Recipe
+	known   Known
+	notes   []string
+	changed bool
+}
+
+func newLookDraft(start recipe.Recipe, known Known) *lookDraft {
 	r := start.Clone()
 	if r.Format == "" {
 		r.Format = recipe.RecipeFormat
 	}
-	var notes []string
-	if !known.Has("channels") {
-		r = GuessChannels(r, rec)
-	}
-	if !known.Has("rows.source") && r.Rows.Source.ReadsPosition() {
-		if ch, err := rec.Lookup(string(r.Channels.Position)); err == nil && r.Channels.Position.IsSet() {
-			if hz, ok := carrierTone(rec.Channels[ch].Samples, rec.SampleRateHz); ok {
-				if r.Rows.Source != recipe.SourceTone {
-					notes = append(notes, fmt.Sprintf("the position channel carries a %.4g Hz tone whose amplitude moves with the head: rows.source is set to tone", hz))
-				}
-				r.Rows.Source = recipe.SourceTone
-			} else {
-				r.Rows.Source = recipe.SourcePosition
-			}
-		}
-	}
-	if !known.Has("image.pitch_mm") {
-		r.Image.PitchMM = 0
-	}
-	res, err := s.Build(ctx, r, progress)
-	if err != nil {
-		if ctx.Err() != nil || known.Has("sweep.delay_deg") || known.Has("signal.baseline") || !hasBeamOff(r.Sweep.Law) {
-			return nil, err
-		}
-		// The automatic delay needs a beam-off stretch: when the beam
-		// never leaves the field, build with the field at the index edge
-		// and no baseline, and say so.
-		lit := r.Clone()
-		lit.Sweep.DelayDeg, lit.Signal.Baseline = recipe.Float(0), "none"
-		again, err2 := s.Build(ctx, lit, progress)
-		if err2 != nil {
-			return nil, err
-		}
-		if _, ok, ferr := s.beamOnFraction(ctx, again.Recipe, again.Lines); ferr != nil || ok {
-			return nil, err
-		}
-		_, n := fitDuty(&lit, 1, false, known)
-		return &Look{Recipe: again.Recipe, Settings: lit, Result: again, Notes: append(notes, n...)}, nil
-	}
-	// r stays the settings (automatic values null); found is what the
-	// build resolved them to.
-	found := res.Recipe
-	changed := false
+	return &lookDraft{r: r, known: known}
+}
 
-	det := rec.Channels[mustLookup(rec, found.Channels.Detector)].Samples
-	if hasBeamOff(r.Sweep.Law) && r.Signal.Baseline != "none" {
-		if hz, ok := acCornerFromBaselines(det, rec.SampleRateHz, res.Lines); ok {
-			if math.Abs(hz-r.Signal.ACCornerHz) > 0.1*math.Max(hz, r.Signal.ACCornerHz) {
-				if known.Has("signal.ac_corner_hz") {
-					notes = append(notes, fmt.Sprintf("the detector's beam-off level drifts back after bright stretches as through a %.3g Hz high-pass: set signal.ac_corner_hz to %.3g (it is %g)", hz, hz, r.Signal.ACCornerHz))
-				} else {
-					notes = append(notes, fmt.Sprintf("the detector is AC-coupled (its beam-off level drifts back after bright stretches): signal.ac_corner_hz is set to %.3g Hz, the corner that drift fits", hz))
-					r.Signal.ACCornerHz = roundSignificant(hz, 3)
-					changed = true
-				}
-			}
-		}
+func (d *lookDraft) note(format string, args ...any) {
+	d.notes = append(d.notes, fmt.Sprintf(format, args...))
+}
+
+// guessSignals is the step before the first build: the channel roles, the
+// rows source (a carrier tone told from a DC level) and an automatic
+// pitch, each unless the user stated it.
+func (d *lookDraft) guessSignals(rec *capture.Recording) {
+	if !d.known.Has("channels") {
+		d.r = GuessChannels(d.r, rec)
 	}
-	// The beam-on fraction is measured on the detector the engine sees,
-	// with its AC coupling undone.
-	measured := found.Clone()
-	measured.Signal = r.Signal
-	duty, dutyOK, err := s.beamOnFraction(ctx, measured, res.Lines)
+	if !d.known.Has("rows.source") {
+		d.guessPositionSource(rec)
+	}
+	if !d.known.Has("image.pitch_mm") {
+		d.r.Image.PitchMM = 0
+	}
+}
+
+// guessPositionSource reads a position channel as the amplitude of a
+// carrier tone when it carries one, else as a DC level.
+func (d *lookDraft) guessPositionSource(rec *capture.Recording) {
+	r := &d.r
+	if !r.Rows.Source.ReadsPosition() || !r.Channels.Position.IsSet() {
+		return
+	}
+	ch, err := rec.Lookup(string(r.Channels.Position))
 	if err != nil {
+		return
+	}
+	hz, ok := carrierTone(rec.Channels[ch].Samples, rec.SampleRateHz)
+	if !ok {
+		r.Rows.Source = recipe.SourcePosition
+		return
+	}
+	if r.Rows.Source != recipe.SourceTone {
+		d.note("the position channel carries a %.4g Hz tone whose amplitude moves with the head: rows.source is set to tone", hz)
+	}
+	r.Rows.Source = recipe.SourceTone
+}
+
+// withoutBeamOff answers a first build that failed with err. The automatic
+// delay needs a beam-off stretch: when the beam never leaves the field,
+// build with the field at the index edge and no baseline, and say so.
+// Otherwise (or when that build fails too) err stands.
+func (d *lookDraft) withoutBeamOff(ctx context.Context, s *Session, err error, progress Progress) (*Look, error) {
+	if ctx.Err() != nil || d.known.Has("sweep.delay_deg") || d.known.Has("signal.baseline") || !hasBeamOff(d.r.Sweep.Law) {
 		return nil, err
 	}
-	if hasBeamOff(r.Sweep.Law) {
-		adjusted, n := fitDuty(&r, duty, dutyOK, known)
-		notes = append(notes, n...)
-		changed = changed || adjusted
-		if !dutyOK && !known.Has("signal.baseline") {
-			r.Signal.Baseline = "none"
-			if !known.Has("sweep.delay_deg") {
-				r.Sweep.DelayDeg = recipe.Float(0)
-			}
-			changed = true
+	lit := d.r.Clone()
+	lit.Sweep.DelayDeg, lit.Signal.Baseline = recipe.Float(0), "none"
+	again, err2 := s.Build(ctx, lit, progress)
+	if err2 != nil {
+		return nil, err
+	}
+	if _, ok, ferr := s.beamOnFraction(ctx, again.Recipe, again.Lines); ferr != nil || ok {
+		return nil, err
+	}
+	_, n := fitDuty(&lit, 1, false, d.known)
+	return &Look{Recipe: again.Recipe, Settings: lit, Result: again, Notes: append(d.notes, n...)}, nil
+}
+
+// fitToBuild is the step after the first build: what the build shows
+// about the detector's coupling, the beam-on fraction, the detector's
+// polarity and the position calibration.
+func (d *lookDraft) fitToBuild(ctx context.Context, s *Session, res *Result) error {
+	d.fitACCorner(s.Recording(), res)
+	if err := d.fitBeamOn(ctx, s, res); err != nil {
+		return err
+	}
+	d.fitInvert(res.Report)
+	d.fitCalibration(res.Report)
+	return nil
+}
+
+// fitACCorner sets signal.ac_corner_hz (or says what to set it to, when
+// the user stated it) from how the beam-off level drifts back after
+// bright stretches.
+func (d *lookDraft) fitACCorner(rec *capture.Recording, res *Result) {
+	r := &d.r
+	if !hasBeamOff(r.Sweep.Law) || r.Signal.Baseline == "none" {
+		return
+	}
+	det := rec.Channels[mustLookup(rec, res.Recipe.Channels.Detector)].Samples
+	hz, ok := acCornerFromBaselines(det, rec.SampleRateHz, res.Lines)
+	if !ok || math.Abs(hz-r.Signal.ACCornerHz) <= 0.1*math.Max(hz, r.Signal.ACCornerHz) {
+		return
+	}
+	if d.known.Has("signal.ac_corner_hz") {
+		d.note("the detector's beam-off level drifts back after bright stretches as through a %.3g Hz high-pass: set signal.ac_corner_hz to %.3g (it is %g)", hz, hz, r.Signal.ACCornerHz)
+		return
+	}
+	d.note("the detector is AC-coupled (its beam-off level drifts back after bright stretches): signal.ac_corner_hz is set to %.3g Hz, the corner that drift fits", hz)
+	r.Signal.ACCornerHz = roundSignificant(hz, 3)
+	d.changed = true
+}
+
+// fitBeamOn measures the beam-on fraction on the detector the engine sees
+// (the build's resolved recipe with the draft's signal settings, so AC
+// coupling is undone) and fits the aperture count to it; with no beam-off
+// stretch it drops the baseline and, unless stated, the automatic delay.
+func (d *lookDraft) fitBeamOn(ctx context.Context, s *Session, res *Result) error {
+	measured := res.Recipe.Clone()
+	measured.Signal = d.r.Signal
+	duty, dutyOK, err := s.beamOnFraction(ctx, measured, res.Lines)
+	if err != nil {
+		return err
+	}
+	if !hasBeamOff(d.r.Sweep.Law) {
+		return nil
+	}
+	adjusted, n := fitDuty(&d.r, duty, dutyOK, d.known)
+	d.notes = append(d.notes, n...)
+	d.changed = d.changed || adjusted
+	if !dutyOK && !d.known.Has("signal.baseline") {
+		d.r.Signal.Baseline = "none"
+		if !d.known.Has("sweep.delay_deg") {
+			d.r.Sweep.DelayDeg = recipe.Float(0)
 		}
+		d.changed = true
 	}
-	if slices.Contains(res.Report.Warnings, WarnNegativeDetector) && !r.Signal.Invert && !known.Has("signal.invert") {
-		r.Signal.Invert = true
-		notes = append(notes, "the detector is negative-going: signal.invert is set, so more scatter shows brighter")
-		changed = true
+	return nil
+}
+
+// fitInvert sets signal.invert for a negative-going detector.
+func (d *lookDraft) fitInvert(rep Report) {
+	if slices.Contains(rep.Warnings, WarnNegativeDetector) && !d.r.Signal.Invert && !d.known.Has("signal.invert") {
+		d.r.Signal.Invert = true
+		d.note("the detector is negative-going: signal.invert is set, so more scatter shows brighter")
+		d.changed = true
 	}
-	if !known.Has("rows.calibration") {
-		if cal, note := calibrationFor(r, res.Report); note != "" {
-			r.Rows.Calibration = cal
-			notes = append(notes, note)
-			changed = true
-		}
+}
+
+// fitCalibration replaces a calibration that misses most of the position
+// levels seen with a guess spanning them.
+func (d *lookDraft) fitCalibration(rep Report) {
+	if d.known.Has("rows.calibration") {
+		return
 	}
-	if changed {
-		if res, err = s.Build(ctx, r, progress); err != nil {
-			return nil, err
-		}
+	if cal, note := calibrationFor(d.r, rep); note != "" {
+		d.r.Rows.Calibration = cal
+		d.notes = append(d.notes, note)
+		d.changed = true
 	}
-	return &Look{Recipe: res.Recipe, Settings: r, Result: res, Notes: notes}, nil
 }
 
 func mustLookup(rec *capture.Recording, ref recipe.ChannelRef) int {
