@@ -68,7 +68,10 @@ type wavFile struct {
 	// chunk cut short (cut), what the file holds after its header.
 	dataBytes int64
 	cut       bool
-	warnings  []string
+	// beyond is how many bytes after the stated data chunk were read as
+	// more of it: samples a recorder wrote after it last rewrote the sizes.
+	beyond   int64
+	warnings []string
 }
 
 // wavWalker walks the chunks of a RIFF form once, in file order, checking
@@ -177,11 +180,42 @@ func walkWAV(r io.ReaderAt, size int64) (wavFile, error) {
 		}
 		off = w.next(c)
 	}
-	if !f.cut {
-		f.warnings = append(f.warnings, w.tail(w.next(f.data))...)
-		f.warnings = append(f.warnings, w.riffSize(chunkHeaderSize+int64(w.order.Uint32(head[4:8])))...)
+	if f.cut {
+		return f, nil
 	}
+	statedRIFF := chunkHeaderSize + int64(w.order.Uint32(head[4:8]))
+	tail := w.tail(w.next(f.data))
+	if tail != nil && w.samplesBeyond(f.data, statedRIFF) {
+		f.beyond = size - f.data.body() - f.data.size
+		f.dataBytes += f.beyond
+		return f, nil
+	}
+	f.warnings = append(f.warnings, tail...)
+	f.warnings = append(f.warnings, w.riffSize(statedRIFF)...)
 	return f, nil
+}
+
+// samplesBeyond reports whether the bytes after the stated data chunk c,
+// which are not whole chunks, are more samples of it: a recorder that
+// rewrites the sizes now and then (WAVStream) and was killed in between
+// leaves a header whose RIFF form ends with the data chunk and samples
+// after it. They are taken for samples when the RIFF size ends the form at
+// the data chunk (with or without its pad byte), so the data chunk was the
+// last chunk written, and they start neither a chunk ID nor a tag that
+// other programs append to WAV files (ID3v2 "ID3", ID3v1 "TAG").
+func (w *wavWalker) samplesBeyond(c wavChunk, statedRIFF int64) bool {
+	end := c.body() + c.size
+	if statedRIFF != end && statedRIFF != end+1 {
+		return false
+	}
+	if fourCCAt(w.r, w.size, end) {
+		return false
+	}
+	var tag [3]byte
+	if _, err := w.r.ReadAt(tag[:], end); err == nil && (string(tag[:]) == "ID3" || string(tag[:]) == "TAG") {
+		return false
+	}
+	return true
 }
 
 // dataExtent decides how much of the data chunk there is to read. A size
@@ -337,6 +371,9 @@ func readWAV(r io.ReaderAt, size int64, opts Options) (*Recording, error) {
 		rec.Warnings = append(rec.Warnings, fmt.Sprintf("the data chunk at byte %d claims %s but the file ends %d bytes after its header (a recording that was never finished); the %d whole frames there were read, %.6g s",
 			data.offset, claimedSize(data.size), file.dataBytes, frames, float64(frames)/float64(f.sampleRate)))
 	}
+	if file.beyond > 0 {
+		rec.Warnings = append(rec.Warnings, beyondText(data, file, f, frames))
+	}
 	for c := range rec.Channels {
 		rec.Channels[c] = Channel{Name: fmt.Sprintf("ch%d", c), Unit: UnitFullScale}
 	}
@@ -362,6 +399,18 @@ func readWAV(r io.ReaderAt, size int64, opts Options) (*Recording, error) {
 		}
 	}
 	return rec, nil
+}
+
+// beyondText is the warning for samples read after the stated data chunk.
+func beyondText(data wavChunk, file wavFile, f wavFormat, frames int64) string {
+	block := int64(f.blockAlign)
+	stated := data.size / block
+	text := fmt.Sprintf("the data chunk at byte %d states %d frames, but %d more follow it to the end of the file (samples written after the header was last rewritten, as by a recording that was killed); %.6g s were recovered beyond the header",
+		data.offset, stated, frames-stated, float64(frames-stated)/float64(f.sampleRate))
+	if part := file.dataBytes % block; part != 0 {
+		text += fmt.Sprintf(", and the last %d bytes, less than a frame, were ignored", part)
+	}
+	return text
 }
 
 // claimedSize describes a data chunk's stated size for messages.

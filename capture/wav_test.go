@@ -93,7 +93,7 @@ func TestWAVTolerates(t *testing.T) {
 		t.Errorf("RIFF size too large: %v", err)
 	}
 	// Trailing bytes after the data that are no whole chunk.
-	if rec, err := readWAVBytes(append(append([]byte(nil), base...), 0, 0, 0)); err != nil || rec.Frames() != 10 {
+	if rec, err := readWAVBytes(append(append([]byte(nil), base...), "JUNK\x00\x00\x00"...)); err != nil || rec.Frames() != 10 {
 		t.Errorf("trailing bytes: %v", err)
 	}
 	// WAVE_FORMAT_EXTENSIBLE with 20 valid bits in a 24-bit container is
@@ -166,19 +166,25 @@ func TestWAVChunksBeforeFmt(t *testing.T) {
 func TestWAVSizeWarnings(t *testing.T) {
 	base := validWAV() // 108 bytes, RIFF size 100 at byte 4
 	for _, tc := range []struct {
-		name  string
-		data  []byte
-		words []string
+		name   string
+		data   []byte
+		frames int
+		words  []string
 	}{
-		{"correct", base, nil},
-		{"RIFF size large", patched(base, 4, 5000, 4), []string{"RIFF header gives the file as 5008 bytes, but it is 108 bytes"}},
-		{"RIFF size small", patched(base, 4, 40, 4), []string{"as 48 bytes, but it is 108"}},
-		{"junk after data", append(append([]byte(nil), base...), "\x00\x00\x01"...), []string{"bytes 108 to 111 after the last chunk", "as 108 bytes, but it is 111"}},
-		{"chunk after data too long", append(patched(base, 4, 112, 4), le(nil).id("LIST").u32(400).raw([]byte("abcd"))...), []string{"bytes 108 to 120 after the last chunk"}},
-		{"odd last chunk without pad", append(patched(base, 4, 100+12, 4), le(nil).id("note").u32(3).raw([]byte("abc"))...), nil},
+		{"correct", base, 32, nil},
+		{"RIFF size large", patched(base, 4, 5000, 4), 32, []string{"RIFF header gives the file as 5008 bytes, but it is 108 bytes"}},
+		{"RIFF size small", patched(base, 4, 40, 4), 32, []string{"as 48 bytes, but it is 108"}},
+		{"junk after data", append(append([]byte(nil), base...), "JUNK\x00\x01"...), 32, []string{"bytes 108 to 114 after the last chunk", "as 108 bytes, but it is 114"}},
+		{"ID3 tag after data", append(append([]byte(nil), base...), "ID3\x03\x00\x00"...), 32, []string{"bytes 108 to 114 after the last chunk", "as 108 bytes, but it is 114"}},
+		{"junk after data, RIFF size covering it", append(patched(base, 4, 103, 4), "\x00\x00\x01"...), 32, []string{"bytes 108 to 111 after the last chunk"}},
+		{"chunk after data too long", append(patched(base, 4, 112, 4), le(nil).id("LIST").u32(400).raw([]byte("abcd"))...), 32, []string{"bytes 108 to 120 after the last chunk"}},
+		{"odd last chunk without pad", append(patched(base, 4, 100+12, 4), le(nil).id("note").u32(3).raw([]byte("abc"))...), 32, nil},
+		// samples after a data chunk the RIFF size ends the form with: a
+		// recorder killed after it last rewrote the sizes
+		{"samples after data", append(append([]byte(nil), base...), "\x00\x00\x01"...), 33, []string{"states 32 frames, but 1 more follow"}},
 	} {
 		rec, err := readWAVBytes(tc.data)
-		if err != nil || rec.Frames() != 32 {
+		if err != nil || rec.Frames() != tc.frames {
 			t.Errorf("%s: %v", tc.name, err)
 			continue
 		}
@@ -189,6 +195,51 @@ func TestWAVSizeWarnings(t *testing.T) {
 		for i, w := range tc.words {
 			if !strings.Contains(rec.Warnings[i], w) {
 				t.Errorf("%s: warning %q, want %q", tc.name, rec.Warnings[i], w)
+			}
+		}
+	}
+}
+
+// TestWAVSamplesBeyondStatedSize: a file whose header covers 32 frames,
+// followed by 10 more frames and half of another (what a recorder killed
+// between two header rewrites leaves), reads as 42 frames whose values are
+// the ones written (16-bit PCM, RIFF 1.0 WAVE "Data Packing for PCM"), with
+// one warning giving the seconds recovered and the bytes left over.
+func TestWAVSamplesBeyondStatedSize(t *testing.T) {
+	var more le
+	for i := 32; i < 42; i++ {
+		more = more.u16(uint16(int16(intSample(i, 0, 16))))
+	}
+	file := append(append(validWAV(), more...), 0x7F) // 8000 Hz mono int16
+	for _, inspect := range []bool{false, true} {
+		opts := Options{}
+		if inspect {
+			opts.summary = &summarizer{}
+		}
+		rec, err := readWAV(bytes.NewReader(file), int64(len(file)), opts)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(rec.Warnings) != 1 {
+			t.Fatalf("inspect %v: warnings %q, want one", inspect, rec.Warnings)
+		}
+		for _, w := range []string{"states 32 frames, but 10 more follow", "0.00125 s were recovered beyond the header", "last 1 bytes, less than a frame, were ignored"} {
+			if !strings.Contains(rec.Warnings[0], w) {
+				t.Errorf("inspect %v: warning %q, want %q", inspect, rec.Warnings[0], w)
+			}
+		}
+		if inspect {
+			if n := opts.summary.frames; n != 42 {
+				t.Errorf("inspect read %d frames, want 42", n)
+			}
+			continue
+		}
+		if rec.Frames() != 42 {
+			t.Fatalf("%d frames, want 42", rec.Frames())
+		}
+		for i, v := range rec.Channels[0].Samples {
+			if want := float32(intSample(i, 0, 16)) / 32768; v != want {
+				t.Fatalf("frame %d = %v, want %v", i, v, want)
 			}
 		}
 	}

@@ -23,8 +23,10 @@ var ErrWAVSizeLimit = errors.New("the WAV file reached its 4 GiB size limit (RIF
 // WAVStream writes a WAV file while its samples arrive, so that a file cut
 // off at any moment (a kill, a crash, a power cut) is still a valid WAV: the
 // header's sizes are rewritten, and the file synced, at every Commit, and
-// samples past the last Commit are a cut-off data chunk that capture.Open
-// salvages. It never holds more than one buffer of samples in memory.
+// samples that reached the file after the last Commit (at a Flush, or when
+// the buffer filled) follow the data chunk its header states, where
+// capture.Open finds and reads them. It never holds more than one buffer of
+// samples in memory.
 //
 // A WAVStream is not safe for concurrent use; a recorder calls it from its
 // own goroutine, never from an audio callback.
@@ -183,6 +185,17 @@ func (s *WAVStream) flush() error {
 	s.flushed += int64(n)
 	s.buf = s.buf[:0]
 	return nil
+}
+
+// Flush hands the buffered samples to the file without rewriting the
+// header or syncing: cheap enough for every block a recorder takes, so
+// that a process killed at any moment loses none of them (the operating
+// system keeps what was written; only a power cut needs the Commit's sync).
+func (s *WAVStream) Flush() error {
+	if s.err != nil {
+		return s.err
+	}
+	return s.flush()
 }
 
 // Commit writes the buffered samples, rewrites the header's sizes to cover

@@ -27,7 +27,9 @@ type Options struct {
 	// samples are lost.
 	RingSeconds float64
 	// CommitEvery is how often the WAV's sizes are rewritten and the file
-	// synced (default 500 ms; at most 1 s is what a cut-off file may lose).
+	// synced (default 500 ms). Every block taken from the ring reaches the
+	// file at once, so a killed process loses none; a power cut may lose what
+	// came after the last commit.
 	CommitEvery time.Duration
 	// Status, when set, is called on the writer goroutine about ten times
 	// a second and after every commit.
@@ -183,6 +185,11 @@ func (w *writer) run(ctx context.Context, src Source) error {
 		case <-tick.C:
 		}
 		if err := w.ring.pop(w.data, w.lost); err != nil {
+			return err
+		}
+		// Every block taken reaches the file at once, so a kill loses
+		// nothing the writer had; the header follows at the next commit.
+		if err := w.stream.Flush(); err != nil {
 			return err
 		}
 		if w.full() {
