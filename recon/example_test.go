@@ -38,6 +38,6 @@ func ExampleSession_Build() {
 	fmt.Printf("delay moved by %.2f°, same %d lines\n", again.Report.DelayDeg-rep.DelayDeg, len(again.Lines))
 	// Output:
 	// 840 lines at 42 lines/s, 420 rev/min
-	// delay 9°, frame 269 × 402 at 1 mm
+	// delay 9°, frame 269 × 403 at 1 mm
 	// delay moved by 0.50°, same 840 lines
 }

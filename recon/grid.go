@@ -220,9 +220,20 @@ type gridInput struct {
 
 // frameSize is the number of columns and rows of the grid over the sweep's
 // x extent and the y extent yTop…yBottom at pitch p, in floating point so
-// an absurd extent cannot wrap round when converted.
+// an absurd extent cannot wrap round when converted. The rows lie on the
+// lattice of rowLattice.
 func frameSize(sweep *sweepMap, yTop, yBottom, p float64) (cols, rows float64) {
-	return math.Ceil((sweep.xMax-sweep.xMin)/p-1e-9) + 1, math.Ceil((yTop-yBottom)/p-1e-9) + 1
+	top, bottom := rowLattice(yTop, yBottom, p)
+	return math.Ceil((sweep.xMax-sweep.xMin)/p-1e-9) + 1, top - bottom + 1
+}
+
+// rowLattice returns the lattice numbers of the first and last row of a
+// frame over the y extent yTop…yBottom: row centres lie at whole multiples
+// of the pitch (y = k·p), so frames of one pitch share their pixel centres
+// whatever their extent, and an image that grows while it is recorded
+// keeps the pixels it has (docs/pipeline.md, "Live").
+func rowLattice(yTop, yBottom, p float64) (top, bottom float64) {
+	return math.Ceil(yTop/p - 1e-9), math.Floor(yBottom/p + 1e-9)
 }
 
 // maxResultPixels bounds the pixels of all the frames of one build: each
@@ -264,8 +275,8 @@ func byteText(b float64) string {
 func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, error) {
 	var st gridStats
 	p := in.pitch
-	// The grid covers the x and y extent and is centred on it, so a
-	// reversed sweep gives the exact mirror image.
+	// The grid covers the x extent centred on it, so a reversed sweep
+	// gives the exact mirror image, and the y extent on the row lattice.
 	// The size is checked in floating point before any conversion, so an
 	// absurd extent cannot wrap round to a negative or small int.
 	colsF, rowsF := frameSize(in.sweep, in.yTop, in.yBottom, p)
@@ -275,8 +286,8 @@ func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, er
 	}
 	cols, rows := int(colsF), int(rowsF)
 	x0 := (in.sweep.xMin+in.sweep.xMax)/2 - float64(cols-1)/2*p
-	yTop := (in.yTop+in.yBottom)/2 + float64(rows-1)/2*p
-	in.yTop = yTop
+	top, _ := rowLattice(in.yTop, in.yBottom, p)
+	in.yTop = top * p
 	npx := cols * rows
 	w := min(workers(), max(1, len(in.lines)/64))
 	if npx > maxSplitPixels {
