@@ -1,10 +1,8 @@
 package main
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 	"strings"
 	"time"
@@ -30,10 +28,12 @@ SHEET.pdf (A4): the frame at a stated print scale with its scale bar, the
 capture and rig facts (lines, rev/min, sweep time, pitch, coverage), the
 recipe in short, the warnings and the date.
 
---measure M.json (the output of "spotloom measure --json") adds a page of
-measurements: each rectangle and line of its request is measured again on
-the rebuilt frame, drawn on the frame and listed with its plot (MTF curve,
-profile, noise power spectrum).
+--measure M.json adds a page of measurements: each rectangle and line is
+measured again on the rebuilt frame, drawn on the frame with its label and
+listed with its plot (MTF curve, profile, noise power spectrum). M.json is
+an export's sidecar F.recipe.json with its "measurements" list (what the
+window saves), a file holding such a list, or the output of
+"spotloom measure --json".
 
 An existing sheet is never replaced without --force.`
 
@@ -45,7 +45,7 @@ func runReport(args []string, stdout, stderr io.Writer) error {
 	var force bool
 	fs.StringVar(&recipePath, "recipe", "", "recipe JSON `file` (required)")
 	fs.StringVar(&outPath, "out", "", "the sheet, a .pdf `file` (required)")
-	fs.StringVar(&measurePath, "measure", "", "measurements to show: JSON `file` from \"spotloom measure --json\"")
+	fs.StringVar(&measurePath, "measure", "", "measurements to show: a sidecar or list `file`, or the JSON of \"spotloom measure --json\"")
 	fs.IntVar(&page, "page", 1, "which frame (stroke) to show when the recipe splits strokes")
 	fs.BoolVar(&force, "force", false, "replace the sheet if it exists")
 	positional, err := parseFlags(fs, args)
@@ -75,9 +75,9 @@ func runReport(args []string, stdout, stderr io.Writer) error {
 	if err := export.CheckFile(outPath, force); err != nil {
 		return forceHint(err)
 	}
-	var req *measure.Request
+	var shapes []measure.Shape
 	if measurePath != "" {
-		if req, err = loadMeasureRequest(measurePath); err != nil {
+		if shapes, err = measure.LoadList(measurePath); err != nil {
 			return err
 		}
 	}
@@ -103,12 +103,11 @@ func runReport(args []string, stdout, stderr io.Writer) error {
 	}
 	f := res.Frames[page-1]
 	sheet := export.Sheet{Frame: f, Source: filepath.Base(positional[0]), Date: time.Now()}
-	if req != nil {
-		m, err := measure.Run(f, *req)
-		if err != nil {
-			return fmt.Errorf("%s: measuring the rebuilt frame: %w", measurePath, err)
+	sheet.Measurements = measure.RunList(f, shapes)
+	for _, m := range sheet.Measurements {
+		if m.Err != nil {
+			return fmt.Errorf("%s: measuring the rebuilt frame: %s: %w", measurePath, m.Shape.Label, m.Err)
 		}
-		sheet.Measured = &m
 	}
 	progress.Report("writing", 0)
 	layout, err := export.WriteSheet(outPath, sheet, force)
@@ -121,30 +120,4 @@ func runReport(args []string, stdout, stderr io.Writer) error {
 		fmt.Fprintf(stderr, "warning: %s\n", w)
 	}
 	return nil
-}
-
-// loadMeasureRequest reads what to measure from the measure command's
-// JSON (its "request"), or from a bare request.
-func loadMeasureRequest(path string) (*measure.Request, error) {
-	data, err := os.ReadFile(path)
-	if err != nil {
-		return nil, err
-	}
-	var wrapped struct {
-		Request *measure.Request `json:"request"`
-	}
-	if err := json.Unmarshal(data, &wrapped); err != nil {
-		return nil, fmt.Errorf("%s: not JSON from \"spotloom measure --json\": %w", path, err)
-	}
-	req := wrapped.Request
-	if req == nil {
-		req = &measure.Request{}
-		if err := json.Unmarshal(data, req); err != nil {
-			return nil, fmt.Errorf("%s: %w", path, err)
-		}
-	}
-	if req.Empty() {
-		return nil, fmt.Errorf("%s: asks for no measurement (no edge, roi, profile, dots or nps)", path)
-	}
-	return req, nil
 }

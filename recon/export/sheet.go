@@ -6,6 +6,7 @@ import (
 	"image/color"
 	"image/png"
 	"math"
+	"slices"
 	"strings"
 	"time"
 
@@ -26,9 +27,10 @@ type Sheet struct {
 	Frame *recon.Frame
 	// Source names the capture (or frame file) the sheet is about.
 	Source string
-	// Measured holds the frame's measurements, drawn on the frame and
-	// plotted; nil for none.
-	Measured *measure.Results
+	// Measurements are the frame's measurements (measure.RunList), drawn
+	// on the frame with their labels and listed with their plots; one
+	// that could not be taken is listed with the reason.
+	Measurements []measure.Taken
 	// Date is printed on the sheet and stamped into the PDF.
 	Date time.Time
 }
@@ -131,9 +133,7 @@ func RenderSheet(s Sheet) ([]byte, SheetLayout, error) {
 	pdf.SetDrawColor(0, 0, 0)
 	pdf.SetLineWidth(0.2)
 	pdf.Rect(layout.FrameXMM, layout.FrameYMM, layout.FrameWMM, layout.FrameHMM, "D")
-	if s.Measured != nil {
-		drawMarks(pdf, tr, f, layout, s.Measured)
-	}
+	drawMarks(pdf, tr, f, layout, s.Measurements)
 	// Scale bar under the frame: a round length, drawn at the print scale.
 	barMM := roundScaleBarMM(widthMM)
 	y := layout.FrameYMM + layout.FrameHMM + 5
@@ -171,8 +171,8 @@ func RenderSheet(s Sheet) ([]byte, SheetLayout, error) {
 	for _, w := range rep.Warnings {
 		text("", 9, 4.5, "- "+w)
 	}
-	if s.Measured != nil {
-		if err := measurementPage(pdf, tr, s.Measured); err != nil {
+	if len(s.Measurements) > 0 {
+		if err := measurementPage(pdf, tr, s.Measurements); err != nil {
 			return nil, layout, err
 		}
 	}
@@ -184,49 +184,76 @@ func RenderSheet(s Sheet) ([]byte, SheetLayout, error) {
 	return out.Bytes(), layout, nil
 }
 
-// Colours of the measurement marks and their plots.
-var markColours = map[string][3]int{
-	"edge": {220, 40, 40}, "roi": {30, 120, 220}, "roi2": {240, 160, 0}, "profile": {20, 160, 60}, "nps": {160, 60, 200},
+// markColours are the print colours of the measurement marks and their
+// plots, by kind: strong enough to read over a grey frame on white paper.
+var markColours = map[measure.Kind][3]int{
+	measure.KindEdge: {220, 40, 40}, measure.KindRegion: {30, 120, 220}, measure.KindNPS: {160, 60, 200},
+	measure.KindProfile: {20, 160, 60}, measure.KindDistance: {200, 110, 0}, measure.KindDots: {90, 90, 90},
 }
 
-// drawMarks outlines each measured rectangle and line on the frame.
-func drawMarks(pdf *fpdf.Fpdf, tr func(string) string, f *recon.Frame, l SheetLayout, m *measure.Results) {
+// drawMarks outlines each measured rectangle and line on the frame with
+// its label.
+func drawMarks(pdf *fpdf.Fpdf, tr func(string) string, f *recon.Frame, l SheetLayout, taken []measure.Taken) {
 	left := f.OriginXMM - f.PitchXMM/2
 	top := f.OriginYMM + f.PitchYMM/2
 	px := func(x float64) float64 { return l.FrameXMM + (x-left)/l.PrintScale }
 	py := func(y float64) float64 { return l.FrameYMM + (top-y)/l.PrintScale }
 	pdf.SetLineWidth(0.4)
 	pdf.SetFont("Helvetica", "B", 7)
-	mark := func(name string, x0, y0, x1, y1 float64, rect bool) {
-		c := markColours[name]
+	for _, t := range taken {
+		s := t.Shape
+		c := markColours[s.Kind]
 		pdf.SetDrawColor(c[0], c[1], c[2])
 		pdf.SetTextColor(c[0], c[1], c[2])
-		if rect {
+		var x0, y0, x1, y1 float64
+		switch {
+		case s.Rect != nil:
+			x0, y0, x1, y1 = s.Rect.X0, s.Rect.Y0, s.Rect.X1, s.Rect.Y1
 			pdf.Rect(math.Min(px(x0), px(x1)), math.Min(py(y0), py(y1)), math.Abs(px(x1)-px(x0)), math.Abs(py(y1)-py(y0)), "D")
-		} else {
+		case s.Line != nil:
+			x0, y0, x1, y1 = s.Line.X0, s.Line.Y0, s.Line.X1, s.Line.Y1
 			pdf.Line(px(x0), py(y0), px(x1), py(y1))
+		default:
+			continue
 		}
-		pdf.Text(math.Min(px(x0), px(x1)), math.Min(py(y0), py(y1))-0.8, tr(name))
-	}
-	q := m.Request
-	for _, r := range []struct {
-		name string
-		r    *measure.Rect
-	}{{"edge", q.Edge}, {"roi", q.ROI}, {"roi2", q.ROI2}, {"nps", q.NPS}} {
-		if r.r != nil {
-			mark(r.name, r.r.X0, r.r.Y0, r.r.X1, r.r.Y1, true)
-		}
-	}
-	if p := q.Profile; p != nil {
-		mark("profile", p.X0, p.Y0, p.X1, p.Y1, false)
+		pdf.Text(math.Min(px(x0), px(x1)), math.Min(py(y0), py(y1))-0.8, tr(s.Label))
 	}
 	pdf.SetDrawColor(0, 0, 0)
 	pdf.SetTextColor(0, 0, 0)
 	pdf.SetLineWidth(0.2)
 }
 
+// kindTitles head each measurement's section on the sheet.
+var kindTitles = map[measure.Kind]string{
+	measure.KindEdge: "Slanted edge", measure.KindRegion: "Region statistics", measure.KindNPS: "Noise power spectrum",
+	measure.KindProfile: "Line profile", measure.KindDistance: "Distance", measure.KindDots: "Dot grid geometry",
+}
+
+// sheetPlots places the measurements' plots on the sheet's pages.
+type sheetPlots struct {
+	pdf  *fpdf.Fpdf
+	next int
+}
+
+func (p *sheetPlots) add(title, xLabel, yLabel string, colour [3]int, logY bool, series ...[][2]float64) error {
+	png, err := PlotPNG(title, xLabel, yLabel, colour, logY, series...)
+	if err != nil {
+		return fmt.Errorf("the %s plot: %w", title, err)
+	}
+	name := fmt.Sprintf("plot%d", p.next)
+	p.next++
+	const w, h = 120.0, 55.0
+	if p.pdf.GetY()+h > sheetPageH-sheetMargin {
+		p.pdf.AddPage()
+	}
+	p.pdf.RegisterImageOptionsReader(name, fpdf.ImageOptions{ImageType: "PNG"}, bytes.NewReader(png))
+	p.pdf.ImageOptions(name, sheetMargin, p.pdf.GetY(), w, h, true, fpdf.ImageOptions{ImageType: "PNG"}, 0, "")
+	p.pdf.Ln(2)
+	return nil
+}
+
 // measurementPage lists every measurement with its plot on a new page.
-func measurementPage(pdf *fpdf.Fpdf, tr func(string) string, m *measure.Results) error {
+func measurementPage(pdf *fpdf.Fpdf, tr func(string) string, taken []measure.Taken) error {
 	pdf.AddPage()
 	text := func(style string, size, h float64, s string) {
 		pdf.SetFont("Helvetica", style, size)
@@ -235,78 +262,83 @@ func measurementPage(pdf *fpdf.Fpdf, tr func(string) string, m *measure.Results)
 	text("B", 13, 7, "Measurements")
 	text("", 8, 4, "Positions in the frame's mm (x across the sweep, y cross-scan). Edge: ISO 12233 e-SFR. Noise power spectrum: IEC 62220-1-1.")
 	pdf.Ln(1)
-	plotIndex := 0
-	addPlot := func(title, xLabel, yLabel string, colour [3]int, logY bool, series ...[][2]float64) error {
-		png, err := PlotPNG(title, xLabel, yLabel, colour, logY, series...)
-		if err != nil {
-			return fmt.Errorf("the %s plot: %w", title, err)
+	plots := &sheetPlots{pdf: pdf}
+	var notes []string
+	for _, t := range taken {
+		text("B", 10, 5, t.Shape.Label+"  "+kindTitles[t.Shape.Kind])
+		if t.Err != nil {
+			text("", 9, 4.5, "Not taken: "+t.Err.Error())
+			pdf.Ln(2)
+			continue
 		}
-		name := fmt.Sprintf("plot%d", plotIndex)
-		plotIndex++
-		const w, h = 120.0, 55.0
-		if pdf.GetY()+h > sheetPageH-sheetMargin {
-			pdf.AddPage()
+		if err := measurementSection(plots, text, t); err != nil {
+			return err
 		}
-		pdf.RegisterImageOptionsReader(name, fpdf.ImageOptions{ImageType: "PNG"}, bytes.NewReader(png))
-		pdf.ImageOptions(name, sheetMargin, pdf.GetY(), w, h, true, fpdf.ImageOptions{ImageType: "PNG"}, 0, "")
-		pdf.Ln(2)
-		return nil
+		for _, n := range t.Results.Notes {
+			if !slices.Contains(notes, n) {
+				notes = append(notes, n)
+			}
+		}
 	}
+	for _, n := range notes {
+		text("", 8, 4, "Note: "+n)
+	}
+	return nil
+}
+
+// measurementSection writes one measurement's numbers and plot.
+func measurementSection(plots *sheetPlots, text func(style string, size, h float64, s string), t measure.Taken) error {
+	m, s := t.Results, t.Shape
 	opt := func(v *float64, format string) string {
 		if v == nil {
 			return "not reached"
 		}
 		return fmt.Sprintf(format, *v)
 	}
-	if e := m.Edge; e != nil {
-		text("B", 10, 5, "Slanted edge")
-		text("", 9, 4.5, fmt.Sprintf("MTF50 %s, MTF10 %s, edge at %.2f° (resolution along %s)", opt(e.MTF50, "%.4g lp/mm"), opt(e.MTF10, "%.4g lp/mm"), e.Angle, e.Across))
-		if err := addPlot("MTF", "line pairs per mm", "MTF", markColours["edge"], false, e.MTF); err != nil {
-			return err
-		}
+	colour := markColours[s.Kind]
+	where := ""
+	switch {
+	case s.Rect != nil:
+		where = fmt.Sprintf("Rectangle %.4g, %.4g to %.4g, %.4g mm. ", s.Rect.X0, s.Rect.Y0, s.Rect.X1, s.Rect.Y1)
+	case s.Line != nil:
+		where = fmt.Sprintf("Line %.4g, %.4g to %.4g, %.4g mm. ", s.Line.X0, s.Line.Y0, s.Line.X1, s.Line.Y1)
 	}
-	if r := m.ROI; r != nil {
-		text("B", 10, 5, "Region statistics")
-		line := fmt.Sprintf("roi: mean %.6g, SD %.4g, SNR %.4g, %d pixels", r.Mean, r.SD, r.SNR, r.Pixels)
-		if r2 := m.ROI2; r2 != nil {
-			line += fmt.Sprintf("\nroi2: mean %.6g, SD %.4g, SNR %.4g, %d pixels\nCNR %s", r2.Mean, r2.SD, r2.SNR, r2.Pixels, opt(m.CNR, "%.4g"))
+	switch s.Kind {
+	case measure.KindEdge:
+		e := m.Edge
+		text("", 9, 4.5, where+fmt.Sprintf("MTF50 %s, MTF10 %s, edge at %.2f° (resolution along %s)", opt(e.MTF50, "%.4g lp/mm"), opt(e.MTF10, "%.4g lp/mm"), e.Angle, e.Across))
+		return plots.add(s.Label+" MTF", "line pairs per mm", "MTF", colour, false, e.MTF)
+	case measure.KindRegion:
+		r := m.ROI
+		line := where + fmt.Sprintf("Mean %.6g, SD %.4g, SNR %.4g, %d pixels", r.Mean, r.SD, r.SNR, r.Pixels)
+		if m.ROI2 != nil {
+			line += fmt.Sprintf("\nCNR against %s: %s", s.CNRWith, opt(m.CNR, "%.4g"))
 		}
 		text("", 9, 4.5, line)
-		pdf.Ln(2)
-	}
-	if len(m.Profile) > 0 {
-		text("B", 10, 5, "Line profile")
+	case measure.KindProfile:
 		band := ""
-		if m.Request.BandMM > 0 {
-			band = fmt.Sprintf(", averaged across %g mm", m.Request.BandMM)
+		if s.BandMM > 0 {
+			band = fmt.Sprintf(", averaged across %g mm", s.BandMM)
 		}
-		text("", 9, 4.5, fmt.Sprintf("Length %s%s", opt(m.DistanceMM, "%.4g mm"), band))
-		if err := addPlot("Profile", "distance (mm)", "value", markColours["profile"], false, m.Profile); err != nil {
-			return err
-		}
-	}
-	if d := m.Dots; d != nil {
-		text("B", 10, 5, "Dot grid geometry")
+		text("", 9, 4.5, where+fmt.Sprintf("Length %s%s", opt(m.DistanceMM, "%.4g mm"), band))
+		return plots.add(s.Label+" profile", "distance (mm)", "value", colour, false, m.Profile)
+	case measure.KindDistance:
+		text("", 9, 4.5, where+fmt.Sprintf("Length %s", opt(m.DistanceMM, "%.4g mm")))
+	case measure.KindDots:
+		d := m.Dots
 		lines := []string{fmt.Sprintf("%d dots, spacing %g mm: scale x %.5f, y %.5f, rotation %.3f°, shear %.3f°, residual RMS %.3g mm, worst %.3g mm at %.1f, %.1f mm",
-			d.Found, m.Request.DotsMM, d.ScaleX, d.ScaleY, d.RotationDeg, d.ShearDeg, d.RMSMM, d.MaxMM, d.WorstMM[0], d.WorstMM[1])}
+			d.Found, s.SpacingMM, d.ScaleX, d.ScaleY, d.RotationDeg, d.ShearDeg, d.RMSMM, d.MaxMM, d.WorstMM[0], d.WorstMM[1])}
 		if d.Correction != nil {
-			for _, s := range d.Correction.Steps {
-				lines = append(lines, "To make it true: "+s)
+			for _, step := range d.Correction.Steps {
+				lines = append(lines, "To make it true: "+step)
 			}
 		}
 		text("", 9, 4.5, strings.Join(lines, "\n"))
-		pdf.Ln(2)
+	case measure.KindNPS:
+		text("", 9, 4.5, where+"Radial average, mm² against line pairs per mm.")
+		return plots.add(s.Label+" NPS", "line pairs per mm", "NPS (mm²)", colour, true, m.NPS)
 	}
-	if len(m.NPS) > 0 {
-		text("B", 10, 5, "Noise power spectrum")
-		text("", 9, 4.5, "Radial average, mm² against line pairs per mm.")
-		if err := addPlot("NPS", "line pairs per mm", "NPS (mm²)", markColours["nps"], true, m.NPS); err != nil {
-			return err
-		}
-	}
-	for _, n := range m.Notes {
-		text("", 8, 4, "Note: "+n)
-	}
+	plots.pdf.Ln(2)
 	return nil
 }
 

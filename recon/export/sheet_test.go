@@ -55,14 +55,16 @@ func TestSheetRendersWithPoppler(t *testing.T) {
 	req := measure.Request{Edge: &measure.Rect{X0: -20, Y0: -30, X1: 20, Y1: 30}, ROI: &measure.Rect{X0: 40, Y0: -20, X1: 80, Y1: 20},
 		ROI2: &measure.Rect{X0: -80, Y0: -20, X1: -40, Y1: 20}, Profile: &measure.Line{X0: -60, Y0: 50, X1: 60, Y1: 50}, BandMM: 3,
 		NPS: &measure.Rect{X0: 30, Y0: -70, X1: 110, Y1: 70}}
-	res, err := measure.Run(f, req)
-	if err != nil {
-		t.Fatal(err)
+	taken := measure.RunList(f, measure.FromRequest(req))
+	for _, m := range taken {
+		if m.Err != nil {
+			t.Fatalf("%s: %v", m.Shape.Label, m.Err)
+		}
 	}
 	dir := t.TempDir()
 	path := filepath.Join(dir, "sheet.pdf")
 	date := time.Date(2026, 3, 4, 5, 6, 0, 0, time.UTC)
-	layout, err := WriteSheet(path, Sheet{Frame: f, Source: "bench-run.wav", Measured: &res, Date: date}, false)
+	layout, err := WriteSheet(path, Sheet{Frame: f, Source: "bench-run.wav", Measurements: taken, Date: date}, false)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -124,7 +126,8 @@ func TestSheetRendersWithPoppler(t *testing.T) {
 	}
 	text := string(out)
 	for _, want := range []string{"Spotloom report sheet", "bench-run.wav", "2026-03-04 05:06", "print scale 1:2", "Capture and rig",
-		"rev/min", "Recipe in short", "a warning worth reading", "MTF50", "CNR", "Noise power spectrum", "Line profile"} {
+		"rev/min", "Recipe in short", "a warning worth reading", "MTF50", "CNR", "Noise power spectrum", "Line profile",
+		"E1", "CNR against R1", "P1"} {
 		if !strings.Contains(text, want) {
 			t.Errorf("the sheet's text lacks %q", want)
 		}

@@ -20,6 +20,7 @@ import (
 	"unicode/utf16"
 
 	"spotloom/recon"
+	"spotloom/recon/measure"
 	"spotloom/recon/recipe"
 )
 
@@ -53,6 +54,11 @@ type Options struct {
 	// them, such as the build report: if any cannot be written, neither
 	// is the image nor its sidecar, and what was there stays.
 	Also []File
+	// Measurements are written into the sidecar as its "measurements"
+	// list, so the frame can be measured again the same way. nil keeps
+	// the list of a sidecar of the same recipe already there; an empty
+	// list writes none.
+	Measurements []measure.Shape
 }
 
 // ErrExists is returned (wrapped, with the path) when the output or its
@@ -124,7 +130,7 @@ func Check(path string, opts Options) error {
 // listed together) or be absent. Callers check it as soon as the recipe is
 // resolved, before the long part of a build.
 func CheckSidecar(path string, r recipe.Recipe, force bool) error {
-	_, err := earlierExports(path, r, force)
+	_, _, err := earlierExports(path, r, force)
 	return err
 }
 
@@ -183,6 +189,9 @@ func resolveOptions(path string, opts Options) (settings, error) {
 		}
 	} else if !(opts.NoData >= 0 && opts.NoData <= 1) {
 		return s, fmt.Errorf("%s: no-data brightness %g is outside 0 (black) … 1 (white)", path, opts.NoData)
+	}
+	if err := measure.CheckList(opts.Measurements); err != nil {
+		return s, fmt.Errorf("%s: the measurements: %w", path, err)
 	}
 	for _, v := range []float64{opts.Tone.Window, opts.Tone.Level, opts.Tone.Gamma} {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
@@ -325,11 +334,19 @@ func write(ctx context.Context, path string, frames []*recon.Frame, opts Options
 	return withLocks(ctx, outputs, func() error {
 		// Under the locks, the sidecar now there decides what the new one
 		// lists.
-		earlier, err := earlierExports(path, frames[0].Recipe, opts.Force)
+		earlier, measured, err := earlierExports(path, frames[0].Recipe, opts.Force)
 		if err != nil {
 			return err
 		}
-		sidecarJSON, err := sidecarBytes(path, pages, s, opts, now, recipeJSON, earlier)
+		if opts.Measurements != nil {
+			measured = nil
+			if len(opts.Measurements) > 0 {
+				if measured, err = json.Marshal(opts.Measurements); err != nil {
+					return err
+				}
+			}
+		}
+		sidecarJSON, err := sidecarBytes(path, pages, s, opts, now, recipeJSON, earlier, measured)
 		if err != nil {
 			return fmt.Errorf("%s: %w", sidecar, err)
 		}
@@ -483,6 +500,10 @@ type sidecarFile struct {
 	// Exports lists every file made from the recipe under this base name,
 	// the one above (File, Export, Pages) last.
 	Exports []sidecarEntry `json:"exports"`
+	// Measurements are the shapes measured on the frame, in its mm
+	// (measure.Shape; measure.ParseList reads them). Kept as written, so
+	// a list edited by hand never makes the sidecar unreadable here.
+	Measurements json.RawMessage `json:"measurements,omitempty"`
 }
 
 // sidecarEntry is one export listed in a sidecar.
@@ -547,24 +568,24 @@ func (e otherRecipeError) Error() string {
 func (e otherRecipeError) Is(target error) bool { return target == ErrExists }
 
 // earlierExports are the exports the sidecar of path lists that the new
-// one keeps: those of the same recipe, but not path itself. A sidecar of
-// another recipe, or a file there that is not a sidecar, is refused unless
-// force, and then replaced.
-func earlierExports(path string, r recipe.Recipe, force bool) ([]sidecarEntry, error) {
+// one keeps: those of the same recipe, but not path itself, and the
+// sidecar's measurements. A sidecar of another recipe, or a file there
+// that is not a sidecar, is refused unless force, and then replaced.
+func earlierExports(path string, r recipe.Recipe, force bool) ([]sidecarEntry, json.RawMessage, error) {
 	sidecar := SidecarPath(path)
 	data, err := os.ReadFile(sidecar)
 	if errors.Is(err, fs.ErrNotExist) {
-		return nil, nil
+		return nil, nil, nil
 	}
 	if err != nil {
-		return nil, fmt.Errorf("%s: %w", sidecar, err)
+		return nil, nil, fmt.Errorf("%s: %w", sidecar, err)
 	}
 	sc, ok := parseSidecar(data)
 	if !ok {
 		if force {
-			return nil, nil
+			return nil, nil, nil
 		}
-		return nil, fmt.Errorf("%s (the sidecar %s would write) %w", sidecar, filepath.Base(path), ErrExists)
+		return nil, nil, fmt.Errorf("%s (the sidecar %s would write) %w", sidecar, filepath.Base(path), ErrExists)
 	}
 	var keep []sidecarEntry
 	var files []string
@@ -576,11 +597,11 @@ func earlierExports(path string, r recipe.Recipe, force bool) ([]sidecarEntry, e
 	}
 	if held, err := recipe.Parse(sc.Recipe); err != nil || !bytes.Equal(held.JSON(), r.JSON()) {
 		if force {
-			return nil, nil
+			return nil, nil, nil
 		}
-		return nil, otherRecipeError{sidecar: sidecar, file: filepath.Base(path), others: files}
+		return nil, nil, otherRecipeError{sidecar: sidecar, file: filepath.Base(path), others: files}
 	}
-	return keep, nil
+	return keep, sc.Measurements, nil
 }
 
 type sidecarExport struct {
@@ -617,7 +638,7 @@ type sidecarTone struct {
 // the recipe out of such a file.
 const SidecarFormat = recipe.SidecarFormat
 
-func sidecarBytes(path string, pages []page, s settings, opts Options, now time.Time, recipeJSON []byte, earlier []sidecarEntry) ([]byte, error) {
+func sidecarBytes(path string, pages []page, s settings, opts Options, now time.Time, recipeJSON []byte, earlier []sidecarEntry, measured json.RawMessage) ([]byte, error) {
 	var noData any = opts.NoData
 	if math.IsNaN(opts.NoData) || math.IsInf(opts.NoData, 0) {
 		noData = strconv.FormatFloat(opts.NoData, 'g', -1, 64)
@@ -627,8 +648,9 @@ func sidecarBytes(path string, pages []page, s settings, opts Options, now time.
 		Written: now.UTC().Format(time.RFC3339),
 		Export: sidecarExport{Depth: s.depth, Raw: s.depth == 32, Compression: s.compression,
 			NoData: noData, Caption: opts.Caption},
-		Recipe: recipeJSON,
-		Report: pages[0].frame.Report,
+		Recipe:       recipeJSON,
+		Report:       pages[0].frame.Report,
+		Measurements: measured,
 	}
 	for _, p := range pages {
 		f := p.frame

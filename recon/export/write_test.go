@@ -8,6 +8,7 @@ import (
 	"image"
 	"image/png"
 	"io"
+	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
@@ -15,6 +16,7 @@ import (
 	"testing"
 
 	"spotloom/recon"
+	"spotloom/recon/measure"
 	"spotloom/recon/recipe"
 )
 
@@ -392,5 +394,50 @@ func TestOutputThatIsAFolder(t *testing.T) {
 		if st, err := os.Stat(folder); err != nil || !st.IsDir() {
 			t.Fatalf("force %v: the folder is gone: %v", force, err)
 		}
+	}
+}
+
+func TestSidecarMeasurements(t *testing.T) {
+	// The shapes given are written as the sidecar's "measurements" and
+	// read back by measure.ParseList (the window's and the report's
+	// reader); a later export of the same recipe that gives none keeps
+	// them, one that gives an empty list drops them, and a list that
+	// cannot be taken is refused before anything is written.
+	dir := t.TempDir()
+	tiffPath, pngPath := filepath.Join(dir, "scan.tiff"), filepath.Join(dir, "scan.png")
+	f := testFrame(120, 80, 0.25)
+	shapes := []measure.Shape{
+		{Kind: measure.KindEdge, Label: "E1", Rect: &measure.Rect{X0: 1, Y0: 2, X1: 11, Y1: 12}},
+		{Kind: measure.KindProfile, Label: "P1", Line: &measure.Line{X0: 0, Y0: 5, X1: 20, Y1: 5}, BandMM: 1.5},
+	}
+	read := func() ([]measure.Shape, error) {
+		return measure.LoadList(SidecarPath(tiffPath))
+	}
+	if err := Write(tiffPath, []*recon.Frame{f}, Options{Raw: true, Measurements: shapes}); err != nil {
+		t.Fatal(err)
+	}
+	got, err := read()
+	if err != nil || !measure.SameList(got, shapes) {
+		t.Fatalf("sidecar measurements %+v (%v), want %+v", got, err, shapes)
+	}
+	if err := Write(pngPath, []*recon.Frame{f}, Options{Depth: 8}); err != nil {
+		t.Fatal(err)
+	}
+	if got, err := read(); err != nil || !measure.SameList(got, shapes) {
+		t.Errorf("after a PNG export with no list: %+v (%v), want the list kept", got, err)
+	}
+	if err := Write(pngPath, []*recon.Frame{f}, Options{Depth: 8, Force: true, Measurements: []measure.Shape{}}); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := read(); !errors.Is(err, measure.ErrNoList) {
+		t.Errorf("after an export with an empty list: %v, want no list", err)
+	}
+	bad := []measure.Shape{{Kind: measure.KindDots}}
+	other := filepath.Join(dir, "other.tiff")
+	if err := Write(other, []*recon.Frame{f}, Options{Raw: true, Measurements: bad}); err == nil || !strings.Contains(err.Error(), "spacing") {
+		t.Errorf("a dot grid without spacing: %v", err)
+	}
+	if _, err := os.Stat(other); !errors.Is(err, fs.ErrNotExist) {
+		t.Errorf("a refused export left %s", other)
 	}
 }
