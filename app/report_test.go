@@ -9,19 +9,34 @@ import (
 	"testing"
 )
 
+// edgeCardFrame simulates the edge card and builds it to a float TIFF
+// (skipping without pdftotext, which the sheet tests read with); it
+// returns the folder, the TIFF and a 40 mm square about the card's left
+// edge (sampledata truth).
+func edgeCardFrame(t *testing.T) (dir, tiffPath string, edge [4]float64) {
+	t.Helper()
+	if _, err := exec.LookPath("pdftotext"); err != nil {
+		t.Skip("pdftotext is not installed (Debian poppler-utils; .ci/run installs it)")
+	}
+	dir = t.TempDir()
+	tiffPath = filepath.Join(dir, "card.tiff")
+	truth := simulatedFrame(t, dir, "edge-card", tiffPath)
+	left := truth.Features[0]
+	return dir, tiffPath, [4]float64{left.XMM - 20, left.YMM - 20, left.XMM + 20, left.YMM + 20}
+}
+
+// fourText writes X0,Y0,X1,Y1 as the measure command takes them.
+func fourText(v [4]float64) string {
+	return strings.Join([]string{fmtG(v[0]), fmtG(v[1]), fmtG(v[2]), fmtG(v[3])}, ",")
+}
+
 func TestReportSheetFromMeasurements(t *testing.T) {
 	// The sheet re-measures the request of "spotloom measure --json" on
 	// the rebuilt frame, so it prints the measure command's numbers; its
 	// text is read back with poppler's pdftotext (independent of the
 	// writer).
-	if _, err := exec.LookPath("pdftotext"); err != nil {
-		t.Skip("pdftotext is not installed (Debian poppler-utils; .ci/run installs it)")
-	}
-	dir := t.TempDir()
-	tiffPath := filepath.Join(dir, "card.tiff")
-	truth := simulatedFrame(t, dir, "edge-card", tiffPath)
-	left := truth.Features[0]
-	rect := strings.Join([]string{fmtG(left.XMM - 20), fmtG(left.YMM - 20), fmtG(left.XMM + 20), fmtG(left.YMM + 20)}, ",")
+	dir, tiffPath, edge := edgeCardFrame(t)
+	rect := fourText(edge)
 	code, stdout, stderr := runCmd("measure", tiffPath, "--edge", rect, "--json")
 	if code != 0 {
 		t.Fatalf("measure: exit %d: %s", code, stderr)
@@ -57,15 +72,9 @@ func TestReportSheetFromAList(t *testing.T) {
 	// a sidecar): the sheet gives each shape its label and the measure
 	// command's numbers for the same rectangle, and the length of a
 	// distance line (here a 3-4-5 triangle of 30, 40 and 50 mm).
-	if _, err := exec.LookPath("pdftotext"); err != nil {
-		t.Skip("pdftotext is not installed (Debian poppler-utils; .ci/run installs it)")
-	}
-	dir := t.TempDir()
-	tiffPath := filepath.Join(dir, "card.tiff")
-	truth := simulatedFrame(t, dir, "edge-card", tiffPath)
-	left := truth.Features[0]
-	x0, y0, x1, y1 := left.XMM-20, left.YMM-20, left.XMM+20, left.YMM+20
-	m := measureJSON(t, tiffPath, "--edge", strings.Join([]string{fmtG(x0), fmtG(y0), fmtG(x1), fmtG(y1)}, ","))
+	dir, tiffPath, edge := edgeCardFrame(t)
+	x0, y0, x1, y1 := edge[0], edge[1], edge[2], edge[3]
+	m := measureJSON(t, tiffPath, "--edge", fourText(edge))
 	list := fmt.Sprintf(`{"measurements": [
 		{"kind": "edge", "label": "E1", "rect": {"x0_mm": %s, "y0_mm": %s, "x1_mm": %s, "y1_mm": %s}},
 		{"kind": "distance", "line": {"x0_mm": 0, "y0_mm": 0, "x1_mm": 30, "y1_mm": 40}}]}`, fmtG(x0), fmtG(y0), fmtG(x1), fmtG(y1))
