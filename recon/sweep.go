@@ -188,25 +188,130 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 	if err != nil {
 		return 0, false, 0, nil, err
 	}
+	negative = orientProfile(prof, spread, perAperture, invert)
 	bins := len(prof)
-	fon := s.FieldDeg / spacing
+	binDeg := spacing / float64(bins)
+	if len(perAperture) > 1 {
+		prof = alignApertures(prof, perAperture, binDeg)
+	}
+	off, on, err := beamLevels(prof, s.FieldDeg/spacing)
+	if err != nil {
+		return 0, false, 0, nil, err
+	}
+	mid := (off + on) / 2
+	bestStart, bestLen, err := beamOnStretch(prof, mid)
+	if err != nil {
+		return 0, false, 0, nil, err
+	}
+	start := fieldStart(prof, mid, bestStart, bins-bestLen, binDeg)
+	end := fieldEnd(prof, mid, bestStart+bestLen, binDeg)
+	aperturesSeen, warns = checkFieldWidth(end-start, s)
+	return math.Mod(start, spacing), negative, aperturesSeen, warns, nil
+}
+
+// orientProfile turns a negative-going folded profile (and the profiles
+// of each aperture) over so that the beam-on stretch is the high one, and
+// reports whether it did; when the spread cannot tell, invert decides.
+func orientProfile(prof, spread []float64, perAperture [][]float64, invert bool) bool {
 	negative, known := beamOnIsLow(prof, spread)
 	if !known {
 		// Nothing in the signal tells: trust signal.invert.
 		negative = invert
 	}
 	if negative {
-		for b := range prof {
-			prof[b] = -prof[b]
+		for _, p := range append([][]float64{prof}, perAperture...) {
+			for b := range p {
+				p[b] = -p[b]
+			}
 		}
 	}
+	return negative
+}
+
+// alignApertures returns the folded profile with each aperture's own
+// profile shifted onto the others. Each aperture's field, and the scene
+// along it, start at their own place (the recipe's offsets shift the
+// lines of the fold, so with the right offsets every aperture starts at
+// the same angle); the pooled profile is then the envelope of them all,
+// whose edge starts with the earliest. Shifting each aperture by its lag
+// against the pooled profile (the least-squares shift over the whole line,
+// which the scene's detail and both field edges all pin down) lines them
+// up at the mean of their starts, so that with the offsets unknown (all
+// zero) the delay is the one that fits all lines best, and with them known
+// the noise of each start averages down. The lags are refined once against
+// the aligned profile. Unlike finding each aperture's own field start, the
+// lag needs no edge that stands out of one aperture's noise (a dim step
+// into the field, or one smeared by an afterglow).
+func alignApertures(prof []float64, perAperture [][]float64, binDeg float64) []float64 {
+	// Aperture errors are rarely more than a degree; look within ±3°.
+	reach := max(2, int(math.Ceil(3/binDeg)))
+	aligned := prof
+	for range 2 {
+		next := make([]float64, len(prof))
+		for _, pk := range perAperture {
+			lag := profileLag(pk, aligned, reach)
+			for b := range next {
+				next[b] += circularAt(pk, float64(b)+lag) / float64(len(perAperture))
+			}
+		}
+		aligned = next
+	}
+	return aligned
+}
+
+// profileLag is the circular shift d (bins, fractional) within ±reach for
+// which p(b+d) best matches ref(b) in the least-squares sense: the best
+// whole bin, refined by the parabola through its neighbours' costs.
+func profileLag(p, ref []float64, reach int) float64 {
+	n := len(p)
+	cost := func(d int) float64 {
+		c := 0.0
+		for b, r := range ref {
+			v := p[((b+d)%n+n)%n] - r
+			c += v * v
+		}
+		return c
+	}
+	best, bestCost := 0, math.Inf(1)
+	costs := make(map[int]float64, 2*reach+1)
+	for d := -reach; d <= reach; d++ {
+		c := cost(d)
+		costs[d] = c
+		if c < bestCost {
+			best, bestCost = d, c
+		}
+	}
+	if best == -reach || best == reach {
+		return float64(best)
+	}
+	cm, c0, cp := costs[best-1], bestCost, costs[best+1]
+	if den := cm - 2*c0 + cp; den > 0 {
+		return float64(best) + 0.5*(cm-cp)/den
+	}
+	return float64(best)
+}
+
+// circularAt interpolates a circular profile linearly at a fractional bin.
+func circularAt(p []float64, b float64) float64 {
+	n := len(p)
+	i := int(math.Floor(b))
+	f := b - float64(i)
+	i0, i1 := (i%n+n)%n, ((i+1)%n+n)%n
+	return p[i0] + f*(p[i1]-p[i0])
+}
+
+// beamLevels returns the beam-off and beam-on levels of a folded profile
+// whose beam is on for fon of the line: quantiles of the profile. It fails
+// when they do not stand far apart from the bin-to-bin noise.
+func beamLevels(prof []float64, fon float64) (off, on float64, err error) {
+	bins := len(prof)
 	sorted := slices.Clone(prof)
 	slices.Sort(sorted)
 	q := func(f float64) float64 {
 		return sorted[min(bins-1, max(0, int(f*float64(bins))))]
 	}
-	off := q(0.5 * (1 - fon))
-	on := q(1 - 0.5*fon)
+	off = q(0.5 * (1 - fon))
+	on = q(1 - 0.5*fon)
 	// The beam-on and beam-off levels must differ by far more than the
 	// bin-to-bin noise of the profile (σ from the median absolute step).
 	steps := make([]float64, bins)
@@ -231,14 +336,19 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 		}
 	}
 	if !(on-off > 10*noise) {
-		return 0, false, 0, nil, fmt.Errorf("the detector shows no beam-on stretch within the lines (its mean level against wheel angle stays within %.2g of %.3g): check channels.detector, or set sweep.delay_deg by hand", on-off, off)
+		return 0, 0, fmt.Errorf("the detector shows no beam-on stretch within the lines (its mean level against wheel angle stays within %.2g of %.3g): check channels.detector, or set sweep.delay_deg by hand", on-off, off)
 	}
-	mid := (off + on) / 2
-	// The beam-off stretch is the longest circular run below mid; the
-	// beam-on stretch is the rest of the line. Taking the complement
-	// rather than the longest run above mid keeps dark parts of the scene
-	// inside the field (the holes of a dot grid that sit at the same place
-	// on every line) from cutting the field short.
+	return off, on, nil
+}
+
+// beamOnStretch finds the beam-on stretch of a folded profile: its first
+// bin and its length. The beam-off stretch is the longest circular run
+// below mid; the beam-on stretch is the rest of the line. Taking the
+// complement rather than the longest run above mid keeps dark parts of the
+// scene inside the field (the holes of a dot grid that sit at the same
+// place on every line) from cutting the field short.
+func beamOnStretch(prof []float64, mid float64) (start, length int, err error) {
+	bins := len(prof)
 	offStart, offRun, runStart, runLen := -1, 0, -1, 0
 	for i := 0; i < 2*bins; i++ {
 		if prof[i%bins] <= mid {
@@ -253,69 +363,40 @@ func estimateDelay(ctx context.Context, t *timingResult, det []float32, s recipe
 			runLen = 0
 		}
 	}
-	bestStart, bestLen := -1, 0
-	if offStart >= 0 && offRun < bins {
-		bestStart, bestLen = (offStart+offRun)%bins, bins-offRun
+	if offStart < 0 || offRun >= bins {
+		return 0, 0, fmt.Errorf("the detector shows no beam-off stretch within the lines: set sweep.delay_deg by hand, or check sweep.apertures")
 	}
-	if bestStart < 0 || bestLen >= bins {
-		return 0, false, 0, nil, fmt.Errorf("the detector shows no beam-off stretch within the lines: set sweep.delay_deg by hand, or check sweep.apertures")
-	}
-	binDeg := spacing / float64(bins)
-	offLen := bins - bestLen
-	start := fieldStart(prof, mid, bestStart, offLen, binDeg)
-	// Each aperture's field starts at its own place (the recipe's offsets
-	// shift the lines of the fold, so with the right offsets every
-	// aperture starts at the same angle). The edge of the pooled profile
-	// is the envelope of them all and starts with the earliest; the
-	// delay is the mean of the apertures' own starts instead, so that
-	// with the offsets unknown (all zero) it is the delay that fits all
-	// lines best, and with them known the noise of each start averages
-	// down.
-	if len(perAperture) > 1 {
-		shift, used := 0.0, 0
-		for _, pk := range perAperture {
-			if negative {
-				for b := range pk {
-					pk[b] = -pk[b]
-				}
-			}
-			sk, ok := fieldStartNear(pk, mid, bestStart, offLen, binDeg)
-			if !ok {
-				continue
-			}
-			d := math.Remainder(sk-start, spacing)
-			shift += d
-			used++
-		}
-		if used == len(perAperture) {
-			start += shift / float64(used)
-		}
-	}
-	endBin := bestStart + bestLen
-	// Falling crossing: from bin endBin-1 (above) to endBin (below).
+	return (offStart + offRun) % bins, bins - offRun, nil
+}
+
+// fieldEnd is where the beam leaves the field, in degrees: the falling
+// crossing of mid from bin endBin-1 (above) to endBin (below).
+func fieldEnd(prof []float64, mid float64, endBin int, binDeg float64) float64 {
+	bins := len(prof)
 	a, b := prof[(endBin-1)%bins], prof[endBin%bins]
 	f := 0.5
 	if a != b {
 		f = (a - mid) / (a - b)
 	}
-	end := (float64(endBin-1) + 0.5 + f) * binDeg
-	width := end - start
-	delay = math.Mod(start, spacing)
-	if math.Abs(width-s.FieldDeg) > 0.2*s.FieldDeg {
-		// The beam is on for field/spacing of each line whatever the
-		// recipe says; if field_deg is right, that fraction gives the
-		// wheel's real aperture count.
-		guess := int(math.Round(360 * (width / spacing) / s.FieldDeg))
-		if guess >= 1 && guess != s.Apertures {
-			aperturesSeen = guess
-		}
-		hint := ""
-		if guess >= 1 && guess != s.Apertures {
-			hint = fmt.Sprintf(" (if field_deg is right, the wheel has %d apertures)", guess)
-		}
-		warns = append(warns, fmt.Sprintf("the detector's beam-on stretch lasts %.1f° of wheel rotation but sweep.field_deg is %g°: check field_deg and apertures%s, or set sweep.delay_deg by hand", width, s.FieldDeg, hint))
+	return (float64(endBin-1) + 0.5 + f) * binDeg
+}
+
+// checkFieldWidth compares the width of the beam-on stretch with
+// sweep.field_deg. The beam is on for field/spacing of each line whatever
+// the recipe says; if field_deg is right, that fraction gives the wheel's
+// real aperture count, returned when it differs from the recipe's (else
+// 0) along with a warning.
+func checkFieldWidth(width float64, s recipe.Sweep) (int, []string) {
+	if math.Abs(width-s.FieldDeg) <= 0.2*s.FieldDeg {
+		return 0, nil
 	}
-	return delay, negative, aperturesSeen, warns, nil
+	guess := int(math.Round(360 * (width / apertureSpacingDeg(s)) / s.FieldDeg))
+	seen, hint := 0, ""
+	if guess >= 1 && guess != s.Apertures {
+		seen = guess
+		hint = fmt.Sprintf(" (if field_deg is right, the wheel has %d apertures)", guess)
+	}
+	return seen, []string{fmt.Sprintf("the detector's beam-on stretch lasts %.1f° of wheel rotation but sweep.field_deg is %g°: check field_deg and apertures%s, or set sweep.delay_deg by hand", width, s.FieldDeg, hint)}
 }
 
 // fieldStart finds where the beam enters the field in a folded profile
@@ -358,12 +439,19 @@ func fieldStart(prof []float64, mid float64, bestStart, offLen int, binDeg float
 	if edge < 0 {
 		return start
 	}
-	// The beam switches on within a bin or two (the detector's response);
-	// a slower rise after it is the scene's own edge, blurred by the spot,
-	// and is not part of the step.
+	// The beam switches on within a few bins (the detector's response,
+	// and what is left of the apertures' spread): a single rise, growing
+	// and then shrinking by no more than half a bin at a time. A slower
+	// rise after it is the scene's own edge, blurred by the spot, and is
+	// not part of the step.
 	riseEnd := edge + 1
-	if at(edge+2)-at(edge+1) > 0.5*(at(edge+1)-at(edge)) {
-		riseEnd = edge + 2
+	for k, falling := edge+1, false; k < edge+maxRiseBins; k++ {
+		prev, step := at(k)-at(k-1), at(k+1)-at(k)
+		if step > prev && falling || step <= 0.5*prev || step <= limit {
+			break
+		}
+		falling = falling || step < prev
+		riseEnd = k + 1
 	}
 	before := median([]float64{at(edge), at(edge - 1), at(edge - 2)})
 	after := at(riseEnd)
@@ -377,34 +465,10 @@ func fieldStart(prof []float64, mid float64, bestStart, offLen int, binDeg float
 	return start
 }
 
-// fieldStartNear is fieldStart on the profile of one aperture, whose
-// beam-on stretch begins within a few degrees of the pooled profile's
-// (bin near): it finds that aperture's own first bin above mid first. It
-// reports false when the profile does not cross mid near there.
-func fieldStartNear(prof []float64, mid float64, near, offLen int, binDeg float64) (float64, bool) {
-	bins := len(prof)
-	at := func(b int) float64 { return prof[((b%bins)+bins)%bins] }
-	// Aperture errors are rarely more than a degree; look within ±3°.
-	reach := max(2, int(math.Ceil(3/binDeg)))
-	best, bestDist := -1, reach+1
-	for d := -reach; d <= reach; d++ {
-		b := near + d
-		if at(b-1) <= mid && at(b) > mid && abs(d) < bestDist {
-			best, bestDist = b, abs(d)
-		}
-	}
-	if best < 0 {
-		return 0, false
-	}
-	return fieldStart(prof, mid, best, offLen, binDeg), true
-}
-
-func abs(v int) int {
-	if v < 0 {
-		return -v
-	}
-	return v
-}
+// maxRiseBins is the most bins a step into the field takes in the folded
+// profile: at 96 kHz and 0.05° bins, 12 bins are 250 µs, far longer than
+// a fast detector's response, far shorter than a spot-blurred edge.
+const maxRiseBins = 12
 
 // estimateSineDelay finds the phase delay of a resonant mirror by making
 // the forward and backward lines agree: with the wrong delay they shift in
