@@ -274,29 +274,62 @@ func byteText(b float64) string {
 // small gaps.
 func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, error) {
 	var st gridStats
+	g, err := layoutFrame(in)
+	if err != nil {
+		return nil, st, nil, err
+	}
+	in.yTop = g.yTop
+	accs, clipped, ties, err := accumulateLines(ctx, in, g)
+	defer func() {
+		for _, a := range accs {
+			putAccumulator(a)
+		}
+	}()
+	if err != nil {
+		return nil, st, nil, err
+	}
+	f := frameFromSums(g, in.pitch, accs)
+	// Down a column, rows between two lines at most maxGapMM apart are
+	// interpolated between them: covered pixel centres N+1 pitches apart
+	// hold N empty rows.
+	down := max(in.fill, int(math.Floor(in.maxGapMM/in.pitch+1e-9))-1)
+	fillGaps(f, down, in.fill)
+	st.covered, st.gapRows = coverCounts(f)
+	st.clippedLines = clippedLines(in.lines, clipped, ties)
+	return f, st, clipped, nil
+}
+
+// layoutFrame sizes the frame's grid and places it: it covers the x
+// extent centred on it, so a reversed sweep gives the exact mirror image,
+// and the y extent on the row lattice. The size is checked in floating
+// point before any conversion, so an absurd extent cannot wrap round to a
+// negative or small int.
+func layoutFrame(in gridInput) (*frameGrid, error) {
 	p := in.pitch
-	// The grid covers the x extent centred on it, so a reversed sweep
-	// gives the exact mirror image, and the y extent on the row lattice.
-	// The size is checked in floating point before any conversion, so an
-	// absurd extent cannot wrap round to a negative or small int.
 	colsF, rowsF := frameSize(in.sweep, in.yTop, in.yBottom, p)
 	if !(colsF*rowsF <= maxPixels) {
-		return nil, st, nil, fmt.Errorf("the frame would be %.3g × %.3g pixels (%.4g mm × %.4g mm at image.pitch_mm %g), more than %d pixels: raise pitch_mm or check the sweep and rows keys",
+		return nil, fmt.Errorf("the frame would be %.3g × %.3g pixels (%.4g mm × %.4g mm at image.pitch_mm %g), more than %d pixels: raise pitch_mm or check the sweep and rows keys",
 			colsF, rowsF, in.sweep.xMax-in.sweep.xMin, in.yTop-in.yBottom, p, maxPixels)
 	}
 	cols, rows := int(colsF), int(rowsF)
 	x0 := (in.sweep.xMin+in.sweep.xMax)/2 - float64(cols-1)/2*p
 	top, _ := rowLattice(in.yTop, in.yBottom, p)
-	in.yTop = top * p
-	npx := cols * rows
+	return newFrameGrid(in.sweep, cols, rows, x0, top*p, p), nil
+}
+
+// accumulateLines splats the lines into one accumulator per worker (each
+// worker takes a fixed share of the lines in order, so the sums do not
+// depend on scheduling) and returns the accumulators, and for each line
+// whether it clipped and how many of its samples repeated the one before.
+// The accumulators come from a pool: give them back with putAccumulator.
+func accumulateLines(ctx context.Context, in gridInput, g *frameGrid) (accs [][]float64, clipped []bool, ties []int, err error) {
 	w := min(workers(), max(1, len(in.lines)/64))
-	if npx > maxSplitPixels {
+	if g.cols*g.rows > maxSplitPixels {
 		w = 1
 	}
-	sums := make([][]float64, w)
-	weights := make([][]float64, w)
-	clipped := make([]bool, len(in.lines))
-	ties := make([]int, len(in.lines))
+	accs = make([][]float64, w)
+	clipped = make([]bool, len(in.lines))
+	ties = make([]int, len(in.lines))
 	var wg sync.WaitGroup
 	var progMu sync.Mutex
 	done := 0
@@ -311,12 +344,13 @@ func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, er
 	}
 	chunk := (len(in.lines) + w - 1) / w
 	for k := 0; k < w; k++ {
-		sums[k] = make([]float64, npx)
-		weights[k] = make([]float64, npx)
 		a, b := k*chunk, min((k+1)*chunk, len(in.lines))
 		wg.Add(1)
-		go func(sum, wt []float64, a, b int) {
+		go func(k, a, b int) {
 			defer wg.Done()
+			// Each worker clears its own accumulator, in parallel.
+			acc := getAccumulator(2 * g.cols * g.rows)
+			accs[k] = acc
 			for i := a; i < b; i++ {
 				if (i-a)%64 == 0 {
 					if ctx.Err() != nil {
@@ -326,73 +360,102 @@ func gridFrame(ctx context.Context, in gridInput) (*Frame, gridStats, []bool, er
 						report(64)
 					}
 				}
-				var t int
-				clipped[i], t = splatLine(in, &in.lines[i], sum, wt, cols, rows, x0)
-				ties[i] = t
+				clipped[i], ties[i] = splatLine(&in, g, &in.lines[i], acc)
 			}
-		}(sums[k], weights[k], a, b)
+		}(k, a, b)
 	}
 	wg.Wait()
-	if err := ctx.Err(); err != nil {
-		return nil, st, nil, err
+	return accs, clipped, ties, ctx.Err()
+}
+
+// accPool keeps accumulators between builds, so a re-grid (a delay or
+// pitch moved in the window) does not allocate and collect megabytes each
+// time.
+var accPool sync.Pool
+
+// getAccumulator returns a zeroed accumulator of n values.
+func getAccumulator(n int) []float64 {
+	if p, ok := accPool.Get().(*[]float64); ok && cap(*p) >= n {
+		a := (*p)[:n]
+		clear(a)
+		return a
 	}
-	sum, wt := sums[0], weights[0]
-	for k := 1; k < w; k++ {
-		for i := range sum {
-			sum[i] += sums[k][i]
-			wt[i] += weights[k][i]
-		}
+	return make([]float64, n)
+}
+
+// putAccumulator gives an accumulator back to the pool (nil is ignored).
+func putAccumulator(a []float64) {
+	if a != nil {
+		accPool.Put(&a)
 	}
+}
+
+// frameFromSums adds up the workers' accumulators and makes the frame:
+// each pixel with enough weight gets the weighted mean of its samples.
+func frameFromSums(g *frameGrid, p float64, accs [][]float64) *Frame {
+	npx := g.cols * g.rows
 	f := &Frame{
-		Width: cols, Height: rows,
+		Width: g.cols, Height: g.rows,
 		Pix:      make([]float32, npx),
 		Covered:  make([]bool, npx),
 		PitchXMM: p, PitchYMM: p,
-		OriginXMM: x0, OriginYMM: in.yTop,
+		OriginXMM: g.x0, OriginYMM: g.yTop,
 	}
-	for i := range sum {
-		if wt[i] >= minCoverWeight {
-			f.Pix[i] = float32(sum[i] / wt[i])
+	first, rest := accs[0], accs[1:]
+	for i := range f.Pix {
+		sum, wt := first[2*i], first[2*i+1]
+		for _, a := range rest {
+			sum += a[2*i]
+			wt += a[2*i+1]
+		}
+		if wt >= minCoverWeight {
+			f.Pix[i] = float32(sum / wt)
 			f.Covered[i] = true
 		}
 	}
-	// Down a column, rows between two lines at most maxGapMM apart are
-	// interpolated between them: covered pixel centres N+1 pitches apart
-	// hold N empty rows.
-	down := max(in.fill, int(math.Floor(in.maxGapMM/p+1e-9))-1)
-	fillGaps(f, down, in.fill)
-	// Rows with gaps: inside the covered span of rows, under half the
-	// columns that a typical row covers.
-	perRow := make([]int, rows)
-	for r := 0; r < rows; r++ {
-		for c := 0; c < cols; c++ {
-			if f.Covered[r*cols+c] {
+	return f
+}
+
+// coverCounts returns the covered pixels of the frame and its rows with
+// gaps: under half the columns that a typical row covers.
+func coverCounts(f *Frame) (covered, gapRows int) {
+	perRow := make([]int, f.Height)
+	for r := range perRow {
+		for _, c := range f.Covered[r*f.Width : (r+1)*f.Width] {
+			if c {
 				perRow[r]++
-				st.covered++
 			}
 		}
+		covered += perRow[r]
 	}
 	typical := medianInts(perRow)
-	for r := 0; r < rows; r++ {
-		if float64(perRow[r]) < 0.5*float64(typical) {
-			st.gapRows++
+	for _, n := range perRow {
+		if float64(n) < 0.5*float64(typical) {
+			gapRows++
 		}
 	}
-	// Clipping is only told apart from a clean flat signal when the
-	// detector is noisy: under 20 % of neighbouring samples equal.
+	return covered, gapRows
+}
+
+// clippedLines counts the lines that clipped. Clipping is only told apart
+// from a clean flat signal when the detector is noisy: under 20 % of
+// neighbouring samples equal; otherwise no line counts.
+func clippedLines(lines []placedLine, clipped []bool, ties []int) int {
 	tieCount, samples := 0, 0
-	for i, l := range in.lines {
+	for i, l := range lines {
 		tieCount += ties[i]
 		samples += l.last - l.first
 	}
-	if float64(tieCount) < 0.2*float64(samples) {
-		for _, c := range clipped {
-			if c {
-				st.clippedLines++
-			}
+	if float64(tieCount) >= 0.2*float64(samples) {
+		return 0
+	}
+	n := 0
+	for _, c := range clipped {
+		if c {
+			n++
 		}
 	}
-	return f, st, clipped, nil
+	return n
 }
 
 func medianInts(v []int) int {
@@ -404,168 +467,257 @@ func medianInts(v []int) int {
 	return s[len(s)/2]
 }
 
-// splatLine adds one line's samples to sum/wt and reports whether the
-// detector sat at its extreme for three samples in a row (clipping), and
-// how many samples away from the extremes repeated the one before (a
-// noise-free or coarsely quantised signal repeats often, and then a flat
-// top says nothing about clipping).
-func splatLine(in gridInput, l *placedLine, sum, wt []float64, cols, rows int, x0 float64) (bool, int) {
-	inv := 1 / in.pitch
+// frameGrid is the pixel grid of one frame and what putting a sample on
+// it needs, worked out once per frame so that each sample costs a table
+// look-up and a few multiplications. Grid coordinates count pixels: column
+// (x − x0)/pitch and row (yTop − y)/pitch, pixel centres at whole numbers.
+type frameGrid struct {
+	cols, rows int
+	x0, yTop   float64 // x of column 0 and y of row 0, mm
+	inv        float64 // 1 / pitch
+	sweep      *sweepMap
+	// col holds, for entry i of the sweep's table, the column of its x at
+	// col[2i] and the step to the next entry's column at col[2i+1].
+	col []float64
+	// insideX is true when every x of the kept sweep lies at least a
+	// pixel inside the grid's columns.
+	insideX bool
+}
+
+func newFrameGrid(m *sweepMap, cols, rows int, x0, yTop, pitch float64) *frameGrid {
+	g := &frameGrid{cols: cols, rows: rows, x0: x0, yTop: yTop, inv: 1 / pitch, sweep: m}
+	g.insideX = (m.xMin-x0)*g.inv >= 0 && (m.xMax-x0)*g.inv < float64(cols-1)
+	if len(m.lut) == lutSize {
+		g.col = make([]float64, 2*lutSize)
+		for i, x := range m.lut {
+			g.col[2*i] = (x - x0) * g.inv
+		}
+		for i := 0; i+1 < lutSize; i++ {
+			g.col[2*i+1] = g.col[2*i+2] - g.col[2*i]
+		}
+	}
+	return g
+}
+
+// colAt is the column of table position pu (the sweep's x, interpolated
+// in its table and clamped to it, as sweepMap.x does).
+func (g *frameGrid) colAt(pu float64) float64 {
+	if pu <= 0 {
+		return g.col[0]
+	}
+	iu := int(pu)
+	if iu >= lutSize-1 {
+		return g.col[2*(lutSize-1)]
+	}
+	return g.col[2*iu] + (pu-float64(iu))*g.col[2*iu+1]
+}
+
+// lineOnGrid maps sample k of a line (counted from its first sample) onto
+// the grid: table position pu0 + dpu·k, row v0 + dv·k (the cross-scan
+// position taken as linear over the line), and the baseline base0 +
+// slope·k.
+type lineOnGrid struct {
+	pu0, dpu     float64
+	v0, dv       float64
+	base0, slope float64
+}
+
+func (g *frameGrid) line(rows *rowsResult, l *placedLine) lineOnGrid {
 	first, last := l.first, l.last
-	y0 := in.rows.at(float64(first))
-	y1 := in.rows.at(float64(last - 1))
+	y0 := rows.at(float64(first))
+	y1 := rows.at(float64(last - 1))
 	span := float64(max(last-1-first, 1))
-	v0 := (in.yTop - y0) * inv
-	dv := -(y1 - y0) / span * inv
+	m := g.sweep
+	return lineOnGrid{
+		pu0: (l.u0 - m.uMin) * m.scale, dpu: l.du * m.scale,
+		v0: (g.yTop - y0) * g.inv, dv: -(y1 - y0) / span * g.inv,
+		base0: l.base0, slope: l.baseSlope,
+	}
+}
+
+// splatLine adds one line's samples to the accumulator acc (value sum and
+// weight of each pixel, interleaved) and reports whether the detector sat
+// at its extreme for three samples in a row (clipping), and how many
+// samples away from the extremes repeated the one before (a noise-free or
+// coarsely quantised signal repeats often, and then a flat top says
+// nothing about clipping). It touches only acc, so lines can be splatted
+// one at a time as they arrive.
+func splatLine(in *gridInput, g *frameGrid, l *placedLine, acc []float64) (clipped bool, ties int) {
+	det := in.det[l.first:l.last]
+	clipTest := det
+	if in.recorded != nil {
+		clipTest = in.recorded[l.first:l.last]
+	}
+	clipped, ties = clipScan(clipTest, det, in.clipHi, in.clipLo)
+	lg := g.line(in.rows, l)
 	sign := 1.0
 	if in.invert {
 		sign = -1
 	}
-	m := in.sweep
-	run, clipped := 0, false
-	det := in.det[first:last]
-	lut := m.lut
-	uScale := m.scale
-	uOff := (l.u0 - m.uMin) * uScale
-	duS := l.du * uScale
+	// Samples inside the detector's rise [0, a) and fall [b, n) are
+	// corrected by its step response one by one; the rest go in a run.
+	n := len(det)
+	a, b := 0, n
+	if in.edge != nil {
+		a = min(in.edge.rise, n)
+		b = max(n-in.edge.fall, a)
+		lead := float64(l.first) - l.start
+		for _, r := range [2][2]int{{0, a}, {b, n}} {
+			for k := r[0]; k < r[1]; k++ {
+				fk := float64(k)
+				gain := 1.0
+				if k < in.edge.rise {
+					gain = in.edge.startGain(lead + fk)
+				}
+				if k >= n-in.edge.fall {
+					gain *= in.edge.endGain(lead + fk - (l.end - l.start))
+				}
+				if gain < minEdgeResponse {
+					continue // shows too little of the scene
+				}
+				value := sign * (float64(det[k]) - (lg.base0 + lg.slope*fk)) / gain
+				g.splatPoint(acc, g.colAt(lg.pu0+lg.dpu*fk), lg.v0+lg.dv*fk, value)
+			}
+		}
+	}
 	// Lines whose every sample lands at least one pixel inside the grid
 	// take the fast path without bounds checks (most lines do).
-	vEnd := v0 + dv*float64(len(det))
-	fast := math.Min(v0, vEnd) >= 0 && math.Max(v0, vEnd) < float64(rows-1) &&
-		(m.xMin-x0)*inv >= 0 && (m.xMax-x0)*inv < float64(cols-1)
-	curCell := -1
-	var a00, a10, a01, a11, b00, b10, b01, b11 float64
-	flush := func() {
-		if curCell < 0 {
-			return
-		}
-		s := sum[curCell : curCell+cols+2]
-		w := wt[curCell : curCell+cols+2]
-		s[0] += a00
-		s[1] += a10
-		s[cols] += a01
-		s[cols+1] += a11
-		w[0] += b00
-		w[1] += b10
-		w[cols] += b01
-		w[cols+1] += b11
-		a00, a10, a01, a11, b00, b10, b01, b11 = 0, 0, 0, 0, 0, 0, 0, 0
+	vEnd := lg.v0 + lg.dv*float64(n)
+	if g.insideX && math.Min(lg.v0, vEnd) >= 0 && math.Max(lg.v0, vEnd) < float64(g.rows-1) {
+		g.splatRun(acc, det[:b], a, lg, sign)
+		return clipped, ties
 	}
-	riseSamples, fallFrom, lead := 0, last-first, 0.0
-	if in.edge != nil {
-		riseSamples, fallFrom, lead = in.edge.rise, last-first-in.edge.fall, float64(first)-l.start
+	for k := a; k < b; k++ {
+		fk := float64(k)
+		value := sign * (float64(det[k]) - (lg.base0 + lg.slope*fk))
+		g.splatPoint(acc, g.colAt(lg.pu0+lg.dpu*fk), lg.v0+lg.dv*fk, value)
 	}
-	ties := 0
+	return clipped, ties
+}
+
+// clipScan reports whether test sits at or beyond hi or lo for three
+// samples in a row, and counts the samples of det, away from those
+// extremes, that equal the sample before.
+func clipScan(test, det []float32, hi, lo float32) (clipped bool, ties int) {
+	det = det[:len(test)]
+	run := 0
 	prev := float32(math.NaN())
-	clipTest := det
-	if in.recorded != nil {
-		clipTest = in.recorded[first:last]
-	}
-	for k, raw := range det {
-		if c := clipTest[k]; c >= in.clipHi || c <= in.clipLo {
+	for k, c := range test {
+		raw := det[k]
+		if c >= hi || c <= lo {
 			run++
-			if run >= 3 {
-				clipped = true
-			}
+			clipped = clipped || run >= 3
 		} else {
 			run = 0
-			if raw == prev {
-				ties++
-			}
+			ties += b2i(raw == prev) // no branch: ties come at random
 		}
 		prev = raw
-		fk := float64(k)
-		value := sign * (float64(raw) - (l.base0 + l.baseSlope*fk))
-		if k < riseSamples || k >= fallFrom {
-			// Inside the detector's rise or fall: correct by its step
-			// response, or leave out a sample that shows too little.
-			g := 1.0
-			if k < riseSamples {
-				g = in.edge.startGain(lead + fk)
-			}
-			if k >= fallFrom {
-				g *= in.edge.endGain(lead + fk - (l.end - l.start))
-			}
-			if g < minEdgeResponse {
-				continue
-			}
-			value /= g
-		}
-		// x from the law table (sweepMap.x, inlined).
-		pu := uOff + duS*fk
-		var x float64
-		if pu <= 0 {
-			x = lut[0]
-		} else if iu := int(pu); iu >= lutSize-1 {
-			x = lut[lutSize-1]
-		} else {
-			fu := pu - float64(iu)
-			x = lut[iu] + fu*(lut[iu+1]-lut[iu])
-		}
-		cu := (x - x0) * inv
-		cv := v0 + dv*fk
-		if fast {
-			i, j := int(cu), int(cv)
-			fx, fy := cu-float64(i), cv-float64(j)
-			cell := j*cols + i
-			if cell != curCell {
-				flush()
-				curCell = cell
-			}
-			// Consecutive samples mostly fall in the same cell (a few
-			// samples per pixel along the sweep): sum there in registers.
-			w00 := (1 - fx) * (1 - fy)
-			w10 := fx * (1 - fy)
-			w01 := (1 - fx) * fy
-			w11 := fx * fy
-			a00 += w00 * value
-			a10 += w10 * value
-			a01 += w01 * value
-			a11 += w11 * value
-			b00 += w00
-			b10 += w10
-			b01 += w01
-			b11 += w11
-			continue
-		}
-		if cu <= -1 || cv <= -1 {
-			continue
-		}
-		i := int(math.Floor(cu))
-		j := int(math.Floor(cv))
-		if i >= cols || j >= rows {
-			continue
-		}
-		fx := cu - float64(i)
-		fy := cv - float64(j)
-		w00 := (1 - fx) * (1 - fy)
-		w10 := fx * (1 - fy)
-		w01 := (1 - fx) * fy
-		w11 := fx * fy
-		base := j*cols + i
-		if j >= 0 {
-			if i >= 0 {
-				sum[base] += w00 * value
-				wt[base] += w00
-			}
-			if i+1 < cols {
-				sum[base+1] += w10 * value
-				wt[base+1] += w10
-			}
-		}
-		if j+1 < rows {
-			if i >= 0 {
-				sum[base+cols] += w01 * value
-				wt[base+cols] += w01
-			}
-			if i+1 < cols {
-				sum[base+cols+1] += w11 * value
-				wt[base+cols+1] += w11
-			}
+	}
+	return clipped, ties
+}
+
+// b2i is 1 for true and 0 for false.
+func b2i(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
+}
+
+// splatPoint adds one sample at grid position (cu, cv) to the four pixels
+// round it, leaving out those outside the grid.
+func (g *frameGrid) splatPoint(acc []float64, cu, cv, value float64) {
+	if cu <= -1 || cv <= -1 {
+		return
+	}
+	i := int(math.Floor(cu))
+	j := int(math.Floor(cv))
+	cols, rows := g.cols, g.rows
+	if i >= cols || j >= rows {
+		return
+	}
+	fx := cu - float64(i)
+	fy := cv - float64(j)
+	add := func(i, j int, w float64) {
+		if i >= 0 && j >= 0 && i < cols && j < rows {
+			p := 2 * (j*cols + i)
+			acc[p] += w * value
+			acc[p+1] += w
 		}
 	}
-	flush()
-	return clipped, ties
+	add(i, j, (1-fx)*(1-fy))
+	add(i+1, j, fx*(1-fy))
+	add(i, j+1, (1-fx)*fy)
+	add(i+1, j+1, fx*fy)
+}
+
+// splatRun adds samples k0… of det (a line whose samples all land at
+// least a pixel inside the grid) to the accumulator. Consecutive samples
+// mostly fall in the same cell (a few samples per pixel along the sweep),
+// so the run keeps the moments of the samples in the current cell in
+// registers and hands them to the cell's four pixels when it moves on: a
+// pixel's bilinear weight is a polynomial in the sample's offset (fx, fy)
+// in the cell, so sums of 1, fx, fy and fx·fy, and of the value times each,
+// give the four pixels' sums. The polarity is applied to the sums.
+func (g *frameGrid) splatRun(acc []float64, det []float32, k0 int, lg lineOnGrid, sign float64) {
+	col, cols := g.col, g.cols
+	const top = 2 * (lutSize - 1)
+	cur := -1
+	var n, sx, sy, sxy, v, vx, vy, vxy float64
+	for k := k0; k < len(det); k++ {
+		fk := float64(k)
+		value := float64(det[k]) - (lg.base0 + lg.slope*fk)
+		// The column from the table (frameGrid.colAt, inlined).
+		pu := lg.pu0 + lg.dpu*fk
+		var cu float64
+		if pu <= 0 {
+			cu = col[0]
+		} else if iu := int(pu); iu >= lutSize-1 {
+			cu = col[top]
+		} else {
+			cu = col[2*iu] + (pu-float64(iu))*col[2*iu+1]
+		}
+		cv := lg.v0 + lg.dv*fk
+		i, j := int(cu), int(cv)
+		fx, fy := cu-float64(i), cv-float64(j)
+		if cell := j*cols + i; cell != cur {
+			addCell(acc, cur, cols, sign, n, sx, sy, sxy, v, vx, vy, vxy)
+			cur = cell
+			n, sx, sy, sxy, v, vx, vy, vxy = 0, 0, 0, 0, 0, 0, 0, 0
+		}
+		fxy := fx * fy
+		n++
+		sx += fx
+		sy += fy
+		sxy += fxy
+		v += value
+		vx += value * fx
+		vy += value * fy
+		vxy += value * fxy
+	}
+	addCell(acc, cur, cols, sign, n, sx, sy, sxy, v, vx, vy, vxy)
+}
+
+// addCell adds the moments of the samples in cell (n samples; sums of fx,
+// fy, fx·fy; sums of the value and of the value times fx, fy and fx·fy) to
+// the cell's four pixels with the bilinear weights (1−fx)(1−fy),
+// fx(1−fy), (1−fx)fy and fx·fy. A negative cell is no cell.
+func addCell(acc []float64, cell, cols int, sign, n, sx, sy, sxy, v, vx, vy, vxy float64) {
+	if cell < 0 {
+		return
+	}
+	w10, w01 := sx-sxy, sy-sxy
+	a10, a01 := vx-vxy, vy-vxy
+	p := acc[2*cell : 2*cell+4]
+	p[0] += sign * (v - vx - a01)
+	p[1] += n - sx - w01
+	p[2] += sign * a10
+	p[3] += w10
+	q := acc[2*(cell+cols) : 2*(cell+cols)+4]
+	q[0] += sign * a01
+	q[1] += w01
+	q[2] += sign * vxy
+	q[3] += sxy
 }
 
 // fillGaps fills runs of uncovered pixels that have covered pixels on both

@@ -649,40 +649,88 @@ func cloneResult(res *Result, r recipe.Recipe) *Result {
 	return out
 }
 
+// gridStage grids the placed lines into frames (one per stroke with
+// rows.strokes split, else one) and writes the build's report.
 func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, rows *rowsResult, pl *placement, warns []string, progress Progress) (*Result, error) {
 	r := rs.r
-	rate := s.rec.SampleRateHz
-	det, _, err := s.detector(ctx, rs.ch.detector, r.Signal)
+	in, err := s.gridSignal(ctx, rs, rows, pl)
 	if err != nil {
 		return nil, err
-	}
-	// Clipping is a property of the recording: test the recorded samples
-	// against the recorded range, even when det is a corrected copy.
-	recorded := s.rec.Channels[rs.ch.detector].Samples
-	st, err := s.channelStats(ctx, rs.ch.detector)
-	if err != nil {
-		return nil, err
-	}
-	lo, hi := st.lo, st.hi
-	clipLo := float32(math.Inf(-1))
-	if lo < 0 {
-		clipLo = lo
 	}
 	lines := linesOnRows(pl.lines, rows)
 	groups, groupStroke := groupByStroke(lines, rows, r.Rows.Strokes)
-	rep := timingReport(t, rows, pl, r, rate)
-	pMean := meanLinePeriod(pl.lines)
-	rep.Lines = len(lines)
-	rep.AperturesSuggested = rs.aperturesSeen
-	res := &Result{Recipe: r}
-	totalClipped, totalGapRows, covered, pixels := 0, 0, 0, 0
-	var frameCover []float64
 	// Every frame's extent first, so the memory of all of them is known
 	// before any is gridded.
+	extents, err := strokeExtents(groups, rows, r.Rows.Strokes)
+	if err != nil {
+		return nil, err
+	}
+	if err := checkResultSize(r, pl.sweep, extents); err != nil {
+		return nil, err
+	}
+	frames, tot, err := gridStrokes(ctx, in, groups, extents, progress)
+	if err != nil {
+		return nil, err
+	}
+	rep := timingReport(t, rows, pl, r, s.rec.SampleRateHz)
+	rep.Lines = len(lines)
+	rep.AperturesSuggested = rs.aperturesSeen
+	if len(frames) > 0 {
+		rep.Columns, rep.Rows = frames[0].Width, frames[0].Height
+		rep.OriginXMM, rep.OriginYMM = frames[0].OriginXMM, frames[0].OriginYMM
+	}
+	if tot.pixels > 0 {
+		rep.Coverage = float64(tot.covered) / float64(tot.pixels)
+	}
+	rep.Warnings = s.gridWarnings(rs, pl, lines, rep, tot, warns)
+	// Each frame's report describes that frame's own size and coverage.
+	for i, f := range frames {
+		f.Stroke = groupStroke[i]
+		f.Report = rep
+		f.Report.Columns, f.Report.Rows, f.Report.Coverage = f.Width, f.Height, tot.frameCover[i]
+		f.Report.OriginXMM, f.Report.OriginYMM = f.OriginXMM, f.OriginYMM
+		f.Report.Warnings = slices.Clone(rep.Warnings)
+		f.Recipe = r
+	}
+	res := &Result{Recipe: r, Frames: frames, Report: rep, Lines: make([]Line, len(lines))}
+	for i, l := range lines {
+		res.Lines[i] = l.Line
+	}
+	return res, nil
+}
+
+// gridSignal is what every frame of the build is gridded from: the
+// detector as the stages see it, the recorded one for the clipping test,
+// the sweep, the rows and the image keys. Clipping is a property of the
+// recording: the recorded samples are tested against the recorded range,
+// even when the detector is a corrected copy.
+func (s *Session) gridSignal(ctx context.Context, rs *resolved, rows *rowsResult, pl *placement) (gridInput, error) {
+	r := rs.r
+	det, _, err := s.detector(ctx, rs.ch.detector, r.Signal)
+	if err != nil {
+		return gridInput{}, err
+	}
+	st, err := s.channelStats(ctx, rs.ch.detector)
+	if err != nil {
+		return gridInput{}, err
+	}
+	clipLo := float32(math.Inf(-1))
+	if st.lo < 0 {
+		clipLo = st.lo
+	}
+	return gridInput{
+		det: det, recorded: s.rec.Channels[rs.ch.detector].Samples, sweep: pl.sweep, rows: rows, pitch: r.Image.PitchMM,
+		invert: r.Signal.Invert, fill: r.Image.FillGapsPx, maxGapMM: *r.Image.MaxGapMM, clipHi: st.hi, clipLo: clipLo,
+		edge: pl.edge,
+	}, nil
+}
+
+// strokeExtents is the y extent (top, bottom) of each group of lines.
+func strokeExtents(groups [][]placedLine, rows *rowsResult, strokes string) ([][2]float64, error) {
 	extents := make([][2]float64, len(groups))
 	for gi, g := range groups {
 		if len(g) == 0 {
-			return nil, fmt.Errorf("rows.strokes %s: no lines in the first stroke", r.Rows.Strokes)
+			return nil, fmt.Errorf("rows.strokes %s: no lines in the first stroke", strokes)
 		}
 		yTop, yBottom := math.Inf(-1), math.Inf(1)
 		for _, l := range g {
@@ -693,44 +741,53 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 		}
 		extents[gi] = [2]float64{yTop, yBottom}
 	}
-	if err := checkResultSize(r, pl.sweep, extents); err != nil {
-		return nil, err
-	}
+	return extents, nil
+}
+
+// strokeTotals is what gridding the frames of a build found, summed over
+// the frames, and each frame's covered fraction.
+type strokeTotals struct {
+	clipped, gapRows, covered, pixels int
+	frameCover                        []float64
+}
+
+// gridStrokes grids each group of lines over its extent into a frame, in
+// turn (each frame uses both cores).
+func gridStrokes(ctx context.Context, in gridInput, groups [][]placedLine, extents [][2]float64, progress Progress) ([]*Frame, strokeTotals, error) {
+	var tot strokeTotals
+	frames := make([]*Frame, 0, len(groups))
 	for gi, g := range groups {
-		yTop, yBottom := extents[gi][0], extents[gi][1]
-		f, st, _, err := gridFrame(ctx, gridInput{
-			det: det, recorded: recorded, lines: g, sweep: pl.sweep, rows: rows, pitch: r.Image.PitchMM,
-			invert: r.Signal.Invert, fill: r.Image.FillGapsPx, maxGapMM: *r.Image.MaxGapMM, clipHi: hi, clipLo: clipLo,
-			yTop: yTop, yBottom: yBottom, edge: pl.edge,
-			progress: func(f float64) { progress.report("gridding", (float64(gi)+f)/float64(len(groups))) },
-		})
+		in := in
+		in.lines = g
+		in.yTop, in.yBottom = extents[gi][0], extents[gi][1]
+		in.progress = func(f float64) { progress.report("gridding", (float64(gi)+f)/float64(len(groups))) }
+		f, st, _, err := gridFrame(ctx, in)
 		if err != nil {
-			return nil, err
+			return nil, tot, err
 		}
-		f.Stroke = groupStroke[gi]
-		totalClipped += st.clippedLines
-		totalGapRows += st.gapRows
-		covered += st.covered
-		pixels += f.Width * f.Height
-		frameCover = append(frameCover, float64(st.covered)/float64(f.Width*f.Height))
-		res.Frames = append(res.Frames, f)
-		if gi == 0 {
-			rep.Columns, rep.Rows = f.Width, f.Height
-			rep.OriginXMM, rep.OriginYMM = f.OriginXMM, f.OriginYMM
-		}
+		tot.clipped += st.clippedLines
+		tot.gapRows += st.gapRows
+		tot.covered += st.covered
+		tot.pixels += f.Width * f.Height
+		tot.frameCover = append(tot.frameCover, float64(st.covered)/float64(f.Width*f.Height))
+		frames = append(frames, f)
 	}
-	if pixels > 0 {
-		rep.Coverage = float64(covered) / float64(pixels)
-	}
-	if totalClipped > 0 {
-		warns = append(warns, fmt.Sprintf("the detector clipped on %s of lines (%d of %d): lower the detector gain", percentText(float64(totalClipped)/float64(len(lines))), totalClipped, len(lines)))
+	return frames, tot, nil
+}
+
+// gridWarnings is the build's warnings: the capture's own, those of the
+// stages before (warns), then what gridding found and what the build
+// could not use, so none of it passes in silence.
+func (s *Session) gridWarnings(rs *resolved, pl *placement, lines []placedLine, rep Report, tot strokeTotals, warns []string) []string {
+	r, rate := rs.r, s.rec.SampleRateHz
+	pMean := meanLinePeriod(pl.lines)
+	if tot.clipped > 0 {
+		warns = append(warns, fmt.Sprintf("the detector clipped on %s of lines (%d of %d): lower the detector gain", percentText(float64(tot.clipped)/float64(len(lines))), tot.clipped, len(lines)))
 	}
 	if rep.Columns < minUsefulSide || rep.Rows < minUsefulSide {
 		warns = append(warns, fmt.Sprintf("the frame is only %d × %d pixels at image.pitch_mm %g: lower pitch_mm (0 chooses one from the line spacing), or check the field, distance and rows keys", rep.Columns, rep.Rows, r.Image.PitchMM))
 	}
-	// What the build could not use, and what the reader changed, goes in
-	// the report rather than passing in silence.
-	if w := coverageWarning(pl.lines, len(recorded), pMean, rate); w != "" {
+	if w := coverageWarning(pl.lines, len(s.rec.Channels[rs.ch.detector].Samples), pMean, rate); w != "" {
 		warns = append(warns, w)
 	}
 	runs, total := s.flatRuns(rs.ch.detector)
@@ -738,24 +795,10 @@ func (s *Session) gridStage(ctx context.Context, rs *resolved, t *timingResult, 
 		warns = append(warns, w)
 	}
 	warns = append(slices.Clone(s.rec.Warnings), warns...)
-	if totalGapRows > 0 {
-		warns = append(warns, gapWarning(lines, r.Image.PitchMM, *r.Image.MaxGapMM, totalGapRows))
+	if tot.gapRows > 0 {
+		warns = append(warns, gapWarning(lines, r.Image.PitchMM, *r.Image.MaxGapMM, tot.gapRows))
 	}
-	rep.Warnings = append([]string{}, warns...)
-	res.Report = rep
-	// Each frame's report describes that frame's own size and coverage.
-	for i, f := range res.Frames {
-		f.Report = rep
-		f.Report.Columns, f.Report.Rows, f.Report.Coverage = f.Width, f.Height, frameCover[i]
-		f.Report.OriginXMM, f.Report.OriginYMM = f.OriginXMM, f.OriginYMM
-		f.Report.Warnings = slices.Clone(rep.Warnings)
-		f.Recipe = r
-	}
-	res.Lines = make([]Line, len(lines))
-	for i, l := range lines {
-		res.Lines[i] = l.Line
-	}
-	return res, nil
+	return append([]string{}, warns...)
 }
 
 // linesOnRows returns a copy of the placed lines with their cross-scan
