@@ -512,18 +512,30 @@ func (c *controlPanel) show(v shown) {
 	if isSine(v) {
 		apertures = 0
 	}
-	c.offsetNote.SetText("")
 	c.autoOffsets = nil
+	note := ""
 	if values == nil {
 		c.autoOffsets = resolved.Sweep.ApertureOffsetsDeg
 		values = resolved.Sweep.ApertureOffsetsDeg
 		if apertures > 0 {
-			c.offsetNote.SetText("Estimated in every build; move one to set them by hand.")
+			note = "Estimated in every build; move one to set them by hand."
 		}
 	}
+	showNote(c.offsetNote, note)
 	c.showOffsets(apertures, values)
 	c.rowsNote.SetText(rowsDescription(resolved.Rows))
 	c.cal.show(r.Rows.Calibration, r.Rows.Source.ReadsPosition())
+}
+
+// showNote shows text in label, hiding the label when there is none so
+// an empty note leaves no gap.
+func showNote(label *widget.Label, text string) {
+	label.SetText(text)
+	if text == "" {
+		label.Hide()
+	} else {
+		label.Show()
+	}
 }
 
 func enable(w fyne.Disableable, on bool) {

@@ -121,6 +121,7 @@ func TestLayoutFitsSmallScreens(t *testing.T) {
 					t.Errorf("the %s column's content needs %.0f wide, the column is %.0f: its right edge is cut", col.name, need, have)
 				}
 			}
+			checkTraceLegendAndAxes(t, ws)
 			if r := boxOf(ws.facts.warnings); !(r.y0 < size.Height-ws.statusBar.Size().Height) {
 				t.Errorf("the warnings start at y %.0f, below the visible part of the window", r.y0)
 			}
@@ -130,6 +131,48 @@ func TestLayoutFitsSmallScreens(t *testing.T) {
 				f.Close()
 			}
 		})
+	}
+}
+
+// checkTraceLegendAndAxes: the trace strip's legend lies whole in the
+// middle column, beside or under its tools and above the strip, with no
+// entry over another (it wraps rather than scrolls); and every lane of the
+// strip labels at least two voltage ticks, at least a label's height
+// (10 units, the small face is 10.5) apart.
+func checkTraceLegendAndAxes(t *testing.T, ws *Workstation) {
+	t.Helper()
+	middle, strip := boxOf(ws.middle), boxOf(ws.strip)
+	for i, e := range ws.legend {
+		r := boxOf(e)
+		if !r.inside(middle) || r.overlaps(strip) || r.overlaps(boxOf(ws.stripBar)) {
+			t.Errorf("legend entry %d at %v is cut off or covers the strip %v or its tools %v", i, r, strip, boxOf(ws.stripBar))
+		}
+		if e.Size().Width < e.MinSize().Width {
+			t.Errorf("legend entry %d is %.0f wide, narrower than its text's %.0f", i, e.Size().Width, e.MinSize().Width)
+		}
+		for j, o := range ws.legend[:i] {
+			if r.overlaps(boxOf(o)) {
+				t.Errorf("legend entries %d %v and %d %v overlap", j, boxOf(o), i, r)
+			}
+		}
+	}
+	p := &tracePainter{scale: 1}
+	h := int(ws.strip.Size().Height)
+	for lane, a := range p.laneAxes(ws.strip.view(), p.px(traceCaptionH), h-p.px(traceAxisH)) {
+		var ys []int
+		for k, tick := range a.ticks {
+			if a.labelled[k] {
+				ys = append(ys, a.toY(tick))
+			}
+		}
+		if len(ys) < 2 {
+			t.Errorf("lane %d labels %d voltage ticks (%v), want at least two", lane, len(ys), a.ticks)
+		}
+		for k := 1; k < len(ys); k++ {
+			if ys[k-1]-ys[k] < 10 {
+				t.Errorf("lane %d: labels at y %v stand closer than 10 units", lane, ys)
+			}
+		}
 	}
 }
 

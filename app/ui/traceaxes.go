@@ -24,8 +24,12 @@ func niceStep(span float64, want int) float64 {
 
 // axisTicks are the multiples of niceStep(hi−lo, want) from lo to hi.
 func axisTicks(lo, hi float64, want int) []float64 {
-	step := niceStep(hi-lo, want)
-	if step == 0 {
+	return ticksEvery(lo, hi, niceStep(hi-lo, want))
+}
+
+// ticksEvery are the multiples of step from lo to hi.
+func ticksEvery(lo, hi, step float64) []float64 {
+	if !(step > 0) {
 		return nil
 	}
 	var ticks []float64
@@ -37,6 +41,45 @@ func axisTicks(lo, hi float64, want int) []float64 {
 		ticks = append(ticks, v)
 	}
 	return ticks
+}
+
+// laneTicks are the ticks of a lane's voltage axis from lo to hi and
+// which of them carry a label, so labels stand at least least apart (the
+// span a label's height takes): the finest round step that keeps every
+// tick's label so, or, when the lane is too short for two labels that
+// far apart at any step that gives two ticks, the coarsest step that does
+// with labels on ticks that far apart, starting from the lowest, and on
+// the highest whatever. So every lane reads a scale and an offset. It
+// returns the step.
+func laneTicks(lo, hi, least float64) (ticks []float64, labelled []bool, step float64) {
+	span := hi - lo
+	if !(span > 0) {
+		return nil, nil, 0
+	}
+	step = niceStep(least, 1)
+	ticks = ticksEvery(lo, hi, step)
+	for k := 2; len(ticks) < 2 && k <= 20; k++ {
+		step = niceStep(span, k)
+		ticks = ticksEvery(lo, hi, step)
+	}
+	labelled = make([]bool, len(ticks))
+	last := math.Inf(-1)
+	for i, t := range ticks {
+		if t-last >= least*(1-1e-9) {
+			labelled[i], last = true, t
+		}
+	}
+	if n := len(ticks); n >= 2 && !labelled[n-1] {
+		// The highest takes the place of the label below it.
+		for i := n - 2; i > 0; i-- {
+			if labelled[i] {
+				labelled[i] = false
+				break
+			}
+		}
+		labelled[n-1] = true
+	}
+	return ticks, labelled, step
 }
 
 // tickLabel writes v with as many decimals as the step needs.

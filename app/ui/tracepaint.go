@@ -5,7 +5,6 @@ import (
 	"image"
 	"image/color"
 	"math"
-	"slices"
 	"sort"
 	"sync"
 
@@ -52,6 +51,7 @@ const (
 	traceAxisH    = 16 // time tick labels
 	traceLeft     = 58 // voltage tick labels
 	traceRight    = 8
+	traceTickGap  = 12 // least distance between voltage tick labels
 )
 
 var cursorNames = [2]string{"A", "B"}
@@ -205,6 +205,9 @@ func paintTraces(v *traceView, w, h int, scale float64) *image.NRGBA {
 		return img
 	}
 	readout := cursorReadout(v)
+	if v.noCursors() && textWidth(p.face, v.caption)+textWidth(p.small, readout)+p.px(16) > right {
+		readout = "" // the hint gives way to the line's own caption
+	}
 	rw := p.text(p.small, readout, right, capH-p.px(5), 2, traceInk, false)
 	p.text(p.face, truncateText(p.face, v.caption, right-p.px(4)-rw-p.px(12)), p.px(4), capH-p.px(5), 0, traceInk, false)
 	shade(img, left, right, top, bottom, color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0x70})
@@ -214,8 +217,7 @@ func paintTraces(v *traceView, w, h int, scale float64) *image.NRGBA {
 	}
 	t0, t1 := v.from, v.to
 	toX := func(ts float64) int { return left + int(math.Round((ts-t0)/(t1-t0)*float64(right-left-1))) }
-	laneH := float64(bottom-top) / 3
-	laneTop := func(i int) int { return top + int(math.Round(float64(i)*laneH)) }
+	axes := p.laneAxes(v, top, bottom)
 
 	// Time grid: ticks in ms from the chosen line's index edge.
 	msFrom, msTo := 1000*(t0-v.edgeS), 1000*(t1-v.edgeS)
@@ -244,31 +246,18 @@ func paintTraces(v *traceView, w, h int, scale float64) *image.NRGBA {
 	}
 
 	for lane, tl := range v.lanes {
-		lt, lb := laneTop(lane), laneTop(lane+1)
+		ax := axes[lane]
+		lt, lb := ax.top, ax.bottom
 		if lane > 0 {
 			hline(img, left, right, lt, traceLaneEdge)
 		}
-		ytop, ybot := lt+p.px(6), lb-p.px(4)
-		vmin, vmax := v.laneRange(lane)
-		toY := func(val float64) int {
-			return ybot - int(math.Round((val-vmin)/(vmax-vmin)*float64(ybot-ytop)))
-		}
-		// Voltage axis of this lane.
-		want := max(4, (ybot-ytop)/p.px(14))
-		vStep := niceStep(vmax-vmin, want)
-		ticks := axisTicks(vmin, vmax, want)
-		// Label ticks at least 12 units apart, always including zero.
-		every := 1
-		if len(ticks) > 1 {
-			every = max(1, int(math.Ceil(float64(p.px(12))/float64(max(1, toY(ticks[0])-toY(ticks[1]))))))
-		}
-		zero := slices.Index(ticks, 0)
-		for k, tick := range ticks {
+		toY := ax.toY
+		for k, tick := range ax.ticks {
 			y := toY(tick)
 			hline(img, left, right, y, traceGrid)
 			hline(img, left-p.px(3), left, y, traceMuted)
-			if zero < 0 && k%every == 0 || zero >= 0 && (k-zero)%every == 0 {
-				p.text(p.small, tickLabel(tick, vStep), left-p.px(5), y+p.px(4), 2, traceMuted, false)
+			if ax.labelled[k] {
+				p.text(p.small, tickLabel(tick, ax.step), left-p.px(5), y+p.px(4), 2, traceMuted, false)
 			}
 		}
 		if tl.channel < 0 || v.rec == nil || tl.channel >= len(v.rec.Channels) {
@@ -348,7 +337,7 @@ func paintTraces(v *traceView, w, h int, scale float64) *image.NRGBA {
 	}
 	for lane := range v.lanes {
 		if s := laneReadout(rd, lane, v.units[lane]); s != "" {
-			p.text(p.small, s, right-p.px(6), laneTop(lane)+p.px(15), 2, traceInk, true)
+			p.text(p.small, s, right-p.px(6), axes[lane].top+p.px(15), 2, traceInk, true)
 		}
 	}
 	rect(img, left, top, right, bottom, traceLaneEdge)
@@ -356,6 +345,40 @@ func paintTraces(v *traceView, w, h int, scale float64) *image.NRGBA {
 }
 
 // cursorReadout says where the cursors are and Δt between them.
+// laneAxis is where a lane lies on the picture and its voltage axis.
+type laneAxis struct {
+	top, bottom int     // the lane's edges
+	ytop, ybot  int     // the pixels of hi and lo
+	lo, hi      float64 // the voltages at ybot and ytop
+	ticks       []float64
+	labelled    []bool // which ticks carry a label
+	step        float64
+}
+
+func (a laneAxis) toY(val float64) int {
+	return a.ybot - int(math.Round((val-a.lo)/(a.hi-a.lo)*float64(a.ybot-a.ytop)))
+}
+
+// laneAxes splits the picture's rows from top to bottom into the three
+// lanes and gives each its voltage axis (laneTicks).
+func (p *tracePainter) laneAxes(v *traceView, top, bottom int) [3]laneAxis {
+	var axes [3]laneAxis
+	laneH := float64(bottom-top) / 3
+	laneTop := func(i int) int { return top + int(math.Round(float64(i)*laneH)) }
+	for i := range axes {
+		a := &axes[i]
+		a.top, a.bottom = laneTop(i), laneTop(i+1)
+		a.ytop, a.ybot = a.top+p.px(6), a.bottom-p.px(4)
+		a.lo, a.hi = v.laneRange(i)
+		least := float64(p.px(traceTickGap)) * (a.hi - a.lo) / float64(max(1, a.ybot-a.ytop))
+		a.ticks, a.labelled, a.step = laneTicks(a.lo, a.hi, least)
+	}
+	return axes
+}
+
+// noCursors says neither cursor is set.
+func (v *traceView) noCursors() bool { return math.IsNaN(v.cursors[0]) && math.IsNaN(v.cursors[1]) }
+
 func cursorReadout(v *traceView) string {
 	a, b := !math.IsNaN(v.cursors[0]), !math.IsNaN(v.cursors[1])
 	rd := v.reading()

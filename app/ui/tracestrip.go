@@ -17,19 +17,20 @@ import (
 	"spotloom/capture"
 )
 
-// TraceLegend says what the marks of the strip mean, with the strip's own
-// inks on its paper ground.
-func TraceLegend() fyne.CanvasObject {
+// traceLegend says what the marks of the strip mean, one entry for each,
+// with the strip's own inks on its paper ground.
+func traceLegend() []fyne.CanvasObject {
 	item := func(c color.Color, text string) fyne.CanvasObject {
 		t := canvas.NewText(text, theme.Color(theme.ColorNameForeground))
 		t.TextSize = theme.CaptionTextSize()
 		return container.NewHBox(traceSwatch(c), t)
 	}
-	return container.NewHBox(
+	return []fyne.CanvasObject{
 		item(traceColours[0], "detector"), item(traceColours[1], "index"), item(traceColours[2], "position"),
-		item(traceFieldBar, "field of view"), item(traceBaseBar, "baseline"),
-		item(traceEdge, "index edge"), item(traceThreshold, "threshold"),
-		item(traceCursors[0], "cursor A"), item(traceCursors[1], "cursor B"))
+		item(traceFieldBar, "field"), item(traceBaseBar, "baseline"),
+		item(traceEdge, "edge"), item(traceThreshold, "threshold"),
+		item(traceCursors[0], "cursor A"), item(traceCursors[1], "cursor B"),
+	}
 }
 
 // traceSwatch is a small piece of the strip: its paper with a bar of ink

@@ -175,6 +175,75 @@ func TestNiceStep(t *testing.T) {
 	}
 }
 
+// TestLaneTicksReadEveryLane checks a lane's voltage axis against a
+// brute-force search written out here: among the steps 1, 2, 5 × 10^k, the
+// number of their multiples in [lo, hi] is ⌊hi/s⌋ − ⌈lo/s⌉ + 1 (a closed
+// form). When some step at least least apart leaves two multiples, every
+// tick is labelled and the step is the finest such; otherwise two labels
+// still stand, on the lowest and highest ticks.
+func TestLaneTicksReadEveryLane(t *testing.T) {
+	count := func(lo, hi, s float64) int {
+		return int(math.Floor(hi/s+1e-9) - math.Ceil(lo/s-1e-9) + 1)
+	}
+	// The finest 1-2-5 step ≥ least with two multiples in the span, or 0.
+	finest := func(lo, hi, least float64) float64 {
+		for e := -6; e <= 6; e++ {
+			for _, m := range []float64{1, 2, 5} {
+				s := m * math.Pow(10, float64(e))
+				if s >= least*(1-1e-9) && count(lo, hi, s) >= 2 {
+					return s
+				}
+			}
+		}
+		return 0
+	}
+	cases := []struct{ lo, hi, least float64 }{
+		{-0.903, 0.672, 0.486}, // the demo's detector at 1366×768
+		{-0.903, 0.672, 0.70},  // the same lane at 1024×700: no room for 0.5 apart
+		{-0.102, 0.897, 0.31},  // the demo's index
+		{0.01, 0.049, 0.002},   // a small detector swing
+		{1.2, 1.3, 0.09},       // a steady position far from zero
+		{-5, 5, 20},            // a lane far too short
+	}
+	for _, c := range cases {
+		ticks, labelled, step := laneTicks(c.lo, c.hi, c.least)
+		labels := 0
+		var at []float64
+		for i, tk := range ticks {
+			if tk < c.lo-1e-12 || tk > c.hi+1e-12 {
+				t.Errorf("%+v: tick %g lies outside the lane", c, tk)
+			}
+			if r := tk / step; math.Abs(r-math.Round(r)) > 1e-6 {
+				t.Errorf("%+v: tick %g is not a multiple of the step %g", c, tk, step)
+			}
+			if labelled[i] {
+				labels++
+				at = append(at, tk)
+			}
+		}
+		if labels < 2 {
+			t.Errorf("%+v: %d labelled ticks (%v), want at least two", c, labels, ticks)
+		}
+		if len(ticks) != count(c.lo, c.hi, step) {
+			t.Errorf("%+v: %d ticks at step %g, the span holds %d", c, len(ticks), step, count(c.lo, c.hi, step))
+		}
+		if s := finest(c.lo, c.hi, c.least); s > 0 {
+			if math.Abs(step-s) > 1e-9*s || labels != len(ticks) {
+				t.Errorf("%+v: step %g with %d of %d labelled, want step %g with every tick labelled", c, step, labels, len(ticks), s)
+			}
+			continue
+		}
+		if at[0] != ticks[0] || at[len(at)-1] != ticks[len(ticks)-1] {
+			t.Errorf("%+v: labels on %v, want the lowest and highest of %v", c, at, ticks)
+		}
+		for k := 1; k < len(at)-1; k++ {
+			if at[k]-at[k-1] < c.least*(1-1e-9) {
+				t.Errorf("%+v: labels %g and %g are closer than %g", c, at[k-1], at[k], c.least)
+			}
+		}
+	}
+}
+
 // syntheticStrip is a strip over a capture of known signals at 10 kHz:
 // the detector a ramp of 3 V/s from 0.5 V, the index a 50 Hz sine of 1 V,
 // the position a steady 1.25 V; one line has its edge at 20 ms.

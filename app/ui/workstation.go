@@ -95,9 +95,10 @@ type Workstation struct {
 	recentMenu  *fyne.MenuItem
 	mainMenu    *fyne.MainMenu
 	leftBox     *fyne.Container
-	topBar      fyne.CanvasObject // the window's toolbar
-	viewBar     fyne.CanvasObject // the image's toolbar
-	stripBar    fyne.CanvasObject // the trace strip's toolbar
+	topBar      fyne.CanvasObject   // the window's toolbar
+	viewBar     fyne.CanvasObject   // the image's toolbar
+	stripBar    fyne.CanvasObject   // the trace strip's toolbar
+	legend      []fyne.CanvasObject // the trace strip's legend entries
 	statusBar   fyne.CanvasObject
 	middle      fyne.CanvasObject
 	rightScroll fyne.CanvasObject
@@ -222,13 +223,13 @@ func (ws *Workstation) build() {
 		ws.followCheck,
 	)
 	// Two rows, so a narrow window keeps every button in sight; the legend
-	// scrolls rather than widening the window.
-	stripBar = container.NewVBox(stripBar,
-		container.NewBorder(nil, nil, ws.traceTools(), nil, container.NewHScroll(container.NewHBox(layout.NewSpacer(), TraceLegend()))))
+	// wraps beside them rather than scrolling or widening the window.
+	stripBar = container.NewVBox(stripBar, ws.traceTools())
 	imageArea := container.NewBorder(viewBar, nil, nil, nil, ws.view)
-	stripArea := container.NewBorder(stripBar, nil, nil, nil, ws.strip)
-	middle := container.NewVSplit(imageArea, stripArea)
-	middle.Offset = 0.68
+	ws.legend = traceLegend()
+	stripArea := newStripArea(stripBar, ws.legend, ws.strip)
+	split := container.NewVSplit(imageArea, stripArea)
+	middle := newStripShare(split)
 
 	ws.controls.groups.Append(widget.NewAccordionItem("Source and channel roles", ws.source.object()))
 	ws.leftBox = container.NewVBox(ws.controls.object())
