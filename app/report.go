@@ -102,8 +102,7 @@ func runReport(args []string, stdout, stderr io.Writer) error {
 		return fmt.Errorf("%s: the recipe makes %d frame(s), not %d", positional[0], len(res.Frames), page)
 	}
 	f := res.Frames[page-1]
-	sheet := export.Sheet{Frame: f, Source: filepath.Base(positional[0]), Date: time.Now()}
-	sheet.Measurements = measure.RunList(f, shapes)
+	sheet := export.MeasuredSheet(f, filepath.Base(positional[0]), shapes, time.Now())
 	for _, m := range sheet.Measurements {
 		if m.Err != nil {
 			return fmt.Errorf("%s: measuring the rebuilt frame: %s: %w", measurePath, m.Shape.Label, m.Err)

@@ -17,6 +17,7 @@ import (
 
 	"spotloom/capture"
 	"spotloom/recon"
+	"spotloom/recon/measure"
 	"spotloom/recon/recipe"
 	"spotloom/sampledata"
 )
@@ -31,6 +32,8 @@ type opened struct {
 	path   string
 	name   string
 	note   string // how the recipe was chosen
+	// measurements are those of the sidecar the recipe came from.
+	measurements []measure.Shape
 }
 
 func (ws *Workstation) openFunc() OpenFunc {
@@ -117,7 +120,8 @@ func (ws *Workstation) openWith(path string, copts capture.Options, given *recip
 		} else {
 			side := strings.TrimSuffix(path, filepath.Ext(path)) + ".recipe.json"
 			if sr, err := recipe.Load(side); err == nil {
-				tries = append(tries, recipeTry{recipe: sr, note: "the recipe saved beside the capture (" + filepath.Base(side) + ")"})
+				list, _ := measure.LoadList(side) // a sidecar's measurements come back with its recipe
+				tries = append(tries, recipeTry{recipe: sr, measurements: list, note: "the recipe saved beside the capture (" + filepath.Base(side) + ")"})
 			}
 			if haveCurrent {
 				// The rig is the one of the capture shown: keep its
@@ -147,7 +151,7 @@ func (ws *Workstation) openWith(path string, copts capture.Options, given *recip
 					res.Report.Warnings = append(slices.Clone(notes), res.Report.Warnings...)
 					note += "; " + strings.Join(notes, "; ")
 				}
-				return &opened{rec: rec, engine: eng, recipe: r, result: res, path: path, name: filepath.Base(path), note: note}, nil
+				return &opened{rec: rec, engine: eng, recipe: r, result: res, path: path, name: filepath.Base(path), note: note, measurements: t.measurements}, nil
 			}
 			if ctx.Err() != nil {
 				return nil, ctx.Err()
@@ -176,10 +180,11 @@ func forNewCapture(r recipe.Recipe) recipe.Recipe {
 }
 
 type recipeTry struct {
-	recipe recipe.Recipe
-	note   string
-	look   bool        // a first look: fit what known leaves open to the capture
-	known  recon.Known // the keys a first look keeps
+	recipe       recipe.Recipe
+	measurements []measure.Shape
+	note         string
+	look         bool        // a first look: fit what known leaves open to the capture
+	known        recon.Known // the keys a first look keeps
 }
 
 // buildFailed marks a capture that was read but would not build.
@@ -242,7 +247,7 @@ func (ws *Workstation) finishOpen(o *opened) {
 	ws.rec, ws.engine = o.rec, o.engine
 	ws.sourcePath, ws.sourceName = o.path, o.name
 	ws.hist = newHistory()
-	ws.cur = settings{Recipe: cloneRecipe(o.recipe)}
+	ws.cur = settings{Recipe: cloneRecipe(o.recipe), Measurements: measure.CloneList(o.measurements)}
 	ws.frameIndex = 0
 	ws.result = nil
 	ws.view.Reset()
@@ -255,6 +260,7 @@ func (ws *Workstation) finishOpen(o *opened) {
 		// The tuning came back from the last session: its tone and view
 		// too, and it is still not saved.
 		ws.cur.Tone, ws.good.Tone = resume.Tone, resume.Tone
+		ws.cur.Measurements = measure.CloneList(resume.Measurements)
 		ws.clean = settings{}
 		ws.view.SetTone(ws.cur.Tone)
 		ws.view.setPlace(resume.View)
@@ -339,11 +345,14 @@ func (ws *Workstation) finishBuild(r recipe.Recipe, res *Result, err error, reas
 }
 
 // restoreGood puts back the settings the image shown was built with.
+// The measurements stay: they need no build.
 func (ws *Workstation) restoreGood() {
-	if len(ws.hist.undo) > 0 && sameSettings(ws.hist.undo[len(ws.hist.undo)-1], ws.good) {
+	good := ws.good.clone()
+	good.Measurements = ws.cur.Measurements
+	if len(ws.hist.undo) > 0 && sameSettings(ws.hist.undo[len(ws.hist.undo)-1], good) {
 		ws.hist.dropLast()
 	}
-	ws.cur = ws.good.clone()
+	ws.cur = good
 	ws.render()
 }
 
@@ -404,6 +413,7 @@ func (ws *Workstation) render() {
 		ws.source.showRoles(ws.cur.Recipe)
 	}
 	ws.showFrameControls()
+	ws.showMeasurements()
 	ws.updateUndo()
 	ws.setTitle()
 	ws.relayout()
@@ -665,15 +675,19 @@ func (ws *Workstation) ChooseRecipe() {
 	d.Show()
 }
 
-// applyRecipe replaces the recipe and rebuilds; if the build fails the
-// settings go back to those of the image shown.
-func (ws *Workstation) applyRecipe(r recipe.Recipe, reason string) {
+// applyRecipe replaces the recipe (and, unless nil, the measurements) and
+// rebuilds; if the build fails the settings go back to those of the
+// image shown.
+func (ws *Workstation) applyRecipe(r recipe.Recipe, measurements []measure.Shape, reason string) {
 	if ws.result == nil {
 		return
 	}
 	before := ws.cur.clone()
 	ws.hist.record("", before)
 	ws.cur.Recipe = cloneRecipe(r)
+	if measurements != nil {
+		ws.cur.Measurements = measure.CloneList(measurements)
+	}
 	ws.render()
 	ws.rebuild(reason)
 	ws.sessionChanged()

@@ -16,6 +16,7 @@ import (
 
 	"spotloom/recon"
 	"spotloom/recon/export"
+	"spotloom/recon/measure"
 )
 
 // exportRequest is one export the user asked for.
@@ -133,7 +134,9 @@ func (f *exportForm) plan() (plan []exportRequest, problem, try string) {
 	if strings.TrimSpace(f.name.Text) == "" {
 		return nil, "the export needs a file name.", "type one ending in .tiff or .png."
 	}
-	opts := export.Options{Compression: f.compression.Selected, Caption: strings.TrimSpace(f.caption.Text)}
+	// The sidecar lists the measurements of the window, none too.
+	opts := export.Options{Compression: f.compression.Selected, Caption: strings.TrimSpace(f.caption.Text),
+		Measurements: append([]measure.Shape{}, measure.CloneList(ws.cur.Measurements)...)}
 	switch f.depth.Selected {
 	case "8-bit grey (tone applied)":
 		opts.Depth = 8
@@ -204,6 +207,7 @@ func (ws *Workstation) runExport(plan []exportRequest) {
 		return
 	}
 	ws.busy("Exporting " + filepath.Base(plan[0].path))
+	measured := measure.CloneList(plan[0].opts.Measurements)
 	submit(ws.work, false, func(ctx context.Context, progress progressFunc) ([]exportRequest, error) {
 		for i, req := range plan {
 			if ctx.Err() != nil {
@@ -223,6 +227,7 @@ func (ws *Workstation) runExport(plan []exportRequest) {
 				names[i] = filepath.Base(p.path)
 			}
 			ws.stage.SetText("Exported " + strings.Join(names, ", ") + " with the recipe beside it")
+			ws.measuresSaved(measured)
 		case errors.Is(err, context.Canceled):
 			ws.stage.SetText("Export stopped")
 		case errors.Is(err, export.ErrExists) && len(rest) > 0:

@@ -2,6 +2,7 @@ package ui
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -15,6 +16,7 @@ import (
 
 	"spotloom/capture"
 	"spotloom/recon/export"
+	"spotloom/recon/measure"
 	"spotloom/recon/recipe"
 )
 
@@ -253,10 +255,17 @@ func (ws *Workstation) LoadRecipe(path string) {
 		return
 	}
 	reason := "The recipe " + filepath.Base(path)
+	var list []measure.Shape
 	if kind == kindSidecar {
 		reason = "The recipe of the export " + image
+		// The shapes measured on that export come back with its recipe.
+		if list, err = measure.ParseList(data, filepath.Base(path)); err != nil && !errors.Is(err, measure.ErrNoList) {
+			ws.showProblem("Cannot use the measurements of "+filepath.Base(path), windowWords(err.Error())+".",
+				"fix or remove its \"measurements\" list (docs/pipeline.md lists the keys). The settings are unchanged.")
+			return
+		}
 	}
-	ws.applyRecipe(r, reason)
+	ws.applyRecipe(r, list, reason)
 }
 
 // recipeSaver is the Save recipe dialog: a folder and a name in it.

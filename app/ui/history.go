@@ -4,18 +4,21 @@ import (
 	"encoding/json"
 
 	"spotloom/recon"
+	"spotloom/recon/measure"
 	"spotloom/recon/recipe"
 )
 
 // settings is everything the user can change that undo and redo restore:
-// the recipe and the tone of the view.
+// the recipe, the tone of the view and the measurements drawn on the
+// frame (which need no build: they are taken again on every frame).
 type settings struct {
-	Recipe recipe.Recipe
-	Tone   recon.Tone
+	Recipe       recipe.Recipe
+	Tone         recon.Tone
+	Measurements []measure.Shape
 }
 
 func (s settings) clone() settings {
-	return settings{Recipe: cloneRecipe(s.Recipe), Tone: s.Tone}
+	return settings{Recipe: cloneRecipe(s.Recipe), Tone: s.Tone, Measurements: measure.CloneList(s.Measurements)}
 }
 
 // cloneRecipe deep-copies r through its JSON form, which keeps every key.
@@ -39,7 +42,7 @@ func sameRecipe(a, b recipe.Recipe) bool {
 }
 
 func sameSettings(a, b settings) bool {
-	return a.Tone == b.Tone && sameRecipe(a.Recipe, b.Recipe)
+	return a.Tone == b.Tone && sameRecipe(a.Recipe, b.Recipe) && measure.SameList(a.Measurements, b.Measurements)
 }
 
 // history keeps undo and redo stacks of settings. A drag of a slider is

@@ -9,11 +9,13 @@ import (
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/canvas"
+	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/driver/desktop"
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
 
 	"spotloom/recon"
+	"spotloom/recon/measure"
 )
 
 // Colours of the image view. No-data pixels are hatched in violet so they
@@ -45,6 +47,13 @@ type ImageView struct {
 	OnTap func(p Pointer)
 	// OnZoom is called when the zoom changes (fyne units per mm).
 	OnZoom func(unitsPerMM float32)
+	// OnDrawn is called when a rectangle or line has been drawn with the
+	// tool kind: X0,Y0,X1,Y1 in frame mm (imagemarks.go).
+	OnDrawn func(kind measure.Kind, at [4]float64)
+	// OnTool is called when the drawing tool changes ("" for panning).
+	OnTool func(kind measure.Kind)
+	// OnMark is called when a measurement's mark is clicked, with its label.
+	OnMark func(label string)
 
 	mu      sync.Mutex // guards the fields the raster reads while painting
 	frame   *recon.Frame
@@ -59,6 +68,13 @@ type ImageView struct {
 	size    fyne.Size
 	hover   fyne.Position // last pointer position over the view
 	hovered bool
+
+	tool     measure.Kind    // what a drag draws; "" pans
+	marks    []measure.Shape // measurements drawn over the frame
+	selected string          // label of the highlighted mark
+	drawn    *drawing        // the shape being drawn
+	press    fyne.Position   // where the last press was
+	pressed  bool
 }
 
 // NewImageView returns an empty view that fits frames to its size.
@@ -280,9 +296,17 @@ func (v *ImageView) Scrolled(ev *fyne.ScrollEvent) {
 	v.zoomChanged()
 }
 
-// Dragged pans the frame with the pointer.
+// Dragged pans the frame with the pointer, or draws with the tool chosen.
 func (v *ImageView) Dragged(ev *fyne.DragEvent) {
 	v.mu.Lock()
+	if v.drawDragged(ev) {
+		v.mu.Unlock()
+		v.Refresh()
+		if v.OnPointer != nil {
+			v.OnPointer(v.pointerAt(ev.Position))
+		}
+		return
+	}
 	v.applyFit()
 	v.autoFit = false
 	if v.zoom > 0 {
@@ -295,9 +319,6 @@ func (v *ImageView) Dragged(ev *fyne.DragEvent) {
 		v.OnPointer(v.pointerAt(ev.Position))
 	}
 }
-
-// DragEnd ends a pan.
-func (v *ImageView) DragEnd() {}
 
 // Hover describes what now lies under the pointer (after a rebuild the
 // frame under a still pointer has changed); ok is false when the pointer
@@ -312,8 +333,19 @@ func (v *ImageView) Hover() (p Pointer, ok bool) {
 	return v.pointerAt(pos), true
 }
 
-// Tapped reports the position clicked.
+// Tapped selects the measurement under the pointer, or else reports the
+// position clicked.
 func (v *ImageView) Tapped(ev *fyne.PointEvent) {
+	v.mu.Lock()
+	v.pressed = false
+	v.mu.Unlock()
+	if label := v.markAt(ev.Position); label != "" && v.OnMark != nil {
+		v.OnMark(label)
+		return
+	}
+	if v.OnMark != nil {
+		v.OnMark("")
+	}
 	if v.OnTap != nil {
 		v.OnTap(v.pointerAt(ev.Position))
 	}
@@ -359,6 +391,7 @@ func (v *ImageView) CreateRenderer() fyne.WidgetRenderer {
 	r.barText.TextStyle = fyne.TextStyle{Bold: true}
 	r.empty = canvas.NewText("No frame yet", theme.Color(theme.ColorNameDisabled))
 	r.empty.Alignment = fyne.TextAlignCenter
+	r.marks = container.NewWithoutLayout()
 	return r
 }
 
@@ -369,6 +402,7 @@ type imageViewRenderer struct {
 	backing       *canvas.Rectangle
 	barText       *canvas.Text
 	empty         *canvas.Text
+	marks         *fyne.Container // the measurements' outlines and labels
 	lastBarLength float64
 }
 
@@ -392,6 +426,14 @@ func (r *imageViewRenderer) Layout(size fyne.Size) {
 	r.empty.Resize(fyne.NewSize(size.Width, 30))
 	r.empty.Move(fyne.NewPos(0, size.Height/2-15))
 	r.layoutBar()
+	r.layoutMarks()
+}
+
+// layoutMarks places the measurements' outlines over the frame.
+func (r *imageViewRenderer) layoutMarks() {
+	r.marks.Objects = r.view.markObjects()
+	r.marks.Resize(r.view.size)
+	r.marks.Refresh()
 }
 
 // niceLength picks 1, 2 or 5 times a power of ten not above mm.
@@ -450,6 +492,7 @@ func (r *imageViewRenderer) MinSize() fyne.Size { return fyne.NewSize(160, 120) 
 
 func (r *imageViewRenderer) Refresh() {
 	r.layoutBar()
+	r.layoutMarks()
 	r.barText.Refresh()
 	r.raster.Refresh()
 	canvas.Refresh(r.backing)
@@ -459,7 +502,7 @@ func (r *imageViewRenderer) Refresh() {
 }
 
 func (r *imageViewRenderer) Objects() []fyne.CanvasObject {
-	return []fyne.CanvasObject{r.raster, r.empty, r.backing, r.barEdge, r.bar, r.barText}
+	return []fyne.CanvasObject{r.raster, r.marks, r.empty, r.backing, r.barEdge, r.bar, r.barText}
 }
 
 func (r *imageViewRenderer) Destroy() {}

@@ -101,6 +101,7 @@ func TestLayoutFitsSmallScreens(t *testing.T) {
 			}{
 				"window toolbar": {ws.topBar, ws.topBar}, "image toolbar": {ws.viewBar, ws.middle},
 				"trace toolbar": {ws.stripBar, ws.middle}, "status bar": {ws.statusBar, ws.statusBar},
+				"measuring tools": {ws.marking.bar, ws.middle},
 			}
 			for name, b := range bars {
 				bs := buttons(b.bar)
@@ -116,7 +117,7 @@ func TestLayoutFitsSmallScreens(t *testing.T) {
 			for _, col := range []struct {
 				name           string
 				content, outer fyne.CanvasObject
-			}{{"left", ws.leftBox, ws.leftScroll}, {"right", ws.facts.object(), ws.rightScroll}} {
+			}{{"left", ws.leftBox, ws.leftScroll}, {"right", ws.facts.object(), ws.rightScroll}, {"measurements", ws.measures.object(), ws.rightScroll}} {
 				if need, have := col.content.MinSize().Width, col.outer.Size().Width; need > have {
 					t.Errorf("the %s column's content needs %.0f wide, the column is %.0f: its right edge is cut", col.name, need, have)
 				}

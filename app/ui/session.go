@@ -13,6 +13,7 @@ import (
 
 	"spotloom/recon"
 	"spotloom/recon/export"
+	"spotloom/recon/measure"
 	"spotloom/recon/recipe"
 )
 
@@ -27,6 +28,8 @@ type savedSession struct {
 	Recipe  json.RawMessage `json:"recipe"`
 	Tone    recon.Tone      `json:"tone"`
 	View    viewPlace       `json:"view"`
+	// Measurements are the shapes drawn on the frame.
+	Measurements []measure.Shape `json:"measurements,omitempty"`
 	// Modified says the tuning differs from what was opened or saved.
 	Modified bool      `json:"modified"`
 	SavedAt  time.Time `json:"saved_at"`
@@ -59,7 +62,7 @@ func (ws *Workstation) saveSession() {
 	}
 	s := savedSession{
 		Format: sessionFormat, Capture: ws.sourcePath, Recipe: ws.cur.Recipe.JSON(), Tone: ws.cur.Tone,
-		View: ws.view.place(), Modified: ws.modified(), SavedAt: time.Now().UTC(),
+		View: ws.view.place(), Modified: ws.modified(), SavedAt: time.Now().UTC(), Measurements: ws.cur.Measurements,
 	}
 	data, err := json.MarshalIndent(s, "", "  ")
 	if err != nil {

@@ -75,6 +75,7 @@ type Workstation struct {
 	controls *controlPanel
 	facts    *factsPanel
 	measures *measurePanel
+	marking  *markTools // measureTools: the tool menu, the selected mark
 	source   *sourcePanel
 
 	readout     *widget.Label
@@ -186,7 +187,8 @@ func (ws *Workstation) build() {
 		ws.showDialog(dialog.NewCustom(title, "Close", body, ws.win))
 	}
 	ws.facts = newFactsPanel()
-	ws.measures = newMeasurePanel()
+	ws.measures = newMeasurePanel(measureActions{add: ws.addMeasurement, remove: ws.removeMeasurement,
+		choose: ws.selectMeasurement, pair: ws.pairMeasurement})
 	ws.source = newSourcePanel(ws)
 
 	ws.readout = widget.NewLabel("")
@@ -225,7 +227,7 @@ func (ws *Workstation) build() {
 	// Two rows, so a narrow window keeps every button in sight; the legend
 	// wraps beside them rather than scrolling or widening the window.
 	stripBar = container.NewVBox(stripBar, ws.traceTools())
-	imageArea := container.NewBorder(viewBar, nil, nil, nil, ws.view)
+	imageArea := container.NewBorder(container.NewVBox(viewBar, ws.measureTools()), nil, nil, nil, ws.view)
 	ws.legend = traceLegend()
 	stripArea := newStripArea(stripBar, ws.legend, ws.strip)
 	split := container.NewVSplit(imageArea, stripArea)
@@ -234,7 +236,10 @@ func (ws *Workstation) build() {
 	ws.controls.groups.Append(widget.NewAccordionItem("Source and channel roles", ws.source.object()))
 	ws.leftBox = container.NewVBox(ws.controls.object())
 	ws.leftScroll = container.NewVScroll(ws.leftBox)
-	right := container.NewVScroll(container.NewVBox(ws.facts.object(), widget.NewSeparator(), ws.measures.object()))
+	// The facts above, the measurements below: each scrolls on its own,
+	// so neither hides the other.
+	right := container.NewVSplit(container.NewVScroll(ws.facts.object()), container.NewVScroll(ws.measures.object()))
+	right.Offset = 0.52
 
 	ws.progress = widget.NewProgressBar()
 	ws.stage = widget.NewLabel("Ready")
@@ -253,6 +258,7 @@ func (ws *Workstation) build() {
 		widget.NewButtonWithIcon("Demo", theme.MediaPlayIcon(), ws.ChooseDemo),
 		widget.NewSeparator(),
 		widget.NewButtonWithIcon("Export…", theme.DocumentSaveIcon(), ws.ShowExport),
+		widget.NewButtonWithIcon("Report…", theme.DocumentPrintIcon(), ws.ShowReport),
 		widget.NewSeparator(),
 		ws.undoButton, ws.redoButton,
 		layout.NewSpacer(),
@@ -307,6 +313,7 @@ func (ws *Workstation) buildMenu() {
 		item("Save recipe…", short(fyne.KeyS, ctrl), ws.SaveRecipe),
 		fyne.NewMenuItemSeparator(),
 		item("Export…", short(fyne.KeyE, ctrl), ws.ShowExport),
+		item("Export report…", short(fyne.KeyR, ctrl), ws.ShowReport),
 		fyne.NewMenuItemSeparator(),
 		quit,
 	)
@@ -352,6 +359,8 @@ func (ws *Workstation) bindKeys() {
 			ws.escape()
 		case fyne.KeyF1:
 			ws.ShowKeys()
+		case fyne.KeyDelete, fyne.KeyBackspace:
+			ws.RemoveSelectedMeasurement()
 		}
 	})
 	ws.win.Canvas().SetOnTypedRune(func(r rune) {
@@ -370,13 +379,14 @@ func (ws *Workstation) bindKeys() {
 func (ws *Workstation) ShowKeys() {
 	text := strings.Join([]string{
 		"Ctrl+O\topen a capture", "Ctrl+D\topen the built-in demo",
-		"Ctrl+L / Ctrl+S\tload / save the recipe", "Ctrl+E\texport frames",
+		"Ctrl+L / Ctrl+S\tload / save the recipe", "Ctrl+E\texport frames", "Ctrl+R\texport a report sheet (PDF)",
 		"Ctrl+Z\tundo", "Ctrl+Y or Ctrl+Shift+Z\tredo",
 		"Ctrl+K\testimate aperture offsets", "Ctrl+T\tautomatic tone",
 		"Esc or Ctrl+.\tstop the build",
 		"+ / − / 0\tzoom in / out / fit (also Ctrl+= Ctrl+- Ctrl+0)", "Ctrl+1\tone frame pixel per point",
 		"Page Up / Page Down\tprevious / next frame", "↑ / ↓\tprevious / next line in the trace strip",
-		"wheel\tzoom about the pointer", "drag\tmove the image", "click\thold the line under the pointer",
+		"wheel\tzoom about the pointer", "drag\tmove the image, or draw with the tool chosen", "click\thold the line under the pointer, or select a measurement",
+		"Delete\tremove the measurement selected",
 	}, "\n")
 	rows := container.New(layout.NewFormLayout())
 	for _, l := range strings.Split(text, "\n") {
@@ -478,9 +488,12 @@ func (ws *Workstation) setTitle() {
 	ws.win.SetTitle("Spotloom — " + name)
 }
 
-// tuningSaved notes that the settings shown are kept in a file.
+// tuningSaved notes that the settings shown are kept in a recipe file,
+// which holds no measurements (an export's sidecar does: measuresSaved).
 func (ws *Workstation) tuningSaved() {
+	kept := ws.clean.Measurements
 	ws.clean = ws.cur.clone()
+	ws.clean.Measurements = kept
 	ws.setTitle()
 	ws.saveSession()
 }
@@ -492,8 +505,11 @@ func (ws *Workstation) askDiscard(what string, then func()) {
 		then()
 		return
 	}
-	d := dialog.NewConfirm("Leave the tuning?",
-		fmt.Sprintf("The settings of %s have changed since they were opened or saved.\nLeave them and %s? (Save recipe… keeps them.)", ws.sourceName, what),
+	text := fmt.Sprintf("The settings of %s have changed since they were opened or saved.\nLeave them and %s? (Save recipe… keeps them.)", ws.sourceName, what)
+	if sameRecipe(ws.cur.Recipe, ws.clean.Recipe) && ws.cur.Tone == ws.clean.Tone {
+		text = fmt.Sprintf("The measurements drawn on %s are in no export's sidecar yet.\nLeave them and %s? (Export… keeps them beside the frame.)", ws.sourceName, what)
+	}
+	d := dialog.NewConfirm("Leave the tuning?", text,
 		func(yes bool) {
 			if yes {
 				then()

@@ -3,6 +3,7 @@ package export
 import (
 	"bytes"
 	"fmt"
+	"image"
 	"image/color"
 	"image/png"
 	"math"
@@ -33,6 +34,17 @@ type Sheet struct {
 	Measurements []measure.Taken
 	// Date is printed on the sheet and stamped into the PDF.
 	Date time.Time
+}
+
+// MeasuredSheet is the sheet of frame f made from source, with every
+// shape of the list measured on it (measure.RunList). The report command
+// and the window both make their sheets with it.
+func MeasuredSheet(f *recon.Frame, source string, shapes []measure.Shape, date time.Time) Sheet {
+	s := Sheet{Frame: f, Source: source, Date: date}
+	if len(shapes) > 0 {
+		s.Measurements = measure.RunList(f, shapes)
+	}
+	return s
 }
 
 // SheetLayout says where WriteSheet put things, in mm from the top left
@@ -345,6 +357,33 @@ func measurementSection(plots *sheetPlots, text func(style string, size, h float
 // PlotPNG draws the series as lines with gonum's plot package and returns
 // a 120 × 55 mm PNG at 200 dpi.
 func PlotPNG(title, xLabel, yLabel string, colour [3]int, logY bool, series ...[][2]float64) ([]byte, error) {
+	c, err := plotCanvas(PlotSize{WidthMM: 120, HeightMM: 55, DPI: 200}, title, xLabel, yLabel, colour, logY, series...)
+	if err != nil {
+		return nil, err
+	}
+	var buf bytes.Buffer
+	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
+		return nil, err
+	}
+	return buf.Bytes(), nil
+}
+
+// PlotSize is the size of a plot image in mm and its resolution.
+type PlotSize struct {
+	WidthMM, HeightMM, DPI float64
+}
+
+// PlotImage draws the series as PlotPNG does, as an image of the size
+// given (the window's plots, which need no PNG on the way).
+func PlotImage(size PlotSize, title, xLabel, yLabel string, colour [3]int, logY bool, series ...[][2]float64) (image.Image, error) {
+	c, err := plotCanvas(size, title, xLabel, yLabel, colour, logY, series...)
+	if err != nil {
+		return nil, err
+	}
+	return c.Image(), nil
+}
+
+func plotCanvas(size PlotSize, title, xLabel, yLabel string, colour [3]int, logY bool, series ...[][2]float64) (*vgimg.Canvas, error) {
 	p := plot.New()
 	p.Title.Text = title
 	p.X.Label.Text = xLabel
@@ -375,13 +414,9 @@ func PlotPNG(title, xLabel, yLabel string, colour [3]int, logY bool, series ...[
 		p.Y.Scale = plot.LogScale{}
 		p.Y.Tick.Marker = plot.LogTicks{}
 	}
-	c := vgimg.NewWith(vgimg.UseWH(120*vg.Millimeter, 55*vg.Millimeter), vgimg.UseDPI(200))
+	c := vgimg.NewWith(vgimg.UseWH(vg.Length(size.WidthMM)*vg.Millimeter, vg.Length(size.HeightMM)*vg.Millimeter), vgimg.UseDPI(int(size.DPI)))
 	p.Draw(draw.New(c))
-	var buf bytes.Buffer
-	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
-		return nil, err
-	}
-	return buf.Bytes(), nil
+	return c, nil
 }
 
 func spansDecade(series [][][2]float64) bool {

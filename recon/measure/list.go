@@ -111,6 +111,9 @@ func CloneList(list []Shape) []Shape {
 
 // SameList reports whether a and b hold the same shapes in the same order.
 func SameList(a, b []Shape) bool {
+	if len(a) == 0 && len(b) == 0 {
+		return true
+	}
 	da, errA := json.Marshal(a)
 	db, errB := json.Marshal(b)
 	return errA == nil && errB == nil && bytes.Equal(da, db)
