@@ -675,10 +675,15 @@ func (ws *Workstation) ChooseRecipe() {
 	d.Show()
 }
 
-// applyRecipe replaces the recipe (and, unless nil, the measurements) and
-// rebuilds; if the build fails the settings go back to those of the
-// image shown.
-func (ws *Workstation) applyRecipe(r recipe.Recipe, measurements []measure.Shape, reason string) {
+// applyRecipe replaces the recipe and rebuilds; if the build fails the
+// settings go back to those of the image shown.
+func (ws *Workstation) applyRecipe(r recipe.Recipe, reason string) {
+	ws.applyRecipeWith(r, nil, reason)
+}
+
+// applyRecipeWith is applyRecipe that also replaces the measurements,
+// unless nil, in the same undo step.
+func (ws *Workstation) applyRecipeWith(r recipe.Recipe, measurements []measure.Shape, reason string) {
 	if ws.result == nil {
 		return
 	}

@@ -265,7 +265,7 @@ func (ws *Workstation) LoadRecipe(path string) {
 			return
 		}
 	}
-	ws.applyRecipe(r, list, reason)
+	ws.applyRecipeWith(r, list, reason)
 }
 
 // recipeSaver is the Save recipe dialog: a folder and a name in it.
