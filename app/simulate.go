@@ -25,8 +25,11 @@ const simulateDescription = `
 Scans one of the built-in scenes (parcel, dot-grid, edge-card, bars, sheet) with a
 simulated flying-spot scanner and writes the capture as WAV, CSV or raw
 binary (with FILE.layout.json beside it). The rig is the demo rig unless
---rig gives one; "spotloom simulate --print-rig" prints the demo rig as a
-starting point. --truth writes the ground truth (line times, true speed,
+--rig gives one, or --preset names a built-in one (demo; sound-card, the
+position a tone on an AC-coupled card; stereo-sound-card, the same on a card
+with two inputs, the tone added to the index pulses on one; mirror, a
+resonant mirror); "spotloom simulate --print-rig" prints the demo rig (or
+the --preset) as a starting point. --truth writes the ground truth (line times, true speed,
 delay, aperture offsets, y of every line, dot centres) as JSON and the
 scene's true image as a 16-bit PNG beside it. The same flags and seed always
 give the same file.
@@ -36,10 +39,10 @@ WAV stores volts divided by the rig's adc.full_scale_v (full scale = ±1.0).
 
 // simulateFlags are the flags of the simulate command.
 type simulateFlags struct {
-	scene, out, rigPath, format, sampleType, truthPath, recipePath string
-	seconds, rateHz, truthPitchMM                                  float64
-	seed                                                           uint64
-	printRig, noiseless, force                                     bool
+	scene, out, rigPath, preset, format, sampleType, truthPath, recipePath string
+	seconds, rateHz, truthPitchMM                                          float64
+	seed                                                                   uint64
+	printRig, noiseless, force                                             bool
 }
 
 func runSimulate(args []string, stdout, stderr io.Writer) error {
@@ -48,6 +51,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	fs.StringVar(&f.scene, "scene", "", "scene `name`: "+strings.Join(sampledata.SceneNames(), ", "))
 	fs.StringVar(&f.out, "out", "", "capture `file` to write")
 	fs.StringVar(&f.rigPath, "rig", "", "rig JSON `file` (default: the demo rig)")
+	fs.StringVar(&f.preset, "preset", "", "built-in rig `name`: "+strings.Join(sampledata.RigPresetNames(), ", ")+" (default demo)")
 	fs.Float64Var(&f.seconds, "seconds", 0, "capture length in `s` (default: the rig's duration_s)")
 	fs.Float64Var(&f.rateHz, "rate", 0, "sample rate in `Hz` (default: the rig's sample_rate_hz)")
 	fs.StringVar(&f.format, "format", "", "file `format`: wav, csv or raw (default: from the --out extension)")
@@ -57,7 +61,7 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	fs.StringVar(&f.recipePath, "recipe", "", "also write the rig's starting recipe to this JSON `file`")
 	fs.Uint64Var(&f.seed, "seed", 1, "random `seed`")
 	fs.BoolVar(&f.noiseless, "noiseless", false, "write expected values: no photon, electronics or timing noise")
-	fs.BoolVar(&f.printRig, "print-rig", false, "print the demo rig JSON and exit")
+	fs.BoolVar(&f.printRig, "print-rig", false, "print the demo rig (or the --preset) JSON and exit")
 	fs.BoolVar(&f.force, "force", false, "replace files that already exist (never the rig file)")
 	positional, err := parseFlags(fs, args)
 	if err != nil {
@@ -66,14 +70,33 @@ func runSimulate(args []string, stdout, stderr io.Writer) error {
 	if len(positional) > 0 {
 		return usagef("unexpected argument %q", positional[0])
 	}
+	rig, err := presetRig(f)
+	if err != nil {
+		return err
+	}
 	if f.printRig {
-		_, err := stdout.Write(sampledata.DemoRig().JSON())
+		_, err := stdout.Write(rig.JSON())
 		return err
 	}
 	if err := positiveFlags(fs, "seconds", "rate", "truth-pitch"); err != nil {
 		return err
 	}
 	return simulate(f, stderr)
+}
+
+// presetRig is the --preset rig, or the demo rig.
+func presetRig(f simulateFlags) (sampledata.Rig, error) {
+	if f.preset == "" {
+		return sampledata.DemoRig(), nil
+	}
+	if f.rigPath != "" {
+		return sampledata.Rig{}, usagef("give --rig or --preset, not both")
+	}
+	rig, err := sampledata.RigPreset(f.preset)
+	if err != nil {
+		return rig, usagef("--preset: %v", err)
+	}
+	return rig, nil
 }
 
 // simulate checks the flags, runs the simulator and writes the files.
@@ -133,9 +156,11 @@ func simulate(f simulateFlags, stderr io.Writer) error {
 	if err := checkSimulateOutputs(f, format); err != nil {
 		return err
 	}
-	rig := sampledata.DemoRig()
+	rig, err := presetRig(f)
+	if err != nil {
+		return err
+	}
 	if f.rigPath != "" {
-		var err error
 		if rig, err = sampledata.LoadRig(f.rigPath); err != nil {
 			return err
 		}

@@ -109,6 +109,7 @@ func (d *lookDraft) note(format string, args ...any) {
 func (d *lookDraft) guessSignals(rec *capture.Recording) {
 	if !d.known.Has("channels") {
 		d.r = GuessChannels(d.r, rec)
+		d.guessSharedInput(rec)
 	}
 	if !d.known.Has("rows.source") {
 		d.guessPositionSource(rec)
@@ -123,6 +124,10 @@ func (d *lookDraft) guessSignals(rec *capture.Recording) {
 func (d *lookDraft) guessPositionSource(rec *capture.Recording) {
 	r := &d.r
 	if !r.Rows.Source.ReadsPosition() || !r.Channels.Position.IsSet() {
+		return
+	}
+	if r.Channels.Position == r.Channels.Index {
+		r.Rows.Source = recipe.SourceTone // the only source that can share the index channel
 		return
 	}
 	ch, err := rec.Lookup(string(r.Channels.Position))

@@ -171,6 +171,9 @@ type rowsParams struct {
 	CarrierHz *float64
 	MMPerStep *float64
 	SpeedMMS  *float64
+	// SharesIndex is set when the tone is read from the index channel,
+	// around its pulses.
+	SharesIndex bool `json:",omitempty"`
 }
 
 // smoothMS is the span of the position smoothing window.
@@ -234,12 +237,14 @@ func levelRows(ctx context.Context, rec rowsInput, p rowsParams, res *rowsResult
 	return res, nil
 }
 
-// rowsInput is the channel the rows stage reads.
+// rowsInput is the channel the rows stage reads. pulses, for a channel
+// that carries the index pulses too, are the sample spans they cover.
 type rowsInput struct {
 	channel    []float32
 	n          int
 	rateHz     float64
 	name, unit string
+	pulses     [][2]int
 }
 
 func minMax(v []float64) (float64, float64) {
@@ -341,8 +346,36 @@ func toneAmplitude(rec rowsInput, carrierHz *float64) ([]float64, int, float64, 
 		hann[i] = 0.5 - 0.5*math.Cos(2*math.Pi*(float64(i)+0.5)/float64(win))
 	}
 	nb := (len(x) + blockLen - 1) / blockLen
-	out := make([]float64, nb)
 	w := 2 * math.Pi * fc / rate
+	var out []float64
+	if rec.pulses != nil {
+		var err error
+		if out, err = maskedToneBlocks(x, blockLen, hann, w, rec.pulses); err != nil {
+			return nil, 0, 0, fmt.Errorf("position channel %s: %v", rec.name, err)
+		}
+	} else {
+		out = lockInBlocks(x, blockLen, hann, w)
+	}
+	// A window cut off by either end of the capture no longer spans whole
+	// carrier periods: those blocks take the nearest whole window's value.
+	firstWhole := (blockLen + blockLen/2) / blockLen
+	lastWhole := (len(x)-blockLen-blockLen/2)/blockLen - 1
+	if lastWhole >= firstWhole {
+		for j := 0; j < firstWhole && j < nb; j++ {
+			out[j] = out[firstWhole]
+		}
+		for j := lastWhole + 1; j < nb; j++ {
+			out[j] = out[lastWhole]
+		}
+	}
+	return out, blockLen, fc, nil
+}
+
+// lockInBlocks is the amplitude of the tone at ω (radians per sample) in
+// each block of x: x mixed with the carrier and summed under the window
+// hann, two blocks long, centred on the block.
+func lockInBlocks(x []float32, blockLen int, hann []float64, w float64) []float64 {
+	out := make([]float64, (len(x)+blockLen-1)/blockLen)
 	rot := complex(math.Cos(w), -math.Sin(w))
 	for j := range out {
 		c := j*blockLen + blockLen/2
@@ -368,19 +401,7 @@ func toneAmplitude(rec rowsInput, carrierHz *float64) ([]float64, int, float64, 
 			out[j] = 2 * cmplx.Abs(acc-complex(xs/ws, 0)*hz) / ws
 		}
 	}
-	// A window cut off by either end of the capture no longer spans whole
-	// carrier periods: those blocks take the nearest whole window's value.
-	firstWhole := (blockLen + blockLen/2) / blockLen
-	lastWhole := (len(x)-blockLen-blockLen/2)/blockLen - 1
-	if lastWhole >= firstWhole {
-		for j := 0; j < firstWhole && j < nb; j++ {
-			out[j] = out[firstWhole]
-		}
-		for j := lastWhole + 1; j < nb; j++ {
-			out[j] = out[lastWhole]
-		}
-	}
-	return out, blockLen, fc, nil
+	return out
 }
 
 // strongestTone returns the frequency of the largest peak of the spectrum

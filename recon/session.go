@@ -72,6 +72,7 @@ type Session struct {
 	// afterglows holds estimated afterglows, µs
 	afterglows *memo[float64]
 	coupled    *memo[detectorView] // the detector with its AC coupling undone
+	shared     *memo[*sharedIndex] // a channel of index pulses and a tone, taken apart
 	places     *memo[*placement]
 	grids      *memo[*Result]
 	stats      *memo[*channelStats]   // whole-channel statistics of the recording
@@ -92,7 +93,7 @@ func NewSession(rec *capture.Recording) *Session {
 		// A corrected detector and a grid are as large as the capture
 		// and the image: keep one of each.
 		coupled: newMemo[detectorView](1), places: newMemo[*placement](2), grids: newMemo[*Result](1),
-		stats: newMemo[*channelStats](len(rec.Channels)),
+		stats: newMemo[*channelStats](len(rec.Channels)), shared: newMemo[*sharedIndex](1),
 	}
 }
 
@@ -141,11 +142,12 @@ func (s *Session) resolveChannels(r *recipe.Recipe) (channels, error) {
 		}
 		*out[role] = i
 	}
-	// One channel cannot carry two signals.
+	// One channel cannot carry two signals, except the index pulses and a
+	// position tone (a two-input sound card; docs/pipeline.md).
 	seen := map[int]string{}
 	for _, role := range []string{"detector", "index", "position", "steps"} {
 		i := *out[role]
-		if i < 0 {
+		if i < 0 || role == "position" && i == c.index && r.Rows.Source == recipe.SourceTone {
 			continue
 		}
 		if other, dup := seen[i]; dup {
@@ -279,8 +281,20 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 func (s *Session) timingStage(ctx context.Context, r recipe.Recipe, ch channels) (*timingResult, error) {
 	c := s.rec.Channels[ch.index]
 	name, unit := fmt.Sprintf("%d (%s)", ch.index, c.Name), unitOf(c)
-	o, _ := cachedStage(s.splits, nil, "", ch.index, func() (OtsuResult, error) { return Otsu(c.Samples), nil })
+	samples := c.Samples
+	var toneHz float64
+	var o OtsuResult
+	if sharesIndex(r, ch) {
+		sh, err := s.sharedStage(ctx, r, ch)
+		if err != nil {
+			return nil, err
+		}
+		samples, o, toneHz = sh.pulses, sh.otsu, sh.carrierHz
+	} else {
+		o, _ = cachedStage(s.splits, nil, "", ch.index, func() (OtsuResult, error) { return Otsu(c.Samples), nil })
+	}
 	p := timingParams{
+		ToneHz:       toneHz,
 		Channel:      ch.index,
 		Rising:       r.Timing.Edge != "falling",
 		Threshold:    r.Timing.Threshold,
@@ -294,7 +308,7 @@ func (s *Session) timingStage(ctx context.Context, r recipe.Recipe, ch channels)
 		return nil, err
 	}
 	return cachedStage(s.timings, s.runs, "timing", p, func() (*timingResult, error) {
-		t, err := findTiming(ctx, c.Samples, o, s.rec.SampleRateHz, name, unit, p)
+		t, err := findTiming(ctx, samples, o, s.rec.SampleRateHz, name, unit, p)
 		if t != nil {
 			t.key = key(p)
 		}
@@ -328,17 +342,18 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 		in.channel, in.name, in.unit = c.Samples, fmt.Sprintf("%d (%s)", p.Channel, c.Name), unitOf(c)
 	}
 	if p.Source == recipe.SourceTone && p.CarrierHz == nil {
-		fc, err := cachedStage(s.carriers, nil, "", p.Channel, func() (float64, error) {
-			fc, err := strongestTone(in.channel, in.rateHz)
-			if err != nil {
-				return 0, fmt.Errorf("position channel %s: %w", in.name, err)
-			}
-			return fc, nil
-		})
+		fc, err := s.strongestTone(p.Channel)
 		if err != nil {
 			return nil, err
 		}
 		p.CarrierHz = &fc
+	}
+	if sharesIndex(r, ch) {
+		sh, err := s.sharedStage(ctx, r, ch)
+		if err != nil {
+			return nil, err
+		}
+		in.pulses, p.SharesIndex = sh.spans, true
 	}
 	return cachedStage(s.rows, s.runs, "rows", p, func() (*rowsResult, error) {
 		rows, err := findRows(ctx, in, p)
@@ -347,6 +362,40 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 		}
 		return rows, err
 	})
+}
+
+// strongestTone is the strongest tone of channel ch (cached).
+func (s *Session) strongestTone(ch int) (float64, error) {
+	return cachedStage(s.carriers, nil, "", ch, func() (float64, error) {
+		c := s.rec.Channels[ch]
+		fc, err := strongestTone(c.Samples, s.rec.SampleRateHz)
+		if err != nil {
+			return 0, fmt.Errorf("position channel %d (%s): %w", ch, c.Name, err)
+		}
+		return fc, nil
+	})
+}
+
+// sharesIndex reports whether r reads the position tone from the index
+// channel.
+func sharesIndex(r recipe.Recipe, ch channels) bool {
+	return r.Rows.Source == recipe.SourceTone && ch.position >= 0 && ch.position == ch.index
+}
+
+// sharedStage takes apart the channel that carries both the index pulses
+// and the position tone, at rows.carrier_hz or the channel's strongest
+// tone.
+func (s *Session) sharedStage(ctx context.Context, r recipe.Recipe, ch channels) (*sharedIndex, error) {
+	var fc float64
+	if r.Rows.CarrierHz != nil {
+		fc = *r.Rows.CarrierHz
+	} else {
+		var err error
+		if fc, err = s.strongestTone(ch.index); err != nil {
+			return nil, err
+		}
+	}
+	return s.sharedChannel(ctx, ch.index, fc)
 }
 
 // delayFound is everything the delay stage finds: the delay, whether the

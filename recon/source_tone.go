@@ -1,6 +1,10 @@
 package recon
 
-import "context"
+import (
+	"context"
+	"fmt"
+	"math"
+)
 
 // toneSource is the peak amplitude of a carrier tone on the position
 // channel (a potentiometer fed with a sine wave, read by an AC-coupled
@@ -20,3 +24,84 @@ func (toneSource) find(ctx context.Context, rec rowsInput, p rowsParams, res *ro
 func (toneSource) channel(ch channels) int { return ch.position }
 
 func (toneSource) needs() string { return "position" }
+
+// minToneShare is the least share of a window's weight that must lie
+// outside the pulses for its block to get a tone amplitude of its own.
+const minToneShare = 0.3
+
+// maskedToneBlocks is the amplitude of the tone at ω (radians per sample)
+// in each block of x, a channel that carries index pulses over the sample
+// spans pulses too: a weighted least-squares fit (window hann, two blocks
+// long, centred on the block) of c·cos ωs + d·sin ωs + e + g·u (u a ramp
+// across the window, for a level that drifts after a pulse) to the
+// samples outside the pulses, whose amplitude is √(c² + d²). Over a whole
+// window with no pulse it measures what lockInBlocks does; with a pulse in
+// it, the fit is not disturbed by the samples left out, as a mixing sum
+// would be. A block whose window is mostly pulse takes the amplitude
+// interpolated between its neighbours.
+func maskedToneBlocks(x []float32, blockLen int, hann []float64, w float64, pulses [][2]int) ([]float64, error) {
+	inPulse := make([]bool, len(x))
+	for _, p := range pulses {
+		for i := max(p[0], 0); i < min(p[1], len(x)); i++ {
+			inPulse[i] = true
+		}
+	}
+	out := make([]float64, (len(x)+blockLen-1)/blockLen)
+	rot := complex(math.Cos(w), math.Sin(w))
+	for j := range out {
+		c := j*blockLen + blockLen/2
+		a, b := max(c-blockLen, 0), min(c+blockLen, len(x))
+		fit := toneFit{w: w}
+		z := complex(math.Cos(w*float64(a)), math.Sin(w*float64(a)))
+		total, kept := 0.0, 0.0
+		for s := a; s < b; s++ {
+			h := hann[s-(c-blockLen)]
+			total += h
+			if !inPulse[s] {
+				kept += h
+				fit.addBasis(float64(x[s]), [4]float64{real(z), imag(z), 1, float64(s-c) / float64(blockLen)}, h)
+			}
+			z *= rot
+		}
+		out[j] = math.NaN()
+		if kept >= minToneShare*total {
+			if coef, ok := fit.solve(false); ok {
+				out[j] = math.Hypot(coef[0], coef[1])
+			}
+		}
+	}
+	if !interpolateNaN(out) {
+		return nil, fmt.Errorf("the index pulses leave no stretch of the tone long enough to measure its amplitude")
+	}
+	return out, nil
+}
+
+// interpolateNaN replaces NaN values by linear interpolation between the nearest
+// values on either side (the nearest one at the ends); false when all are
+// NaN.
+func interpolateNaN(v []float64) bool {
+	last := -1
+	for i, x := range v {
+		if math.IsNaN(x) {
+			continue
+		}
+		switch {
+		case last < 0:
+			for k := 0; k < i; k++ {
+				v[k] = x
+			}
+		case i > last+1:
+			for k := last + 1; k < i; k++ {
+				v[k] = v[last] + (x-v[last])*float64(k-last)/float64(i-last)
+			}
+		}
+		last = i
+	}
+	if last < 0 {
+		return false
+	}
+	for k := last + 1; k < len(v); k++ {
+		v[k] = v[last]
+	}
+	return true
+}

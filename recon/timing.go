@@ -354,7 +354,10 @@ type timingResult struct {
 // timingParams are the keys the timing stage depends on (exported fields,
 // so the cache key, their JSON, holds them all).
 type timingParams struct {
-	Channel      int
+	Channel int
+	// ToneHz is the carrier notched out of an index channel that carries
+	// the position tone too (0 for none).
+	ToneHz       float64 `json:",omitempty"`
 	Rising       bool
 	Threshold    *float64
 	Hysteresis   *float64

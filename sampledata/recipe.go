@@ -7,10 +7,11 @@ import (
 )
 
 // Channel numbers of a simulated capture, in order: detector, index, then
-// position when the rig has a position sensor, then steps for a stepper.
+// position when the rig has a position sensor on an input of its own, then
+// steps for a stepper.
 func (r Rig) channelNames() []string {
 	names := []string{"detector", "index"}
-	if r.Position.Kind == SensorDC || r.Position.Kind == SensorTone {
+	if (r.Position.Kind == SensorDC || r.Position.Kind == SensorTone) && !r.Position.SharesIndexInput {
 		names = append(names, "position")
 	}
 	if r.Motion.Kind == MotionStepper {
@@ -34,6 +35,9 @@ func (r Rig) Recipe() recipe.Recipe {
 	channel := map[string]recipe.ChannelRef{}
 	for i, n := range r.channelNames() {
 		channel[n] = recipe.ChannelRef(strconv.Itoa(i))
+	}
+	if r.Position.SharesIndexInput {
+		channel["position"] = channel["index"]
 	}
 	rows := recipe.Rows{Strokes: "merge", Calibration: [][2]float64{}}
 	switch {

@@ -186,7 +186,9 @@ const (
 // PositionSensor is the sensor on the head (a potentiometer). Its level is
 // OffsetV + VoltsPerMM·y plus a bow of NonlinearityPct of the span over
 // RangeMM (largest in the middle of the range), plus noise. With kind "tone"
-// the channel carries level·sin(2π·CarrierHz·t).
+// the channel carries level·sin(2π·CarrierHz·t). SharesIndexInput puts that
+// tone on the index channel, added to the pulses, as on a two-input sound
+// card (the capture then has two channels: detector, index with tone).
 type PositionSensor struct {
 	Kind            string  `json:"kind"`
 	VoltsPerMM      float64 `json:"volts_per_mm" rig:"optional"`
@@ -195,6 +197,8 @@ type PositionSensor struct {
 	NonlinearityPct float64 `json:"nonlinearity_pct" rig:"optional"`
 	NoiseV          float64 `json:"noise_v" rig:"optional"`
 	CarrierHz       float64 `json:"carrier_hz" rig:"optional"`
+	// SharesIndexInput: kind tone only; carrier_hz well above the line rate.
+	SharesIndexInput bool `json:"shares_index_input,omitempty" rig:"optional"`
 }
 
 // Detector is the detector chain: photon counting, then the phosphor's
@@ -509,6 +513,28 @@ func (c *checker) choice(path, v string, options ...string) {
 	c.fail(path, fmt.Sprintf("%q", v), allowed)
 }
 
+// checkSharedInput checks a position tone that shares the index input:
+// the two must be told apart (the tone a narrow carrier at least ten line
+// rates up, well clear of the pulse train's strongest lines) and their sum
+// must fit the converter.
+func (r Rig) checkSharedInput(c *checker) {
+	p := r.Position
+	c.note("position_sensor.shares_index_input", "true with kind tone, carrier_hz at least 10 line rates, index.level_v plus the tone's peak below adc.full_scale_v")
+	if p.Kind != SensorTone {
+		c.fail("position_sensor.shares_index_input", "true with kind "+fmt.Sprintf("%q", p.Kind), "false, or kind tone (only a tone can share the index input)")
+		return
+	}
+	if lines := r.LineRateHz(); p.CarrierHz < 10*lines {
+		c.fail("position_sensor.carrier_hz", fmt.Sprint(p.CarrierHz), fmt.Sprintf("at least %g Hz (10 line rates) when the tone shares the index input", 10*lines))
+	}
+	m := r.Motion
+	peak := math.Max(math.Abs(p.OffsetV+p.VoltsPerMM*m.StartMM), math.Abs(p.OffsetV+p.VoltsPerMM*(m.StartMM+m.TravelMM)))
+	peak *= 1 + p.NonlinearityPct/100
+	if sum := math.Abs(r.Index.LevelV) + peak; sum >= r.ADC.FullScaleV {
+		c.fail("index.level_v", fmt.Sprint(r.Index.LevelV), fmt.Sprintf("below %g V, so that the pulses on the tone's peak (%g V) stay inside the converter's %g V", r.ADC.FullScaleV-peak, peak, r.ADC.FullScaleV))
+	}
+}
+
 func (r Rig) check(c *checker) {
 	c.choice("format", r.Format, RigFormat)
 	c.num("sample_rate_hz", r.SampleRateHz, excl(0), incl(1e9), "Hz")
@@ -669,6 +695,9 @@ func (r Rig) check(c *checker) {
 			c.fail("position_sensor.offset_v", fmt.Sprint(p.OffsetV),
 				fmt.Sprintf("above %g V, so that the tone's amplitude stays positive over the travel", need))
 		}
+	}
+	if p.SharesIndexInput {
+		r.checkSharedInput(c)
 	}
 
 	d := r.Detector

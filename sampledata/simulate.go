@@ -422,8 +422,9 @@ func sensorLevel(p PositionSensor, startMM, y float64) float64 {
 	return p.OffsetV + p.VoltsPerMM*y + bow
 }
 
-// finishChannels adds gain, offset and noise, draws the position channel,
-// and quantises and clips every channel.
+// finishChannels adds gain, offset and noise, draws the position channel
+// (or adds the position tone to the index channel it shares), and
+// quantises and clips every channel.
 func finishChannels(ctx context.Context, rig Rig, motion *motionPath, names []string, chans []capture.Channel, opts SimOptions) error {
 	fs := rig.SampleRateHz
 	n := len(chans[0].Samples)
@@ -440,6 +441,18 @@ func finishChannels(ctx context.Context, rig Rig, motion *motionPath, names []st
 	tonePhase := 2 * math.Pi * rand.New(rand.NewPCG(opts.Seed, streamPlan+1)).Float64()
 	omega := 2 * math.Pi * rig.Position.CarrierHz
 	quant := rig.ADC.quantiser()
+	// position is the position sensor's signal at sample i, noise included.
+	position := func(i int, rng *rand.Rand) float64 {
+		t := float64(i) / fs
+		v := sensorLevel(rig.Position, rig.Motion.StartMM, motion.at(t))
+		if rig.Position.Kind == SensorTone {
+			v *= math.Sin(omega*t + tonePhase)
+		}
+		if posNoise > 0 {
+			v += posNoise * rng.NormFloat64()
+		}
+		return v
+	}
 	return parallelChunks(ctx, n, func(chunk, i0, i1 int) {
 		rng := rand.New(rand.NewPCG(opts.Seed, streamNoise+uint64(chunk)))
 		for ci, name := range names {
@@ -454,24 +467,20 @@ func finishChannels(ctx context.Context, rig Rig, motion *motionPath, names []st
 					s[i] = quant.quantise(v)
 				}
 			case "index", "steps":
+				shared := name == "index" && rig.Position.SharesIndexInput
 				for i := i0; i < i1; i++ {
 					v := float64(s[i])
 					if idxNoise > 0 {
 						v += idxNoise * rng.NormFloat64()
 					}
+					if shared {
+						v += position(i, rng)
+					}
 					s[i] = quant.quantise(v)
 				}
 			case "position":
 				for i := i0; i < i1; i++ {
-					t := float64(i) / fs
-					v := sensorLevel(rig.Position, rig.Motion.StartMM, motion.at(t))
-					if rig.Position.Kind == SensorTone {
-						v *= math.Sin(omega*t + tonePhase)
-					}
-					if posNoise > 0 {
-						v += posNoise * rng.NormFloat64()
-					}
-					s[i] = quant.quantise(v)
+					s[i] = quant.quantise(position(i, rng))
 				}
 			}
 		}

@@ -20,3 +20,19 @@ func SoundCardRig() Rig {
 	rig.Detector.OffsetV = 0
 	return rig
 }
+
+// StereoSoundCardRig is the sound-card rig on a card with two inputs: the
+// detector on one, and on the other the index pulses with the position
+// tone added to them (a resistor summing the two into one input). The
+// pulses are lower and the tone smaller than on three inputs, so that
+// pulses on the tone's peak stay inside the card's full scale.
+func StereoSoundCardRig() Rig {
+	rig := SoundCardRig()
+	rig.Name = "demo bench wheel on a two-input sound card"
+	rig.Position.SharesIndexInput = true
+	rig.Position.OffsetV = 0.05
+	rig.Position.VoltsPerMM = 0.001
+	rig.Index.LevelV = 0.4
+	rig.Index.NoiseV = rig.Position.NoiseV // the noise of the card's input, as on the position input of three
+	return rig
+}

@@ -155,6 +155,9 @@ func newTruth(rig Rig, scene SceneModel, opts SimOptions, wheel *wheelPath, moti
 	for i, name := range rig.channelNames() {
 		t.Channels[name] = i
 	}
+	if rig.Position.SharesIndexInput {
+		t.Channels["position"] = t.Channels["index"]
+	}
 	apertures := rig.Wheel.ApertureCount
 	t.ApertureErrorsDeg = make([]float64, apertures)
 	for j := range t.ApertureErrorsDeg {

@@ -164,6 +164,9 @@ func (r Recipe) Validate() error {
 			bad("rows.calibration", "has %d points: source %s needs two or more [level, mm] points", len(w.Calibration), w.Source)
 		}
 	}
+	if c := r.Channels; c.Position.IsSet() && c.Position == c.Index && w.Source != SourceTone {
+		bad("channels.position", "names the index channel (%s) with rows.source %s: only a tone can share the index channel (rows.source tone, a two-input sound card), since a DC level cannot be told from the pulses", strictjson.Quote(string(c.Index)), w.Source)
+	}
 	errs = checkCalibration(w.Calibration).appendTo(errs)
 	if finite("rows.carrier_hz", w.CarrierHz) && !(*w.CarrierHz > 0 && *w.CarrierHz <= maxFrequencyHz) {
 		bad("rows.carrier_hz", "is %g: expected a frequency above 0 Hz and at most %g Hz, or null for the strongest tone", *w.CarrierHz, float64(maxFrequencyHz))
