@@ -6,6 +6,7 @@ import (
 	"testing"
 	"time"
 
+	"spotloom/recon/measure"
 	"spotloom/recon/recipe"
 	"spotloom/sampledata"
 )
@@ -51,4 +52,30 @@ func BenchmarkDelayChangeInWindow(b *testing.B) {
 		}
 	}
 	b.ReportMetric(float64(time.Since(start).Milliseconds())/float64(b.N), "ms/change")
+}
+
+// BenchmarkMeasureListOnNewFrame times what every rebuilt frame costs the
+// list beside the image, on the UI goroutine: a 60 mm square region, a
+// 120 mm profile and a 100 × 80 mm noise spectrum on the demo frame, their
+// numbers and the two plots.
+func BenchmarkMeasureListOnNewFrame(b *testing.B) {
+	ws, _ := newTestWorkstation(b)
+	f := ws.view.Frame()
+	cx, cy := centreMM(f)
+	for _, s := range []measure.Shape{
+		{Kind: measure.KindRegion, Rect: &measure.Rect{X0: cx - 30, Y0: cy - 30, X1: cx + 30, Y1: cy + 30}},
+		{Kind: measure.KindProfile, Line: &measure.Line{X0: cx - 60, Y0: cy, X1: cx + 60, Y1: cy}, BandMM: 2},
+		{Kind: measure.KindNPS, Rect: &measure.Rect{X0: cx - 50, Y0: cy - 40, X1: cx + 50, Y1: cy + 40}},
+	} {
+		ws.AddMeasurement(s)
+	}
+	for b.Loop() {
+		ws.measures.show(f)
+	}
+	for _, t := range ws.measures.taken {
+		if t.Err != nil {
+			b.Fatal(t.Err)
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Microseconds())/1000/float64(b.N), "ms/frame")
 }

@@ -93,7 +93,7 @@ func newMeasurePanel(act measureActions) *measurePanel {
 	p.kind.SetSelected(measureEdge)
 	p.result = widget.NewLabel(measureHint)
 	p.result.Wrapping = fyne.TextWrapWord
-	p.list = container.NewVBox()
+	p.list = container.NewVBox(noMeasurements())
 	p.box = container.NewVBox(
 		widget.NewLabelWithStyle("Measurements", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 		p.list,
@@ -169,9 +169,7 @@ func (p *measurePanel) setShapes(shapes []measure.Shape, selected string) {
 			objects = append(objects, c.box)
 		}
 		if len(objects) == 0 {
-			empty := widget.NewLabel("None yet.")
-			empty.Importance = widget.LowImportance
-			objects = append(objects, empty)
+			objects = append(objects, noMeasurements())
 		}
 		p.list.Objects = objects
 		p.list.Refresh()
@@ -181,6 +179,12 @@ func (p *measurePanel) setShapes(shapes []measure.Shape, selected string) {
 	for _, c := range p.cards {
 		c.highlight(c.shape.Label == selected)
 	}
+}
+
+func noMeasurements() fyne.CanvasObject {
+	empty := widget.NewLabel("None yet.")
+	empty.Importance = widget.LowImportance
+	return empty
 }
 
 // run measures every shape on the frame shown and shows the results.
@@ -286,7 +290,8 @@ func shapeWhere(s measure.Shape) string {
 // show puts a measurement's numbers and plot on the card.
 func (c *measureCard) show(t measure.Taken) {
 	if t.Err != nil {
-		c.text.SetText("Not taken: " + windowWords(t.Err.Error()) + ".")
+		msg := strings.TrimPrefix(t.Err.Error(), string(t.Shape.Kind)+": ") // the card names the kind
+		c.text.SetText("Not taken: " + windowWords(msg) + ".")
 		c.plot.Hide()
 		return
 	}

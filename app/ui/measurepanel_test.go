@@ -423,3 +423,20 @@ func readPNG(t *testing.T, path string) image.Image {
 	}
 	return img
 }
+
+func TestMeasurementThatCannotBeTakenSaysWhy(t *testing.T) {
+	// A region off the frame, or a dot grid the frame does not hold, stays
+	// in the list with the reason in the window's words (no flag names).
+	ws, _ := newTestWorkstation(t)
+	f := ws.view.Frame()
+	far := f.OriginXMM + float64(f.Width)*f.PitchXMM + 100
+	ws.AddMeasurement(measure.Shape{Kind: measure.KindRegion, Rect: &measure.Rect{X0: far, Y0: 0, X1: far + 10, Y1: 10}})
+	ws.AddMeasurement(measure.Shape{Kind: measure.KindDots, SpacingMM: 25})
+	text := ws.measures.cards[0].text.Text
+	if !strings.HasPrefix(text, "Not taken: the rectangle") || !strings.Contains(text, "outside the frame") {
+		t.Errorf("R1 off the frame says %q", text)
+	}
+	if got := ws.measures.cards[1].text.Text; strings.Contains(got, "--dots") || !strings.HasPrefix(got, "Not taken:") {
+		t.Errorf("the demo has no 25 mm dot grid, and G1 says %q", got)
+	}
+}

@@ -31,6 +31,7 @@ var windowPhrases = []struct{ from, to string }{
 	{" is null", " is not given"},
 	{"or null for automatic", "or leave it automatic"},
 	{"expected a finite number or null", "expected a finite number"},
+	{"check --dots", "check the spacing typed"},
 }
 
 var windowKeys = map[string]string{

@@ -279,7 +279,8 @@ func measurementPage(pdf *fpdf.Fpdf, tr func(string) string, taken []measure.Tak
 	for _, t := range taken {
 		text("B", 10, 5, t.Shape.Label+"  "+kindTitles[t.Shape.Kind])
 		if t.Err != nil {
-			text("", 9, 4.5, "Not taken: "+t.Err.Error())
+			// The heading names the kind already.
+			text("", 9, 4.5, "Not taken: "+strings.TrimPrefix(t.Err.Error(), string(t.Shape.Kind)+": "))
 			pdf.Ln(2)
 			continue
 		}
