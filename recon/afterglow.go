@@ -65,19 +65,34 @@ func restorationGain(a, b float64) float64 {
 // recursion starts settled on x[0].
 func undoAfterglow(x []float32, tauS, fs float64) []float32 {
 	out := make([]float32, len(x))
-	if len(x) == 0 {
-		return out
-	}
+	newAfterglowUndo(tauS, fs).run(out, x)
+	return out
+}
+
+// afterglowUndo is undoAfterglow with its state kept, so a capture can be
+// restored a block at a time as it is recorded, with the same result.
+type afterglowUndo struct {
+	a, b, k         float64
+	prevIn, prevOut float64
+	started         bool
+}
+
+func newAfterglowUndo(tauS, fs float64) *afterglowUndo {
 	a, b := afterglowFilter(tauS, fs)
-	k := (1 - b) / (1 - a)
-	prevIn, prevOut := float64(x[0]), float64(x[0])
+	return &afterglowUndo{a: a, b: b, k: (1 - b) / (1 - a)}
+}
+
+// run writes the restored x into out (len(out) == len(x)).
+func (g *afterglowUndo) run(out, x []float32) {
+	if len(x) > 0 && !g.started {
+		g.prevIn, g.prevOut, g.started = float64(x[0]), float64(x[0]), true
+	}
 	for i, v := range x {
 		y := float64(v)
-		o := b*prevOut + k*(y-a*prevIn)
+		o := g.b*g.prevOut + g.k*(y-g.a*g.prevIn)
 		out[i] = float32(o)
-		prevIn, prevOut = y, o
+		g.prevIn, g.prevOut = y, o
 	}
-	return out
 }
 
 // fitAfterglow estimates the afterglow's time constant, in seconds, from

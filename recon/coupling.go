@@ -13,20 +13,36 @@ import "math"
 // keeps it bounded, and the per-line baseline removes what is left.
 func undoHighPass(y []float32, cornerHz, rateHz float64) []float32 {
 	x := make([]float32, len(y))
-	if len(y) == 0 {
-		return x
-	}
+	h := newHighPassUndo(cornerHz, rateHz)
+	h.run(x, y)
+	return x
+}
+
+// highPassUndo is undoHighPass with its state kept, so a capture can be
+// corrected a block at a time as it is recorded, with the same result.
+type highPassUndo struct {
+	wcdt, leak     float64
+	integral, prev float64
+	started        bool
+}
+
+func newHighPassUndo(cornerHz, rateHz float64) *highPassUndo {
 	dt := 1 / rateHz
 	wc := 2 * math.Pi * cornerHz
-	leak := 1 - wc*dt/1000
-	integral := 0.0
-	prev := float64(y[0])
-	x[0] = y[0]
-	for i := 1; i < len(y); i++ {
-		v := float64(y[i])
-		integral = integral*leak + wc*dt*(v+prev)/2
-		x[i] = float32(v + integral)
-		prev = v
+	return &highPassUndo{wcdt: wc * dt, leak: 1 - wc*dt/1000}
+}
+
+// run writes the corrected y into x (len(x) == len(y)).
+func (h *highPassUndo) run(x, y []float32) {
+	for i, yv := range y {
+		v := float64(yv)
+		if !h.started {
+			x[i] = yv
+			h.prev, h.started = v, true
+			continue
+		}
+		h.integral = h.integral*h.leak + h.wcdt*(v+h.prev)/2
+		x[i] = float32(v + h.integral)
+		h.prev = v
 	}
-	return x
 }

@@ -72,13 +72,21 @@ func (e *edgeResponse) startGain(t float64) float64 { return 1 - e.at(t) }
 // endGain is f(t) for a sample t samples after the field end (t < 0).
 func (e *edgeResponse) endGain(t float64) float64 { return e.at(t) }
 
-// measureEdgeResponse folds the detector around the field end of up to
-// about 1000 lines (baseline removed) onto a common time axis and returns
-// f(t) = fall(t)/level, level being the mean over the two samples before
-// the table starts. It returns nil when the scene at the end of the field
-// is too dark to measure the fall against the noise, or the lines leave
-// too little beam-off time after their field.
+// measureLines is how many of the first lines of a capture the detector's
+// edge response and the typical beam-off length are measured over: the
+// first ones, so both are known once those lines have been recorded (a
+// live build, docs/pipeline.md "Live"); the response is a property of the
+// detector's chain, the same all through a capture.
+const measureLines = 1000
+
+// measureEdgeResponse folds the detector around the field end of the
+// first measureLines lines (baseline removed) onto a common time axis and
+// returns f(t) = fall(t)/level, level being the mean over the two samples
+// before the table starts. It returns nil when the scene at the end of the
+// field is too dark to measure the fall against the noise, or the lines
+// leave too little beam-off time after their field.
 func measureEdgeResponse(det []float32, lines []placedLine) *edgeResponse {
+	lines = lines[:min(len(lines), measureLines+1)]
 	if len(lines) < 2 {
 		return nil
 	}
@@ -97,9 +105,8 @@ func measureEdgeResponse(det []float32, lines []placedLine) *edgeResponse {
 	bins := int((span + before) * edgeBinsPerSample)
 	sum := make([]float64, bins)
 	cnt := make([]float64, bins)
-	stride := 1 + len(lines)/1000
 	var levels []float64
-	for i := 0; i+1 < len(lines); i += stride {
+	for i := 0; i+1 < len(lines); i++ {
 		l := &lines[i]
 		from := max(int(math.Ceil(l.end-before)), l.first, 0)
 		to := min(int(math.Floor(l.end+span)), lines[i+1].first, len(det))

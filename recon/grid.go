@@ -116,33 +116,17 @@ func baselineLines(ctx context.Context, det []float32, st *channelStats, lines [
 	if len(lines) == 0 {
 		return nil
 	}
-	// Typical beam-off length, for the intervals before the first line
-	// and after the last.
-	var gaps []float64
-	for i := 1; i < len(lines); i++ {
-		if g := lines[i].first - lines[i-1].last; g > 0 {
-			gaps = append(gaps, float64(g))
-		}
-	}
-	typ := 0
-	if len(gaps) > 0 {
-		typ = int(median(gaps))
-	}
-	type interval struct{ a, b int }
+	typ := typicalBeamOff(lines)
 	iv := make([]interval, len(lines)+1)
 	for i := range iv {
-		var a, b int
 		switch {
 		case i == 0:
-			a, b = lines[0].first-typ, lines[0].first
+			iv[i] = beamOff(lines[0].first-typ, lines[0].first, n)
 		case i == len(lines):
-			a, b = lines[i-1].last, lines[i-1].last+typ
+			iv[i] = beamOff(lines[i-1].last, lines[i-1].last+typ, n)
 		default:
-			a, b = lines[i-1].last, lines[i].first
+			iv[i] = beamOff(lines[i-1].last, lines[i].first, n)
 		}
-		a, b = max(a, 0), min(b, n)
-		m := (b - a) / 10
-		iv[i] = interval{a + m, b - m}
 	}
 	means := make([]float64, len(iv))
 	valid := make([]bool, len(iv))
@@ -150,10 +134,7 @@ func baselineLines(ctx context.Context, det []float32, st *channelStats, lines [
 		if i%4096 == 0 && ctx.Err() != nil {
 			return ctx.Err()
 		}
-		if v.b > v.a {
-			means[i] = st.sum(det, v.a, v.b) / float64(v.b-v.a)
-			valid[i] = true
-		}
+		means[i], valid[i] = v.mean(det, st)
 	}
 	// Fill empty intervals from their neighbours.
 	last := math.NaN()
@@ -173,18 +154,59 @@ func baselineLines(ctx context.Context, det []float32, st *channelStats, lines [
 		}
 	}
 	for i := range lines {
-		l := &lines[i]
-		c0 := float64(iv[i].a+iv[i].b) / 2
-		c1 := float64(iv[i+1].a+iv[i+1].b) / 2
-		slope := 0.0
-		if c1 > c0 {
-			slope = (means[i+1] - means[i]) / (c1 - c0)
-		}
-		l.base0 = means[i] + slope*(float64(l.first)-c0)
-		l.baseSlope = slope
-		l.baseFirst, l.baseLast = iv[i].a, iv[i].b
+		lines[i].setBaseline(iv[i], iv[i+1], means[i], means[i+1])
 	}
 	return nil
+}
+
+// typicalBeamOff is the median beam-off length between the first
+// measureLines lines, samples: the interval measured before the first line
+// and after the last.
+func typicalBeamOff(lines []placedLine) int {
+	var gaps []float64
+	for i := 1; i < min(len(lines), measureLines+1); i++ {
+		if g := lines[i].first - lines[i-1].last; g > 0 {
+			gaps = append(gaps, float64(g))
+		}
+	}
+	if len(gaps) == 0 {
+		return 0
+	}
+	return int(median(gaps))
+}
+
+// interval is the part of a beam-off stretch whose mean is a baseline,
+// samples [a, b).
+type interval struct{ a, b int }
+
+// beamOff is the middle 80 % of the beam-off stretch [a, b), cut to the n
+// samples of the capture.
+func beamOff(a, b, n int) interval {
+	a, b = max(a, 0), min(b, n)
+	m := (b - a) / 10
+	return interval{a + m, b - m}
+}
+
+// mean is the mean of det over the interval, and whether it has samples.
+func (v interval) mean(det []float32, st *channelStats) (float64, bool) {
+	if v.b > v.a {
+		return st.sum(det, v.a, v.b) / float64(v.b-v.a), true
+	}
+	return 0, false
+}
+
+// setBaseline sets the line's baseline to the straight line between the
+// means m0 and m1 of the intervals before and after it, at their centres.
+func (l *placedLine) setBaseline(before, after interval, m0, m1 float64) {
+	c0 := float64(before.a+before.b) / 2
+	c1 := float64(after.a+after.b) / 2
+	slope := 0.0
+	if c1 > c0 {
+		slope = (m1 - m0) / (c1 - c0)
+	}
+	l.base0 = m0 + slope*(float64(l.first)-c0)
+	l.baseSlope = slope
+	l.baseFirst, l.baseLast = before.a, before.b
 }
 
 // gridStats is what gridding found beside the pixels.

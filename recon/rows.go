@@ -66,22 +66,31 @@ func smoothSG(y []float64, half int) []float64 {
 	out := make([]float64, n)
 	centre, _ := SavitzkyGolay(half, 2, 0)
 	for i := half; i < n-half; i++ {
-		s := 0.0
-		for k, w := range centre {
-			s += w * y[i-half+k]
-		}
-		out[i] = s
+		out[i] = sgDot(centre, y[i-half:])
 	}
 	for i := 0; i < half; i++ {
 		w, _ := SavitzkyGolay(half, 2, float64(i-half))
-		s, t := 0.0, 0.0
-		for k := range w {
-			s += w[k] * y[k]
-			t += w[k] * y[n-1-k] // mirrored window at the far end
-		}
-		out[i], out[n-1-i] = s, t
+		out[i], out[n-1-i] = sgDot(w, y), sgDotBack(w, y)
 	}
 	return out
+}
+
+// sgDot is Σ w[k]·y[k].
+func sgDot(w, y []float64) float64 {
+	s := 0.0
+	for k := range w {
+		s += w[k] * y[k]
+	}
+	return s
+}
+
+// sgDotBack is Σ w[k]·y[n−1−k]: the window mirrored at the far end.
+func sgDotBack(w, y []float64) float64 {
+	s, n := 0.0, len(y)
+	for k := range w {
+		s += w[k] * y[n-1-k]
+	}
+	return s
 }
 
 // calibrate maps a level to mm through the points, piecewise linear,
@@ -339,27 +348,24 @@ func toneAmplitude(rec rowsInput, carrierHz *float64) ([]float64, int, float64, 
 	if fc <= 0 || fc >= rate/2 {
 		return nil, 0, 0, fmt.Errorf("rows.carrier_hz %g Hz is not between 0 and half the sample rate (%g Hz)", fc, rate/2)
 	}
-	blockLen := int(math.Ceil(math.Max(2*rate/fc, rate*1e-3)))
-	win := 2 * blockLen
-	hann := make([]float64, win)
-	for i := range hann {
-		hann[i] = 0.5 - 0.5*math.Cos(2*math.Pi*(float64(i)+0.5)/float64(win))
-	}
+	d := newToneDemod(fc, rate)
+	blockLen := d.blockLen
 	nb := (len(x) + blockLen - 1) / blockLen
-	w := 2 * math.Pi * fc / rate
 	var out []float64
 	if rec.pulses != nil {
 		var err error
-		if out, err = maskedToneBlocks(x, blockLen, hann, w, rec.pulses); err != nil {
+		if out, err = maskedToneBlocks(x, blockLen, d.hann, d.w, rec.pulses); err != nil {
 			return nil, 0, 0, fmt.Errorf("position channel %s: %v", rec.name, err)
 		}
 	} else {
-		out = lockInBlocks(x, blockLen, hann, w)
+		out = make([]float64, nb)
+		for j := range out {
+			out[j] = d.block(x, j)
+		}
 	}
 	// A window cut off by either end of the capture no longer spans whole
 	// carrier periods: those blocks take the nearest whole window's value.
-	firstWhole := (blockLen + blockLen/2) / blockLen
-	lastWhole := (len(x)-blockLen-blockLen/2)/blockLen - 1
+	firstWhole, lastWhole := toneWholeBlocks(len(x), blockLen)
 	if lastWhole >= firstWhole {
 		for j := 0; j < firstWhole && j < nb; j++ {
 			out[j] = out[firstWhole]
@@ -371,37 +377,60 @@ func toneAmplitude(rec rowsInput, carrierHz *float64) ([]float64, int, float64, 
 	return out, blockLen, fc, nil
 }
 
-// lockInBlocks is the amplitude of the tone at ω (radians per sample) in
-// each block of x: x mixed with the carrier and summed under the window
-// hann, two blocks long, centred on the block.
-func lockInBlocks(x []float32, blockLen int, hann []float64, w float64) []float64 {
-	out := make([]float64, (len(x)+blockLen-1)/blockLen)
-	rot := complex(math.Cos(w), -math.Sin(w))
-	for j := range out {
-		c := j*blockLen + blockLen/2
-		a := max(c-blockLen, 0)
-		b := min(c+blockLen, len(x))
-		// The mixing phasor starts exact at each window and advances by
-		// multiplication, which stays accurate over a few hundred samples.
-		z := complex(math.Cos(w*float64(a)), -math.Sin(w*float64(a)))
-		// The window's own mean is removed (Σ(x−m)hz = Σxhz − mΣhz), so a
-		// DC offset on the channel does not leak into the amplitude.
-		var acc, hz complex128
-		ws, xs := 0.0, 0.0
-		for s := a; s < b; s++ {
-			h := hann[s-(c-blockLen)]
-			v := float64(x[s]) * h
-			acc += complex(v, 0) * z
-			hz += complex(h, 0) * z
-			ws += h
-			xs += v
-			z *= rot
-		}
-		if ws > 0 {
-			out[j] = 2 * cmplx.Abs(acc-complex(xs/ws, 0)*hz) / ws
-		}
+// toneDemod is the demodulator of toneAmplitude for one carrier: its
+// block length, window and mixing step.
+type toneDemod struct {
+	blockLen int
+	hann     []float64
+	w        float64
+	rot      complex128
+}
+
+func newToneDemod(fc, rate float64) *toneDemod {
+	blockLen := int(math.Ceil(math.Max(2*rate/fc, rate*1e-3)))
+	win := 2 * blockLen
+	hann := make([]float64, win)
+	for i := range hann {
+		hann[i] = 0.5 - 0.5*math.Cos(2*math.Pi*(float64(i)+0.5)/float64(win))
 	}
-	return out
+	w := 2 * math.Pi * fc / rate
+	return &toneDemod{blockLen: blockLen, hann: hann, w: w, rot: complex(math.Cos(w), -math.Sin(w))}
+}
+
+// block is the amplitude of block j of x, from the window centred on it
+// (cut to the samples x holds): x mixed with the carrier and summed under
+// the window, two blocks long.
+func (d *toneDemod) block(x []float32, j int) float64 {
+	blockLen, w, rot, hann := d.blockLen, d.w, d.rot, d.hann
+	c := j*blockLen + blockLen/2
+	a := max(c-blockLen, 0)
+	b := min(c+blockLen, len(x))
+	// The mixing phasor starts exact at each window and advances by
+	// multiplication, which stays accurate over a few hundred samples.
+	z := complex(math.Cos(w*float64(a)), -math.Sin(w*float64(a)))
+	// The window's own mean is removed (Σ(x−m)hz = Σxhz − mΣhz), so a
+	// DC offset on the channel does not leak into the amplitude.
+	var acc, hz complex128
+	ws, xs := 0.0, 0.0
+	for s := a; s < b; s++ {
+		h := hann[s-(c-blockLen)]
+		v := float64(x[s]) * h
+		acc += complex(v, 0) * z
+		hz += complex(h, 0) * z
+		ws += h
+		xs += v
+		z *= rot
+	}
+	if ws > 0 {
+		return 2 * cmplx.Abs(acc-complex(xs/ws, 0)*hz) / ws
+	}
+	return 0
+}
+
+// toneWholeBlocks is the first and last block of a capture of n samples
+// whose demodulation window lies whole inside it.
+func toneWholeBlocks(n, blockLen int) (first, last int) {
+	return (blockLen + blockLen/2) / blockLen, (n-blockLen-blockLen/2)/blockLen - 1
 }
 
 // strongestTone returns the frequency of the largest peak of the spectrum

@@ -35,7 +35,7 @@ const minToneShare = 0.3
 // long, centred on the block) of c·cos ωs + d·sin ωs + e + g·u (u a ramp
 // across the window, for a level that drifts after a pulse) to the
 // samples outside the pulses, whose amplitude is √(c² + d²). Over a whole
-// window with no pulse it measures what lockInBlocks does; with a pulse in
+// window with no pulse it measures what toneDemod.block does; with a pulse in
 // it, the fit is not disturbed by the samples left out, as a mixing sum
 // would be. A block whose window is mostly pulse takes the amplitude
 // interpolated between its neighbours.

@@ -149,11 +149,18 @@ func newTrigger(thr, h float64, rising bool) trigger {
 // starting in state high; the walk back to the crossing may read samples
 // before from.
 func (tr trigger) scan(ctx context.Context, x []float32, from, to int, high bool, edges []float64) ([]float64, error) {
+	edges, _, err := tr.scanState(ctx, x, from, to, high, edges)
+	return edges, err
+}
+
+// scanState is scan that also returns the trigger's state after sample
+// to−1, so a later scan can go on from there.
+func (tr trigger) scanState(ctx context.Context, x []float32, from, to int, high bool, edges []float64) ([]float64, bool, error) {
 	upper, lower, t, sign := tr.upper, tr.lower, tr.t, tr.sign
 	const chunk = 1 << 20
 	for start := from; start < to; start += chunk {
 		if err := ctx.Err(); err != nil {
-			return nil, err
+			return nil, high, err
 		}
 		end := min(start+chunk, to)
 		for i := start; i < end; i++ {
@@ -185,7 +192,7 @@ func (tr trigger) scan(ctx context.Context, x []float32, from, to int, high bool
 			edges = append(edges, float64(k-1)+frac)
 		}
 	}
-	return edges, nil
+	return edges, high, nil
 }
 
 // repairResult is the edge list after missing and extra pulses are fixed.
@@ -209,98 +216,149 @@ const minEdgeSpacing = 16
 // in; a longer silence is reported as a gap without lines.
 const maxFill = 8
 
+// repairSeedIntervals is how many of the first index intervals give the
+// reference period the repair starts from (their median): the first
+// pulses only, so the repair of a capture's beginning is known once they
+// have been recorded.
+const repairSeedIntervals = measureLines
+
 // repairEdges walks the edges with a running median of the last accepted
 // periods. An edge within ±tol of the expected time is accepted; edges
 // before that window are spurious; when the next edge lies whole periods
 // later, the missing edges are placed evenly between the two good ones.
 func repairEdges(raw []float64) repairResult {
-	var res repairResult
 	if len(raw) < 2 {
-		res.edges = raw
-		res.repaired = make([]bool, len(raw))
-		return res
+		return repairResult{edges: raw, repaired: make([]bool, len(raw))}
 	}
-	intervals := make([]float64, len(raw)-1)
-	for i := range intervals {
-		intervals[i] = raw[i+1] - raw[i]
+	var w repairer
+	w.walk(raw, true)
+	return w.res
+}
+
+// repairer is the walk of repairEdges with its state kept, so edges found
+// later (a live capture) continue it. res.edges grows as edges are
+// decided; next is the first raw edge not yet walked.
+type repairer struct {
+	res              repairResult
+	recent, scratch  []float64
+	last             float64 // the last edge decided
+	next             int
+	started, waiting bool
+}
+
+// repairWindow is how many recent periods the running median holds, and
+// repairTol how far from the expected time (a fraction of the period) an
+// edge is accepted.
+const (
+	repairWindow = 9
+	repairTol    = 0.25
+)
+
+// walk decides raw[w.next:]. With final false (more edges may follow), it
+// stops before an edge whose decision depends on edges not yet found, and
+// waiting says so.
+func (w *repairer) walk(raw []float64, final bool) {
+	w.waiting = false
+	if !w.started && !w.start(raw, final) {
+		w.waiting = true
+		return
 	}
-	period := median(intervals)
-	// Start from an edge that is followed by a normal interval, so a
-	// spurious first pulse does not become the reference.
-	first := 0
-	for first < len(raw)-1 && math.Abs(raw[first+1]-raw[first]-period) > 0.25*period {
-		first++
-	}
-	res.extra = first
-	const window = 9
-	recent := make([]float64, 0, window)
-	recent = append(recent, period)
-	scratch := make([]float64, window)
-	res.edges = append(res.edges, raw[first])
-	res.repaired = append(res.repaired, false)
-	res.periodMin, res.periodMax = period, period
-	const tol = 0.25
-	i := first + 1
-	for i < len(raw) {
-		last := res.edges[len(res.edges)-1]
-		p := medianOf(recent, scratch)
-		expect := last + p
+	res := &w.res
+	for w.next < len(raw) {
+		i := w.next
+		p := medianOf(w.recent, w.scratch)
+		expect := w.last + p
 		// Find the edge closest to the expected time among those not too
 		// late; everything before the window is spurious.
-		if raw[i] < expect-tol*p {
+		if raw[i] < expect-repairTol*p {
 			// Spurious unless a later edge fits better; skip it.
 			res.extra++
-			i++
+			w.next++
 			continue
 		}
-		if raw[i] <= expect+tol*p {
+		if raw[i] <= expect+repairTol*p {
 			// Prefer a following edge if it is even closer to expect.
-			for i+1 < len(raw) && math.Abs(raw[i+1]-expect) < math.Abs(raw[i]-expect) {
-				res.extra++
-				i++
+			j := i
+			for j+1 < len(raw) && math.Abs(raw[j+1]-expect) < math.Abs(raw[j]-expect) {
+				j++
 			}
-			accept(&res, &recent, raw[i]-last, raw[i], false, window)
-			i++
+			if j+1 == len(raw) && !final {
+				w.waiting = true
+				return
+			}
+			res.extra += j - i
+			w.accept(raw[j]-w.last, raw[j], false)
+			w.next = j + 1
 		} else {
 			// One or more pulses missing: how many periods fit?
+			last := w.last
 			m := int(math.Round((raw[i] - last) / p))
-			if m < 2 || math.Abs(raw[i]-last-float64(m)*p) > tol*p*float64(m) {
+			w.next++
+			if m < 2 || math.Abs(raw[i]-last-float64(m)*p) > repairTol*p*float64(m) {
 				// Not a whole number of periods: accept as is (speed step).
-				accept(&res, &recent, raw[i]-last, raw[i], false, window)
-				i++
+				w.accept(raw[i]-last, raw[i], false)
 				continue
 			}
 			if m-1 > maxFill {
 				res.gaps = append(res.gaps, [2]float64{last, raw[i]})
-				res.edges = append(res.edges, raw[i])
-				res.repaired = append(res.repaired, false)
-				i++
+				w.emit(raw[i], false)
 				continue
 			}
 			step := (raw[i] - last) / float64(m)
 			for k := 1; k < m; k++ {
-				res.edges = append(res.edges, last+float64(k)*step)
-				res.repaired = append(res.repaired, true)
+				w.emit(last+float64(k)*step, true)
 				res.missing++
 			}
-			accept(&res, &recent, step, raw[i], false, window)
-			i++
+			w.accept(step, raw[i], false)
 		}
-		pm := medianOf(recent, scratch)
+		pm := medianOf(w.recent, w.scratch)
 		res.periodMin = math.Min(res.periodMin, pm)
 		res.periodMax = math.Max(res.periodMax, pm)
 	}
-	return res
 }
 
-func accept(res *repairResult, recent *[]float64, interval, edge float64, repaired bool, window int) {
-	res.edges = append(res.edges, edge)
-	res.repaired = append(res.repaired, repaired)
-	if len(*recent) == window {
-		copy(*recent, (*recent)[1:])
-		*recent = (*recent)[:window-1]
+// start takes the reference period from the first intervals and the first
+// edge followed by a normal interval, so a spurious first pulse does not
+// become the reference. It reports false when too few edges are known.
+func (w *repairer) start(raw []float64, final bool) bool {
+	n := min(len(raw), repairSeedIntervals+1)
+	if n < 2 || (!final && n < repairSeedIntervals+1) {
+		return false
 	}
-	*recent = append(*recent, interval)
+	intervals := make([]float64, n-1)
+	for i := range intervals {
+		intervals[i] = raw[i+1] - raw[i]
+	}
+	period := median(intervals)
+	first := 0
+	for first < len(raw)-1 && math.Abs(raw[first+1]-raw[first]-period) > 0.25*period {
+		first++
+	}
+	if first == len(raw)-1 && !final {
+		return false
+	}
+	w.res.extra = first
+	w.recent = append(make([]float64, 0, repairWindow), period)
+	w.scratch = make([]float64, repairWindow)
+	w.emit(raw[first], false)
+	w.res.periodMin, w.res.periodMax = period, period
+	w.next, w.started = first+1, true
+	return true
+}
+
+func (w *repairer) emit(edge float64, repaired bool) {
+	w.res.edges = append(w.res.edges, edge)
+	w.res.repaired = append(w.res.repaired, repaired)
+	w.last = edge
+}
+
+func (w *repairer) accept(interval, edge float64, repaired bool) {
+	w.emit(edge, repaired)
+	if len(w.recent) == repairWindow {
+		copy(w.recent, w.recent[1:])
+		w.recent = w.recent[:repairWindow-1]
+	}
+	w.recent = append(w.recent, interval)
 }
 
 // median returns the median of v (v is not changed).
@@ -440,80 +498,101 @@ func findTiming(ctx context.Context, x []float32, o OtsuResult, rateHz float64, 
 		res.warnings = append(res.warnings, fmt.Sprintf("the index period varies by %.0f %% (from %.3g ms to %.3g ms): the wheel speed is not steady; check the motor, or timing.pulses_per_rev and sweep.apertures",
 			100*(rep.periodMax/rep.periodMin-1), 1000*rep.periodMin/rateHz, 1000*rep.periodMax/rateHz))
 	}
-	gapAfter := map[int]bool{}
-	for _, g := range rep.gaps {
-		for i, e := range res.edges {
-			if e == g[0] {
-				gapAfter[i] = true
-			}
-		}
-	}
+	gapAfter := gapsAfter(res.edges, rep.gaps)
 	if len(res.edges) < 2 {
 		return nil, fmt.Errorf("index channel %s: fewer than two usable pulses after repair", chName)
 	}
-	// Lines. Each interval between two edges has its own period; the last
-	// edge's line uses the period before it.
-	period := func(i int) float64 {
-		if i+1 < len(res.edges) && !gapAfter[i] {
-			return res.edges[i+1] - res.edges[i]
+	for i := range res.edges {
+		res.lines = p.edgeLines(res.lines, res.edges, rep.repaired[i], i, gapAfter[i], len(x))
+		if rev, ok := p.revolution(res.edges, gapAfter, i); ok {
+			res.revPeriods = append(res.revPeriods, rev)
 		}
-		if i > 0 {
-			return res.edges[i] - res.edges[i-1]
-		}
-		return 0
 	}
-	n := len(res.edges)
-	switch {
-	case p.Sine || p.PulsesPerRev != 1 || p.Apertures == 1:
+	return res, nil
+}
+
+// gapsAfter marks the edges that start a gap: no pulses follow them for
+// too long to fill in, so they have no line.
+func gapsAfter(edges []float64, gaps [][2]float64) []bool {
+	after := make([]bool, len(edges))
+	for _, g := range gaps {
+		for i, e := range edges {
+			if e == g[0] {
+				after[i] = true
+			}
+		}
+	}
+	return after
+}
+
+// edgePeriod is the period of edge i, samples: to the next edge, or, for
+// the last edge and one before a gap, the period before it.
+func edgePeriod(edges []float64, i int, gap bool) float64 {
+	if i+1 < len(edges) && !gap {
+		return edges[i+1] - edges[i]
+	}
+	if i > 0 {
+		return edges[i] - edges[i-1]
+	}
+	return 0
+}
+
+// onePerRev reports whether the index gives one pulse per revolution, the
+// lines then lying at equal fractions of it.
+func (p timingParams) onePerRev() bool {
+	return !(p.Sine || p.PulsesPerRev != 1 || p.Apertures == 1)
+}
+
+// edgeLines appends the lines of index edge i (after repair) to lines; an
+// edge before a gap has none. With a pulse per line (or the sine law's
+// one per period) the edge starts one line; the last edge's line keeps
+// the period before it and its field may run past the end of the capture.
+// With one pulse per revolution the edge starts sweep.apertures lines at
+// equal fractions of its revolution (the last one taking the period before
+// it), those that start inside the capture of n samples.
+func (p timingParams) edgeLines(lines []lineTiming, edges []float64, repaired bool, i int, gap bool, n int) []lineTiming {
+	if gap {
+		return lines
+	}
+	if !p.onePerRev() {
 		per := p.Apertures
 		if p.Sine {
 			per = 1
 		}
-		// The last edge's line is kept with the period before it; its
-		// field may run past the end of the capture.
-		for i := 0; i < n; i++ {
-			if gapAfter[i] {
-				continue
-			}
-			res.lines = append(res.lines, lineTiming{edge: res.edges[i], period: period(i), aperture: i % max(per, 1), repaired: rep.repaired[i]})
+		return append(lines, lineTiming{edge: edges[i], period: edgePeriod(edges, i, gap), aperture: i % max(per, 1), repaired: repaired})
+	}
+	rev := edgePeriod(edges, i, gap)
+	for k := 0; k < p.Apertures; k++ {
+		start := edges[i] + float64(k)*rev/float64(p.Apertures)
+		if start >= float64(n) {
+			break
 		}
-		if per > 0 {
-			for i := 0; i+per < n; i += per {
-				ok := true
-				for k := i; k < i+per; k++ {
-					ok = ok && !gapAfter[k]
-				}
-				if ok {
-					res.revPeriods = append(res.revPeriods, res.edges[i+per]-res.edges[i])
-				}
-			}
-		}
-	default:
-		// One pulse per revolution: lines at equal fractions of it. The
-		// last pulse's revolution takes the period before it, and keeps
-		// the lines that start inside the capture.
-		for i := 0; i < n; i++ {
-			if gapAfter[i] {
-				continue
-			}
-			rev := period(i)
-			if i < n-1 {
-				res.revPeriods = append(res.revPeriods, rev)
-			}
-			for k := 0; k < p.Apertures; k++ {
-				if start := res.edges[i] + float64(k)*rev/float64(p.Apertures); start >= float64(len(x)) {
-					break
-				}
-				res.lines = append(res.lines, lineTiming{
-					edge:     res.edges[i] + float64(k)*rev/float64(p.Apertures),
-					period:   rev / float64(p.Apertures),
-					aperture: k,
-					repaired: rep.repaired[i] && k == 0,
-				})
-			}
+		lines = append(lines, lineTiming{edge: start, period: rev / float64(p.Apertures), aperture: k, repaired: repaired && k == 0})
+	}
+	return lines
+}
+
+// revolution is the period of the revolution that edge i starts, samples,
+// and whether it is complete and timed: with a pulse per line, from every
+// apertures-th edge to the one a revolution later when no gap lies
+// between; with one pulse per revolution, to the next edge.
+func (p timingParams) revolution(edges []float64, gapAfter []bool, i int) (float64, bool) {
+	if p.onePerRev() {
+		return edgePeriod(edges, i, gapAfter[i]), !gapAfter[i] && i < len(edges)-1
+	}
+	per := p.Apertures
+	if p.Sine {
+		per = 1
+	}
+	if per <= 0 || i%per != 0 || i+per >= len(edges) {
+		return 0, false
+	}
+	for k := i; k < i+per; k++ {
+		if gapAfter[k] {
+			return 0, false
 		}
 	}
-	return res, nil
+	return edges[i+per] - edges[i], true
 }
 
 // volts formats a level for messages.
