@@ -34,6 +34,12 @@ type Options struct {
 	// Status, when set, is called on the writer goroutine about ten times
 	// a second and after every commit.
 	Status func(Status)
+	// Tap, when set, is called on the writer goroutine with every frame
+	// as it enters the file, in order, with the values a reader of the file
+	// will get (rounded to the stored type; lost frames as the zeros that
+	// mark them), so a live view sees exactly what is kept. It must not
+	// keep the slice, and should return quickly.
+	Tap func(interleaved []float32)
 }
 
 // Status is the progress of a recording.
@@ -137,6 +143,7 @@ type writer struct {
 	format   Format
 	ring     *ring
 	peak     []float32
+	tapped   []float32 // Tap's buffer
 }
 
 func (w *writer) full() bool { return w.opts.MaxFrames > 0 && w.stream.Frames() >= w.opts.MaxFrames }
@@ -158,7 +165,23 @@ func (w *writer) data(interleaved []float32) error {
 			w.peak[c] = a
 		}
 	}
-	return w.stream.Write(interleaved)
+	if err := w.stream.Write(interleaved); err != nil {
+		return err
+	}
+	w.tap(interleaved, false)
+	return nil
+}
+
+// tap hands frames just written to opts.Tap as the file stores them.
+func (w *writer) tap(interleaved []float32, zero bool) {
+	if w.opts.Tap == nil || len(interleaved) == 0 {
+		return
+	}
+	w.tapped = append(w.tapped[:0], interleaved...)
+	if !zero {
+		w.stream.ReadBack(w.tapped, w.tapped)
+	}
+	w.opts.Tap(w.tapped)
 }
 
 func (w *writer) lost(frames uint64) error {
@@ -168,7 +191,16 @@ func (w *writer) lost(frames uint64) error {
 	}
 	w.side.Overruns = append(w.side.Overruns, Overrun{AtFrame: w.stream.Frames(), Frames: n})
 	w.side.OverrunFrames += n
-	return w.stream.WriteSilence(n)
+	if err := w.stream.WriteSilence(n); err != nil {
+		return err
+	}
+	if w.opts.Tap != nil {
+		zeros := make([]float32, min(n, 4096)*int64(w.format.Channels))
+		for left := n; left > 0; left -= 4096 {
+			w.tap(zeros[:min(left, 4096)*int64(w.format.Channels)], true)
+		}
+	}
+	return nil
 }
 
 // run moves samples from the ring to the file until the recording ends.
