@@ -41,14 +41,24 @@ to a PNG once the first image is built, and the command exits: for
 documentation and tests. --size WxH sets the window's size, for the real
 window and the snapshot alike; without it the window opens at 1440x900, or
 at the screen's work area when that is smaller, and the snapshot is
-1440x900. An existing file is replaced only with --force.`
+1440x900. An existing file is replaced only with --force.
+
+With --replay the window plays FILE (or the built-in demo) at its real rate
+(--replay-speed times faster) through the same live path as a sound card
+and shows the image forming as it would while recording, with the controls
+acting on it; Stop, or the end of the file, makes it an ordinary capture.
+Nothing is written. The settings are --recipe, else the recipe beside FILE,
+else a first look at it; their automatic values are found from the first
+seconds of the replay.`
 
 func runOpen(args []string, _, stderr io.Writer) error {
-	fs := newFlagSet("open", "open [FILE] [--recipe R.json] [--rate HZ | --layout L.json | --raw TYPE ...] [--snapshot OUT.png [--size WxH] [--force]]", openDescription, stderr)
+	fs := newFlagSet("open", "open [FILE] [--recipe R.json] [--rate HZ | --layout L.json | --raw TYPE ...] [--snapshot OUT.png [--size WxH] [--force] | --replay [--replay-speed X]]", openDescription, stderr)
 	recipePath := fs.String("recipe", "", "build with this recipe `R.json`")
 	snapshot := fs.String("snapshot", "", "render the window to `OUT.png` and exit")
 	force := fs.Bool("force", false, "with --snapshot: replace an existing file")
 	sizeText := fs.String("size", "", "the window's size `WxH` in units, e.g. 1366x768 (default: 1440x900, or the screen's work area when smaller)")
+	replay := fs.Bool("replay", false, "play FILE at its real rate and watch the image form, as while recording")
+	replaySpeed := fs.Float64("replay-speed", 1, "with --replay: play `X` times faster than real time")
 	cf := addCaptureFlags(fs)
 	positional, err := parseFlags(fs, args)
 	if err != nil {
@@ -67,6 +77,15 @@ func runOpen(args []string, _, stderr io.Writer) error {
 		if _, err := os.Stat(file); err != nil {
 			return fmt.Errorf("%s: %w", file, unwrapStat(err))
 		}
+	}
+	if *replay && *snapshot != "" {
+		return usagef("--replay shows the image forming in the window; it cannot be combined with --snapshot")
+	}
+	if *replaySpeed != 1 && !*replay {
+		return usagef("--replay-speed goes with --replay")
+	}
+	if !(*replaySpeed > 0) || *replaySpeed > 1000 {
+		return usagef("--replay-speed %g: expected above 0, at most 1000", *replaySpeed)
 	}
 	size := ui.SnapshotSize
 	if *sizeText != "" {
@@ -126,6 +145,8 @@ func runOpen(args []string, _, stderr io.Writer) error {
 		w.Resize(fitScreen(w, fyne.NewSize(1440, 900)))
 	}
 	switch {
+	case *replay:
+		ws.Replay(file, copts, r, *replaySpeed)
 	case file == "" && r == nil:
 		// Started bare: offer back tuning the last session did not save.
 		ws.Start(ws.OpenDemo)

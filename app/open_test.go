@@ -183,3 +183,20 @@ func TestNoDisplay(t *testing.T) {
 		}
 	}
 }
+
+// --replay needs the window: with --snapshot, or a --replay-speed without
+// --replay or out of range, it is a usage error (exit 2) naming the flag.
+func TestOpenReplayUsage(t *testing.T) {
+	for _, args := range [][]string{
+		{"open", "--replay", "--snapshot", filepath.Join(t.TempDir(), "x.png")},
+		{"open", "--replay-speed", "4"},
+		{"open", "--replay", "--replay-speed", "0"},
+		{"open", "--replay", "--replay-speed", "NaN"},
+	} {
+		var stdout, stderr bytes.Buffer
+		code := run(args, &stdout, &stderr)
+		if code != 2 || !strings.Contains(stderr.String(), "--replay") {
+			t.Errorf("%q: exit %d, stderr %q; want 2 naming --replay", args, code, stderr.String())
+		}
+	}
+}

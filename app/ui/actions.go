@@ -244,6 +244,7 @@ func (ws *Workstation) stillShown() string {
 }
 
 func (ws *Workstation) finishOpen(o *opened) {
+	ws.dropLive()
 	ws.rec, ws.engine = o.rec, o.engine
 	ws.sourcePath, ws.sourceName = o.path, o.name
 	ws.hist = newHistory()
@@ -606,7 +607,7 @@ func (ws *Workstation) reportProgress(stage string, fraction float64) {
 	}
 	progressGate.last = now
 	progressGate.Unlock()
-	fyne.Do(func() {
+	uiDo(func() {
 		if ws.work.busy() {
 			ws.stage.SetText(stage)
 			ws.progress.SetValue(fraction)

@@ -18,6 +18,7 @@ import (
 	"fyne.io/fyne/v2/widget"
 
 	"spotloom/capture"
+	"spotloom/capture/live"
 	"spotloom/recon/recipe"
 )
 
@@ -34,6 +35,10 @@ type Options struct {
 	// SessionFile is where the session is autosaved and offered back from
 	// on the next start ("" keeps none; DefaultSessionFile is the usual).
 	SessionFile string
+	// Devices and OpenDevice list and open capture devices for Record…;
+	// nil means the sound cards (capture/live). Tests give replays.
+	Devices    func() ([]live.DeviceInfo, error)
+	OpenDevice func(name string, want live.Format) (live.Source, error)
 }
 
 // Workstation is the Spotloom window: the source and controls on the
@@ -105,6 +110,7 @@ type Workstation struct {
 	rightScroll fyne.CanvasObject
 	leftScroll  *container.Scroll
 	dialogs     []dialog.Dialog // messages shown, newest last
+	lv          liveState       // a recording or replay forming its image
 }
 
 // relayout lays the side panels out again after their texts changed
@@ -119,7 +125,7 @@ func (ws *Workstation) relayout() {
 // New builds the window's content in win. Call OpenDemo or OpenFile next.
 func New(a fyne.App, win fyne.Window, opts Options) *Workstation {
 	ws := &Workstation{app: a, win: win, opts: opts, hist: newHistory(), followLine: true}
-	ws.work = newWorker(ws.reportProgress, fyne.Do)
+	ws.work = newWorker(ws.reportProgress, uiDo)
 	ws.work.settled = ws.settledWork
 	ws.build()
 	return ws
@@ -256,6 +262,7 @@ func (ws *Workstation) build() {
 	top := container.NewHBox(
 		widget.NewButtonWithIcon("Open capture…", theme.FolderOpenIcon(), ws.ChooseCapture),
 		widget.NewButtonWithIcon("Demo", theme.MediaPlayIcon(), ws.ChooseDemo),
+		widget.NewButtonWithIcon("Record…", theme.MediaRecordIcon(), ws.ShowRecord),
 		widget.NewSeparator(),
 		widget.NewButtonWithIcon("Export…", theme.DocumentSaveIcon(), ws.ShowExport),
 		widget.NewButtonWithIcon("Report…", theme.DocumentPrintIcon(), ws.ShowReport),
@@ -269,7 +276,8 @@ func (ws *Workstation) build() {
 	// The status bar is painted last over an opaque ground, so nothing of
 	// a scrolled panel can show through it (the software painter of the
 	// snapshot does not clip text).
-	topBox := container.NewVBox(top, line)
+	ws.lv.bar = newLiveBar(ws.StopLive)
+	topBox := container.NewVBox(top, ws.lv.bar.object(), line)
 	statusGround := canvas.NewRectangle(theme.Color(theme.ColorNameBackground))
 	statusBox := container.NewStack(statusGround, container.NewVBox(widget.NewSeparator(), status))
 	inner := container.New(columns{}, ws.leftScroll, middle, right)
@@ -308,6 +316,7 @@ func (ws *Workstation) buildMenu() {
 		item("Open capture…", short(fyne.KeyO, ctrl), ws.ChooseCapture),
 		ws.recentMenu,
 		item("Open built-in demo", short(fyne.KeyD, ctrl), ws.ChooseDemo),
+		item("Record…", short(fyne.KeyR, ctrl), ws.ShowRecord),
 		fyne.NewMenuItemSeparator(),
 		item("Load recipe…", short(fyne.KeyL, ctrl), ws.ChooseRecipe),
 		item("Save recipe…", short(fyne.KeyS, ctrl), ws.SaveRecipe),
@@ -526,6 +535,7 @@ func (ws *Workstation) ChooseDemo() { ws.askDiscard("open the built-in demo", ws
 // Quit closes the window, asking first if tuning would be lost.
 func (ws *Workstation) Quit() {
 	ws.askDiscard("quit", func() {
+		ws.closeLive()
 		ws.saveSession()
 		ws.win.SetCloseIntercept(nil)
 		ws.win.Close()

@@ -1,0 +1,339 @@
+package ui
+
+import (
+	"context"
+	"errors"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/test"
+
+	"spotloom/capture"
+	"spotloom/capture/live"
+	"spotloom/recon"
+	"spotloom/recon/recipe"
+	"spotloom/sampledata"
+)
+
+// liveRig is a short scan: the head starts moving at once, so the first
+// seconds find every automatic value.
+func liveRig() sampledata.Rig {
+	rig := sampledata.DemoRig()
+	rig.SampleRateHz, rig.DurationS = 48000, 5
+	rig.Motion.StartRestS, rig.Motion.StrokeS, rig.Motion.TravelMM, rig.Motion.PauseCount = 0.3, 4.4, 300, 0
+	return rig
+}
+
+// liveCapture simulates the scan and writes it as a WAV (int16, which the
+// rig's 16-bit ADC fills exactly) with the rig's recipe.
+func liveCapture(t *testing.T) (*capture.Recording, string, recipe.Recipe) {
+	t.Helper()
+	rig := liveRig()
+	rec, _, err := sampledata.Simulate(context.Background(), rig, "dot-grid", sampledata.SimOptions{Seed: 7})
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "scan.wav")
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := capture.WriteWAV(f, rec, "int16"); err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Close(); err != nil {
+		t.Fatal(err)
+	}
+	back, err := capture.Open(path, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return back, path, rig.Recipe()
+}
+
+// newLiveWorkstation is a headless window whose only "sound card" replays
+// rec at speed times real time.
+func newLiveWorkstation(t *testing.T, rec *capture.Recording, speed float64) *Workstation {
+	t.Helper()
+	a := test.NewTempApp(t)
+	w := a.NewWindow("Spotloom live test")
+	ws := New(a, w, Options{
+		Devices: func() ([]live.DeviceInfo, error) {
+			return []live.DeviceInfo{{Name: "bench replay", Default: true}}, nil
+		},
+		OpenDevice: func(name string, want live.Format) (live.Source, error) {
+			if name != "bench replay" {
+				return nil, errors.New("no such device " + name)
+			}
+			return live.NewReplay(rec, speed)
+		},
+	})
+	w.Resize(fyne.NewSize(1280, 800))
+	return ws
+}
+
+// endOfLive waits until the live view has ended and what it captured has
+// been opened as a capture, and returns the live run.
+func endOfLive(t *testing.T, ws *Workstation) *liveRun {
+	t.Helper()
+	var run *liveRun
+	deadline := time.Now().Add(60 * time.Second)
+	for run == nil && time.Now().Before(deadline) {
+		uiDo(func() { run = ws.lv.run })
+		if run == nil {
+			time.Sleep(10 * time.Millisecond)
+		}
+	}
+	if run == nil {
+		t.Fatalf("no live view started: %s", ws.Problem())
+	}
+	select {
+	case <-run.ended:
+	case <-time.After(60 * time.Second):
+		t.Fatal("the live view did not end")
+	}
+	ws.Wait()
+	return run
+}
+
+// sameFrames checks two builds pixel by pixel: the same size, placement
+// and coverage, and values equal to float rounding (1e-5 of the frame's
+// range).
+func sameFrames(t *testing.T, what string, got, want *recon.Frame) {
+	t.Helper()
+	if got.Width != want.Width || got.Height != want.Height || got.OriginXMM != want.OriginXMM || got.OriginYMM != want.OriginYMM || got.PitchXMM != want.PitchXMM {
+		t.Fatalf("%s: %dx%d at (%g, %g) mm, pitch %g; want %dx%d at (%g, %g), pitch %g", what,
+			got.Width, got.Height, got.OriginXMM, got.OriginYMM, got.PitchXMM, want.Width, want.Height, want.OriginXMM, want.OriginYMM, want.PitchXMM)
+	}
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, v := range want.Pix {
+		lo, hi = min(lo, float64(v)), max(hi, float64(v))
+	}
+	tol := 1e-5 * (hi - lo)
+	bad, worst := 0, 0.0
+	for row := 0; row < want.Height; row++ {
+		for col := 0; col < want.Width; col++ {
+			a, okA := got.At(col, row)
+			b, okB := want.At(col, row)
+			d := math.Abs(float64(a) - float64(b))
+			if okA != okB || (okA && d > tol) {
+				bad++
+			}
+			if okA && okB {
+				worst = max(worst, d)
+			}
+		}
+	}
+	if bad > 0 {
+		t.Errorf("%s: %d of %d pixels differ (largest difference %.3g, tolerance %.3g)", what, bad, want.Width*want.Height, worst, tol)
+	}
+}
+
+// Record… with a replay as the device: the WAV holds every sample of the
+// source (the rig's 16-bit ADC values, which int16 keeps exactly: WAVE
+// PCM, 16-bit two's complement), the live image after the last sample is
+// the batch build of that file with the same recipe, and the file is then
+// the window's ordinary capture, which rebuilds with new settings.
+func TestRecordLiveEqualsBatchBuildAndOpensTheFile(t *testing.T) {
+	src, srcPath, r := liveCapture(t)
+	ws := newLiveWorkstation(t, src, 5)
+	ws.OpenFile(srcPath, &r)
+	ws.Wait()
+	if ws.result == nil {
+		t.Fatalf("the capture did not open: %s", ws.Problem())
+	}
+	out := filepath.Join(t.TempDir(), "take.wav")
+	var form *recordForm
+	uiDo(func() {
+		form = ws.showRecordForm([]live.DeviceInfo{{Name: "bench replay", Default: true}}, nil)
+		form.folder.SetText(filepath.Dir(out))
+		form.name.SetText("take") // .wav is added
+		form.record()
+	})
+	run := endOfLive(t, ws)
+	if run.final == nil || len(run.final.Frames) != 1 {
+		t.Fatalf("no live image at the end: %+v", run.noImage)
+	}
+
+	kept, err := capture.Open(out, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if kept.Frames() != src.Frames() || len(kept.Channels) != len(src.Channels) || kept.SampleRateHz != src.SampleRateHz {
+		t.Fatalf("the file holds %d frames of %d channels at %g Hz; the source %d of %d at %g", kept.Frames(), len(kept.Channels), kept.SampleRateHz, src.Frames(), len(src.Channels), src.SampleRateHz)
+	}
+	side, err := live.ReadSidecar(live.SidecarPath(out))
+	if err != nil {
+		t.Fatal(err)
+	}
+	lost := make([]bool, src.Frames()) // overruns (a loaded machine) are zeros at their place
+	for _, o := range side.Overruns {
+		for i := o.AtFrame; i < o.AtFrame+o.Frames; i++ {
+			lost[i] = true
+		}
+	}
+	for c := range src.Channels {
+		for i, v := range src.Channels[c].Samples {
+			if lost[i] {
+				v = 0
+			}
+			if kept.Channels[c].Samples[i] != v {
+				t.Fatalf("channel %d frame %d: file %v, source %v", c, i, kept.Channels[c].Samples[i], v)
+			}
+		}
+	}
+	batch, err := recon.NewSession(kept).Build(context.Background(), run.final.Recipe, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sameFrames(t, "live image against the batch build of the file", run.final.Frames[0], batch.Frames[0])
+
+	var path string
+	var engine Engine
+	uiDo(func() { path, engine = ws.sourcePath, ws.engine })
+	if path != out || ws.Live() {
+		t.Fatalf("after the end the window shows %q (live: %v), want the recording %s", path, ws.Live(), out)
+	}
+	if _, isLive := engine.(liveEngine); isLive {
+		t.Fatal("the recording is still on the live engine after the end")
+	}
+	sameFrames(t, "the opened recording against the batch build", ws.result.Frames[0], batch.Frames[0])
+
+	// An ordinary capture now: a new delay rebuilds it.
+	before := ws.result.Frames[0]
+	uiDo(func() {
+		ws.change("delay", func(rr *recipe.Recipe) { d := *ws.result.Recipe.Sweep.DelayDeg + 1.5; rr.Sweep.DelayDeg = &d })
+	})
+	ws.Wait()
+	if ws.result.Frames[0] == before || ws.Problem() != "" {
+		t.Errorf("the recording did not rebuild with a new delay: %s", ws.Problem())
+	}
+}
+
+// A control changed while the image forms re-grids what was captured so
+// far, and the capture goes on into the new settings: the image at the end
+// is the batch build with the new value.
+func TestLiveControlsActOnTheFormingImage(t *testing.T) {
+	src, srcPath, r := liveCapture(t)
+	ws := newLiveWorkstation(t, src, 2)
+	ws.Replay(srcPath, capture.Options{}, &r, 2)
+	ws.Wait()
+	// Wait for the first live image, then move the delay.
+	deadline := time.Now().Add(30 * time.Second)
+	var res *Result
+	for res == nil && time.Now().Before(deadline) {
+		uiDo(func() { res = ws.result })
+		time.Sleep(20 * time.Millisecond)
+	}
+	if res == nil {
+		t.Fatal("no live image formed")
+	}
+	delay := *res.Recipe.Sweep.DelayDeg + 2
+	uiDo(func() {
+		ws.change("delay", func(rr *recipe.Recipe) { rr.Sweep.DelayDeg = &delay })
+	})
+	run := endOfLive(t, ws)
+	if run.final == nil {
+		t.Fatal("no live image at the end")
+	}
+	if got := *run.final.Recipe.Sweep.DelayDeg; got != delay {
+		t.Fatalf("the live image ended with delay %g°, want the %g° set while it formed", got, delay)
+	}
+	batch, err := recon.NewSession(src).Build(context.Background(), run.final.Recipe, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sameFrames(t, "live image after a retune against the batch build", run.final.Frames[0], batch.Frames[0])
+	if ws.sourcePath != srcPath {
+		t.Errorf("after the replay the window shows %q, want the file replayed", ws.sourcePath)
+	}
+}
+
+// Stop ends a recording part-way: what was captured until then is the
+// file, and the window opens it.
+func TestStopEndsTheRecordingAndOpensIt(t *testing.T) {
+	src, srcPath, r := liveCapture(t)
+	ws := newLiveWorkstation(t, src, 1)
+	ws.OpenFile(srcPath, &r)
+	ws.Wait()
+	out := filepath.Join(t.TempDir(), "part.wav")
+	uiDo(func() {
+		src, _ := ws.openDeviceFunc()("bench replay", live.Format{})
+		ws.RecordFrom(src, out, "int16")
+	})
+	time.Sleep(1200 * time.Millisecond)
+	uiDo(ws.StopLive)
+	endOfLive(t, ws)
+	kept, err := capture.Open(out, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if secs := kept.DurationS(); secs < 0.5 || secs > 4 {
+		t.Errorf("stopped after about 1.2 s of a 5 s replay, the file holds %.2f s", secs)
+	}
+	if ws.sourcePath != out || ws.rec.Frames() != kept.Frames() {
+		t.Errorf("the window shows %q with %d frames, want %s with %d", ws.sourcePath, ws.rec.Frames(), out, kept.Frames())
+	}
+}
+
+// A recording never replaces a file: a name that exists, or whose sidecar
+// exists, is refused before anything starts, and the file is untouched.
+func TestRecordRefusesAnExistingFile(t *testing.T) {
+	src, _, _ := liveCapture(t)
+	ws := newLiveWorkstation(t, src, 25)
+	dir := t.TempDir()
+	for _, existingFile := range []string{"old.wav", "side.recording.json"} {
+		p := filepath.Join(dir, existingFile)
+		if err := os.WriteFile(p, []byte("keep me"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		name := strings.TrimSuffix(existingFile, ".recording.json")
+		uiDo(func() {
+			form := ws.showRecordForm([]live.DeviceInfo{{Name: "bench replay"}}, nil)
+			form.folder.SetText(dir)
+			form.name.SetText(name)
+			form.record()
+		})
+		time.Sleep(50 * time.Millisecond)
+		var problem string
+		var running bool
+		uiDo(func() { problem, running = ws.Problem(), ws.Live() })
+		if !strings.Contains(problem, "already exists") || running {
+			t.Errorf("%s: problem %q, live %v; want a refusal", existingFile, problem, running)
+		}
+		if data, _ := os.ReadFile(p); string(data) != "keep me" {
+			t.Errorf("%s was changed", existingFile)
+		}
+	}
+}
+
+// Without a sound server, or without a device, Record… says so and what
+// to do, in one message.
+func TestRecordWithoutSoundSystem(t *testing.T) {
+	for _, tc := range []struct {
+		devices []live.DeviceInfo
+		err     error
+		want    string
+	}{
+		{nil, errors.New("no sound system: connection refused"), "Cannot list the capture devices: no sound system: connection refused"},
+		{nil, nil, "No capture device"},
+	} {
+		a := test.NewTempApp(t)
+		ws := New(a, a.NewWindow("t"), Options{Devices: func() ([]live.DeviceInfo, error) { return tc.devices, tc.err }})
+		uiDo(ws.ShowRecord)
+		deadline := time.Now().Add(5 * time.Second)
+		p := ""
+		for p == "" && time.Now().Before(deadline) {
+			time.Sleep(10 * time.Millisecond)
+			uiDo(func() { p = ws.Problem() })
+		}
+		if !strings.HasPrefix(p, tc.want) {
+			t.Errorf("problem %q, want %q", p, tc.want)
+		}
+	}
+}

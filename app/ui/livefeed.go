@@ -1,0 +1,73 @@
+package ui
+
+import (
+	"math"
+	"sync"
+)
+
+// liveFeed carries frames from where they arrive (the recorder's tap, or a
+// source's delivery when nothing is written) to the live engine's
+// goroutine. push copies under a short lock and never waits for the
+// engine, so a slow image never costs a sample; take hands over everything
+// pushed since the last take. It also keeps each channel's peak level since
+// the last take, for the meters.
+type liveFeed struct {
+	channels int
+	mu       sync.Mutex
+	buf      []float32
+	spare    []float32 // the buffer handed out last, reused
+	peak     []float32
+	frames   int64 // frames pushed so far
+	closed   bool
+	wake     chan struct{} // signalled (without blocking) on push and close
+}
+
+func newLiveFeed(channels int) *liveFeed {
+	return &liveFeed{channels: channels, peak: make([]float32, channels), wake: make(chan struct{}, 1)}
+}
+
+// push takes whole interleaved frames; it does not keep the slice.
+func (f *liveFeed) push(interleaved []float32) {
+	n := len(interleaved) - len(interleaved)%f.channels
+	f.mu.Lock()
+	if !f.closed {
+		f.buf = append(f.buf, interleaved[:n]...)
+		f.frames += int64(n / f.channels)
+		for i, v := range interleaved[:n] {
+			c := i % f.channels
+			if a := float32(math.Abs(float64(v))); a > f.peak[c] {
+				f.peak[c] = a
+			}
+		}
+	}
+	f.mu.Unlock()
+	f.signal()
+}
+
+func (f *liveFeed) signal() {
+	select {
+	case f.wake <- struct{}{}:
+	default:
+	}
+}
+
+// close says no more frames come; take then reports it once drained.
+func (f *liveFeed) close() {
+	f.mu.Lock()
+	f.closed = true
+	f.mu.Unlock()
+	f.signal()
+}
+
+// take returns the frames pushed since the last take (valid until the
+// next take), the peaks since then, the frames pushed in all and whether
+// the feed is closed (with nothing left after these frames).
+func (f *liveFeed) take() (block, peak []float32, frames int64, closed bool) {
+	f.mu.Lock()
+	defer f.mu.Unlock()
+	block = f.buf
+	f.buf, f.spare = f.spare[:0], block
+	peak = append([]float32(nil), f.peak...)
+	clear(f.peak)
+	return block, peak, f.frames, f.closed
+}
