@@ -316,7 +316,7 @@ func (ws *Workstation) buildMenu() {
 		item("Open capture…", short(fyne.KeyO, ctrl), ws.ChooseCapture),
 		ws.recentMenu,
 		item("Open built-in demo", short(fyne.KeyD, ctrl), ws.ChooseDemo),
-		item("Record…", short(fyne.KeyR, ctrl), ws.ShowRecord),
+		item("Record…", short(fyne.KeyR, ctrl|fyne.KeyModifierShift), ws.ShowRecord),
 		fyne.NewMenuItemSeparator(),
 		item("Load recipe…", short(fyne.KeyL, ctrl), ws.ChooseRecipe),
 		item("Save recipe…", short(fyne.KeyS, ctrl), ws.SaveRecipe),
@@ -387,7 +387,7 @@ func (ws *Workstation) bindKeys() {
 // ShowKeys lists the keyboard shortcuts.
 func (ws *Workstation) ShowKeys() {
 	text := strings.Join([]string{
-		"Ctrl+O\topen a capture", "Ctrl+D\topen the built-in demo",
+		"Ctrl+O\topen a capture", "Ctrl+D\topen the built-in demo", "Ctrl+Shift+R\trecord from a sound card",
 		"Ctrl+L / Ctrl+S\tload / save the recipe", "Ctrl+E\texport frames", "Ctrl+R\texport a report sheet (PDF)",
 		"Ctrl+Z\tundo", "Ctrl+Y or Ctrl+Shift+Z\tredo",
 		"Ctrl+K\testimate aperture offsets", "Ctrl+T\tautomatic tone",
