@@ -28,7 +28,8 @@ func TestVersionNamesTheLibrariesBuiltWith(t *testing.T) {
 	if err != nil {
 		t.Skip("go version -m is not available:", err)
 	}
-	libs := map[string]string{"fyne.io/fyne/v2": "fyne", "gonum.org/v1/gonum": "gonum", "github.com/go-audio/wav": "go-audio/wav", "golang.org/x/image": "x/image"}
+	libs := map[string]string{"fyne.io/fyne/v2": "fyne", "gonum.org/v1/gonum": "gonum", "gonum.org/v1/plot": "gonum/plot",
+		"golang.org/x/image": "x/image", "github.com/gen2brain/malgo": "malgo", "github.com/go-audio/wav": "go-audio/wav"}
 	found := 0
 	for _, line := range strings.Split(string(m), "\n") {
 		f := strings.Fields(line)

@@ -46,8 +46,9 @@ func TestVersionFromBuildInfo(t *testing.T) {
 	info.GoVersion = "go1.26.0" // ParseBuildInfo leaves it unset, as its documentation says
 	got := versionFrom(info).String()
 	want := "spotloom devel (commit 0123456789ab, 2026-12-01T10:00:00Z, with changes not committed) built with go1.26.0, fyne " +
-		required("fyne.io/fyne/v2") + ", gonum " + required("gonum.org/v1/gonum") + ", go-audio/wav " + required("github.com/go-audio/wav") +
-		", x/image " + required("golang.org/x/image")
+		required("fyne.io/fyne/v2") + ", gonum " + required("gonum.org/v1/gonum") + ", gonum/plot " + required("gonum.org/v1/plot") +
+		", x/image " + required("golang.org/x/image") + ", malgo " + required("github.com/gen2brain/malgo") +
+		", go-audio/wav " + required("github.com/go-audio/wav")
 	if got != want {
 		t.Errorf("version\n got %s\nwant %s", got, want)
 	}

@@ -7,12 +7,15 @@ import (
 )
 
 // builtWith are the libraries whose versions the version text names, with
-// the short names it gives them.
+// the short names it gives them: the toolkit, the numerics, the report
+// sheet's plots, the image codecs and fonts, and the sound-card driver.
 var builtWith = []struct{ path, name string }{
 	{"fyne.io/fyne/v2", "fyne"},
 	{"gonum.org/v1/gonum", "gonum"},
-	{"github.com/go-audio/wav", "go-audio/wav"},
+	{"gonum.org/v1/plot", "gonum/plot"},
 	{"golang.org/x/image", "x/image"},
+	{"github.com/gen2brain/malgo", "malgo"},
+	{"github.com/go-audio/wav", "go-audio/wav"},
 }
 
 // Version says which Spotloom this is, from the build information the Go
