@@ -423,11 +423,17 @@ func (ws *Workstation) render() {
 // roleChannels returns the channel numbers of the detector, index and
 // position (or steps) roles of r in the capture shown; -1 for none.
 func (ws *Workstation) roleChannels(r recipe.Recipe) (det, idx, pos int) {
+	return roleChannels(ws.rec, r)
+}
+
+// roleChannels returns the channel numbers of the detector, index and
+// position (or steps) roles of r in rec; -1 for none.
+func roleChannels(rec *capture.Recording, r recipe.Recipe) (det, idx, pos int) {
 	look := func(ref recipe.ChannelRef) int {
-		if ws.rec == nil || !ref.IsSet() {
+		if rec == nil || !ref.IsSet() {
 			return -1
 		}
-		i, err := ws.rec.Lookup(string(ref))
+		i, err := rec.Lookup(string(ref))
 		if err != nil {
 			return -1
 		}

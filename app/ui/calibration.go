@@ -20,9 +20,9 @@ const inlinePairs = 40
 type calibrationEditor struct {
 	apply   func(points [][2]float64)
 	problem func(title, what, try string)
-	// load asks for a file and hands its text back (set by the window).
+	// load asks for a file and hands its text back (the panel's loadPairs).
 	load func(done func(text, name string))
-	// list shows a long calibration in a dialog (set by the window).
+	// list shows a long calibration in a dialog (the panel's showList).
 	list func(title string, body fyne.CanvasObject)
 
 	points  [][2]float64

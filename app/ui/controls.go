@@ -337,6 +337,10 @@ type panelActions struct {
 	estimate func()
 	autoTone func()
 	table    func() // opens the measured sweep table's editor
+	// loadPairs asks for a file of calibration pairs and hands its text
+	// back; showList shows a long calibration in a dialog.
+	loadPairs func(done func(text, name string))
+	showList  func(title string, body fyne.CanvasObject)
 }
 
 // bound is one control of the table with its widgets.
@@ -390,6 +394,7 @@ func newControlPanel(act panelActions) *controlPanel {
 	c.cal = newCalibrationEditor(func(points [][2]float64) {
 		act.edit("calibration", func(s *settings) bool { s.Recipe.Rows.Calibration = points; return true })
 	}, act.problem)
+	c.cal.load, c.cal.list = act.loadPairs, act.showList
 	c.autoTone = widget.NewButton("Auto from histogram", act.autoTone)
 	c.autoEach = newToggle("Auto after every build", nil)
 

@@ -18,9 +18,10 @@ import (
 )
 
 // sourcePanel shows the capture, its channel roles, recent captures and
-// the recipe buttons.
+// the recipe buttons. It knows the window only through its actions.
 type sourcePanel struct {
-	ws       *Workstation
+	act      sourceActions
+	rec      *capture.Recording // the capture whose channels the lists offer
 	info     *widget.Label
 	note     *widget.Label
 	recent   *choice
@@ -31,20 +32,30 @@ type sourcePanel struct {
 	box      fyne.CanvasObject
 }
 
+// sourceActions are what the source panel may ask of the window.
+type sourceActions struct {
+	// edit changes the recipe as the control name says, as the window's
+	// other controls do (rebuild, undo step).
+	edit       func(name string, f func(*recipe.Recipe))
+	openRecent func(path string) // opens a recent capture, asking first if tuning would be lost
+	choose     func()            // Open capture…
+	rawLayout  func()            // Raw layout…
+	load, save func()            // Load recipe…, Save recipe…
+}
+
 const noChannel = "none"
 
-func newSourcePanel(ws *Workstation) *sourcePanel {
-	p := &sourcePanel{ws: ws}
+func newSourcePanel(act sourceActions, recent []string) *sourcePanel {
+	p := &sourcePanel{act: act}
 	p.info = widget.NewLabel("No capture")
 	p.info.Wrapping = fyne.TextWrapWord
 	p.note = widget.NewLabel("")
 	p.note.Wrapping = fyne.TextWrapWord
 	p.note.Importance = widget.LowImportance
 	p.recent = newChoice(nil, func(path string) {
-		if path == "" {
-			return
+		if path != "" {
+			act.openRecent(path)
 		}
-		ws.askDiscard("open "+filepath.Base(path), func() { ws.OpenFile(path, nil) })
 	})
 	p.recent.PlaceHolder = "Recent captures"
 	p.detector = newChoice(nil, func(o string) { p.roleChosen(roleDetector, o) })
@@ -59,17 +70,17 @@ func newSourcePanel(ws *Workstation) *sourcePanel {
 		widget.NewLabelWithStyle("Source", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 		p.info,
 		container.NewGridWithColumns(2,
-			widget.NewButton("Open capture…", ws.ChooseCapture),
-			widget.NewButton("Raw layout…", func() { ws.askRawLayout("") })),
+			widget.NewButton("Open capture…", act.choose),
+			widget.NewButton("Raw layout…", act.rawLayout)),
 		p.recent,
 		widget.NewLabel("Channel roles"),
 		roles,
 		p.note,
 		container.NewGridWithColumns(2,
-			widget.NewButton("Load recipe…", ws.ChooseRecipe),
-			widget.NewButton("Save recipe…", ws.SaveRecipe)),
+			widget.NewButton("Load recipe…", act.load),
+			widget.NewButton("Save recipe…", act.save)),
 	)
-	p.showRecent(ws.recent())
+	p.showRecent(recent)
 	return p
 }
 
@@ -80,8 +91,10 @@ func (p *sourcePanel) showRecent(list []string) {
 	p.recent.Refresh()
 }
 
-// showCapture describes rec and fills the role lists from its channels.
+// showCapture describes rec and fills the role lists from its channels;
+// showRoles then selects the roles of a recipe.
 func (p *sourcePanel) showCapture(rec *capture.Recording, path, note string) {
+	p.rec = rec
 	src := "built-in demo (generated in memory)"
 	if path != "" {
 		src = filepath.Base(path)
@@ -104,7 +117,6 @@ func (p *sourcePanel) showCapture(rec *capture.Recording, path, note string) {
 		p.note.SetText("")
 		p.note.Hide()
 	}
-	p.showRoles(p.ws.cur.Recipe)
 }
 
 func channelOption(i int, c capture.Channel) string {
@@ -120,7 +132,7 @@ func channelOption(i int, c capture.Channel) string {
 
 // showRoles selects the channels r names ("none" for a role without one).
 func (p *sourcePanel) showRoles(r recipe.Recipe) {
-	det, idx, pos := p.ws.roleChannels(r)
+	det, idx, pos := roleChannels(p.rec, r)
 	pick := func(s *choice, i int) {
 		if i >= 0 && i < len(p.options) {
 			s.show(p.options[i])
@@ -156,8 +168,8 @@ const (
 // old channel (or none): roles swap rather than clash.
 func (p *sourcePanel) roleChosen(role int, option string) {
 	ch, _ := optionChannel(option)
-	p.ws.change("channel roles", func(r *recipe.Recipe) {
-		det, idx, pos := p.ws.roleChannels(*r)
+	p.act.edit("channel roles", func(r *recipe.Recipe) {
+		det, idx, pos := roleChannels(p.rec, *r)
 		refs := [3]recipe.ChannelRef{}
 		for i, n := range [3]int{det, idx, pos} {
 			if n >= 0 {

@@ -14,6 +14,8 @@ import (
 	"fyne.io/fyne/v2/theme"
 
 	"spotloom/recon"
+	"spotloom/recon/recipe"
+	"spotloom/sampledata"
 )
 
 // viewState reads the view's zoom (units per mm) and centre (mm).
@@ -396,5 +398,45 @@ func TestSessionIsKeptAndOfferedBack(t *testing.T) {
 	}
 	if !ws2.Modified() {
 		t.Error("resumed tuning is not marked as unsaved")
+	}
+}
+
+// TestSourcePanelAsksThroughItsActions: the source panel works alone, with
+// actions of the test's own in place of a window; choosing the index
+// channel for the detector asks for one edit, which swaps the two roles
+// of the recipe given to it (the demo's channels: 0 detector, 1 index,
+// 2 position, by sampledata's own channel order).
+func TestSourcePanelAsksThroughItsActions(t *testing.T) {
+	test.NewTempApp(t)
+	rec, err := sampledata.Demo()
+	if err != nil {
+		t.Fatal(err)
+	}
+	var edits []string
+	r := sampledata.DemoRecipe()
+	opened := ""
+	p := newSourcePanel(sourceActions{
+		edit: func(name string, f func(*recipe.Recipe)) {
+			edits = append(edits, name)
+			f(&r)
+		},
+		openRecent: func(path string) { opened = path },
+		choose:     func() {}, rawLayout: func() {}, load: func() {}, save: func() {},
+	}, []string{"/data/a.wav"})
+	p.showCapture(rec, "", "")
+	p.showRoles(r)
+	if p.detector.Selected != p.options[0] || p.index.Selected != p.options[1] {
+		t.Fatalf("roles shown %q / %q, want channels 0 and 1", p.detector.Selected, p.index.Selected)
+	}
+	p.detector.SetSelected(p.options[1])
+	if len(edits) != 1 || edits[0] != "channel roles" {
+		t.Fatalf("the panel asked for edits %q, want one of the channel roles", edits)
+	}
+	if d, i, pos := roleChannels(rec, r); d != 1 || i != 0 || pos != 2 {
+		t.Errorf("roles %d/%d/%d after the edit, want 1/0/2", d, i, pos)
+	}
+	p.recent.SetSelected("/data/a.wav")
+	if opened != "/data/a.wav" {
+		t.Errorf("choosing a recent capture opened %q", opened)
 	}
 }

@@ -187,15 +187,22 @@ func (ws *Workstation) build() {
 	ws.controls = newControlPanel(panelActions{
 		edit: ws.edit, gesture: ws.gesture, problem: func(title, what, try string) { ws.showProblem(title, what, try) },
 		estimate: ws.EstimateOffsets, autoTone: ws.AutoTone, table: ws.ShowTableEditor,
+		loadPairs: ws.choosePairs,
+		showList: func(title string, body fyne.CanvasObject) {
+			ws.showDialog(dialog.NewCustom(title, "Close", body, ws.win))
+		},
 	})
-	ws.controls.cal.load = ws.choosePairs
-	ws.controls.cal.list = func(title string, body fyne.CanvasObject) {
-		ws.showDialog(dialog.NewCustom(title, "Close", body, ws.win))
-	}
 	ws.facts = newFactsPanel()
 	ws.measures = newMeasurePanel(measureActions{add: ws.addMeasurement, remove: ws.removeMeasurement,
 		choose: ws.selectMeasurement, pair: ws.pairMeasurement})
-	ws.source = newSourcePanel(ws)
+	ws.source = newSourcePanel(sourceActions{
+		edit: ws.change,
+		openRecent: func(path string) {
+			ws.askDiscard("open "+filepath.Base(path), func() { ws.OpenFile(path, nil) })
+		},
+		choose: ws.ChooseCapture, rawLayout: func() { ws.askRawLayout("") },
+		load: ws.ChooseRecipe, save: ws.SaveRecipe,
+	}, ws.recent())
 
 	ws.readout = widget.NewLabel("")
 	ws.readout.TextStyle = fyne.TextStyle{Monospace: true}
