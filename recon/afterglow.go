@@ -134,7 +134,7 @@ func lineSlope(a, b []float64) float64 {
 
 // afterglowStage estimates signal.afterglow_us (µs) for a recipe that
 // leaves it null: the lines are placed on the detector as recorded (with
-// the recipe's delay, or the automatic one, and its offsets or none), the
+// the recipe's delay and offsets, or the automatic ones), the
 // fall after the field is measured (measureEdgeResponse) and its tail
 // fitted. Laws without a beam-off stretch, and a baseline of none, give 0
 // with a warning.
@@ -144,9 +144,6 @@ func (s *Session) afterglowStage(ctx context.Context, r recipe.Recipe, ch channe
 	}
 	raw := r.Clone()
 	raw.Signal.AfterglowUS = recipe.Float(0)
-	if raw.Sweep.ApertureOffsetsDeg == nil {
-		raw.Sweep.ApertureOffsetsDeg = []float64{}
-	}
 	p := struct {
 		T     string
 		Det   int
@@ -154,6 +151,16 @@ func (s *Session) afterglowStage(ctx context.Context, r recipe.Recipe, ch channe
 		Sig   recipe.Signal
 	}{t.key, ch.detector, raw.Sweep, raw.Signal}
 	us, err := cachedStage(s.afterglows, s.runs, "afterglow", p, func() (float64, error) {
+		if raw.Sweep.ApertureOffsetsDeg == nil {
+			// The offsets are differences between apertures, which an
+			// afterglow delays alike: measured on the detector as
+			// recorded, they time each line's fall where it is, where
+			// offsets left at zero would spread the falls of the
+			// apertures and lengthen the fitted decay.
+			if _, err := s.resolveOffsets(ctx, &raw, ch, t); err != nil {
+				return 0, err
+			}
+		}
 		if raw.Sweep.DelayDeg == nil {
 			d, err := s.delayStage(ctx, raw, ch, t)
 			if err != nil {

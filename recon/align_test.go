@@ -2,6 +2,7 @@ package recon
 
 import (
 	"context"
+	"fmt"
 	"math"
 	"strings"
 	"testing"
@@ -238,6 +239,79 @@ func TestFinePitchHasNoStripes(t *testing.T) {
 		// the coarse accuracy.
 		if c.fraction == 0.5 && rmsFine > rmsCoarse+0.05 {
 			t.Errorf("dot centres %.3f mm RMS at %.3f mm pitch, %.3f mm at 1 mm", rmsFine, fine.Image.PitchMM, rmsCoarse)
+		}
+	}
+}
+
+// The automatic delay is the simulator's truth (delay_deg, a geometric
+// quantity from the rig's numbers, sampledata.Truth) within 0.05° on every
+// rig the law applies to and on the scenes with a beam-off step into the
+// field: the demo rig, the sound-card rig (AC-coupled detector), the hand
+// rig (aperture errors up to 0.3°) and the resonant mirror, each with its
+// own detector and, on the wheels, a 300 µs phosphor afterglow, with
+// signal.afterglow_us null so the engine estimates and undoes it. With the
+// true offsets given, the delay alone is checked; with both null, every
+// aperture's field start, delay_deg + aperture_offsets_deg[k]. The uniform
+// sheet has no detail to measure offsets from and is left out.
+func TestAutomaticDelayOverRigsAndScenes(t *testing.T) {
+	if testing.Short() {
+		t.Skip("simulates 21 captures")
+	}
+	ctx := context.Background()
+	demo := sampledata.DemoRig()
+	demo.DurationS = 10
+	mirror := sampledata.MirrorRig()
+	mirror.DurationS = 8
+	type rigCase struct {
+		name string
+		rig  sampledata.Rig
+		glow bool // also with a 300 µs afterglow
+	}
+	for _, c := range []rigCase{{"demo", demo, true}, {"sound card", sampledata.SoundCardRig(), true}, {"hand", handRig(), true}, {"mirror", mirror, false}} {
+		glows := []float64{c.rig.Detector.AfterglowS}
+		if c.glow {
+			glows = append(glows, 300e-6)
+		}
+		for _, glow := range glows {
+			rig := c.rig
+			rig.Detector.AfterglowS = glow
+			for _, scene := range []string{"parcel", "dot-grid", "edge-card"} {
+				name := fmt.Sprintf("%s, %g µs afterglow, %s", c.name, glow*1e6, scene)
+				rec, truth, err := sampledata.Simulate(ctx, rig, scene, sampledata.SimOptions{Seed: 7})
+				if err != nil {
+					t.Fatal(err)
+				}
+				s := NewSession(rec)
+				r := rig.Recipe()
+				r.Sweep.DelayDeg = nil
+				if r.Sweep.Law != recipe.LawSine {
+					r.Signal.AfterglowUS = nil
+				}
+				given := r.Clone()
+				given.Sweep.ApertureOffsetsDeg = truth.ApertureOffsetsDeg
+				res, err := s.Build(ctx, given, nil)
+				if err != nil {
+					t.Fatalf("%s: %v", name, err)
+				}
+				if d := *res.Recipe.Sweep.DelayDeg; math.Abs(d-truth.DelayDeg) > 0.05 {
+					t.Errorf("%s: with the true offsets, delay %.3f°, truth %.3f°", name, d, truth.DelayDeg)
+				}
+				if r.Sweep.Law == recipe.LawSine {
+					continue
+				}
+				r.Sweep.ApertureOffsetsDeg = nil
+				res, err = s.Build(ctx, r, nil)
+				if err != nil {
+					t.Fatalf("%s: %v", name, err)
+				}
+				sw := res.Recipe.Sweep
+				for k, o := range sw.ApertureOffsetsDeg {
+					got, want := *sw.DelayDeg+o, truth.DelayDeg+truth.ApertureOffsetsDeg[k]
+					if math.Abs(got-want) > 0.05 {
+						t.Errorf("%s: aperture %d field starts %.3f° after its edge, truth %.3f° (afterglow found %.1f µs)", name, k, got, want, *res.Recipe.Signal.AfterglowUS)
+					}
+				}
+			}
 		}
 	}
 }

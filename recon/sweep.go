@@ -475,8 +475,8 @@ const maxRiseBins = 12
 // opposite directions. It minimises the mean squared difference between
 // the two lines of each period, resampled onto common beam angles: a
 // coarse search in 0.5° steps over −90° … 90° (a delay and the same plus
-// 180° only swap the two lines) on about 100 periods, then a golden-section
-// search within ±0.5° on about 400. A scene that is its own mirror image
+// 180° only swap the two lines) on about 100 periods, then a parabola
+// fitted to the cost within ±1° on about 400 (refineSineDelay). A scene that is its own mirror image
 // across the field also matches 90° away (the lines then fold at the
 // centre of the swing instead of its ends); when both fit about equally,
 // the one within ±45° is kept and a warning says so.
@@ -511,22 +511,45 @@ func estimateSineDelay(ctx context.Context, t *timingResult, det []float32, s re
 		}
 		warns = append(warns, fmt.Sprintf("the scene looks the same mirrored across the field, so the sine delay could also be about %.1f° instead of the %.1f° kept (the one nearer 0°); if the image looks folded, set sweep.delay_deg", alt, best))
 	}
-	lo, hi := best-0.5, best+0.5
-	g := (math.Sqrt(5) - 1) / 2
-	x1, x2 := hi-g*(hi-lo), lo+g*(hi-lo)
-	c1, c2 := fine.at(x1), fine.at(x2)
-	for hi-lo > 0.005 {
-		if c1 < c2 {
-			hi, x2, c2 = x2, x1, c1
-			x1 = hi - g*(hi-lo)
-			c1 = fine.at(x1)
-		} else {
-			lo, x1, c1 = x1, x2, c2
-			x2 = lo + g*(hi-lo)
-			c2 = fine.at(x2)
+	return refineSineDelay(fine, best), warns, nil
+}
+
+// refineSineDelay refines a coarse sine delay: the cost every 0.05° within
+// ±1°, and the least-squares parabola through the cheapest point and
+// its four neighbours on each side (a minimum of a smooth cost is locally
+// quadratic; fitting nine points rides over the ripple the scene and the
+// noise put on it, where a bracketing search can settle in a ripple).
+func refineSineDelay(fine *sineCost, coarse float64) float64 {
+	const step, half, fit = 0.05, 20, 4
+	costs := make([]float64, 2*half+1)
+	best := 0
+	for i := range costs {
+		costs[i] = fine.at(coarse + float64(i-half)*step)
+		if costs[i] < costs[best] {
+			best = i
 		}
 	}
-	return (lo + hi) / 2, warns, nil
+	best = min(max(best, fit), len(costs)-1-fit)
+	// Least squares c = a0 + a1·u + a2·u² over u = −fit … fit (symmetric,
+	// so the normal equations split: a1 = Σuc/Σu², and a0, a2 from the
+	// even moments).
+	var s0, s2, s4, c0, c1, c2 float64
+	for u := -fit; u <= fit; u++ {
+		c, fu := costs[best+u], float64(u)
+		s0++
+		s2 += fu * fu
+		s4 += fu * fu * fu * fu
+		c0 += c
+		c1 += fu * c
+		c2 += fu * fu * c
+	}
+	a1 := c1 / s2
+	a2 := (s0*c2 - s2*c0) / (s0*s4 - s2*s2)
+	u := 0.0
+	if a2 > 0 {
+		u = math.Max(-fit, math.Min(fit, -a1/(2*a2)))
+	}
+	return coarse + (float64(best-half)+u)*step
 }
 
 // sineCost measures how badly the forward and backward lines of sampled

@@ -27,11 +27,9 @@ func TestAfterglowRestoresEdgeSharpness(t *testing.T) {
 		t.Helper()
 		f, truth := simulateFrame(t, rig, "edge-card", false, func(r *recipe.Recipe) {
 			r.Signal.AfterglowUS = afterglowUS
-			// The card lies on a dark backing, and a 300 µs afterglow
-			// smears the dim step where the beam enters the field past
-			// what the automatic delay can time; with the aperture errors
-			// zero the truth's delay is lead_deg (sampledata.Truth).
-			r.Sweep.DelayDeg = recipe.Float(rig.Index.LeadDeg)
+			// The delay is automatic, found on the detector as the
+			// recipe restores it.
+			r.Sweep.DelayDeg = nil
 		})
 		sum, n := 0.0, 0
 		for _, e := range truth.Features {
