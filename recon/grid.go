@@ -36,7 +36,7 @@ type channelStats struct {
 	prefix []float64 // prefix[b] = sum of samples [0, b·statsBlock)
 }
 
-const statsBlock = 256
+const statsBlock = 256 // a multiple of four (blockStats)
 
 func newChannelStats(ctx context.Context, x []float32) (*channelStats, error) {
 	nb := len(x) / statsBlock
@@ -62,12 +62,9 @@ func newChannelStats(ctx context.Context, x []float32) (*channelStats, error) {
 				if blk%4096 == 0 && ctx.Err() != nil {
 					return
 				}
-				var s float32
-				for _, v := range x[blk*statsBlock : (blk+1)*statsBlock] {
-					s += v
-					lo, hi = min(lo, v), max(hi, v)
-				}
-				st.prefix[blk+1] = float64(s)
+				var s float64
+				s, lo, hi = blockStats(x[blk*statsBlock:(blk+1)*statsBlock], lo, hi)
+				st.prefix[blk+1] = s
 			}
 			los[k], his[k] = lo, hi
 		}(k)
@@ -84,6 +81,28 @@ func newChannelStats(ctx context.Context, x []float32) (*channelStats, error) {
 		st.prefix[b] += st.prefix[b-1]
 	}
 	return st, nil
+}
+
+// blockStats returns the sum of the samples of one block (a multiple of
+// four long), and lo and hi widened to their range. Four lanes, each with
+// its own sum, minimum and maximum, keep the processor's adders busy
+// instead of waiting on one chain; the sums are kept in float64.
+func blockStats(x []float32, lo, hi float32) (float64, float32, float32) {
+	var s0, s1, s2, s3 float64
+	lo0, lo1, lo2, lo3 := lo, lo, lo, lo
+	hi0, hi1, hi2, hi3 := hi, hi, hi, hi
+	for i := 0; i+3 < len(x); i += 4 {
+		v := x[i : i+4 : i+4]
+		s0 += float64(v[0])
+		s1 += float64(v[1])
+		s2 += float64(v[2])
+		s3 += float64(v[3])
+		lo0, hi0 = min(lo0, v[0]), max(hi0, v[0])
+		lo1, hi1 = min(lo1, v[1]), max(hi1, v[1])
+		lo2, hi2 = min(lo2, v[2]), max(hi2, v[2])
+		lo3, hi3 = min(lo3, v[3]), max(hi3, v[3])
+	}
+	return (s0 + s1) + (s2 + s3), min(lo0, lo1, lo2, lo3), max(hi0, hi1, hi2, hi3)
 }
 
 // sum returns the sum of x[a:b].

@@ -57,7 +57,7 @@ func SavitzkyGolay(half, order int, at float64) ([]float64, error) {
 // smoothSG applies a quadratic Savitzky–Golay filter of 2·half+1 points,
 // with the end points taken from the polynomial of the first and last
 // windows, so a motion edge keeps its shape better than under a moving
-// average.
+// average. The points are shared between the workers.
 func smoothSG(y []float64, half int) []float64 {
 	n := len(y)
 	if half < 1 || n < 2*half+1 {
@@ -65,9 +65,11 @@ func smoothSG(y []float64, half int) []float64 {
 	}
 	out := make([]float64, n)
 	centre, _ := SavitzkyGolay(half, 2, 0)
-	for i := half; i < n-half; i++ {
-		out[i] = sgDot(centre, y[i-half:])
-	}
+	forSpans(n-2*half, minSplitSamples/len(centre), func(a, b int) {
+		for i := half + a; i < half+b; i++ {
+			out[i] = sgDot(centre, y[i-half:])
+		}
+	})
 	for i := 0; i < half; i++ {
 		w, _ := SavitzkyGolay(half, 2, float64(i-half))
 		out[i], out[n-1-i] = sgDot(w, y), sgDotBack(w, y)
@@ -265,17 +267,21 @@ func minMax(v []float64) (float64, float64) {
 	return lo, hi
 }
 
+// blockMeans returns the mean of each block of blockLen samples of x (the
+// last block may be shorter), the blocks shared between the workers.
 func blockMeans(x []float32, blockLen int) []float64 {
 	nb := (len(x) + blockLen - 1) / blockLen
 	out := make([]float64, nb)
-	for j := range out {
-		a, b := j*blockLen, min((j+1)*blockLen, len(x))
-		s := 0.0
-		for _, v := range x[a:b] {
-			s += float64(v)
+	forSpans(nb, minSplitSamples/blockLen, func(j0, j1 int) {
+		for j := j0; j < j1; j++ {
+			a, b := j*blockLen, min((j+1)*blockLen, len(x))
+			s := 0.0
+			for _, v := range x[a:b] {
+				s += float64(v)
+			}
+			out[j] = s / float64(b-a)
 		}
-		out[j] = s / float64(b-a)
-	}
+	})
 	return out
 }
 

@@ -20,6 +20,33 @@ func splitSpans(n, w int) [][2]int {
 	return out
 }
 
+// forEachSpan calls f(k, a, b) on each span k of spans: in parallel, one
+// goroutine a span, when parallel is true, else in turn. Work that writes
+// only its own span's results gives the serial result either way.
+func forEachSpan(spans [][2]int, parallel bool, f func(k, a, b int)) {
+	if !parallel || len(spans) == 1 {
+		for k, sp := range spans {
+			f(k, sp[0], sp[1])
+		}
+		return
+	}
+	var wg sync.WaitGroup
+	for k, sp := range spans {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			f(k, sp[0], sp[1])
+		}()
+	}
+	wg.Wait()
+}
+
+// forSpans calls f on contiguous spans [a, b) covering [0, n), one per
+// worker and in parallel when n is at least minN.
+func forSpans(n, minN int, f func(a, b int)) {
+	forEachSpan(splitSpans(n, workers()), n >= minN, func(_, a, b int) { f(a, b) })
+}
+
 // flatRuns finds the stretches of at least minLen samples over which x
 // holds exactly one value, keeping at most maxFlatRuns of them (the first
 // ones) and counting all. A long channel is cut at value changes into one

@@ -266,9 +266,13 @@ func profileLag(p, ref []float64, reach int) float64 {
 	n := len(p)
 	cost := func(d int) float64 {
 		c := 0.0
-		for b, r := range ref {
-			v := p[((b+d)%n+n)%n] - r
+		i := ((d % n) + n) % n // p's bin for ref's bin 0, wrapping round
+		for _, r := range ref {
+			v := p[i] - r
 			c += v * v
+			if i++; i == n {
+				i = 0
+			}
 		}
 		return c
 	}
@@ -713,9 +717,11 @@ func foldLines(ctx context.Context, t *timingResult, det []float32, s recipe.Swe
 			b0 := -off / spacing * float64(bins)
 			for j := from; j < to; j++ {
 				b := int(math.Floor((float64(j)-lt.edge)*k + b0))
-				b %= bins
-				if b < 0 {
-					b += bins
+				if b < 0 || b >= bins { // rarely: no division otherwise
+					b %= bins
+					if b < 0 {
+						b += bins
+					}
 				}
 				v := float64(det[j])
 				sum[b] += v

@@ -35,37 +35,61 @@ func Otsu(values []float32) OtsuResult {
 		return OtsuResult{}
 	}
 	stride := 1 + n/2_000_000
+	m := (n + stride - 1) / stride // values read
+	// Both passes are shared between the workers, each over its own span
+	// of the values read, and their findings joined in order.
+	spans := splitSpans(m, workers())
+	type part struct {
+		lo, hi     float64
+		hist, sums [otsuBins]float64
+	}
+	parts := make([]part, len(spans))
+	forEachSpan(spans, m >= minSplitSamples, func(k, a, b int) {
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for i := a * stride; i < b*stride; i += stride {
+			v := float64(values[i])
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				continue
+			}
+			if v < lo {
+				lo = v
+			}
+			if v > hi {
+				hi = v
+			}
+		}
+		parts[k].lo, parts[k].hi = lo, hi
+	})
 	lo, hi := math.Inf(1), math.Inf(-1)
-	for i := 0; i < n; i += stride {
-		v := float64(values[i])
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			continue
-		}
-		if v < lo {
-			lo = v
-		}
-		if v > hi {
-			hi = v
-		}
+	for _, p := range parts {
+		lo, hi = math.Min(lo, p.lo), math.Max(hi, p.hi)
 	}
 	res := OtsuResult{Min: lo, Max: hi, Threshold: lo, LowMean: lo, HighMean: hi}
 	if !(hi > lo) || math.IsInf(hi-lo, 0) {
 		return res
 	}
-	var hist [otsuBins]float64
-	var sums [otsuBins]float64
 	scale := otsuBins / (hi - lo)
-	for i := 0; i < n; i += stride {
-		v := float64(values[i])
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			continue
+	forEachSpan(spans, m >= minSplitSamples, func(k, a, b int) {
+		hist, sums := &parts[k].hist, &parts[k].sums
+		for i := a * stride; i < b*stride; i += stride {
+			v := float64(values[i])
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				continue
+			}
+			bin := int((v - lo) * scale)
+			if bin >= otsuBins {
+				bin = otsuBins - 1
+			}
+			hist[bin]++
+			sums[bin] += v
 		}
-		b := int((v - lo) * scale)
-		if b >= otsuBins {
-			b = otsuBins - 1
+	})
+	var hist, sums [otsuBins]float64
+	for _, p := range parts {
+		for b := range hist {
+			hist[b] += p.hist[b]
+			sums[b] += p.sums[b]
 		}
-		hist[b]++
-		sums[b] += v
 	}
 	return otsuHistogram(hist[:], sums[:], lo, hi, res)
 }
