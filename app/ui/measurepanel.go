@@ -67,6 +67,7 @@ type measurePanel struct {
 	result *widget.Label // what the typed entry said last
 	list   *fyne.Container
 	box    *fyne.Container
+	scroll *container.Scroll
 
 	frame    *recon.Frame
 	shapes   []measure.Shape
@@ -102,10 +103,12 @@ func newMeasurePanel(act measureActions) *measurePanel {
 		widget.NewButtonWithIcon("Add", theme.ContentAddIcon(), func() { p.measure() }),
 		p.result,
 	)
+	p.scroll = container.NewVScroll(p.box)
 	return p
 }
 
-func (p *measurePanel) object() fyne.CanvasObject { return p.box }
+// object is the panel, scrolling on its own.
+func (p *measurePanel) object() fyne.CanvasObject { return p.scroll }
 
 // request turns the typed fields into a shape (without its label).
 func (p *measurePanel) request() (measure.Shape, error) {
@@ -175,10 +178,27 @@ func (p *measurePanel) setShapes(shapes []measure.Shape, selected string) {
 		p.list.Refresh()
 		p.run()
 	}
+	changed := p.selected != selected
 	p.selected = selected
 	for _, c := range p.cards {
-		c.highlight(c.shape.Label == selected)
+		on := c.shape.Label == selected
+		c.highlight(on)
+		if on && changed {
+			p.scrollTo(c)
+		}
 	}
+}
+
+// scrollTo brings card c into sight (a mark was clicked on the image).
+func (p *measurePanel) scrollTo(c *measureCard) {
+	top := p.list.Position().Y + c.box.Position().Y
+	bottom := top + c.box.Size().Height
+	view := p.scroll.Size().Height
+	if top >= p.scroll.Offset.Y && bottom <= p.scroll.Offset.Y+view {
+		return
+	}
+	p.scroll.Offset.Y = max(0, min(top, p.box.MinSize().Height-view))
+	p.scroll.Refresh()
 }
 
 func noMeasurements() fyne.CanvasObject {

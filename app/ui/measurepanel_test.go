@@ -440,3 +440,34 @@ func TestMeasurementThatCannotBeTakenSaysWhy(t *testing.T) {
 		t.Errorf("the demo has no 25 mm dot grid, and G1 says %q", got)
 	}
 }
+
+func TestSelectingAMarkShowsItsCard(t *testing.T) {
+	// Clicking a mark on the image scrolls the list to its card.
+	ws, _ := newTestWorkstation(t)
+	cx, cy := centreMM(ws.view.Frame())
+	for i := range 6 {
+		x := cx - 60 + 20*float64(i)
+		ws.AddMeasurement(measure.Shape{Kind: measure.KindProfile, Line: &measure.Line{X0: x, Y0: cy - 40, X1: x, Y1: cy + 40}})
+	}
+	ws.selectMeasurement("")
+	p := ws.measures
+	p.scroll.Offset.Y = 0
+	p.scroll.Refresh()
+	last := p.cards[5]
+	if top := p.list.Position().Y + last.box.Position().Y; top < p.scroll.Size().Height {
+		t.Fatalf("the last card starts at %.0f, inside the %.0f-high list already", top, p.scroll.Size().Height)
+	}
+	v := ws.view
+	v.mu.Lock()
+	v.applyFit()
+	ux, uy := v.toView(cx+40, cy)
+	v.mu.Unlock()
+	ws.view.Tapped(&fyne.PointEvent{Position: fyne.NewPos(ux, uy)})
+	if ws.marking.selected != "P6" {
+		t.Fatalf("the click selected %q, want P6", ws.marking.selected)
+	}
+	top := p.list.Position().Y + last.box.Position().Y
+	if top < p.scroll.Offset.Y || top+last.box.Size().Height > p.scroll.Offset.Y+p.scroll.Size().Height+1 {
+		t.Errorf("P6's card at %.0f…%.0f, the list shows %.0f…%.0f", top, top+last.box.Size().Height, p.scroll.Offset.Y, p.scroll.Offset.Y+p.scroll.Size().Height)
+	}
+}

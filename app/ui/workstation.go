@@ -251,7 +251,7 @@ func (ws *Workstation) build() {
 	ws.leftScroll = container.NewVScroll(ws.leftBox)
 	// The facts above, the measurements below: each scrolls on its own,
 	// so neither hides the other.
-	right := container.NewVSplit(container.NewVScroll(ws.facts.object()), container.NewVScroll(ws.measures.object()))
+	right := container.NewVSplit(container.NewVScroll(ws.facts.object()), ws.measures.object())
 	right.Offset = 0.52
 
 	ws.progress = widget.NewProgressBar()
