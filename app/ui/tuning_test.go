@@ -14,6 +14,7 @@ import (
 	"fyne.io/fyne/v2/theme"
 
 	"spotloom/recon"
+	"spotloom/recon/measure"
 	"spotloom/recon/recipe"
 	"spotloom/sampledata"
 )
@@ -364,6 +365,9 @@ func TestSessionIsKeptAndOfferedBack(t *testing.T) {
 	ws.controls.number(ctlDelay).typed("9.5")
 	ws.Wait()
 	ws.view.ZoomBy(2)
+	cx, cy := centreMM(ws.view.Frame())
+	ws.AddMeasurement(measure.Shape{Kind: measure.KindRegion, Rect: &measure.Rect{X0: cx - 10, Y0: cy - 10, X1: cx + 10, Y1: cy + 10}})
+	drawn := measure.CloneList(ws.cur.Measurements)
 	ws.saveSession()
 	st, err := os.Stat(path)
 	if err != nil {
@@ -398,6 +402,9 @@ func TestSessionIsKeptAndOfferedBack(t *testing.T) {
 	}
 	if !ws2.Modified() {
 		t.Error("resumed tuning is not marked as unsaved")
+	}
+	if !measure.SameList(ws2.cur.Measurements, drawn) || len(ws2.measures.taken) != 1 || ws2.measures.taken[0].Err != nil {
+		t.Errorf("resumed measurements %+v (%+v), want %+v", ws2.cur.Measurements, ws2.measures.taken, drawn)
 	}
 }
 
