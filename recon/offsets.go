@@ -169,49 +169,13 @@ func meanStd(v []float64) (float64, float64) {
 // steps of binDeg within ±halfDeg of centre[k], and its peak refined by a
 // parabola through the three best points.
 func offsetCorrelation(ctx context.Context, t *timingResult, det []float32, sw recipe.Sweep, n int, binDeg float64, centre []float64, halfDeg float64, pairs int) ([]float64, error) {
-	spacing := apertureSpacingDeg(sw)
-	maxShift := 0.0
-	for _, c := range centre {
-		maxShift = math.Max(maxShift, math.Abs(c))
-	}
-	maxLag := int(math.Ceil((halfDeg + maxShift) / binDeg))
-	half := int(math.Ceil(halfDeg / binDeg))
-	from := *sw.DelayDeg - float64(maxLag)*binDeg
-	nb := int(sw.FieldDeg/binDeg) + 2*maxLag
-	profile := func(lt lineTiming, dst []float64) bool {
-		for b := range dst {
-			alpha := from + (float64(b)+0.5)*binDeg
-			v, ok := sampleAt(det, lt.edge+alpha/spacing*lt.period)
-			if !ok {
-				return false
-			}
-			dst[b] = v
-		}
-		return true
-	}
-	// Pooled over the pairs: the covariance and the variances are summed
-	// before normalising, so pairs of lines that meet no detail (a sparse
-	// scene) add little either way.
-	corr := make([][]float64, n) // corr[k][j]: lag = centre lag − half + j
-	varB := make([][]float64, n)
-	varA := make([]float64, n)
-	for k := range corr {
-		corr[k] = make([]float64, 2*half+1)
-		varB[k] = make([]float64, 2*half+1)
-	}
-	centreLag := make([]int, n)
-	for k := range centreLag {
-		centreLag[k] = int(math.Round(centre[k] / binDeg))
-	}
-	a := make([]float64, nb)
-	b := make([]float64, nb)
-	sumB := make([]float64, nb+1)
-	sumB2 := make([]float64, nb+1)
-	used := make([]int, n)
+	w := newLagWindow(sw, binDeg, centre, halfDeg)
+	acc := newPairCorrelation(n, w)
+	a := make([]float64, w.nb)
+	b := make([]float64, w.nb)
 	// Pairs are taken in runs of one revolution (n pairs), so that every
 	// aperture has its share whatever the stride.
 	stride := 1 + len(t.lines)/pairs
-	lo, hi := maxLag, nb-maxLag
 	for i := 0; i+1 < len(t.lines); i++ {
 		if i%n == 0 && i > 0 {
 			i += (stride - 1) * n
@@ -223,43 +187,121 @@ func offsetCorrelation(ctx context.Context, t *timingResult, det []float32, sw r
 			return nil, ctx.Err()
 		}
 		l0, l1 := t.lines[i], t.lines[i+1]
-		if l1.aperture != (l0.aperture+1)%n || !profile(l0, a) || !profile(l1, b) {
+		if l1.aperture != (l0.aperture+1)%n || !w.profile(det, l0, a) || !w.profile(det, l1, b) {
 			continue
 		}
-		k := l0.aperture
-		ma, sa := meanStd(a[lo:hi])
-		m := float64(hi - lo)
-		varA[k] += sa * sa * m
-		for q := lo; q < hi; q++ {
-			a[q] -= ma
-		}
-		// Running sums of b and b² give each window's variance at once.
-		sumB[0], sumB2[0] = 0, 0
-		for q, v := range b {
-			sumB[q+1] = sumB[q] + v
-			sumB2[q+1] = sumB2[q] + v*v
-		}
-		for j := range corr[k] {
-			lag := centreLag[k] - half + j
-			// Σ(a−ā)(b−b̄) = Σ(a−ā)b, as Σ(a−ā) = 0.
-			c := 0.0
-			for q := lo; q < hi; q++ {
-				c += a[q] * b[q+lag]
-			}
-			corr[k][j] += c
-			sb := sumB[hi+lag] - sumB[lo+lag]
-			varB[k][j] += math.Max(0, sumB2[hi+lag]-sumB2[lo+lag]-sb*sb/m)
-		}
-		used[k]++
+		acc.add(l0.aperture, a, b)
 	}
+	return acc.peaks()
+}
+
+// lagWindow is where offsetCorrelation reads each line: nb bins of binDeg
+// of wheel angle from `from`, the field widened by the largest lag searched
+// on either side; bins [lo, hi) are the field itself. Aperture k's lags
+// are searched within ±half bins of centreLag[k].
+type lagWindow struct {
+	from, binDeg, spacing float64
+	nb, lo, hi, half      int
+	centreLag             []int
+}
+
+func newLagWindow(sw recipe.Sweep, binDeg float64, centre []float64, halfDeg float64) *lagWindow {
+	maxShift := 0.0
+	for _, c := range centre {
+		maxShift = math.Max(maxShift, math.Abs(c))
+	}
+	maxLag := int(math.Ceil((halfDeg + maxShift) / binDeg))
+	w := &lagWindow{
+		from: *sw.DelayDeg - float64(maxLag)*binDeg, binDeg: binDeg, spacing: apertureSpacingDeg(sw),
+		nb: int(sw.FieldDeg/binDeg) + 2*maxLag, half: int(math.Ceil(halfDeg / binDeg)),
+		centreLag: make([]int, len(centre)),
+	}
+	w.lo, w.hi = maxLag, w.nb-maxLag
+	for k := range w.centreLag {
+		w.centreLag[k] = int(math.Round(centre[k] / binDeg))
+	}
+	return w
+}
+
+// profile samples the detector over the window for one line into dst; it
+// reports false when the window runs past the capture.
+func (w *lagWindow) profile(det []float32, lt lineTiming, dst []float64) bool {
+	for b := range dst {
+		alpha := w.from + (float64(b)+0.5)*w.binDeg
+		v, ok := sampleAt(det, lt.edge+alpha/w.spacing*lt.period)
+		if !ok {
+			return false
+		}
+		dst[b] = v
+	}
+	return true
+}
+
+// pairCorrelation pools the cross-correlation of neighbouring lines per
+// aperture over many pairs: the covariance and the variances are summed
+// before normalising, so pairs of lines that meet no detail (a sparse
+// scene) add little either way.
+type pairCorrelation struct {
+	w           *lagWindow
+	corr, varB  [][]float64 // [k][j]: lag = centre lag − half + j
+	varA        []float64
+	used        []int
+	sumB, sumB2 []float64
+}
+
+func newPairCorrelation(n int, w *lagWindow) *pairCorrelation {
+	p := &pairCorrelation{w: w, corr: make([][]float64, n), varB: make([][]float64, n), varA: make([]float64, n),
+		used: make([]int, n), sumB: make([]float64, w.nb+1), sumB2: make([]float64, w.nb+1)}
+	for k := range p.corr {
+		p.corr[k] = make([]float64, 2*w.half+1)
+		p.varB[k] = make([]float64, 2*w.half+1)
+	}
+	return p
+}
+
+// add pools one pair: a from aperture k (its field bins are made zero
+// mean in place), b from aperture k+1.
+func (p *pairCorrelation) add(k int, a, b []float64) {
+	lo, hi := p.w.lo, p.w.hi
+	ma, sa := meanStd(a[lo:hi])
+	m := float64(hi - lo)
+	p.varA[k] += sa * sa * m
+	for q := lo; q < hi; q++ {
+		a[q] -= ma
+	}
+	// Running sums of b and b² give each window's variance at once.
+	sumB, sumB2 := p.sumB, p.sumB2
+	sumB[0], sumB2[0] = 0, 0
+	for q, v := range b {
+		sumB[q+1] = sumB[q] + v
+		sumB2[q+1] = sumB2[q] + v*v
+	}
+	for j := range p.corr[k] {
+		lag := p.w.centreLag[k] - p.w.half + j
+		// Σ(a−ā)(b−b̄) = Σ(a−ā)b, as Σ(a−ā) = 0.
+		c := 0.0
+		for q := lo; q < hi; q++ {
+			c += a[q] * b[q+lag]
+		}
+		p.corr[k][j] += c
+		sb := sumB[hi+lag] - sumB[lo+lag]
+		p.varB[k][j] += math.Max(0, sumB2[hi+lag]-sumB2[lo+lag]-sb*sb/m)
+	}
+	p.used[k]++
+}
+
+// peaks returns each aperture's lag of best normalised correlation,
+// degrees, refined by a parabola through the three best points.
+func (p *pairCorrelation) peaks() ([]float64, error) {
+	n := len(p.corr)
 	out := make([]float64, n)
 	for k := 0; k < n; k++ {
-		if used[k] == 0 {
+		if p.used[k] == 0 {
 			return nil, fmt.Errorf("no pair of lines from apertures %d and %d could be compared: the capture is too short", k, (k+1)%n)
 		}
-		c := corr[k]
+		c := p.corr[k]
 		for j := range c {
-			if den := math.Sqrt(varA[k] * varB[k][j]); den > 0 {
+			if den := math.Sqrt(p.varA[k] * p.varB[k][j]); den > 0 {
 				c[j] /= den
 			} else {
 				c[j] = 0
@@ -280,7 +322,7 @@ func offsetCorrelation(ctx context.Context, t *timingResult, det []float32, sw r
 				d = 0.5 * (c[best-1] - c[best+1]) / den
 			}
 		}
-		out[k] = (float64(centreLag[k]-half+best) + d) * binDeg
+		out[k] = (float64(p.w.centreLag[k]-p.w.half+best) + d) * p.w.binDeg
 	}
 	return out, nil
 }

@@ -286,84 +286,138 @@ func readIFD(path string, data []byte, bo binary.ByteOrder, off uint32) (map[uin
 
 // tiffPageFrame decodes one IFD's image into a frame.
 func tiffPageFrame(path string, data []byte, bo binary.ByteOrder, fields map[uint16]tiffField, page int) (*recon.Frame, bool, string, error) {
-	where := fmt.Sprintf("page %d", page)
+	pr := tiffPageReader{path: path, where: fmt.Sprintf("page %d", page), data: data, bo: bo, fields: fields}
+	t, err := pr.tags()
+	if err != nil {
+		return nil, false, "", err
+	}
+	if err := pr.supported(t); err != nil {
+		return nil, false, "", err
+	}
+	pixels, err := pr.strips(t)
+	if err != nil {
+		return nil, false, "", err
+	}
+	f := &recon.Frame{Width: int(t.width), Height: int(t.height),
+		Pix: make([]float32, int(t.width)*int(t.height)), Covered: make([]bool, int(t.width)*int(t.height)),
+		Recipe: recipe.Default()}
+	decodeTIFFPixels(f, pixels, t, bo)
+	px, errX := tiffPitch(fields[tagXResolution], bo, fields, tagXResolution)
+	py, errY := tiffPitch(fields[tagYResolution], bo, fields, tagYResolution)
+	if errX != nil || errY != nil {
+		return nil, false, "", &ReadUnsupportedError{path, pr.where + ": " + errors.Join(errX, errY).Error() + ": the pitch is unknown"}
+	}
+	f.PitchXMM, f.PitchYMM = px, py
+	desc := strings.TrimRight(string(fields[tagImageDescription].data), "\x00")
+	return f, t.bits == 32, desc, nil
+}
+
+// tiffPageReader reads one page of a TIFF file: where names it in errors.
+type tiffPageReader struct {
+	path, where string
+	data        []byte
+	bo          binary.ByteOrder
+	fields      map[uint16]tiffField
+}
+
+// tiffPageTags are the baseline tags of a page that decide how it reads.
+type tiffPageTags struct {
+	width, height, bits, comp, photo, spp, format, predictor, planar, rowsPerStrip uint32
+}
+
+func (pr tiffPageReader) tags() (tiffPageTags, error) {
 	one := func(tag uint16, def uint32) (uint32, error) {
-		f, ok := fields[tag]
+		f, ok := pr.fields[tag]
 		if !ok {
 			return def, nil
 		}
-		v := f.uints(bo)
+		v := f.uints(pr.bo)
 		if len(v) == 0 {
-			return 0, &ReadFormatError{path, fmt.Sprintf("%s: tag %d has no SHORT or LONG value", where, tag)}
+			return 0, &ReadFormatError{pr.path, fmt.Sprintf("%s: tag %d has no SHORT or LONG value", pr.where, tag)}
 		}
 		return v[0], nil
 	}
-	var width, height, bits, comp, photo, spp, format, predictor, planar, rowsPerStrip uint32
+	var t tiffPageTags
 	var err error
 	for _, g := range []struct {
 		dst *uint32
 		tag uint16
 		def uint32
 	}{
-		{&width, tagImageWidth, 0}, {&height, tagImageLength, 0}, {&bits, tagBitsPerSample, 1},
-		{&comp, tagCompression, compressionNone}, {&photo, tagPhotometricInterpretation, 99},
-		{&spp, tagSamplesPerPixel, 1}, {&format, tagSampleFormat, sampleFormatUInt},
-		{&predictor, 317, 1}, {&planar, tagPlanarConfiguration, planarChunky}, {&rowsPerStrip, tagRowsPerStrip, math.MaxUint32},
+		{&t.width, tagImageWidth, 0}, {&t.height, tagImageLength, 0}, {&t.bits, tagBitsPerSample, 1},
+		{&t.comp, tagCompression, compressionNone}, {&t.photo, tagPhotometricInterpretation, 99},
+		{&t.spp, tagSamplesPerPixel, 1}, {&t.format, tagSampleFormat, sampleFormatUInt},
+		{&t.predictor, 317, 1}, {&t.planar, tagPlanarConfiguration, planarChunky}, {&t.rowsPerStrip, tagRowsPerStrip, math.MaxUint32},
 	} {
 		if *g.dst, err = one(g.tag, g.def); err != nil {
-			return nil, false, "", err
+			return t, err
 		}
 	}
-	unsupported := func(msg string) error { return &ReadUnsupportedError{path, where + ": " + msg} }
+	return t, nil
+}
+
+// supported refuses a page this reader cannot read.
+func (pr tiffPageReader) supported(t tiffPageTags) error {
+	unsupported := func(msg string) error { return &ReadUnsupportedError{pr.path, pr.where + ": " + msg} }
 	switch {
-	case width == 0 || height == 0:
-		return nil, false, "", &ReadFormatError{path, fmt.Sprintf("%s: the image is %d × %d pixels", where, width, height)}
-	case uint64(width)*uint64(height) > maxReadPixels:
-		return nil, false, "", unsupported(fmt.Sprintf("%d × %d pixels is more than this reader takes", width, height))
-	case spp != 1 || (photo != photometricBlackIsZero && photo != 0):
-		return nil, false, "", unsupported(fmt.Sprintf("%d samples per pixel, photometric %d: only one-sample gray frames are read", spp, photo))
-	case predictor != 1:
-		return nil, false, "", unsupported(fmt.Sprintf("predictor %d", predictor))
-	case !(bits == 8 && format == sampleFormatUInt) && !(bits == 16 && format == sampleFormatUInt) && !(bits == 32 && format == sampleFormatIEEEFP):
-		return nil, false, "", unsupported(fmt.Sprintf("%d-bit samples of format %d: 8/16-bit unsigned or 32-bit float (SampleFormat 3) are read", bits, format))
-	case comp != compressionNone && comp != compressionLZW && comp != compressionDeflate && comp != 32946:
-		return nil, false, "", unsupported(fmt.Sprintf("compression %d: none, LZW or Deflate are read", comp))
+	case t.width == 0 || t.height == 0:
+		return &ReadFormatError{pr.path, fmt.Sprintf("%s: the image is %d × %d pixels", pr.where, t.width, t.height)}
+	case uint64(t.width)*uint64(t.height) > maxReadPixels:
+		return unsupported(fmt.Sprintf("%d × %d pixels is more than this reader takes", t.width, t.height))
+	case t.spp != 1 || (t.photo != photometricBlackIsZero && t.photo != 0):
+		return unsupported(fmt.Sprintf("%d samples per pixel, photometric %d: only one-sample gray frames are read", t.spp, t.photo))
+	case t.predictor != 1:
+		return unsupported(fmt.Sprintf("predictor %d", t.predictor))
+	case !(t.bits == 8 && t.format == sampleFormatUInt) && !(t.bits == 16 && t.format == sampleFormatUInt) && !(t.bits == 32 && t.format == sampleFormatIEEEFP):
+		return unsupported(fmt.Sprintf("%d-bit samples of format %d: 8/16-bit unsigned or 32-bit float (SampleFormat 3) are read", t.bits, t.format))
+	case t.comp != compressionNone && t.comp != compressionLZW && t.comp != compressionDeflate && t.comp != 32946:
+		return unsupported(fmt.Sprintf("compression %d: none, LZW or Deflate are read", t.comp))
 	}
-	offsets, counts := fields[tagStripOffsets].uints(bo), fields[tagStripByteCounts].uints(bo)
-	rowsPerStrip = min(rowsPerStrip, height)
-	strips := int((height + rowsPerStrip - 1) / rowsPerStrip)
+	return nil
+}
+
+// strips decodes the page's strips into its pixel bytes.
+func (pr tiffPageReader) strips(t tiffPageTags) ([]byte, error) {
+	offsets, counts := pr.fields[tagStripOffsets].uints(pr.bo), pr.fields[tagStripByteCounts].uints(pr.bo)
+	rowsPerStrip := min(t.rowsPerStrip, t.height)
+	strips := int((t.height + rowsPerStrip - 1) / rowsPerStrip)
 	if len(offsets) != strips || len(counts) != strips {
-		return nil, false, "", &ReadFormatError{path, fmt.Sprintf("%s: %d strip offsets and %d byte counts for %d strips of %d rows", where, len(offsets), len(counts), strips, rowsPerStrip)}
+		return nil, &ReadFormatError{pr.path, fmt.Sprintf("%s: %d strip offsets and %d byte counts for %d strips of %d rows", pr.where, len(offsets), len(counts), strips, rowsPerStrip)}
 	}
-	bytesPerPixel := int(bits / 8)
+	bytesPerPixel := int(t.bits / 8)
 	var pixels []byte // grown as strips decode, so a forged size allocates nothing
 	for s := 0; s < strips; s++ {
-		if int64(offsets[s])+int64(counts[s]) > int64(len(data)) {
-			return nil, false, "", &ReadFormatError{path, fmt.Sprintf("%s: strip %d (%d bytes at byte %d) runs past the end of the file", where, s, counts[s], offsets[s])}
+		if int64(offsets[s])+int64(counts[s]) > int64(len(pr.data)) {
+			return nil, &ReadFormatError{pr.path, fmt.Sprintf("%s: strip %d (%d bytes at byte %d) runs past the end of the file", pr.where, s, counts[s], offsets[s])}
 		}
-		rows := min(rowsPerStrip, height-uint32(s)*rowsPerStrip)
-		want := int(rows) * int(width) * bytesPerPixel
-		raw := data[offsets[s] : offsets[s]+counts[s]]
+		rows := min(rowsPerStrip, t.height-uint32(s)*rowsPerStrip)
+		want := int(rows) * int(t.width) * bytesPerPixel
+		raw := pr.data[offsets[s] : offsets[s]+counts[s]]
 		var r io.Reader = bytes.NewReader(raw)
-		switch comp {
+		switch t.comp {
 		case compressionLZW:
 			r = lzw.NewReader(r, lzw.MSB, 8)
 		case compressionDeflate, 32946:
+			var err error
 			if r, err = zlib.NewReader(r); err != nil {
-				return nil, false, "", &ReadFormatError{path, fmt.Sprintf("%s: strip %d: %v", where, s, err)}
+				return nil, &ReadFormatError{pr.path, fmt.Sprintf("%s: strip %d: %v", pr.where, s, err)}
 			}
 		}
 		got, err := io.ReadAll(io.LimitReader(r, int64(want)))
 		if err != nil || len(got) != want {
-			return nil, false, "", &ReadFormatError{path, fmt.Sprintf("%s: strip %d holds %d of its %d bytes (%v)", where, s, len(got), want, err)}
+			return nil, &ReadFormatError{pr.path, fmt.Sprintf("%s: strip %d holds %d of its %d bytes (%v)", pr.where, s, len(got), want, err)}
 		}
 		pixels = append(pixels, got...)
 	}
-	f := &recon.Frame{Width: int(width), Height: int(height),
-		Pix: make([]float32, int(width)*int(height)), Covered: make([]bool, int(width)*int(height)),
-		Recipe: recipe.Default()}
+	return pixels, nil
+}
+
+// decodeTIFFPixels fills f's pixels and coverage from the page's bytes:
+// NaN and infinite floats are no data; WhiteIsZero integers are turned
+// over.
+func decodeTIFFPixels(f *recon.Frame, pixels []byte, t tiffPageTags, bo binary.ByteOrder) {
 	for i := range f.Pix {
-		switch bits {
+		switch t.bits {
 		case 8:
 			f.Pix[i] = float32(pixels[i])
 		case 16:
@@ -374,20 +428,12 @@ func tiffPageFrame(path string, data []byte, bo binary.ByteOrder, fields map[uin
 		v := float64(f.Pix[i])
 		f.Covered[i] = !math.IsNaN(v) && !math.IsInf(v, 0)
 	}
-	if photo == 0 && bits != 32 { // WhiteIsZero
-		top := float32(int(1)<<bits - 1)
+	if t.photo == 0 && t.bits != 32 { // WhiteIsZero
+		top := float32(int(1)<<t.bits - 1)
 		for i := range f.Pix {
 			f.Pix[i] = top - f.Pix[i]
 		}
 	}
-	px, errX := tiffPitch(fields[tagXResolution], bo, fields, tagXResolution)
-	py, errY := tiffPitch(fields[tagYResolution], bo, fields, tagYResolution)
-	if errX != nil || errY != nil {
-		return nil, false, "", &ReadUnsupportedError{path, where + ": " + errors.Join(errX, errY).Error() + ": the pitch is unknown"}
-	}
-	f.PitchXMM, f.PitchYMM = px, py
-	desc := strings.TrimRight(string(fields[tagImageDescription].data), "\x00")
-	return f, bits == 32, desc, nil
 }
 
 // tiffPitch is the pitch in mm from a resolution tag and the

@@ -124,101 +124,15 @@ func Edge(f *recon.Frame, r Rect) (EdgeResult, error) {
 	if e.nu < 8 {
 		return EdgeResult{}, fmt.Errorf("the edge rectangle %v is %d pixels across the %s edge: give at least 8", r, e.nu, o)
 	}
-	// Whole lines with data, and their first differences.
-	type edgeLine struct {
-		v      int
-		values []float64
-	}
-	var lines []edgeLine
-	var total float64
-	for v := 0; v < e.nv; v++ {
-		vals := make([]float64, e.nu)
-		ok := true
-		for u := range vals {
-			if vals[u], ok = e.at(u, v); !ok {
-				break
-			}
-		}
-		if ok {
-			lines = append(lines, edgeLine{v, vals})
-			total += vals[e.nu-1] - vals[0]
-		}
-	}
+	lines, sign := e.wholeLines()
 	if len(lines) < 5 {
 		return EdgeResult{}, fmt.Errorf("the edge rectangle %v has %d lines across the edge with data in every pixel: need at least 5: %w", r, len(lines), ErrNoData)
 	}
-	sign := 1.0
-	if total < 0 {
-		sign = -1
+	a0, a1, err := e.fitEdge(lines, sign, r)
+	if err != nil {
+		return EdgeResult{}, err
 	}
-	// Edge location per line: centroid of the windowed first derivative
-	// (ISO 12233:2017 Annex D), first with the window centred on the line,
-	// then centred on the first fit.
-	locate := func(vals []float64, centre float64) (float64, bool) {
-		var sw, swu float64
-		half := math.Max(centre, float64(e.nu-2)-centre) + 1
-		for u := 0; u+1 < len(vals); u++ {
-			pos := float64(u) + 0.5
-			d := sign * (vals[u+1] - vals[u])
-			w := hamming(pos-centre, half)
-			sw += w * d
-			swu += w * d * pos
-		}
-		if !(sw > 0) {
-			return 0, false
-		}
-		return swu / sw, true
-	}
-	var a0, a1 float64
-	for pass := 0; pass < 2; pass++ {
-		var vs, us []float64
-		for _, l := range lines {
-			centre := float64(e.nu-1) / 2
-			if pass > 0 {
-				centre = a0 + a1*float64(l.v)
-			}
-			if c, ok := locate(l.values, centre); ok {
-				vs, us = append(vs, float64(l.v)), append(us, c)
-			}
-		}
-		if len(vs) < 5 {
-			return EdgeResult{}, fmt.Errorf("the edge rectangle %v holds no clear edge (found in %d lines)", r, len(vs))
-		}
-		a0, a1 = fitLine(vs, us)
-	}
-	span := math.Abs(a1) * float64(lines[len(lines)-1].v-lines[0].v)
-	if span < 1 {
-		return EdgeResult{}, fmt.Errorf("the edge in %v is within %.2f° of the pixel axis, so its rows sample too few phases: turn the edge by a few degrees (ISO 12233 suggests about 5°) or give a longer rectangle",
-			r, math.Abs(math.Atan(a1*e.pitchU/e.pitchV))*180/math.Pi)
-	}
-	for _, l := range lines {
-		if c := a0 + a1*float64(l.v); c < 0 || c > float64(e.nu-1) {
-			return EdgeResult{}, fmt.Errorf("the edge leaves the rectangle %v: draw it so the edge crosses every line inside it", r)
-		}
-	}
-	tanSlant := a1 * e.pitchU / e.pitchV
-	cosSlant := 1 / math.Sqrt(1+tanSlant*tanSlant)
-
-	// Project every pixel onto the edge normal and bin at a quarter of the
-	// pitch across the edge.
-	binMM := e.pitchU / oversampling
-	dist := func(u, v int) float64 { return (float64(u) - a0 - a1*float64(v)) * e.pitchU * cosSlant }
-	lo, hi := math.Inf(1), math.Inf(-1)
-	for _, l := range lines {
-		lo = math.Min(lo, math.Min(dist(0, l.v), dist(e.nu-1, l.v)))
-		hi = math.Max(hi, math.Max(dist(0, l.v), dist(e.nu-1, l.v)))
-	}
-	first := int(math.Floor(lo / binMM))
-	n := int(math.Floor(hi/binMM)) - first + 1
-	sums, counts := make([]float64, n), make([]int, n)
-	for _, l := range lines {
-		for u, val := range l.values {
-			k := int(math.Floor(dist(u, l.v)/binMM)) - first
-			sums[k] += val
-			counts[k]++
-		}
-	}
-	esf, err := fillBins(sums, counts)
+	esf, binMM, err := e.edgeSpread(lines, a0, a1)
 	if err != nil {
 		return EdgeResult{}, fmt.Errorf("the edge rectangle %v: %w", r, err)
 	}
@@ -242,6 +156,113 @@ func Edge(f *recon.Frame, r Rect) (EdgeResult, error) {
 		res.AngleDeg += 180
 	}
 	return res, nil
+}
+
+// edgeLine is one line across the edge with data in every pixel.
+type edgeLine struct {
+	v      int
+	values []float64
+}
+
+// wholeLines returns the lines across the edge with data in every pixel,
+// and the sign of the step (+1 when the level rises along u).
+func (e edgeView) wholeLines() ([]edgeLine, float64) {
+	var lines []edgeLine
+	var total float64
+	for v := 0; v < e.nv; v++ {
+		vals := make([]float64, e.nu)
+		ok := true
+		for u := range vals {
+			if vals[u], ok = e.at(u, v); !ok {
+				break
+			}
+		}
+		if ok {
+			lines = append(lines, edgeLine{v, vals})
+			total += vals[e.nu-1] - vals[0]
+		}
+	}
+	if total < 0 {
+		return lines, -1
+	}
+	return lines, 1
+}
+
+// fitEdge fits the edge's place u = a0 + a1·v. Edge location per line:
+// centroid of the windowed first derivative (ISO 12233:2017 Annex D),
+// first with the window centred on the line, then centred on the first
+// fit. The edge must be slanted enough to sample every phase and stay
+// inside the rectangle.
+func (e edgeView) fitEdge(lines []edgeLine, sign float64, r Rect) (a0, a1 float64, err error) {
+	locate := func(vals []float64, centre float64) (float64, bool) {
+		var sw, swu float64
+		half := math.Max(centre, float64(e.nu-2)-centre) + 1
+		for u := 0; u+1 < len(vals); u++ {
+			pos := float64(u) + 0.5
+			d := sign * (vals[u+1] - vals[u])
+			w := hamming(pos-centre, half)
+			sw += w * d
+			swu += w * d * pos
+		}
+		if !(sw > 0) {
+			return 0, false
+		}
+		return swu / sw, true
+	}
+	for pass := 0; pass < 2; pass++ {
+		var vs, us []float64
+		for _, l := range lines {
+			centre := float64(e.nu-1) / 2
+			if pass > 0 {
+				centre = a0 + a1*float64(l.v)
+			}
+			if c, ok := locate(l.values, centre); ok {
+				vs, us = append(vs, float64(l.v)), append(us, c)
+			}
+		}
+		if len(vs) < 5 {
+			return 0, 0, fmt.Errorf("the edge rectangle %v holds no clear edge (found in %d lines)", r, len(vs))
+		}
+		a0, a1 = fitLine(vs, us)
+	}
+	span := math.Abs(a1) * float64(lines[len(lines)-1].v-lines[0].v)
+	if span < 1 {
+		return 0, 0, fmt.Errorf("the edge in %v is within %.2f° of the pixel axis, so its rows sample too few phases: turn the edge by a few degrees (ISO 12233 suggests about 5°) or give a longer rectangle",
+			r, math.Abs(math.Atan(a1*e.pitchU/e.pitchV))*180/math.Pi)
+	}
+	for _, l := range lines {
+		if c := a0 + a1*float64(l.v); c < 0 || c > float64(e.nu-1) {
+			return 0, 0, fmt.Errorf("the edge leaves the rectangle %v: draw it so the edge crosses every line inside it", r)
+		}
+	}
+	return a0, a1, nil
+}
+
+// edgeSpread projects every pixel onto the edge normal and bins at a
+// quarter of the pitch across the edge: the oversampled edge spread
+// function and its bin width in mm.
+func (e edgeView) edgeSpread(lines []edgeLine, a0, a1 float64) ([]float64, float64, error) {
+	tanSlant := a1 * e.pitchU / e.pitchV
+	cosSlant := 1 / math.Sqrt(1+tanSlant*tanSlant)
+	binMM := e.pitchU / oversampling
+	dist := func(u, v int) float64 { return (float64(u) - a0 - a1*float64(v)) * e.pitchU * cosSlant }
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, l := range lines {
+		lo = math.Min(lo, math.Min(dist(0, l.v), dist(e.nu-1, l.v)))
+		hi = math.Max(hi, math.Max(dist(0, l.v), dist(e.nu-1, l.v)))
+	}
+	first := int(math.Floor(lo / binMM))
+	n := int(math.Floor(hi/binMM)) - first + 1
+	sums, counts := make([]float64, n), make([]int, n)
+	for _, l := range lines {
+		for u, val := range l.values {
+			k := int(math.Floor(dist(u, l.v)/binMM)) - first
+			sums[k] += val
+			counts[k]++
+		}
+	}
+	esf, err := fillBins(sums, counts)
+	return esf, binMM, err
 }
 
 // hamming is the Hamming window 0.54 + 0.46·cos(π·x/half), zero beyond

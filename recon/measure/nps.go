@@ -54,15 +54,9 @@ func NPS(f *recon.Frame, r Rect) (NPSResult, error) {
 	if n < 16 {
 		return NPSResult{}, fmt.Errorf("the noise region %v is %d × %d pixels: give at least 32 × 32", r, w, h)
 	}
-	vals := make([]float64, w*h)
-	for row := 0; row < h; row++ {
-		for col := 0; col < w; col++ {
-			v, ok := f.At(b.c0+col, b.r0+row)
-			if !ok {
-				return NPSResult{}, fmt.Errorf("the noise region %v holds pixels without data (first at x %g, y %g mm): draw it inside the covered area: %w", r, xOf(f, float64(b.c0+col)), yOf(f, float64(b.r0+row)), ErrNoData)
-			}
-			vals[row*w+col] = float64(v)
-		}
+	vals, err := regionValues(f, b, r)
+	if err != nil {
+		return NPSResult{}, err
 	}
 	if err := detrend(vals, w, h); err != nil {
 		return NPSResult{}, fmt.Errorf("the noise region %v: %w", r, err)
@@ -73,10 +67,47 @@ func NPS(f *recon.Frame, r Rect) (NPSResult, error) {
 	}
 	res.Variance /= float64(len(vals) - 6)
 
+	power, rois := roiPower(vals, w, h, n)
+	res.ROIs = rois
+	scale := f.PitchXMM * f.PitchYMM / float64(n*n) / float64(res.ROIs)
+	for i := range power {
+		power[i] *= scale
+	}
+	du, dv := 1/(float64(n)*f.PitchXMM), 1/(float64(n)*f.PitchYMM)
+	for _, p := range power {
+		res.PowerSum += p * du * dv
+	}
+	res.axisCuts(power, n, du, dv)
+	res.radialAverage(power, n, du, dv, math.Min(0.5/f.PitchXMM, 0.5/f.PitchYMM))
+	return res, nil
+}
+
+// regionValues reads the region's pixels row by row; every one must hold
+// data.
+func regionValues(f *recon.Frame, b pixelBox, r Rect) ([]float64, error) {
+	w, h := b.width(), b.height()
+	vals := make([]float64, w*h)
+	for row := 0; row < h; row++ {
+		for col := 0; col < w; col++ {
+			v, ok := f.At(b.c0+col, b.r0+row)
+			if !ok {
+				return nil, fmt.Errorf("the noise region %v holds pixels without data (first at x %g, y %g mm): draw it inside the covered area: %w", r, xOf(f, float64(b.c0+col)), yOf(f, float64(b.r0+row)), ErrNoData)
+			}
+			vals[row*w+col] = float64(v)
+		}
+	}
+	return vals, nil
+}
+
+// roiPower sums |DFT|² of every n × n region of interest, overlapping by
+// half, each with its own mean removed (a row-column 2-D transform through
+// gonum's fourier.CmplxFFT), and returns the sum and the number of regions.
+func roiPower(vals []float64, w, h, n int) ([]float64, int) {
 	fft := fourier.NewCmplxFFT(n)
 	power := make([]float64, n*n)
 	roi := make([]complex128, n*n)
 	col := make([]complex128, n)
+	rois := 0
 	for r0 := 0; r0+n <= h; r0 += n / 2 {
 		for c0 := 0; c0+n <= w; c0 += n / 2 {
 			var mean float64
@@ -102,28 +133,16 @@ func NPS(f *recon.Frame, r Rect) (NPSResult, error) {
 					power[y*n+x] += real(c)*real(c) + imag(c)*imag(c)
 				}
 			}
-			res.ROIs++
+			rois++
 		}
 	}
-	scale := f.PitchXMM * f.PitchYMM / float64(n*n) / float64(res.ROIs)
-	for i := range power {
-		power[i] *= scale
-	}
-	// Frequency of index k of an n-point DFT: k/(n·pitch), k above n/2
-	// being negative.
-	signed := func(k int) int {
-		if k > n/2 {
-			return k - n
-		}
-		return k
-	}
-	du, dv := 1/(float64(n)*f.PitchXMM), 1/(float64(n)*f.PitchYMM)
-	for _, p := range power {
-		res.PowerSum += p * du * dv
-	}
+	return power, rois
+}
 
-	// Cuts along each axis: the mean of the lines 1 … 7 either side of
-	// the axis, the axis itself left out (IEC 62220-1-1:2015 §7.2.4).
+// axisCuts sets the cuts along each axis: the mean of the lines 1 … 7
+// either side of the axis, the axis itself left out (IEC 62220-1-1:2015
+// §7.2.4).
+func (res *NPSResult) axisCuts(power []float64, n int, du, dv float64) {
 	lines := min(7, n/4)
 	for k := 0; k <= n/2; k++ {
 		var sx, sy float64
@@ -136,9 +155,20 @@ func NPS(f *recon.Frame, r Rect) (NPSResult, error) {
 		res.FrequencyYLPMM = append(res.FrequencyYLPMM, float64(k)*dv)
 		res.AlongY = append(res.AlongY, sy/float64(2*lines))
 	}
-	// Radial average in rings of the coarser frequency step.
+}
+
+// radialAverage sets the radial average in rings of the coarser frequency
+// step, up to nyquist.
+func (res *NPSResult) radialAverage(power []float64, n int, du, dv, nyquist float64) {
+	// Frequency of index k of an n-point DFT: k/(n·pitch), k above n/2
+	// being negative.
+	signed := func(k int) int {
+		if k > n/2 {
+			return k - n
+		}
+		return k
+	}
 	step := math.Max(du, dv)
-	nyquist := math.Min(0.5/f.PitchXMM, 0.5/f.PitchYMM)
 	rings := int(math.Floor(nyquist/step + 1e-9))
 	sums, counts := make([]float64, rings+1), make([]int, rings+1)
 	for y := 0; y < n; y++ {
@@ -157,7 +187,6 @@ func NPS(f *recon.Frame, r Rect) (NPSResult, error) {
 			res.Radial = append(res.Radial, sums[k]/float64(counts[k]))
 		}
 	}
-	return res, nil
 }
 
 // detrend subtracts the least-squares second-order polynomial in x and y
