@@ -123,6 +123,18 @@ type placement struct {
 
 // placeLines turns each line's timing into sample ranges and the u map.
 func placeLines(t *timingResult, s recipe.Sweep, delay float64, sinePeriod float64, n int, rateHz float64) []placedLine {
+	var out []placedLine
+	law := mustLaw(s.Law)
+	for i, lt := range t.lines {
+		law.place(s, lt, i, delay, sinePeriod, placer(&out, n, rateHz))
+	}
+	return out
+}
+
+// placer returns the lineAdder that appends each placed line to out, its
+// field cut to the n samples of the capture (a line with no sample left
+// is dropped).
+func placer(out *[]placedLine, n int, rateHz float64) lineAdder {
 	clamp := func(v float64) int {
 		switch {
 		case v < 0:
@@ -132,8 +144,7 @@ func placeLines(t *timingResult, s recipe.Sweep, delay float64, sinePeriod float
 		}
 		return int(v)
 	}
-	var out []placedLine
-	add := func(number, aperture int, edge, period, uStartSample, uEndSample, u0, du float64, repaired bool) {
+	return func(number, aperture int, edge, period, uStartSample, uEndSample, u0, du float64, repaired bool) {
 		first := clamp(math.Ceil(uStartSample))
 		last := clamp(math.Floor(uEndSample) + 1)
 		if last <= first {
@@ -147,13 +158,8 @@ func placeLines(t *timingResult, s recipe.Sweep, delay float64, sinePeriod float
 			first: first, last: last, start: uStartSample, end: uEndSample, period: period,
 			u0: u0 + du*(float64(first)-uStartSample), du: du,
 		}
-		out = append(out, pl)
+		*out = append(*out, pl)
 	}
-	law := mustLaw(s.Law)
-	for i, lt := range t.lines {
-		law.place(s, lt, i, delay, sinePeriod, add)
-	}
-	return out
 }
 
 // lineWindow returns the samples [from, to) of the line's own span: from

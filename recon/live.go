@@ -1,0 +1,178 @@
+package recon
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"sync"
+
+	"spotloom/capture"
+	"spotloom/recon/recipe"
+)
+
+// LiveLayout is what a Live needs to know of the interleaved blocks it is
+// given, the header of a capture.Recording: the sample rate and, in
+// interleaved order, each channel's name and unit (Samples is ignored;
+// samples from a capture/live Source are ±1.0 full scale, unit "FS").
+type LiveLayout struct {
+	SampleRateHz float64
+	Channels     []capture.Channel
+}
+
+// LayoutOf returns the layout of rec (its rate and channel names/units).
+func LayoutOf(rec *capture.Recording) LiveLayout {
+	l := LiveLayout{SampleRateHz: rec.SampleRateHz}
+	for _, c := range rec.Channels {
+		l.Channels = append(l.Channels, capture.Channel{Name: c.Name, Unit: c.Unit})
+	}
+	return l
+}
+
+// ResolveLive returns r with every automatic value (null) filled in from
+// first, the first seconds of a recording (through Session.Resolve):
+// channels, threshold, hysteresis, delay, aperture offsets, sine period,
+// carrier, afterglow, speed, pitch and max_gap_mm. It refuses what the live
+// path cannot do (see NewLive).
+func ResolveLive(ctx context.Context, first *capture.Recording, r recipe.Recipe) (recipe.Recipe, error) {
+	if err := liveRefusal(r); err != nil {
+		return recipe.Recipe{}, err
+	}
+	res, err := NewSession(first).Resolve(ctx, r)
+	if err != nil {
+		return recipe.Recipe{}, err
+	}
+	if err := liveRefusal(res); err != nil {
+		return recipe.Recipe{}, err
+	}
+	return res, nil
+}
+
+// liveRefusal says why the live path cannot build r, or nil. Everything
+// else it builds as a batch build would.
+func liveRefusal(r recipe.Recipe) error {
+	switch {
+	case r.Rows.Strokes == "split" || r.Rows.Strokes == "first":
+		return fmt.Errorf("rows.strokes %s: a live image merges every pass of the head (passes are told apart over the whole recording); record with rows.strokes merge, then build the saved recording with %s", r.Rows.Strokes, r.Rows.Strokes)
+	case r.Rows.Source == recipe.SourceSteps:
+		return errors.New("rows.source steps: the step pulses' threshold comes from the whole steps channel, so a live image cannot use them; record, then build the saved recording")
+	case r.Rows.Source == recipe.SourceTone && r.Channels.Position.IsSet() && r.Channels.Position == r.Channels.Index:
+		return errors.New("channels.position names the index channel: the zero-phase notch that separates the pulses from the tone needs the whole recording, so a live image cannot use it; record, then build the saved recording")
+	}
+	return nil
+}
+
+// unresolved names the first automatic (null) key of r that a Live needs
+// resolved, or "".
+func unresolved(r recipe.Recipe) string {
+	src, _ := sourceOf(r.Rows.Source)
+	for _, k := range []struct {
+		key     string
+		missing bool
+	}{
+		{"channels.detector", !r.Channels.Detector.IsSet()},
+		{"channels.index", !r.Channels.Index.IsSet()},
+		{"channels.position", src != nil && src.needs() == "position" && !r.Channels.Position.IsSet()},
+		{"timing.threshold", r.Timing.Threshold == nil},
+		{"timing.hysteresis", r.Timing.Hysteresis == nil},
+		{"sweep.delay_deg", r.Sweep.DelayDeg == nil},
+		{"sweep.aperture_offsets_deg", r.Sweep.ApertureOffsetsDeg == nil},
+		{"sweep.sine_period_s", r.Sweep.Law == recipe.LawSine && r.Sweep.SinePeriodS == nil},
+		{"rows.carrier_hz", r.Rows.Source == recipe.SourceTone && r.Rows.CarrierHz == nil},
+		{"rows.speed_mm_s", r.Rows.Source == recipe.SourceEven && r.Rows.SpeedMMS == nil},
+		{"signal.afterglow_us", r.Signal.AfterglowUS == nil},
+		{"image.pitch_mm", r.Image.PitchMM == 0},
+		{"image.max_gap_mm", r.Image.MaxGapMM == nil},
+	} {
+		if k.missing {
+			return k.key
+		}
+	}
+	return ""
+}
+
+// Live builds the image of a recording while it is recorded: each block
+// of samples extends the timing (new index edges), the rows, and places
+// and grids only the lines it completes, so the cost per second of capture
+// stays the same however long the recording runs. After the last sample
+// its Result equals Session.Build of the saved recording with the same
+// recipe, to float rounding (docs/pipeline.md, "Live"). Every method may
+// be called from any goroutine: Append on a consumer goroutine (never an
+// audio callback), Result and Retune on another.
+type Live struct {
+	mu     sync.Mutex
+	layout LiveLayout
+	core   *liveCore
+	failed error
+}
+
+// NewLive starts an incremental build with a resolved recipe (ResolveLive):
+// one with a null left, rows.strokes split or first, rows.source steps, or
+// a position tone on the index channel is refused with a one-line error
+// saying what to do.
+func NewLive(r recipe.Recipe, layout LiveLayout) (*Live, error) {
+	c, err := newLiveCore(r, layout)
+	if err != nil {
+		return nil, err
+	}
+	return &Live{layout: layout, core: c}, nil
+}
+
+// Append adds whole interleaved frames (len a multiple of the channel
+// count). Call it from a consumer goroutine, never from an audio callback.
+// Its cost per second of capture is constant however long the recording
+// runs. An error is one line; the Live then refuses further blocks.
+func (l *Live) Append(interleaved []float32) error {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	if l.failed != nil {
+		return l.failed
+	}
+	if err := l.core.append(interleaved); err != nil {
+		l.failed = err
+		return err
+	}
+	return nil
+}
+
+// Result is the image so far: one merged frame and its report, the shape
+// Session.Build gives (Result.Lines is nil; the report's Lines counts
+// them). It is nil until the first line is placed. The value is the
+// caller's own. Its cost grows with the frame's pixels, not with the
+// length of the recording.
+func (l *Live) Result() *Result {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	return l.core.result()
+}
+
+// Retune changes the recipe (delay, aperture offsets, tone, pitch, any
+// key that NewLive accepts): what was recorded so far is rebuilt with the
+// new recipe, and later Appends continue with it. r must be resolved as
+// for NewLive; on error the Live keeps its old recipe.
+func (l *Live) Retune(ctx context.Context, r recipe.Recipe) error {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	c, err := newLiveCore(r, l.layout)
+	if err != nil {
+		return err
+	}
+	if err := c.replay(ctx, l.core); err != nil {
+		return err
+	}
+	l.core, l.failed = c, nil
+	return nil
+}
+
+// Recipe returns the recipe the Live builds with.
+func (l *Live) Recipe() recipe.Recipe {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	return l.core.r.Clone()
+}
+
+// Samples is the number of frames appended so far.
+func (l *Live) Samples() int64 {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	return int64(l.core.n)
+}

@@ -1,0 +1,454 @@
+package recon
+
+import (
+	"context"
+	"fmt"
+	"math"
+
+	"spotloom/capture"
+	"spotloom/recon/recipe"
+)
+
+// liveCore is one live build with one recipe. Every stage keeps the part
+// of its result that later samples cannot change ("final") and the state
+// to go on from; what the samples so far leave open (the last edges, the
+// last blocks of the rows, the lines not yet gridded) is worked out in
+// result, the way a batch build of the samples so far would.
+type liveCore struct {
+	r    recipe.Recipe
+	ch   channels
+	rate float64
+	nch  int
+	n    int // frames appended
+
+	// Every channel as recorded; det is the detector the stages see (the
+	// recorded one, or a corrected copy).
+	raw               [][]float32
+	det               []float32
+	hp                *highPassUndo
+	glow              *afterglowUndo
+	stats             channelStats // of det, over whole statsBlock blocks
+	detLo, detHi      float32      // range of the recorded detector so far
+	blockSum          float32      // of det since the last whole stats block
+	corrected, usePos bool
+
+	// Timing: raw edges, the repair walk, the final edges' flags.
+	tp        timingParams
+	trig      trigger
+	high      bool
+	rawEdges  []float64
+	rep       repairer
+	gapAfter  []bool // for rep.res.edges but the last (whose next is unknown)
+	gapsSeen  int
+	revDone   int // edges whose revolution is decided
+	revs      liveRevs
+	timings   []lineTiming // lines of final edges, not yet placed
+	timingNo  int          // number (index in the batch's lines) of timings[0]
+	baseline  bool         // beam-off baselines are taken
+	warm      bool         // typ and edge are known
+	typ       int
+	edge      *edgeResponse
+	queue     []placedLine // placed, not yet gridded
+	bound     beamOffState // the beam-off stretch before queue[0]
+	live      liveRows
+	law       sweepLaw
+	sweep     *sweepMap
+	sinePer   float64
+	canvas    liveCanvas
+	committed liveTotals
+}
+
+// liveRevs adds up the timed revolutions for the report.
+type liveRevs struct {
+	n                   int
+	sum, rpmSum, rpmSq  float64
+	periodMin, periodMx float64
+}
+
+func (v *liveRevs) add(period, rate float64) {
+	v.n++
+	v.sum += period
+	rpm := 60 * rate / period
+	v.rpmSum += rpm
+	v.rpmSq += rpm * rpm
+}
+
+// liveTotals counts what the gridded lines gave.
+type liveTotals struct {
+	lines, clipped, ties, samples int
+	periodSum                     float64
+	yHi, yLo                      float64
+}
+
+func (t *liveTotals) add(l *placedLine, y0, y1 float64, clipped bool, ties int) {
+	t.lines++
+	if clipped {
+		t.clipped++
+	}
+	t.ties += ties
+	t.samples += l.last - l.first
+	t.periodSum += l.period
+	t.yHi = math.Max(t.yHi, math.Max(y0, y1))
+	t.yLo = math.Min(t.yLo, math.Min(y0, y1))
+}
+
+func newLiveCore(r recipe.Recipe, layout LiveLayout) (*liveCore, error) {
+	r = r.Clone()
+	if r.Format == "" {
+		r.Format = recipe.RecipeFormat
+	}
+	if err := r.Validate(); err != nil {
+		return nil, err
+	}
+	if err := liveRefusal(r); err != nil {
+		return nil, err
+	}
+	if key := unresolved(r); key != "" {
+		return nil, fmt.Errorf("%s is automatic (null): a live build needs it resolved first (recon.ResolveLive on the first seconds)", key)
+	}
+	rec := &capture.Recording{SampleRateHz: layout.SampleRateHz, Channels: layout.Channels}
+	if err := rec.Validate(); err != nil {
+		return nil, err
+	}
+	c := &liveCore{r: r, rate: layout.SampleRateHz, nch: len(layout.Channels), raw: make([][]float32, len(layout.Channels))}
+	var err error
+	if c.ch, err = liveChannels(rec, r); err != nil {
+		return nil, err
+	}
+	c.tp = timingParams{Channel: c.ch.index, Rising: r.Timing.Edge != "falling", Threshold: r.Timing.Threshold, Hysteresis: r.Timing.Hysteresis,
+		PulsesPerRev: r.Timing.PulsesPerRev, Apertures: r.Sweep.Apertures, Sine: r.Sweep.Law == recipe.LawSine}
+	c.trig = newTrigger(*r.Timing.Threshold, *r.Timing.Hysteresis, c.tp.Rising)
+	if c.law, err = lawOf(r.Sweep.Law); err != nil {
+		return nil, err
+	}
+	if c.sweep, err = lawMap(r.Sweep); err != nil {
+		return nil, err
+	}
+	if r.Sweep.SinePeriodS != nil {
+		c.sinePer = *r.Sweep.SinePeriodS * c.rate
+	}
+	c.baseline = r.Signal.Baseline != "none" && c.law.hasBeamOff()
+	if r.Signal.ACCornerHz > 0 {
+		c.hp = newHighPassUndo(r.Signal.ACCornerHz, c.rate)
+	}
+	if g := afterglowS(r.Signal); g > 0 {
+		c.glow = newAfterglowUndo(g, c.rate)
+	}
+	c.corrected = c.hp != nil || c.glow != nil
+	c.detLo, c.detHi = float32(math.Inf(1)), float32(math.Inf(-1))
+	c.stats.prefix = []float64{0}
+	c.bound.lastValid = math.NaN()
+	c.committed.yHi, c.committed.yLo = math.Inf(-1), math.Inf(1)
+	if c.live, err = newLiveRows(r, c.ch, c.rate); err != nil {
+		return nil, err
+	}
+	return c, nil
+}
+
+// liveChannels looks the recipe's channel roles up in the layout.
+func liveChannels(rec *capture.Recording, r recipe.Recipe) (channels, error) {
+	c := channels{-1, -1, -1, -1}
+	src, err := sourceOf(r.Rows.Source)
+	if err != nil {
+		return c, err
+	}
+	for _, role := range []struct {
+		key string
+		ref recipe.ChannelRef
+		out *int
+	}{{"detector", r.Channels.Detector, &c.detector}, {"index", r.Channels.Index, &c.index}, {"position", r.Channels.Position, &c.position}} {
+		if role.key == "position" && src.needs() != "position" {
+			continue
+		}
+		i, err := rec.Lookup(string(role.ref))
+		if err != nil {
+			return c, fmt.Errorf("channels.%s: %v", role.key, err)
+		}
+		*role.out = i
+	}
+	if c.detector == c.index || c.detector == c.position || c.index == c.position {
+		return c, fmt.Errorf("channels.detector, index and position must name three channels (%d, %d, %d)", c.detector, c.index, c.position)
+	}
+	return c, nil
+}
+
+// append takes interleaved frames.
+func (c *liveCore) append(x []float32) error {
+	if len(x)%c.nch != 0 {
+		return fmt.Errorf("a block of %d samples is not a whole number of %d-channel frames", len(x), c.nch)
+	}
+	k := len(x) / c.nch
+	for ch := range c.raw {
+		c.raw[ch] = grow(c.raw[ch], k)
+		dst := c.raw[ch][c.n:]
+		for i := range dst {
+			dst[i] = x[i*c.nch+ch]
+		}
+	}
+	return c.advance(k)
+}
+
+// grow extends s by k elements (their values to be written).
+func grow(s []float32, k int) []float32 {
+	if cap(s)-len(s) < k {
+		t := make([]float32, len(s), 2*len(s)+k)
+		copy(t, s)
+		s = t
+	}
+	return s[:len(s)+k]
+}
+
+// replay feeds c everything old was given, a second at a time.
+func (c *liveCore) replay(ctx context.Context, old *liveCore) error {
+	step := max(int(c.rate), 1)
+	for at := 0; at < old.n; at += step {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		k := min(step, old.n-at)
+		for ch := range c.raw {
+			c.raw[ch] = append(c.raw[ch], old.raw[ch][at:at+k]...)
+		}
+		if err := c.advance(k); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// advance runs the stages over the k frames just added to raw.
+func (c *liveCore) advance(k int) error {
+	from := c.n
+	c.n += k
+	rec := c.raw[c.ch.detector]
+	for _, v := range rec[from:] {
+		c.detLo, c.detHi = min(c.detLo, v), max(c.detHi, v)
+	}
+	if c.corrected {
+		c.det = grow(c.det, k)
+		if c.hp != nil {
+			c.hp.run(c.det[from:], rec[from:])
+		} else {
+			copy(c.det[from:], rec[from:])
+		}
+		if c.glow != nil {
+			c.glow.run(c.det[from:], c.det[from:])
+		}
+	} else {
+		c.det = rec
+	}
+	c.addStats(from)
+	c.addEdges(from)
+	c.live.add(c.raw, c.n)
+	c.place()
+	return c.commit()
+}
+
+// addStats extends the detector's block sums the way newChannelStats
+// makes them.
+func (c *liveCore) addStats(from int) {
+	for i := from; i < c.n; i++ {
+		c.blockSum += c.det[i]
+		if (i+1)%statsBlock == 0 {
+			c.stats.prefix = append(c.stats.prefix, c.stats.prefix[len(c.stats.prefix)-1]+float64(c.blockSum))
+			c.blockSum = 0
+		}
+	}
+}
+
+// addEdges finds the new index edges, walks the repair as far as the
+// edges so far decide it and makes the lines of the edges whose next edge
+// is known.
+func (c *liveCore) addEdges(from int) {
+	x := c.raw[c.ch.index]
+	if from == 0 {
+		c.high = c.trig.sign*x[0] > c.trig.t
+	}
+	c.rawEdges, c.high, _ = c.trig.scanState(context.Background(), x, from, c.n, c.high, c.rawEdges)
+	c.rep.walk(c.rawEdges, false)
+	edges := c.rep.res.edges
+	starts := map[float64]bool{}
+	for _, g := range c.rep.res.gaps[c.gapsSeen:] {
+		starts[g[0]] = true
+	}
+	c.gapsSeen = len(c.rep.res.gaps)
+	for len(c.gapAfter) < len(edges)-1 {
+		i := len(c.gapAfter)
+		c.gapAfter = append(c.gapAfter, starts[edges[i]])
+		c.timings = c.tp.edgeLines(c.timings, edges, c.rep.res.repaired[i], i, c.gapAfter[i], c.n)
+	}
+	for ; c.revDone < len(c.gapAfter)-c.revLookahead()+1; c.revDone++ {
+		if rev, ok := c.tp.revolution(edges, c.gapAfter, c.revDone); ok {
+			c.revs.add(rev, c.rate)
+		}
+	}
+}
+
+// revLookahead is how many edges after an edge its revolution needs.
+func (c *liveCore) revLookahead() int {
+	if c.tp.onePerRev() {
+		return 1
+	}
+	if c.tp.Sine {
+		return 1
+	}
+	return max(c.tp.Apertures, 1)
+}
+
+// place places the lines whose field the samples so far hold whole.
+func (c *liveCore) place() {
+	for len(c.timings) > 0 {
+		var out []placedLine
+		c.law.place(c.r.Sweep, c.timings[0], c.timingNo, *c.r.Sweep.DelayDeg, c.sinePer, placer(&out, math.MaxInt, c.rate))
+		for _, l := range out {
+			if l.last > c.n {
+				return
+			}
+		}
+		c.queue = append(c.queue, out...)
+		c.timings = c.timings[1:]
+		c.timingNo++
+	}
+}
+
+// beamOffState is the beam-off stretch before the next line to baseline,
+// its mean, and the last valid mean (for empty stretches).
+type beamOffState struct {
+	iv        interval
+	mean      float64
+	set       bool
+	lastValid float64
+}
+
+// baselineNext sets l's baseline from the stretch before it (st, or before
+// the first line one typical beam-off long) and the stretch from its end
+// to nextFirst (nextFirst < 0: one typical beam-off long, cut to the
+// samples so far), as baselineLines does, and returns the state for the
+// line after. An empty stretch takes the last valid mean before it.
+func (c *liveCore) baselineNext(st beamOffState, l *placedLine, nextFirst, typ int) beamOffState {
+	if !st.set {
+		st.iv = beamOff(l.first-typ, l.first, c.n)
+		st.mean, st.lastValid = c.meanOf(st.iv, st.lastValid)
+		st.set = true
+	}
+	after := beamOff(l.last, l.last+typ, c.n)
+	if nextFirst >= 0 {
+		after = beamOff(l.last, nextFirst, c.n)
+	}
+	m, valid := c.meanOf(after, st.lastValid)
+	l.setBaseline(st.iv, after, st.mean, m)
+	return beamOffState{iv: after, mean: m, set: true, lastValid: valid}
+}
+
+func (c *liveCore) meanOf(iv interval, lastValid float64) (mean, valid float64) {
+	if m, ok := iv.mean(c.det, &c.stats); ok {
+		return m, m
+	}
+	return lastValid, lastValid
+}
+
+// commit grids the queued lines that nothing later can change: once the
+// first lines have given the typical beam-off and the edge response, a
+// line whose next line is placed and whose rows are final.
+func (c *liveCore) commit() error {
+	if !c.warm && !c.warmUp() {
+		return nil
+	}
+	for len(c.queue) > 0 {
+		l := &c.queue[0]
+		if c.baseline && len(c.queue) < 2 || !c.live.final(l) {
+			return nil
+		}
+		if c.baseline {
+			c.bound = c.baselineNext(c.bound, l, c.queue[1].first, c.typ)
+		}
+		y0, y1 := c.live.rows.at(float64(l.first)), c.live.rows.at(float64(l.last-1))
+		if err := c.canvas.cover(c, math.Min(y0, y1), math.Max(y0, y1)); err != nil {
+			return err
+		}
+		in := c.gridInput(&c.live.rows, c.edge)
+		clipped, ties := splatLine(&in, c.canvas.g, l, c.canvas.acc)
+		c.committed.add(l, y0, y1, clipped, ties)
+		c.queue = c.queue[1:]
+	}
+	return nil
+}
+
+// warmUp fixes the typical beam-off length and the detector's edge
+// response once the first measureLines lines (and the one after) are
+// placed and the index repair has its reference period, as a batch build
+// measures them; it reports whether they are fixed.
+func (c *liveCore) warmUp() bool {
+	if !c.rep.started {
+		return false
+	}
+	if c.baseline {
+		if len(c.queue) < measureLines+2 {
+			return false
+		}
+		c.typ = typicalBeamOff(c.queue)
+		first := append([]placedLine(nil), c.queue[:measureLines+1]...)
+		st := c.bound
+		for i := range first[:measureLines] {
+			st = c.baselineNext(st, &first[i], first[i+1].first, c.typ)
+		}
+		c.edge = measureEdgeResponse(c.det, first)
+	}
+	c.warm = true
+	return true
+}
+
+// gridInput is what splatLine needs of the live build.
+func (c *liveCore) gridInput(rows *rowsResult, edge *edgeResponse) gridInput {
+	in := gridInput{det: c.det, rows: rows, sweep: c.sweep, pitch: c.r.Image.PitchMM, invert: c.r.Signal.Invert,
+		clipHi: c.detHi, clipLo: float32(math.Inf(-1)), edge: edge}
+	if c.detLo < 0 {
+		in.clipLo = c.detLo
+	}
+	if c.corrected {
+		in.recorded = c.raw[c.ch.detector]
+	}
+	return in
+}
+
+// liveCanvas holds the accumulators of the gridded lines, on the rows of
+// the lattice from top down (rowLattice), grown as the head moves.
+type liveCanvas struct {
+	g   *frameGrid
+	acc []float64
+	top int // lattice number of row 0
+}
+
+// cover grows the canvas to hold y from lo to hi, mm, with room for more.
+func (v *liveCanvas) cover(c *liveCore, lo, hi float64) error {
+	p := c.r.Image.PitchMM
+	topF, bottomF := rowLattice(hi, lo, p)
+	top, bottom := int(topF), int(bottomF)
+	if v.g != nil && top <= v.top && bottom >= v.top-v.g.rows+1 {
+		return nil
+	}
+	if v.g != nil {
+		top, bottom = max(top, v.top), min(bottom, v.top-v.g.rows+1)
+	}
+	margin := 16
+	if v.g != nil {
+		margin = max(margin, v.g.rows/2)
+	}
+	g, err := layoutFrame(gridInput{sweep: c.sweep, pitch: p, yTop: float64(top+margin) * p, yBottom: float64(bottom-margin) * p})
+	if err != nil {
+		// Without room to spare, if that fits.
+		if g, err = layoutFrame(gridInput{sweep: c.sweep, pitch: p, yTop: float64(top) * p, yBottom: float64(bottom) * p}); err != nil {
+			return fmt.Errorf("live image: %v", err)
+		}
+		margin = 0
+	}
+	acc := make([]float64, 2*g.cols*g.rows)
+	newTop := top + margin
+	if v.g != nil {
+		shift := newTop - v.top
+		row := 2 * g.cols
+		copy(acc[shift*row:], v.acc)
+	}
+	v.g, v.acc, v.top = g, acc, newTop
+	return nil
+}

@@ -1,0 +1,168 @@
+package recon
+
+import (
+	"math"
+
+	"spotloom/recon/recipe"
+)
+
+// liveRows is the rows stage of a live build: the level of every block
+// the samples so far decide (its mean, or the tone's amplitude over a
+// whole window), smoothed and calibrated as levelRows does once the
+// smoothing window after a block is final too.
+type liveRows struct {
+	source   recipe.RowSource
+	channel  int
+	speed    float64
+	cal      calibration
+	tone     *toneDemod
+	half     int
+	centre   []float64   // Savitzky–Golay weights at the centre
+	ends     [][]float64 // and for the first (and, mirrored, last) half blocks
+	levels   []float64   // final levels
+	rows     rowsResult  // y of the final blocks
+	lvLo     float64     // range of the final smoothed levels
+	lvHi     float64
+	blockLen int
+	rate     float64
+}
+
+func newLiveRows(r recipe.Recipe, ch channels, rate float64) (liveRows, error) {
+	lr := liveRows{source: r.Rows.Source, channel: ch.position, blockLen: max(1, int(math.Round(rate*0.25e-3))), rate: rate,
+		lvLo: math.Inf(1), lvHi: math.Inf(-1)}
+	switch r.Rows.Source {
+	case recipe.SourceEven:
+		lr.speed = *r.Rows.SpeedMMS
+		lr.rows.blockLen = lr.blockLen
+		return lr, nil
+	case recipe.SourceTone:
+		lr.tone = newToneDemod(*r.Rows.CarrierHz, rate)
+		lr.blockLen = lr.tone.blockLen
+	}
+	var err error
+	if lr.cal, err = newCalibration(r.Rows.Calibration); err != nil {
+		return lr, err
+	}
+	lr.rows.blockLen = lr.blockLen
+	lr.half = int(math.Round(smoothMS / 2e3 / (float64(lr.blockLen) / rate)))
+	if lr.half >= 1 {
+		lr.centre, _ = SavitzkyGolay(lr.half, 2, 0)
+		for i := 0; i < lr.half; i++ {
+			w, _ := SavitzkyGolay(lr.half, 2, float64(i-lr.half))
+			lr.ends = append(lr.ends, w)
+		}
+	}
+	return lr, nil
+}
+
+// add extends the final levels and y over the n samples so far.
+func (lr *liveRows) add(raw [][]float32, n int) {
+	bl := lr.blockLen
+	switch lr.source {
+	case recipe.SourceEven:
+		for j := len(lr.rows.y); j < (n+bl-1)/bl; j++ {
+			lr.rows.y = append(lr.rows.y, lr.evenAt(j))
+		}
+		return
+	case recipe.SourcePosition:
+		x := raw[lr.channel]
+		for j := len(lr.levels); (j+1)*bl <= n; j++ {
+			lr.levels = append(lr.levels, blockMeans(x[j*bl:(j+1)*bl], bl)[0])
+		}
+	case recipe.SourceTone:
+		x := raw[lr.channel][:n]
+		first, last := toneWholeBlocks(n, bl)
+		if last < first {
+			return
+		}
+		for j := len(lr.levels); j <= last; j++ {
+			lr.levels = append(lr.levels, lr.tone.block(x, j))
+		}
+		for j := 0; j < first; j++ {
+			lr.levels[j] = lr.levels[first]
+		}
+	}
+	final := len(lr.levels)
+	if lr.half >= 1 {
+		if final < 2*lr.half+1 {
+			return
+		}
+		final -= lr.half
+	}
+	for j := len(lr.rows.y); j < final; j++ {
+		lr.addY(lr.smoothAt(lr.levels, j, -1))
+	}
+}
+
+func (lr *liveRows) addY(v float64) {
+	lr.lvLo, lr.lvHi = math.Min(lr.lvLo, v), math.Max(lr.lvHi, v)
+	lr.rows.y = append(lr.rows.y, lr.cal.at(v))
+}
+
+func (lr *liveRows) evenAt(j int) float64 {
+	bl := lr.blockLen
+	return lr.speed * (float64(j*bl) + float64(bl)/2) / lr.rate
+}
+
+// smoothAt is smoothSG's value at block j of levels, for a capture of nb
+// blocks (nb < 0: one long enough that j is not near its end).
+func (lr *liveRows) smoothAt(levels []float64, j, nb int) float64 {
+	h := lr.half
+	switch {
+	case h < 1 || nb >= 0 && nb < 2*h+1:
+		return levels[j]
+	case j < h:
+		return sgDot(lr.ends[j], levels)
+	case nb < 0 || j < nb-h:
+		return sgDot(lr.centre, levels[j-h:])
+	}
+	return sgDotBack(lr.ends[nb-1-j], levels[:nb])
+}
+
+// final reports whether the rows of every sample of l are final.
+func (lr *liveRows) final(l *placedLine) bool {
+	bl := float64(lr.rows.blockLen)
+	p := (float64(l.last-1) - bl/2) / bl
+	return p <= 0 && len(lr.rows.y) > 0 || int(p)+1 < len(lr.rows.y)
+}
+
+// tail returns the rows of the n samples so far as a batch build of them
+// finds them: the final blocks and the last ones, which later samples may
+// still change. Its y shares the final blocks with lr.
+func (lr *liveRows) tail(raw [][]float32, n int) (*rowsResult, float64, float64) {
+	bl := lr.blockLen
+	nb := (n + bl - 1) / bl
+	out := &rowsResult{blockLen: bl, y: lr.rows.y}
+	lo, hi := lr.lvLo, lr.lvHi
+	if lr.source == recipe.SourceEven {
+		for j := len(out.y); j < nb; j++ {
+			out.y = append(out.y, lr.evenAt(j))
+		}
+		return out, lo, hi
+	}
+	levels := lr.levels
+	switch lr.source {
+	case recipe.SourcePosition:
+		if full := n / bl; full < nb {
+			levels = append(levels, blockMeans(raw[lr.channel][full*bl:n], bl)[0])
+		}
+	case recipe.SourceTone:
+		x := raw[lr.channel][:n]
+		first, last := toneWholeBlocks(n, bl)
+		if last < first {
+			levels = nil
+			for j := 0; j < nb; j++ {
+				levels = append(levels, lr.tone.block(x, j))
+			}
+		}
+		for len(levels) < nb {
+			levels = append(levels, levels[last])
+		}
+	}
+	for j := len(out.y); j < nb; j++ {
+		v := lr.smoothAt(levels, j, nb)
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+		out.y = append(out.y, lr.cal.at(v))
+	}
+	return out, lo, hi
+}

@@ -1,0 +1,277 @@
+package recon_test
+
+import (
+	"context"
+	"math"
+	"path/filepath"
+	"sync"
+	"testing"
+
+	"spotloom/capture"
+	"spotloom/capture/live"
+	"spotloom/recon"
+	"spotloom/recon/recipe"
+	"spotloom/sampledata"
+)
+
+// liveRig is the demo rig turning faster (120 lines/s at 96 kHz) over a
+// shorter hand stroke, so a dozen seconds hold more lines than the first
+// thousand the edge response is measured over: the live build then grids
+// most lines one at a time.
+func liveRig() sampledata.Rig {
+	rig := sampledata.DemoRig()
+	rig.DurationS = 12
+	rig.Wheel.RevPerMin = 1200
+	rig.Motion.StrokeS = 8
+	rig.Motion.StartRestS = 2
+	rig.Motion.PauseCount = 0
+	return rig
+}
+
+func simulate(t testing.TB, rig sampledata.Rig) *capture.Recording {
+	t.Helper()
+	rec, _, err := sampledata.Simulate(context.Background(), rig, "dot-grid", sampledata.SimOptions{Seed: 7})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return rec
+}
+
+// head is the first seconds of rec.
+func head(rec *capture.Recording, seconds float64) *capture.Recording {
+	n := min(rec.Frames(), int(seconds*rec.SampleRateHz))
+	out := &capture.Recording{SampleRateHz: rec.SampleRateHz, Source: rec.Source}
+	for _, c := range rec.Channels {
+		out.Channels = append(out.Channels, capture.Channel{Name: c.Name, Unit: c.Unit, Samples: c.Samples[:n]})
+	}
+	return out
+}
+
+// tee is a live.Source that hands every block its inner source delivers
+// to the recorder and, copied, to a channel a consumer goroutine reads.
+type tee struct {
+	live.Source
+	blocks chan []float32
+}
+
+func (s *tee) Start(deliver func([]float32)) error {
+	return s.Source.Start(func(b []float32) {
+		deliver(b)
+		s.blocks <- append([]float32(nil), b...)
+	})
+}
+
+// recordAndWatch replays rec through a Record (a float32 WAV in dir) and a
+// Live with recipe r at the same time, and returns the Live and the path
+// of the saved WAV. Before retuneAt samples (when > 0) the Live is retuned
+// to r2 on the consumer goroutine.
+func recordAndWatch(t *testing.T, rec *capture.Recording, r recipe.Recipe, retuneAt int64, r2 recipe.Recipe) (*recon.Live, string) {
+	t.Helper()
+	lv, err := recon.NewLive(r, recon.LayoutOf(rec))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rp, err := live.NewReplay(rec, 40)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// A channel deep enough for the whole replay: the deliver callback
+	// must never block.
+	src := &tee{Source: rp, blocks: make(chan []float32, rec.Frames()/max(int(rec.SampleRateHz)/100, 1)+2)}
+	var wg sync.WaitGroup
+	var appendErr error
+	done := make(chan struct{})
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		retuned := false
+		for {
+			select {
+			case b := <-src.blocks:
+				if retuneAt > 0 && !retuned && lv.Samples() >= retuneAt {
+					if err := lv.Retune(context.Background(), r2); err != nil {
+						appendErr = err
+					}
+					retuned = true
+				}
+				if err := lv.Append(b); err != nil && appendErr == nil {
+					appendErr = err
+				}
+			case <-done:
+				if len(src.blocks) == 0 {
+					return
+				}
+			}
+		}
+	}()
+	path := filepath.Join(t.TempDir(), "live.wav")
+	_, err = live.Record(context.Background(), src, live.Options{Path: path, SampleType: "float32", RingSeconds: rec.DurationS() + 1})
+	close(done)
+	wg.Wait()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if appendErr != nil {
+		t.Fatal(appendErr)
+	}
+	if got := lv.Samples(); got != int64(rec.Frames()) {
+		t.Fatalf("the live build took %d frames, the replay has %d", got, rec.Frames())
+	}
+	return lv, path
+}
+
+// batchOf builds the saved WAV with r, through capture.Open and
+// Session.Build: the independent batch path the live one must equal.
+func batchOf(t *testing.T, path string, r recipe.Recipe) *recon.Result {
+	t.Helper()
+	saved, err := capture.Open(path, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := recon.NewSession(saved).Build(context.Background(), r, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return res
+}
+
+// sameImage checks that the live frame equals the batch frame: the same
+// size, origin and covered pixels, and values within 1e-5 of the frame's
+// largest magnitude (float rounding: the two sum the same samples in a
+// different order; a relative bound per pixel would fail where a value
+// is near zero after the baseline is removed).
+func sameImage(t *testing.T, got, want *recon.Result) {
+	t.Helper()
+	if got == nil {
+		t.Fatal("the live build has no result")
+	}
+	if got.Report.Lines != want.Report.Lines {
+		t.Errorf("live %d lines, batch %d", got.Report.Lines, want.Report.Lines)
+	}
+	if len(got.Frames) != 1 || len(want.Frames) != 1 {
+		t.Fatalf("live %d frames, batch %d", len(got.Frames), len(want.Frames))
+	}
+	g, w := got.Frames[0], want.Frames[0]
+	if g.Width != w.Width || g.Height != w.Height || math.Abs(g.OriginXMM-w.OriginXMM) > 1e-9 || math.Abs(g.OriginYMM-w.OriginYMM) > 1e-9 {
+		t.Fatalf("live frame %d × %d at (%g, %g) mm, batch %d × %d at (%g, %g) mm", g.Width, g.Height, g.OriginXMM, g.OriginYMM, w.Width, w.Height, w.OriginXMM, w.OriginYMM)
+	}
+	scale := 0.0
+	for i, v := range w.Pix {
+		if w.Covered[i] {
+			scale = math.Max(scale, math.Abs(float64(v)))
+		}
+	}
+	bad, worst := 0, 0.0
+	for i := range w.Pix {
+		if g.Covered[i] != w.Covered[i] {
+			bad++
+			continue
+		}
+		if !w.Covered[i] {
+			continue
+		}
+		if d := math.Abs(float64(g.Pix[i]) - float64(w.Pix[i])); d > 1e-5*scale {
+			bad++
+			worst = math.Max(worst, d)
+		}
+	}
+	if bad > 0 {
+		t.Errorf("%d of %d pixels differ (largest difference %.3g, frame scale %.3g)", bad, len(w.Pix), worst, scale)
+	}
+}
+
+// liveCases are rigs whose recipes take different stages: a DC position
+// sensor on a wheel; a sound card (a tone for the position, an AC-coupled
+// detector) with the afterglow, aperture offsets and pitch left automatic;
+// a resonant mirror (the sine law, no beam-off baseline).
+func liveCases() []struct {
+	name string
+	rig  sampledata.Rig
+	auto bool
+} {
+	card := sampledata.SoundCardRig()
+	card.Wheel.RevPerMin = 1200
+	card.DurationS = 11
+	mirror := sampledata.MirrorRig()
+	mirror.DurationS = 11
+	mirror.Motion.StartRestS = 0.5
+	return []struct {
+		name string
+		rig  sampledata.Rig
+		auto bool
+	}{{"dc position", liveRig(), false}, {"sound card", card, true}, {"mirror", mirror, false}}
+}
+
+// TestLiveEqualsBatch: a replay recorded to a WAV and watched live at the
+// same time; after the last sample the live image equals the batch build
+// of the saved WAV with the same resolved recipe.
+func TestLiveEqualsBatch(t *testing.T) {
+	for _, tc := range liveCases() {
+		t.Run(tc.name, func(t *testing.T) {
+			rec := simulate(t, tc.rig)
+			r := tc.rig.Recipe()
+			if tc.auto {
+				r.Signal.AfterglowUS, r.Sweep.ApertureOffsetsDeg, r.Image.PitchMM = nil, nil, 0
+			}
+			r, err := recon.ResolveLive(context.Background(), head(rec, 3), r)
+			if err != nil {
+				t.Fatal(err)
+			}
+			lv, path := recordAndWatch(t, rec, r, 0, recipe.Recipe{})
+			want := batchOf(t, path, r)
+			if want.Report.Lines <= 1000 {
+				t.Fatalf("only %d lines: the test needs more than the first thousand, which are measured before any is gridded", want.Report.Lines)
+			}
+			sameImage(t, lv.Result(), want)
+		})
+	}
+}
+
+// TestLiveRetune: a delay and aperture offsets changed half-way through
+// re-grid what was recorded; the end equals a batch build with the new
+// recipe.
+func TestLiveRetune(t *testing.T) {
+	rec := simulate(t, liveRig())
+	r, err := recon.ResolveLive(context.Background(), head(rec, 3), sampledata.DemoRecipe())
+	if err != nil {
+		t.Fatal(err)
+	}
+	r2 := r.Clone()
+	d := *r.Sweep.DelayDeg + 0.4
+	r2.Sweep.DelayDeg = &d
+	r2.Sweep.ApertureOffsetsDeg = []float64{}
+	r2.Image.PitchMM *= 2
+	lv, path := recordAndWatch(t, rec, r, int64(rec.Frames()/2), r2)
+	if got := lv.Recipe(); *got.Sweep.DelayDeg != d {
+		t.Fatalf("after the retune the live recipe's delay is %g°, want %g°", *got.Sweep.DelayDeg, d)
+	}
+	sameImage(t, lv.Result(), batchOf(t, path, r2))
+}
+
+// TestLiveShort: a recording shorter than the first thousand lines is
+// all open when it ends, and still equals the batch build.
+func TestLiveShort(t *testing.T) {
+	rig := liveRig()
+	rig.DurationS = 4
+	rec := simulate(t, rig)
+	r, err := recon.ResolveLive(context.Background(), head(rec, 3), sampledata.DemoRecipe())
+	if err != nil {
+		t.Fatal(err)
+	}
+	lv, path := recordAndWatch(t, rec, r, 0, recipe.Recipe{})
+	sameImage(t, lv.Result(), batchOf(t, path, r))
+}
+
+// TestLiveRefuses: what cannot be built as it is recorded is refused with
+// the key to change.
+func TestLiveRefuses(t *testing.T) {
+	rec := head(simulate(t, liveRig()), 1)
+	r := sampledata.DemoRecipe()
+	if _, err := recon.NewLive(r, recon.LayoutOf(rec)); err == nil {
+		t.Error("a recipe with an automatic delay was taken without being resolved")
+	}
+	r.Rows.Strokes = "split"
+	if _, err := recon.ResolveLive(context.Background(), rec, r); err == nil {
+		t.Error("rows.strokes split was taken")
+	}
+}
