@@ -206,6 +206,12 @@ func TestDrawMeasurementsOnTheImage(t *testing.T) {
 	if len(ws.cur.Measurements) != 1 || ws.cur.Measurements[0].Label != "P1" || len(ws.measures.cards) != 1 {
 		t.Errorf("after Delete: %+v", ws.cur.Measurements)
 	}
+	// Escape puts a tool away without drawing.
+	ws.marking.tool.SetSelected(toolName(measure.KindEdge))
+	pressKey(w.Canvas(), fyne.KeyEscape)
+	if ws.view.Tool() != "" || ws.marking.tool.Selected != toolName("") {
+		t.Errorf("after Escape the tool is %q (%q)", ws.view.Tool(), ws.marking.tool.Selected)
+	}
 	// A slip of the mouse draws nothing.
 	drawOn(ws, measure.KindEdge, frameCentre(ws, 0, 0), frameCentre(ws, 1, 1))
 	if len(ws.cur.Measurements) != 1 {

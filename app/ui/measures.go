@@ -79,6 +79,17 @@ func (ws *Workstation) measureTools() fyne.CanvasObject {
 	return mt.bar
 }
 
+// dropTool goes back to moving the image when a drawing tool is chosen
+// (Escape), and reports whether one was.
+func (ws *Workstation) dropTool() bool {
+	if ws.marking == nil || ws.view.Tool() == "" {
+		return false
+	}
+	ws.view.SetTool("")
+	ws.marking.tool.SetSelected(toolName(""))
+	return true
+}
+
 // drawnShape adds the rectangle or line just drawn on the image.
 func (ws *Workstation) drawnShape(kind measure.Kind, at [4]float64) {
 	s := measure.Shape{Kind: kind}

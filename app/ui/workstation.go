@@ -398,7 +398,7 @@ func (ws *Workstation) ShowKeys() {
 		"Ctrl+L / Ctrl+S\tload / save the recipe", "Ctrl+E\texport frames", "Ctrl+R\texport a report sheet (PDF)",
 		"Ctrl+Z\tundo", "Ctrl+Y or Ctrl+Shift+Z\tredo",
 		"Ctrl+K\testimate aperture offsets", "Ctrl+T\tautomatic tone",
-		"Esc or Ctrl+.\tstop the build",
+		"Esc or Ctrl+.\tstop the build (Esc first puts a drawing tool away)",
 		"+ / − / 0\tzoom in / out / fit (also Ctrl+= Ctrl+- Ctrl+0)", "Ctrl+1\tone frame pixel per point",
 		"Page Up / Page Down\tprevious / next frame", "↑ / ↓\tprevious / next line in the trace strip",
 		"wheel\tzoom about the pointer", "drag\tmove the image, or draw with the tool chosen", "click\thold the line under the pointer, or select a measurement",
@@ -459,6 +459,9 @@ func (ws *Workstation) showDialog(d dialog.Dialog, closed ...func()) {
 func (ws *Workstation) escape() {
 	if n := len(ws.dialogs); n > 0 {
 		ws.dialogs[n-1].Hide()
+		return
+	}
+	if ws.dropTool() {
 		return
 	}
 	ws.Cancel()
