@@ -2,6 +2,8 @@ package main
 
 import (
 	"encoding/json"
+	"fmt"
+	"os/exec"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -10,6 +12,8 @@ import (
 	"fyne.io/fyne/v2/test"
 
 	"spotloom/app/ui"
+	"spotloom/recon"
+	"spotloom/recon/export"
 	"spotloom/recon/measure"
 	"spotloom/recon/recipe"
 )
@@ -75,7 +79,35 @@ func TestWindowMeasuresAsTheCommand(t *testing.T) {
 		}
 	}
 	if taken[0].Results.Edge == nil || taken[0].Results.Edge.MTF50 == nil {
-		t.Error("no MTF50 for the edge card's edge")
+		t.Fatal("no MTF50 for the edge card's edge")
+	}
+
+	// The window's list, in a sidecar as its Export… writes it, is what
+	// "spotloom report --measure" takes: the sheet prints the window's
+	// MTF50 and CNR (read back with poppler's pdftotext).
+	if _, err := exec.LookPath("pdftotext"); err != nil {
+		t.Skip("pdftotext is not installed (Debian poppler-utils; .ci/run installs it)")
+	}
+	var shapes []measure.Shape
+	for _, tk := range taken {
+		shapes = append(shapes, tk.Shape)
+	}
+	shown := filepath.Join(dir, "shown.tiff")
+	if err := export.Write(shown, []*recon.Frame{ws.ShownFrame()}, export.Options{Raw: true, Measurements: shapes}); err != nil {
+		t.Fatal(err)
+	}
+	sheet := filepath.Join(dir, "shown.pdf")
+	if code, _, stderr := runCmd("report", filepath.Join(dir, "edge-card.wav"), "--recipe", export.SidecarPath(shown), "--out", sheet, "--measure", export.SidecarPath(shown)); code != 0 {
+		t.Fatalf("report: exit %d: %s", code, stderr)
+	}
+	out, err := exec.Command("pdftotext", sheet, "-").CombinedOutput()
+	if err != nil {
+		t.Fatalf("pdftotext: %v: %s", err, out)
+	}
+	for _, want := range []string{fmt.Sprintf("MTF50 %.4g lp/mm", *taken[0].Results.Edge.MTF50), fmt.Sprintf("CNR against R1: %.4g", *taken[2].Results.CNR), "E1", "P1"} {
+		if !strings.Contains(string(out), want) {
+			t.Errorf("the sheet from the window's sidecar lacks %q:\n%s", want, out)
+		}
 	}
 }
 

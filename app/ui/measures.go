@@ -8,6 +8,7 @@ import (
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/widget"
 
+	"spotloom/recon"
 	"spotloom/recon/measure"
 )
 
@@ -220,3 +221,7 @@ func (ws *Workstation) AddMeasurement(s measure.Shape) { ws.addMeasurement(s) }
 func (ws *Workstation) Measured() []measure.Taken {
 	return append([]measure.Taken(nil), ws.measures.taken...)
 }
+
+// ShownFrame returns the frame the image and the measurements are of, or
+// nil.
+func (ws *Workstation) ShownFrame() *recon.Frame { return ws.view.Frame() }
