@@ -5,7 +5,9 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strings"
 
+	"spotloom/recon"
 	"spotloom/recon/export"
 	"spotloom/recon/measure"
 )
@@ -18,7 +20,7 @@ func init() {
 	})
 }
 
-const measureSynopsis = "measure FRAME.tiff|FRAME.png [--edge X0,Y0,X1,Y1] [--roi X0,Y0,X1,Y1] [--roi2 X0,Y0,X1,Y1] [--profile X0,Y0,X1,Y1 [--band MM]] [--dots SPACING_MM] [--nps X0,Y0,X1,Y1] [--page N] [--json]"
+const measureSynopsis = "measure FRAME.tiff|FRAME.png [--edge X0,Y0,X1,Y1] [--roi X0,Y0,X1,Y1] [--roi2 X0,Y0,X1,Y1] [--profile X0,Y0,X1,Y1 [--band MM]] [--dots SPACING_MM] [--nps X0,Y0,X1,Y1] [--measure LIST.json] [--page N] [--json]"
 
 const measureDescription = `
 Measures a frame exported by "spotloom build" (or the window). Rectangles and
@@ -38,6 +40,12 @@ Several measurements can be asked for at once:
              rotation and shear; prints the recipe values that make it true.
   --nps      noise power spectrum of a uniform rectangle after IEC 62220-1,
              in mm² against line pairs per mm.
+
+  --measure  every shape of a measurement list instead: an export's sidecar
+             F.recipe.json with the "measurements" the window drew, or a
+             file holding such a list (docs/pipeline.md). Each is reported
+             under its label; with --json as {"measurements": [{"shape",
+             "results"} or {"shape", "error"}, ...]}.
 
 Pixels without data are never used; a rectangle outside the frame, or with no
 data, is an error. Measure a 32-bit float TIFF for frame values: 8/16-bit
@@ -97,6 +105,7 @@ func runMeasure(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("measure", measureSynopsis, measureDescription, stderr)
 	var spec measure.Request
 	var asJSON bool
+	var listPath string
 	fs.Var(rectFlag(&spec.Edge), "edge", "slanted-edge `rectangle` X0,Y0,X1,Y1 in mm")
 	fs.Var(rectFlag(&spec.ROI), "roi", "statistics `rectangle` X0,Y0,X1,Y1 in mm")
 	fs.Var(rectFlag(&spec.ROI2), "roi2", "second `rectangle` for the contrast-to-noise ratio with --roi")
@@ -104,6 +113,7 @@ func runMeasure(args []string, stdout, stderr io.Writer) error {
 	fs.Float64Var(&spec.BandMM, "band", 0, "width in `mm` of the band a profile averages across")
 	fs.Float64Var(&spec.DotsMM, "dots", 0, "find a dot grid of this `spacing` in mm")
 	fs.Var(rectFlag(&spec.NPS), "nps", "noise power spectrum `rectangle` X0,Y0,X1,Y1 in mm (a uniform area)")
+	fs.StringVar(&listPath, "measure", "", "measure the shapes of a list `file` (a sidecar with \"measurements\", or a list)")
 	fs.IntVar(&spec.FramePage, "page", 1, "`page` of a multi-page TIFF (one per stroke)")
 	fs.BoolVar(&asJSON, "json", false, "print JSON")
 	positional, err := parseFlags(fs, args)
@@ -113,7 +123,9 @@ func runMeasure(args []string, stdout, stderr io.Writer) error {
 	switch {
 	case len(positional) != 1:
 		return usagef("expected one FRAME.tiff or FRAME.png, got %d arguments", len(positional))
-	case spec.Empty():
+	case listPath != "" && !spec.Empty():
+		return usagef("--measure takes the shapes of its list: give it without --edge, --roi, --profile, --dots or --nps")
+	case listPath == "" && spec.Empty():
 		return usagef("nothing to measure: give --edge, --roi, --profile, --dots or --nps")
 	case spec.ROI2 != nil && spec.ROI == nil:
 		return usagef("--roi2 needs --roi: the contrast-to-noise ratio is between the two")
@@ -135,6 +147,9 @@ func runMeasure(args []string, stdout, stderr io.Writer) error {
 		return fmt.Errorf("%s has %d page(s), not %d", path, len(l.Frames), spec.FramePage)
 	}
 	f := l.Frames[spec.FramePage-1]
+	if listPath != "" {
+		return measureList(f, path, listPath, l.Notes, asJSON, stdout, stderr)
+	}
 	out, err := measure.Run(f, spec)
 	if err != nil {
 		return fmt.Errorf("%s: %w", path, err)
@@ -154,4 +169,67 @@ func runMeasure(args []string, stdout, stderr io.Writer) error {
 		fmt.Fprintf(stderr, "note: %s\n", n)
 	}
 	return nil
+}
+
+// listed is one shape of a list as "measure --measure --json" prints it.
+type listed struct {
+	Shape   measure.Shape    `json:"shape"`
+	Results *measure.Results `json:"results,omitempty"`
+	Error   string           `json:"error,omitempty"`
+}
+
+// measureList takes every shape of the list in listPath on f, as the
+// window's list and the report sheet do. A shape that cannot be taken is
+// reported and makes the command fail once all are reported.
+func measureList(f *recon.Frame, path, listPath string, notes []string, asJSON bool, stdout, stderr io.Writer) error {
+	shapes, err := measure.LoadList(listPath)
+	if err != nil {
+		return err
+	}
+	taken := measure.RunList(f, shapes)
+	var failed error
+	out := struct {
+		File         string   `json:"file"`
+		Measurements []listed `json:"measurements"`
+		Notes        []string `json:"notes,omitempty"`
+	}{File: path, Notes: notes}
+	for _, t := range taken {
+		item := listed{Shape: t.Shape}
+		if t.Err != nil {
+			item.Error = t.Err.Error()
+			if failed == nil {
+				failed = fmt.Errorf("%s: %s: %w", path, t.Shape.Label, t.Err)
+			}
+		} else {
+			res := t.Results
+			item.Results = &res
+		}
+		out.Measurements = append(out.Measurements, item)
+	}
+	if asJSON {
+		data, err := json.MarshalIndent(out, "", "  ")
+		if err != nil {
+			return err
+		}
+		if _, err := fmt.Fprintf(stdout, "%s\n", data); err != nil {
+			return err
+		}
+		return failed
+	}
+	for _, item := range out.Measurements {
+		fmt.Fprintf(stdout, "%s (%s):\n", item.Shape.Label, item.Shape.Kind)
+		if item.Results == nil {
+			fmt.Fprintf(stdout, "  not taken: %s\n", item.Error)
+			continue
+		}
+		var text strings.Builder
+		measure.WriteText(&text, *item.Results)
+		for _, line := range strings.Split(strings.TrimSpace(text.String()), "\n") {
+			fmt.Fprintf(stdout, "  %s\n", line)
+		}
+	}
+	for _, n := range notes {
+		fmt.Fprintf(stderr, "note: %s\n", n)
+	}
+	return failed
 }

@@ -96,6 +96,33 @@ func TestWindowMeasuresAsTheCommand(t *testing.T) {
 	if err := export.Write(shown, []*recon.Frame{ws.ShownFrame()}, export.Options{Raw: true, Measurements: shapes}); err != nil {
 		t.Fatal(err)
 	}
+	// "spotloom measure --measure" takes the same list from the sidecar
+	// and gives the window's numbers for every shape.
+	code, stdout, stderr := runCmd("measure", shown, "--measure", export.SidecarPath(shown), "--json")
+	if code != 0 {
+		t.Fatalf("measure --measure: exit %d: %s", code, stderr)
+	}
+	var listedOut struct {
+		Measurements []struct {
+			Shape   measure.Shape   `json:"shape"`
+			Results measure.Results `json:"results"`
+		} `json:"measurements"`
+	}
+	if err := json.Unmarshal([]byte(stdout), &listedOut); err != nil || len(listedOut.Measurements) != len(taken) {
+		t.Fatalf("measure --measure --json: %v\n%s", err, stdout)
+	}
+	for i, m := range listedOut.Measurements {
+		win := taken[i].Results
+		w, _ := json.Marshal([]any{win.Edge, win.ROI, win.ROI2, win.CNR, win.Profile, win.DistanceMM})
+		c, _ := json.Marshal([]any{m.Results.Edge, m.Results.ROI, m.Results.ROI2, m.Results.CNR, m.Results.Profile, m.Results.DistanceMM})
+		if m.Shape.Label != taken[i].Shape.Label || string(w) != string(c) {
+			t.Errorf("%s: the window gives %s, measure --measure %s: %s", taken[i].Shape.Label, w, m.Shape.Label, c)
+		}
+	}
+	if code, _, _ := runCmd("measure", shown, "--measure", export.SidecarPath(shown), "--edge", fourExact(edge)); code != 2 {
+		t.Errorf("--measure with --edge: exit %d, want 2 (usage)", code)
+	}
+
 	sheet := filepath.Join(dir, "shown.pdf")
 	if code, _, stderr := runCmd("report", filepath.Join(dir, "edge-card.wav"), "--recipe", export.SidecarPath(shown), "--out", sheet, "--measure", export.SidecarPath(shown)); code != 0 {
 		t.Fatalf("report: exit %d: %s", code, stderr)

@@ -208,6 +208,8 @@ func WriteText(w io.Writer, m Results) {
 	}
 	if m.DistanceMM != nil {
 		fmt.Fprintf(w, "distance: %.4g mm\n", *m.DistanceMM)
+	}
+	if len(m.Profile) > 0 {
 		fmt.Fprintf(w, "profile (%d points, mm and value):", len(m.Profile))
 		for _, p := range m.Profile {
 			fmt.Fprintf(w, " %.4g:%.5g", p[0], p[1])
