@@ -351,8 +351,8 @@ func toneAmplitude(rec rowsInput, carrierHz *float64) ([]float64, int, float64, 
 			return nil, 0, 0, fmt.Errorf("position channel %s: %v", rec.name, err)
 		}
 	}
-	if fc <= 0 || fc >= rate/2 {
-		return nil, 0, 0, fmt.Errorf("rows.carrier_hz %g Hz is not between 0 and half the sample rate (%g Hz)", fc, rate/2)
+	if err := checkCarrier(fc, rate, len(x)); err != nil {
+		return nil, 0, 0, err
 	}
 	d := newToneDemod(fc, rate)
 	blockLen := d.blockLen
@@ -437,6 +437,22 @@ func (d *toneDemod) block(x []float32, j int) float64 {
 // whose demodulation window lies whole inside it.
 func toneWholeBlocks(n, blockLen int) (first, last int) {
 	return (blockLen + blockLen/2) / blockLen, (n-blockLen-blockLen/2)/blockLen - 1
+}
+
+// minCarrierPeriods is the fewest periods of the carrier a capture must
+// hold for its amplitude to be measured.
+const minCarrierPeriods = 8
+
+// checkCarrier checks a carrier frequency against the sample rate and the
+// length of the capture (n samples).
+func checkCarrier(fc, rateHz float64, n int) error {
+	if !(fc > 0 && fc < rateHz/2) {
+		return fmt.Errorf("rows.carrier_hz %g Hz is not between 0 and half the sample rate (%g Hz)", fc, rateHz/2)
+	}
+	if periods := fc * float64(n) / rateHz; periods < minCarrierPeriods {
+		return fmt.Errorf("rows.carrier_hz %g Hz makes only %.3g periods in the capture's %.3g s: a tone needs at least %d", fc, periods, float64(n)/rateHz, minCarrierPeriods)
+	}
+	return nil
 }
 
 // strongestTone returns the frequency of the largest peak of the spectrum

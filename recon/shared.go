@@ -2,7 +2,6 @@ package recon
 
 import (
 	"context"
-	"fmt"
 	"math"
 
 	"gonum.org/v1/gonum/mat"
@@ -61,7 +60,9 @@ func notchCoefficients(fc, bw, rateHz float64) (b, a [3]float64) {
 // capture in its steady state.
 func notchZeroPhase(x []float32, fc, bw, rateHz float64) []float32 {
 	n := len(x)
-	pad := int(math.Ceil(7 * rateHz / (math.Pi * bw)))
+	// (No longer than the capture: a notch ringing for longer than that
+	// was asked for a carrier a capture cannot hold.)
+	pad := min(int(math.Ceil(7*rateHz/(math.Pi*bw))), n)
 	ext := make([]float64, n+2*pad)
 	w := 2 * math.Pi * fc / rateHz
 	fit := max(int(math.Ceil(8*rateHz/fc)), 16)
@@ -246,15 +247,12 @@ type sharedParams struct {
 func (s *Session) sharedChannel(ctx context.Context, ch int, carrierHz float64) (*sharedIndex, error) {
 	return cachedStage(s.shared, s.runs, "shared", sharedParams{ch, carrierHz}, func() (*sharedIndex, error) {
 		rate := s.rec.SampleRateHz
-		if !(carrierHz > 0 && carrierHz < rate/2) {
-			return nil, fmt.Errorf("rows.carrier_hz %g Hz is not between 0 and half the sample rate (%g Hz)", carrierHz, rate/2)
+		x := s.rec.Channels[ch].Samples
+		if err := checkCarrier(carrierHz, rate, len(x)); err != nil {
+			return nil, err
 		}
 		if err := ctx.Err(); err != nil {
 			return nil, err
-		}
-		x := s.rec.Channels[ch].Samples
-		if len(x) < 4 {
-			return nil, fmt.Errorf("channel %d has %d samples: too short to tell the index pulses from the tone", ch, len(x))
 		}
 		pulses := notchZeroPhase(x, carrierHz, carrierHz*notchBandwidthFraction, rate)
 		o := Otsu(pulses)

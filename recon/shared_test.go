@@ -190,4 +190,35 @@ func TestSharedChannelRecipeChecks(t *testing.T) {
 	if _, err := s.resolveChannels(&r); err == nil || !strings.Contains(err.Error(), "each role needs its own channel") {
 		t.Errorf("detector on the index channel: %v", err)
 	}
+	// A carrier the 1 s capture holds only a few periods of is refused
+	// before anything is sized from it.
+	if _, err := s.sharedChannel(context.Background(), 1, 0.5); err == nil || !strings.Contains(err.Error(), "periods") {
+		t.Errorf("a 0.5 Hz carrier: %v", err)
+	}
+	slow := 1e-9
+	if _, _, _, err := toneAmplitude(rowsInput{channel: x, n: len(x), rateHz: 48000}, &slow); err == nil || !strings.Contains(err.Error(), "periods") {
+		t.Errorf("a 1 nHz carrier: %v", err)
+	}
+}
+
+// BenchmarkSharedChannel takes apart 10 s of a two-input channel at
+// 96 kHz (notch both ways, pulse spans) and fits the tone around the
+// pulses: the extra work a two-input capture costs over three inputs.
+func BenchmarkSharedChannel(b *testing.B) {
+	const rate, fc = 96000.0, 1500.0
+	x, _ := sharedSignal(rate, fc, 10, 0.4, 1.6e-3, 1/42.0, func(t float64) float64 { return 0.2 + 0.02*t })
+	rec := &capture.Recording{SampleRateHz: rate, Channels: []capture.Channel{{Name: "shared", Samples: x}}}
+	carrier := fc
+	b.SetBytes(int64(4 * len(x)))
+	for b.Loop() {
+		s := NewSession(rec)
+		sh, err := s.sharedChannel(context.Background(), 0, fc)
+		if err != nil {
+			b.Fatal(err)
+		}
+		in := rowsInput{channel: x, n: len(x), rateHz: rate, pulses: sh.spans}
+		if _, _, _, err := toneAmplitude(in, &carrier); err != nil {
+			b.Fatal(err)
+		}
+	}
 }

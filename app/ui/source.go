@@ -165,7 +165,9 @@ const (
 
 // roleChosen gives role the channel option names. A channel another role
 // holds moves to this role in one step, and that role takes this role's
-// old channel (or none): roles swap rather than clash.
+// old channel (or none): roles swap rather than clash. The one exception
+// is the position on the index channel with a tone source: both then
+// share the channel (a two-input sound card; docs/pipeline.md).
 func (p *sourcePanel) roleChosen(role int, option string) {
 	ch, _ := optionChannel(option)
 	p.act.edit("channel roles", func(r *recipe.Recipe) {
@@ -177,8 +179,9 @@ func (p *sourcePanel) roleChosen(role int, option string) {
 			}
 		}
 		old := refs[role]
+		shares := role == rolePosition && r.Rows.Source == recipe.SourceTone
 		for i := range refs {
-			if i != role && ch != "" && refs[i] == ch {
+			if i != role && ch != "" && refs[i] == ch && !(shares && i == roleIndex) {
 				refs[i] = old
 			}
 		}
