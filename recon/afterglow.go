@@ -139,7 +139,7 @@ func lineSlope(a, b []float64) float64 {
 // fitted. Laws without a beam-off stretch, and a baseline of none, give 0
 // with a warning.
 func (s *Session) afterglowStage(ctx context.Context, r recipe.Recipe, ch channels, t *timingResult) (float64, []string, error) {
-	if r.Sweep.Law == recipe.LawSine || r.Signal.Baseline == "none" {
+	if !hasBeamOff(r.Sweep.Law) || r.Signal.Baseline == "none" {
 		return 0, []string{"signal.afterglow_us is null, but without a beam-off stretch and its baseline the decay cannot be measured: it is taken as 0"}, nil
 	}
 	raw := r.Clone()

@@ -280,7 +280,7 @@ func fitDuty(r *recipe.Recipe, duty float64, ok bool, known Known) (bool, []stri
 		return false, []string{WarnNoBeamOff}
 	}
 	sw := r.Sweep
-	if sw.Law != recipe.LawUniform {
+	if !mustLaw(sw.Law).dutyTellsApertures() {
 		return false, nil
 	}
 	spacing := apertureSpacingDeg(sw)

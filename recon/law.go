@@ -29,6 +29,18 @@ type sweepLaw interface {
 	// hasBeamOff reports whether the beam leaves the field within each
 	// line, giving a beam-off stretch for the baseline.
 	hasBeamOff() bool
+	// isWheel reports whether the sweep is a wheel of apertures: index
+	// pulses per aperture or per revolution, aperture offsets, a wheel
+	// speed. A resonant mirror is not one.
+	isWheel() bool
+	// dutyTellsApertures reports whether the beam is on for field_deg of
+	// each aperture spacing, so the beam-on fraction tells the aperture
+	// count.
+	dutyTellsApertures() bool
+	// fromTiming fills in the sweep values the law takes from the
+	// measured index periods (samples at rateHz) when they are left
+	// automatic.
+	fromTiming(s *recipe.Sweep, t *timingResult, rateHz float64)
 }
 
 // lineAdder takes one placed line: its number and aperture, its index

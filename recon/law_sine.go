@@ -48,3 +48,20 @@ func (sineLaw) estimateDelay(ctx context.Context, t *timingResult, det []float32
 }
 
 func (sineLaw) hasBeamOff() bool { return false }
+
+func (sineLaw) isWheel() bool { return false }
+
+func (sineLaw) dutyTellsApertures() bool { return false }
+
+// fromTiming sets an automatic sweep.sine_period_s to the median measured
+// index period.
+func (sineLaw) fromTiming(s *recipe.Sweep, t *timingResult, rateHz float64) {
+	if s.SinePeriodS != nil {
+		return
+	}
+	periods := make([]float64, len(t.lines))
+	for i, l := range t.lines {
+		periods[i] = l.period
+	}
+	s.SinePeriodS = recipe.Float(median(periods) / rateHz)
+}

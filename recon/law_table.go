@@ -58,3 +58,11 @@ func (tableLaw) estimateDelay(context.Context, *timingResult, []float32, recipe.
 }
 
 func (tableLaw) hasBeamOff() bool { return true }
+
+func (tableLaw) isWheel() bool { return true }
+
+// dutyTellsApertures is false: the table, not field_deg, gives the part
+// of the line inside the field.
+func (tableLaw) dutyTellsApertures() bool { return false }
+
+func (tableLaw) fromTiming(*recipe.Sweep, *timingResult, float64) {}

@@ -39,3 +39,9 @@ func (uniformLaw) estimateDelay(ctx context.Context, t *timingResult, det []floa
 }
 
 func (uniformLaw) hasBeamOff() bool { return true }
+
+func (uniformLaw) isWheel() bool { return true }
+
+func (uniformLaw) dutyTellsApertures() bool { return true }
+
+func (uniformLaw) fromTiming(*recipe.Sweep, *timingResult, float64) {}

@@ -20,8 +20,8 @@ import (
 // own offsets are ignored. A build with sweep.aperture_offsets_deg null
 // uses the same estimate.
 func EstimateApertureOffsets(ctx context.Context, s *Session, r recipe.Recipe) ([]float64, error) {
-	if r.Sweep.Law == recipe.LawSine {
-		return nil, fmt.Errorf("sweep.law sine has no apertures: aperture offsets apply to the uniform and table laws")
+	if !mustLaw(r.Sweep.Law).isWheel() {
+		return nil, fmt.Errorf("sweep.law %s has no apertures: aperture offsets apply to the uniform and table laws", r.Sweep.Law)
 	}
 	r = r.Clone()
 	r.Sweep.ApertureOffsetsDeg = []float64{}
@@ -61,21 +61,19 @@ func (s *Session) offsetStage(ctx context.Context, r recipe.Recipe, ch channels,
 	rough := r.Clone()
 	rough.Sweep.ApertureOffsetsDeg = []float64{}
 	rough.Sweep.DelayDeg = nil
+	// The law's own delay estimate places the window (a measured table's
+	// is zero: it is written against the index edge).
 	d, cache := 0.0, true
-	if sw.Law != recipe.LawTable {
-		var err error
-		var found delayFound
-		if found, err = s.delayStage(ctx, rough, ch, t); err != nil {
-			if ctx.Err() != nil || r.Sweep.DelayDeg == nil {
-				return nil, err
-			}
-			// No field edge to place the window by (a scene that sends
-			// little back): the delay given by hand places it, and the
-			// result then depends on it, so it is not kept.
-			d, cache = *r.Sweep.DelayDeg, false
-		} else {
-			d = found.DelayDeg
+	if found, err := s.delayStage(ctx, rough, ch, t); err != nil {
+		if ctx.Err() != nil || r.Sweep.DelayDeg == nil {
+			return nil, err
 		}
+		// No field edge to place the window by (a scene that sends
+		// little back): the delay given by hand places it, and the
+		// result then depends on it, so it is not kept.
+		d, cache = *r.Sweep.DelayDeg, false
+	} else {
+		d = found.DelayDeg
 	}
 	sw.DelayDeg = &d
 	det, _, err := s.detector(ctx, ch.detector, r.Signal)
@@ -105,7 +103,7 @@ type offsetsFound struct {
 // estimate from the image, or all zero with a warning when the scene has
 // too little detail to measure them.
 func (s *Session) resolveOffsets(ctx context.Context, r *recipe.Recipe, ch channels, t *timingResult) ([]string, error) {
-	if r.Sweep.Law == recipe.LawSine {
+	if !mustLaw(r.Sweep.Law).isWheel() {
 		r.Sweep.ApertureOffsetsDeg = []float64{}
 		return nil, nil
 	}

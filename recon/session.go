@@ -147,7 +147,7 @@ func (s *Session) resolveChannels(r *recipe.Recipe) (channels, error) {
 	seen := map[int]string{}
 	for _, role := range []string{"detector", "index", "position", "steps"} {
 		i := *out[role]
-		if i < 0 || role == "position" && i == c.index && r.Rows.Source == recipe.SourceTone {
+		if i < 0 || role == "position" && i == c.index && mustSource(r.Rows.Source).readsTone() {
 			continue
 		}
 		if other, dup := seen[i]; dup {
@@ -214,25 +214,15 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 	r.Timing.Threshold = recipe.Float(t.threshold)
 	r.Timing.Hysteresis = recipe.Float(t.hysteresis)
 	progress.report("timing", 1)
-	if r.Sweep.Law == recipe.LawSine && r.Sweep.SinePeriodS == nil {
-		periods := make([]float64, len(t.lines))
-		for i, l := range t.lines {
-			periods[i] = l.period
-		}
-		r.Sweep.SinePeriodS = recipe.Float(median(periods) / s.rec.SampleRateHz)
-	}
-	if r.Rows.Source == recipe.SourceEven && r.Rows.SpeedMMS == nil {
-		speed, w := automaticSpeed(t, r, s.rec.SampleRateHz)
-		r.Rows.SpeedMMS = recipe.Float(speed)
-		warns = append(warns, w)
-	}
+	mustLaw(r.Sweep.Law).fromTiming(&r.Sweep, t, s.rec.SampleRateHz)
+	warns = append(warns, mustSource(r.Rows.Source).fromTiming(&r, t, s.rec.SampleRateHz)...)
 	progress.report("rows", 0)
 	rows, err := s.rowsStage(ctx, r, ch)
 	if err != nil {
 		return nil, nil, err
 	}
 	warns = append(warns, rows.warnings...)
-	if r.Rows.Source == recipe.SourceTone && r.Rows.CarrierHz == nil {
+	if mustSource(r.Rows.Source).readsTone() && r.Rows.CarrierHz == nil {
 		r.Rows.CarrierHz = recipe.Float(rows.carrier)
 	}
 	progress.report("rows", 1)
@@ -301,7 +291,7 @@ func (s *Session) timingStage(ctx context.Context, r recipe.Recipe, ch channels)
 		Hysteresis:   r.Timing.Hysteresis,
 		PulsesPerRev: r.Timing.PulsesPerRev,
 		Apertures:    r.Sweep.Apertures,
-		Sine:         r.Sweep.Law == recipe.LawSine,
+		NoApertures:  !mustLaw(r.Sweep.Law).isWheel(),
 	}
 	p, err := p.withLevels(o, name, unit)
 	if err != nil {
@@ -341,7 +331,7 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 		c := s.rec.Channels[p.Channel]
 		in.channel, in.name, in.unit = c.Samples, fmt.Sprintf("%d (%s)", p.Channel, c.Name), unitOf(c)
 	}
-	if p.Source == recipe.SourceTone && p.CarrierHz == nil {
+	if src.readsTone() && p.CarrierHz == nil {
 		fc, err := s.strongestTone(p.Channel)
 		if err != nil {
 			return nil, err
@@ -379,7 +369,7 @@ func (s *Session) strongestTone(ch int) (float64, error) {
 // sharesIndex reports whether r reads the position tone from the index
 // channel.
 func sharesIndex(r recipe.Recipe, ch channels) bool {
-	return r.Rows.Source == recipe.SourceTone && ch.position >= 0 && ch.position == ch.index
+	return mustSource(r.Rows.Source).readsTone() && ch.position >= 0 && ch.position == ch.index
 }
 
 // sharedStage takes apart the channel that carries both the index pulses
@@ -928,7 +918,7 @@ func timingReport(t *timingResult, rows *rowsResult, pl *placement, r recipe.Rec
 	pMean := meanLinePeriod(pl.lines)
 	rep.SweepMS = 1000 * pMean * fieldFraction(r.Sweep) / rate
 	rep.LineRateHz = float64(mustLaw(r.Sweep.Law).linesPerIndex()) * rate / pMean
-	if r.Sweep.Law == recipe.LawSine {
+	if !mustLaw(r.Sweep.Law).isWheel() {
 		rep.RPMMean, rep.RPMSpreadPct = 0, 0 // a mirror, not a wheel
 	}
 	return rep

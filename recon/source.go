@@ -19,6 +19,13 @@ type rowSource interface {
 	// needs is the channel role the source needs ("position", "steps"),
 	// or "" for none.
 	needs() string
+	// readsTone reports whether the source reads the amplitude of a
+	// carrier tone: rows.carrier_hz applies, and the channel may be the
+	// index channel too (a two-input sound card).
+	readsTone() bool
+	// fromTiming fills in the rows values the source takes from the
+	// index timing when they are left automatic, and says so.
+	fromTiming(r *recipe.Recipe, t *timingResult, rateHz float64) []string
 }
 
 // sourceOf returns the implementation of a rows source.
@@ -34,4 +41,13 @@ func sourceOf(s recipe.RowSource) (rowSource, error) {
 		return evenSource{}, nil
 	}
 	return nil, fmt.Errorf("rows.source %q: allowed values are %s", s, recipe.Allowed(recipe.RowSources))
+}
+
+// mustSource is sourceOf for a recipe that passed Validate.
+func mustSource(s recipe.RowSource) rowSource {
+	src, err := sourceOf(s)
+	if err != nil {
+		return positionSource{}
+	}
+	return src
 }

@@ -3,6 +3,8 @@ package recon
 import (
 	"context"
 	"fmt"
+
+	"spotloom/recon/recipe"
 )
 
 // evenSource is a head moving at a constant rows.speed_mm_s from the
@@ -26,3 +28,16 @@ func (evenSource) find(_ context.Context, rec rowsInput, p rowsParams, res *rows
 func (evenSource) channel(channels) int { return -1 }
 
 func (evenSource) needs() string { return "" }
+
+func (evenSource) readsTone() bool { return false }
+
+// fromTiming sets an automatic rows.speed_mm_s to one pitch per line, and
+// warns that it is assumed.
+func (evenSource) fromTiming(r *recipe.Recipe, t *timingResult, rateHz float64) []string {
+	if r.Rows.SpeedMMS != nil {
+		return nil
+	}
+	speed, w := automaticSpeed(t, *r, rateHz)
+	r.Rows.SpeedMMS = recipe.Float(speed)
+	return []string{w}
+}

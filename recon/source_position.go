@@ -1,6 +1,10 @@
 package recon
 
-import "context"
+import (
+	"context"
+
+	"spotloom/recon/recipe"
+)
 
 // positionSource is a DC level on the position channel (a potentiometer
 // or a linear encoder's analogue output), mapped to mm by
@@ -14,3 +18,7 @@ func (positionSource) find(ctx context.Context, rec rowsInput, p rowsParams, res
 func (positionSource) channel(ch channels) int { return ch.position }
 
 func (positionSource) needs() string { return "position" }
+
+func (positionSource) readsTone() bool { return false }
+
+func (positionSource) fromTiming(*recipe.Recipe, *timingResult, float64) []string { return nil }

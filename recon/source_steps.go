@@ -3,6 +3,8 @@ package recon
 import (
 	"context"
 	"fmt"
+
+	"spotloom/recon/recipe"
 )
 
 // stepsSource counts a stepper's step pulses on the steps channel: each
@@ -50,3 +52,7 @@ func (stepsSource) find(ctx context.Context, rec rowsInput, p rowsParams, res *r
 func (stepsSource) channel(ch channels) int { return ch.steps }
 
 func (stepsSource) needs() string { return "steps" }
+
+func (stepsSource) readsTone() bool { return false }
+
+func (stepsSource) fromTiming(*recipe.Recipe, *timingResult, float64) []string { return nil }

@@ -4,6 +4,8 @@ import (
 	"context"
 	"fmt"
 	"math"
+
+	"spotloom/recon/recipe"
 )
 
 // toneSource is the peak amplitude of a carrier tone on the position
@@ -24,6 +26,10 @@ func (toneSource) find(ctx context.Context, rec rowsInput, p rowsParams, res *ro
 func (toneSource) channel(ch channels) int { return ch.position }
 
 func (toneSource) needs() string { return "position" }
+
+func (toneSource) readsTone() bool { return true }
+
+func (toneSource) fromTiming(*recipe.Recipe, *timingResult, float64) []string { return nil }
 
 // minToneShare is the least share of a window's weight that must lie
 // outside the pulses for its block to get a tone amplitude of its own.

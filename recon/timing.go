@@ -445,7 +445,9 @@ type timingParams struct {
 	Hysteresis   *float64
 	PulsesPerRev int
 	Apertures    int
-	Sine         bool
+	// NoApertures is a sweep without a wheel (a resonant mirror): one
+	// index pulse per period, every line of the same aperture.
+	NoApertures bool
 }
 
 func noPulses(o OtsuResult, chName, unit string) error {
@@ -564,7 +566,7 @@ func edgePeriod(edges []float64, i int, gap bool) float64 {
 // onePerRev reports whether the index gives one pulse per revolution, the
 // lines then lying at equal fractions of it.
 func (p timingParams) onePerRev() bool {
-	return !(p.Sine || p.PulsesPerRev != 1 || p.Apertures == 1)
+	return !(p.NoApertures || p.PulsesPerRev != 1 || p.Apertures == 1)
 }
 
 // edgeLines appends the lines of index edge i (after repair) to lines; an
@@ -580,7 +582,7 @@ func (p timingParams) edgeLines(lines []lineTiming, edges []float64, repaired bo
 	}
 	if !p.onePerRev() {
 		per := p.Apertures
-		if p.Sine {
+		if p.NoApertures {
 			per = 1
 		}
 		return append(lines, lineTiming{edge: edges[i], period: edgePeriod(edges, i, gap), aperture: i % max(per, 1), repaired: repaired})
@@ -605,7 +607,7 @@ func (p timingParams) revolution(edges []float64, gapAfter []bool, i int) (float
 		return edgePeriod(edges, i, gapAfter[i]), !gapAfter[i] && i < len(edges)-1
 	}
 	per := p.Apertures
-	if p.Sine {
+	if p.NoApertures {
 		per = 1
 	}
 	if per <= 0 || i%per != 0 || i+per >= len(edges) {

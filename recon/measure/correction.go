@@ -37,7 +37,7 @@ func GridCorrection(r recipe.Recipe, g GridResult) (Correction, error) {
 	c := Correction{Recipe: r.Clone()}
 	sx, sy := g.ScaleX, g.ScaleY
 	switch r.Sweep.Law {
-	case "table":
+	case recipe.LawTable:
 		t := slices.Clone(r.Sweep.Table)
 		for i := range t {
 			t[i][1] /= sx
