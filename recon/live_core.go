@@ -116,7 +116,7 @@ func newLiveCore(r recipe.Recipe, layout LiveLayout) (*liveCore, error) {
 		return nil, err
 	}
 	c.tp = timingParams{Channel: c.ch.index, Rising: r.Timing.Edge != "falling", Threshold: r.Timing.Threshold, Hysteresis: r.Timing.Hysteresis,
-		PulsesPerRev: r.Timing.PulsesPerRev, Apertures: r.Sweep.Apertures, Sine: r.Sweep.Law == recipe.LawSine}
+		PulsesPerRev: r.Timing.PulsesPerRev, Apertures: r.Sweep.Apertures, NoApertures: !mustLaw(r.Sweep.Law).isWheel()}
 	c.trig = newTrigger(*r.Timing.Threshold, *r.Timing.Hysteresis, c.tp.Rising)
 	if c.law, err = lawOf(r.Sweep.Law); err != nil {
 		return nil, err
@@ -289,7 +289,7 @@ func (c *liveCore) revLookahead() int {
 	if c.tp.onePerRev() {
 		return 1
 	}
-	if c.tp.Sine {
+	if c.tp.NoApertures {
 		return 1
 	}
 	return max(c.tp.Apertures, 1)

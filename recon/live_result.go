@@ -132,7 +132,7 @@ func (c *liveCore) report(t *liveTail, total liveTotals, f *Frame, covered, gapR
 	if c.r.Rows.Source.ReadsPosition() {
 		rep.PositionLevels = []float64{t.lvLo, t.lvHi}
 	}
-	if t.revs.n > 0 && c.tp.Sine == false {
+	if t.revs.n > 0 && !c.tp.NoApertures {
 		rep.RPMMean = 60 * c.rate * float64(t.revs.n) / t.revs.sum
 		if t.revs.n > 1 {
 			m := t.revs.rpmSum / float64(t.revs.n)
