@@ -6,6 +6,7 @@ import (
 	"testing"
 	"time"
 
+	"spotloom/capture/live"
 	"spotloom/recon/measure"
 	"spotloom/recon/recipe"
 	"spotloom/sampledata"
@@ -78,4 +79,30 @@ func BenchmarkMeasureListOnNewFrame(b *testing.B) {
 		}
 	}
 	b.ReportMetric(float64(b.Elapsed().Microseconds())/1000/float64(b.N), "ms/frame")
+}
+
+// BenchmarkLiveWindowUpdate times one update of a live view on the UI
+// goroutine with an image of the demo's size: the meters, the automatic
+// tone, the view's tone mapping, the trace strip, the facts and the
+// controls, these once a second as in a live view. The window paints the view's raster afterwards, which the
+// headless driver leaves out. "core-%" is the share of one core the
+// updates take at the live rate (liveRate a second).
+func BenchmarkLiveWindowUpdate(b *testing.B) {
+	ws, _ := newTestWorkstation(b)
+	res, rec := ws.result, ws.rec
+	src, err := live.NewReplay(rec, 1) // never started: only its format is used
+	if err != nil {
+		b.Fatal(err)
+	}
+	run := ws.newLiveRun(src, "", "", ws.cur.Recipe)
+	ws.lv.run, ws.lv.toneFollows = run, true
+	ws.lv.bar.start("benchmark", len(rec.Channels))
+	st := liveStatus{frames: int64(rec.Frames()), rateHz: int(rec.SampleRateHz), peak: []float32{0.5, 0.25, 0.1}}
+	for i := 0; b.Loop(); i++ {
+		if i%liveRate == 0 {
+			ws.lv.fullAt = time.Time{} // a second has passed: every panel too
+		}
+		ws.showLive(run, rec, res, st)
+	}
+	b.ReportMetric(100*liveRate*b.Elapsed().Seconds()/float64(b.N), "core-%")
 }

@@ -70,6 +70,7 @@ type liveRun struct {
 // liveStatus is what the live bar shows.
 type liveStatus struct {
 	frames, committed     int64
+	total                 int64 // frames of a file replayed (0 when recording)
 	rateHz                int
 	peak                  []float32
 	overruns              int64
@@ -195,6 +196,9 @@ func (r *liveRun) deliver(peak []float32, frames int64, closed bool) {
 	st := liveStatus{frames: frames, committed: r.committed.Load(), rateHz: r.format.RateHz, peak: peak,
 		overruns: r.overruns.Load(), overrunFrames: r.overrunFrames.Load(), noImage: r.noImage,
 		writing: r.out != "", replay: r.replayed != nil, done: closed}
+	if r.replayed != nil {
+		st.total = int64(r.replayed.Frames())
+	}
 	r.mu.Unlock()
 	uiDo(func() {
 		r.inFlight.Store(false)

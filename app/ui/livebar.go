@@ -53,6 +53,7 @@ func (b *liveBar) object() fyne.CanvasObject { return b.box }
 // start shows the bar for a new live view of channels channels.
 func (b *liveBar) start(what string, channels int) {
 	b.what.SetText(what)
+	b.elapsed.SetText("00:00.0 of 00:00.0")
 	b.meters.RemoveAll()
 	for c := 0; c < channels; c++ {
 		b.meters.Add(newLevelMeter(c + 1))
@@ -70,7 +71,11 @@ func (b *liveBar) start(what string, channels int) {
 // show puts a status into the bar.
 func (b *liveBar) show(s liveStatus) {
 	secs := float64(s.frames) / float64(s.rateHz)
-	b.elapsed.SetText(clock(secs))
+	if s.total > 0 {
+		b.elapsed.SetText(clock(secs) + " of " + clock(float64(s.total)/float64(s.rateHz)))
+	} else {
+		b.elapsed.SetText(clock(secs))
+	}
 	for c, o := range b.meters.Objects {
 		if c < len(s.peak) {
 			o.(*levelMeter).set(s.peak[c])

@@ -22,7 +22,7 @@ type liveState struct {
 	run         *liveRun // nil when no live view runs
 	toneFollows bool     // the tone is fitted to each new image until the user sets it
 	autoTone    recon.Tone
-	recShown    time.Time // when the trace strip's capture was last renewed
+	fullAt      time.Time // when every panel was last brought up to date
 }
 
 // Live reports whether a live view (a recording or a replay) is running.
@@ -36,7 +36,6 @@ func (ws *Workstation) beginLive(run *liveRun, what string) {
 	ws.lv.run = run
 	ws.lv.toneFollows = true
 	ws.rec = snapshotRecording(run.rec)
-	ws.lv.recShown = time.Now()
 	ws.engine = liveEngine{r: run}
 	ws.sourcePath, ws.sourceName = "", what
 	ws.hist = newHistory()
@@ -87,35 +86,47 @@ func (ws *Workstation) closeLive() {
 	}
 }
 
-// showLive puts an update of run into the window.
+// showLive puts an update of run into the window. The image and the
+// facts change at every update; the panels that rescan the capture or
+// redraw many widgets (the controls, the trace strip, the measurements)
+// once a second, and at once when the settings or the frame changed.
 func (ws *Workstation) showLive(run *liveRun, rec *capture.Recording, res *Result, st liveStatus) {
 	if ws.lv.run != run {
 		return // stopped, or replaced by another capture
 	}
 	ws.lv.bar.show(st)
-	// The trace strip rescans its capture when it changes: renew it once a
-	// second, not at every image.
-	if time.Since(ws.lv.recShown) >= time.Second || st.done || ws.result == nil {
-		ws.rec, ws.lv.recShown = rec, time.Now()
+	if res == nil || len(res.Frames) == 0 {
+		if st.done {
+			ws.finishLive(run, st)
+		}
+		return
 	}
-	if res != nil && len(res.Frames) > 0 {
-		first := ws.result == nil
-		if ws.lv.toneFollows && !first && ws.cur.Tone != ws.lv.autoTone {
-			ws.lv.toneFollows = false // the user set the tone
-		}
-		if ws.lv.toneFollows && !first {
-			t := recon.AutoTone(res.Frames[0])
-			t.Invert = ws.cur.Tone.Invert
-			ws.cur.Tone, ws.good.Tone = t, t
-		}
+	first := ws.result == nil
+	if ws.lv.toneFollows && !first && ws.cur.Tone != ws.lv.autoTone {
+		ws.lv.toneFollows = false // the user set the tone
+	}
+	if ws.lv.toneFollows && !first {
+		t := recon.AutoTone(res.Frames[0])
+		t.Invert = ws.cur.Tone.Invert
+		ws.cur.Tone, ws.good.Tone = t, t
+	}
+	full := first || st.done || time.Since(ws.lv.fullAt) >= time.Second ||
+		len(res.Frames) != len(ws.result.Frames) || !sameRecipe(res.Recipe, ws.result.Recipe)
+	if full {
+		ws.rec, ws.lv.fullAt = rec, time.Now()
 		ws.applyResult(res, first)
-		ws.lv.autoTone = ws.cur.Tone
-		if first {
-			ws.good = ws.cur.clone()
-		}
-		if !ws.work.busy() {
-			ws.stage.SetText(fmt.Sprintf("%s: %d lines", ws.settled, res.Report.Lines))
-		}
+	} else {
+		ws.result = res
+		ws.frameIndex = min(ws.frameIndex, len(res.Frames)-1)
+		ws.view.SetFrame(res.Frames[ws.frameIndex], ws.cur.Tone)
+		ws.facts.show(res.Report, ws.rec)
+	}
+	ws.lv.autoTone = ws.cur.Tone
+	if first {
+		ws.good = ws.cur.clone()
+	}
+	if !ws.work.busy() {
+		ws.stage.SetText(fmt.Sprintf("%s: %d lines", ws.settled, res.Report.Lines))
 	}
 	if st.done {
 		ws.finishLive(run, st)

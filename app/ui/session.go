@@ -57,8 +57,8 @@ func DefaultSessionFile() string {
 // file that is synced and renamed, so a crash never leaves half a file.
 func (ws *Workstation) saveSession() {
 	path := ws.opts.SessionFile
-	if path == "" || ws.result == nil {
-		return
+	if path == "" || ws.result == nil || ws.Live() {
+		return // a live view is kept once it is a capture
 	}
 	s := savedSession{
 		Format: sessionFormat, Capture: ws.sourcePath, Recipe: ws.cur.Recipe.JSON(), Tone: ws.cur.Tone,
