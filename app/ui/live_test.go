@@ -203,6 +203,11 @@ func TestRecordLiveEqualsBatchBuildAndOpensTheFile(t *testing.T) {
 		t.Fatal("the recording is still on the live engine after the end")
 	}
 	sameFrames(t, "the opened recording against the batch build", ws.result.Frames[0], batch.Frames[0])
+	// The "device" came to its end without Stop: the window says so.
+	stopped := ws.Problem()
+	if !strings.HasPrefix(stopped, "The capture device stopped") {
+		t.Errorf("a device that ends by itself: problem %q, want it said", stopped)
+	}
 
 	// An ordinary capture now: a new delay rebuilds it.
 	before := ws.result.Frames[0]
@@ -210,7 +215,7 @@ func TestRecordLiveEqualsBatchBuildAndOpensTheFile(t *testing.T) {
 		ws.change("delay", func(rr *recipe.Recipe) { d := *ws.result.Recipe.Sweep.DelayDeg + 1.5; rr.Sweep.DelayDeg = &d })
 	})
 	ws.Wait()
-	if ws.result.Frames[0] == before || ws.Problem() != "" {
+	if ws.result.Frames[0] == before || ws.Problem() != stopped {
 		t.Errorf("the recording did not rebuild with a new delay: %s", ws.Problem())
 	}
 }

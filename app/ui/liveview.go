@@ -154,6 +154,9 @@ func (ws *Workstation) finishLive(run *liveRun, st liveStatus) {
 			title, try = "Cannot record", "choose another file name or folder, or another device, and press Record… again."
 		}
 		ws.showProblem(title, windowWords(run.recErr.Error())+".", try)
+	} else if run.out != "" && !run.stopping.Load() {
+		ws.showProblem("The capture device stopped", run.src.Name()+" stopped delivering samples (unplugged, or taken by the sound system) after "+clock(secs)+".",
+			"what it delivered until then is kept in "+run.name+" and opened now; check the device and press Record… again.")
 	}
 	if run.out != "" && !run.recorded {
 		ws.lv.bar.hide()
