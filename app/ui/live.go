@@ -24,7 +24,8 @@ const liveRate = 15
 
 // liveResolveS is how much of a live capture is taken, at first, to find
 // the automatic settings; when that is too little (no head movement yet,
-// too few lines) it is doubled and tried again while the capture goes on.
+// too few lines) it is tried again with half as much again, and at least
+// a second more, while the capture goes on.
 const liveResolveS = 2.0
 
 // liveRun is one live view: frames from a source go to disk through
@@ -65,6 +66,10 @@ type liveRun struct {
 	tryAt   float64 // seconds of capture at which to try to start the engine next
 	first   int     // frames the settings were resolved from
 	final   *Result // the last image, once the capture has ended
+
+	// On the UI goroutine: how long frames waited for their image.
+	latMax, latSum time.Duration
+	latN           int
 }
 
 // liveStatus is what the live bar shows.
@@ -77,6 +82,7 @@ type liveStatus struct {
 	overrunFrames         int64
 	noImage               string
 	writing, replay, done bool
+	arrived               time.Time // when the oldest frame new in this update arrived
 }
 
 // newLiveRun prepares a live view of src; out is the WAV to write ("" to
@@ -133,9 +139,9 @@ func (r *liveRun) engineLoop() {
 	for {
 		<-r.feed.wake
 		started := time.Now()
-		block, peak, frames, closed := r.feed.take()
+		block, peak, frames, closed, since := r.feed.takeSince()
 		r.consume(block, closed)
-		r.deliver(peak, frames, closed)
+		r.deliver(peak, frames, closed, since)
 		if closed {
 			return
 		}
@@ -169,7 +175,7 @@ func (r *liveRun) consume(block []float32, closed bool) {
 	}
 	if err != nil {
 		r.noImage = fmt.Sprintf("no image from the first %.1f s yet: %s", secs, windowWords(err.Error()))
-		r.tryAt = 2 * secs
+		r.tryAt = secs + max(1, secs/2)
 		return
 	}
 	r.builder, r.noImage, r.first = b, "", r.rec.Frames()
@@ -178,7 +184,7 @@ func (r *liveRun) consume(block []float32, closed bool) {
 // deliver hands the image and the meters to the window, unless the last
 // update is still on its way (the next one will be newer); the last one
 // always goes.
-func (r *liveRun) deliver(peak []float32, frames int64, closed bool) {
+func (r *liveRun) deliver(peak []float32, frames int64, closed bool, since time.Time) {
 	if !closed && !r.inFlight.CompareAndSwap(false, true) {
 		return
 	}
@@ -195,7 +201,7 @@ func (r *liveRun) deliver(peak []float32, frames int64, closed bool) {
 	rec := snapshotRecording(r.rec)
 	st := liveStatus{frames: frames, committed: r.committed.Load(), rateHz: r.format.RateHz, peak: peak,
 		overruns: r.overruns.Load(), overrunFrames: r.overrunFrames.Load(), noImage: r.noImage,
-		writing: r.out != "", replay: r.replayed != nil, done: closed}
+		writing: r.out != "", replay: r.replayed != nil, done: closed, arrived: since}
 	if r.replayed != nil {
 		st.total = int64(r.replayed.Frames())
 	}

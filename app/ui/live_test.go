@@ -58,7 +58,7 @@ func liveCapture(t *testing.T) (*capture.Recording, string, recipe.Recipe) {
 
 // newLiveWorkstation is a headless window whose only "sound card" replays
 // rec at speed times real time.
-func newLiveWorkstation(t *testing.T, rec *capture.Recording, speed float64) *Workstation {
+func newLiveWorkstation(t testing.TB, rec *capture.Recording, speed float64) *Workstation {
 	t.Helper()
 	a := test.NewTempApp(t)
 	w := a.NewWindow("Spotloom live test")

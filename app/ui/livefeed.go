@@ -3,6 +3,7 @@ package ui
 import (
 	"math"
 	"sync"
+	"time"
 )
 
 // liveFeed carries frames from where they arrive (the recorder's tap, or a
@@ -17,7 +18,8 @@ type liveFeed struct {
 	buf      []float32
 	spare    []float32 // the buffer handed out last, reused
 	peak     []float32
-	frames   int64 // frames pushed so far
+	frames   int64     // frames pushed so far
+	since    time.Time // when the oldest frame not yet taken arrived
 	closed   bool
 	wake     chan struct{} // signalled (without blocking) on push and close
 }
@@ -31,6 +33,9 @@ func (f *liveFeed) push(interleaved []float32) {
 	n := len(interleaved) - len(interleaved)%f.channels
 	f.mu.Lock()
 	if !f.closed {
+		if len(f.buf) == 0 {
+			f.since = time.Now()
+		}
 		f.buf = append(f.buf, interleaved[:n]...)
 		f.frames += int64(n / f.channels)
 		for i, v := range interleaved[:n] {
@@ -63,11 +68,18 @@ func (f *liveFeed) close() {
 // next take), the peaks since then, the frames pushed in all and whether
 // the feed is closed (with nothing left after these frames).
 func (f *liveFeed) take() (block, peak []float32, frames int64, closed bool) {
+	block, peak, frames, closed, _ = f.takeSince()
+	return block, peak, frames, closed
+}
+
+// takeSince is take, and when the oldest of the frames arrived.
+func (f *liveFeed) takeSince() (block, peak []float32, frames int64, closed bool, since time.Time) {
 	f.mu.Lock()
 	defer f.mu.Unlock()
+	since = f.since
 	block = f.buf
 	f.buf, f.spare = f.spare[:0], block
 	peak = append([]float32(nil), f.peak...)
 	clear(f.peak)
-	return block, peak, f.frames, f.closed
+	return block, peak, f.frames, f.closed, since
 }

@@ -128,6 +128,10 @@ func (ws *Workstation) showLive(run *liveRun, rec *capture.Recording, res *Resul
 	if !ws.work.busy() {
 		ws.stage.SetText(fmt.Sprintf("%s: %d lines", ws.settled, res.Report.Lines))
 	}
+	if !st.arrived.IsZero() {
+		lat := time.Since(st.arrived)
+		run.latMax, run.latSum, run.latN = max(run.latMax, lat), run.latSum+lat, run.latN+1
+	}
 	if st.done {
 		ws.finishLive(run, st)
 	}

@@ -177,10 +177,15 @@ func (w *writer) tap(interleaved []float32, zero bool) {
 	if w.opts.Tap == nil || len(interleaved) == 0 {
 		return
 	}
-	w.tapped = append(w.tapped[:0], interleaved...)
-	if !zero {
-		w.stream.ReadBack(w.tapped, w.tapped)
+	if zero {
+		w.opts.Tap(interleaved)
+		return
 	}
+	if cap(w.tapped) < len(interleaved) {
+		w.tapped = make([]float32, len(interleaved))
+	}
+	w.tapped = w.tapped[:len(interleaved)]
+	w.stream.ReadBack(w.tapped, interleaved)
 	w.opts.Tap(w.tapped)
 }
 
