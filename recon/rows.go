@@ -43,7 +43,7 @@ func SavitzkyGolay(half, order int, at float64) ([]float64, error) {
 	}
 	var c mat.VecDense
 	if err := c.SolveVec(&ata, e); err != nil {
-		return nil, fmt.Errorf("Savitzky-Golay: %v", err)
+		return nil, fmt.Errorf("Savitzky-Golay: %w", err)
 	}
 	var w mat.VecDense
 	w.MulVec(a, &c)
@@ -348,7 +348,7 @@ func toneAmplitude(rec rowsInput, carrierHz *float64) ([]float64, int, float64, 
 		var err error
 		fc, err = strongestTone(x, rate)
 		if err != nil {
-			return nil, 0, 0, fmt.Errorf("position channel %s: %v", rec.name, err)
+			return nil, 0, 0, fmt.Errorf("position channel %s: %w", rec.name, err)
 		}
 	}
 	if err := checkCarrier(fc, rate, len(x)); err != nil {
@@ -361,7 +361,7 @@ func toneAmplitude(rec rowsInput, carrierHz *float64) ([]float64, int, float64, 
 	if rec.pulses != nil {
 		var err error
 		if out, err = maskedToneBlocks(x, blockLen, d.hann, d.w, rec.pulses); err != nil {
-			return nil, 0, 0, fmt.Errorf("position channel %s: %v", rec.name, err)
+			return nil, 0, 0, fmt.Errorf("position channel %s: %w", rec.name, err)
 		}
 	} else {
 		out = make([]float64, nb)

@@ -106,7 +106,7 @@ type channels struct{ detector, index, position, steps int }
 func (s *Session) lookup(key string, ref recipe.ChannelRef) (int, error) {
 	i, err := s.rec.Lookup(string(ref))
 	if err != nil {
-		return -1, fmt.Errorf("channels.%s: %v", key, err)
+		return -1, fmt.Errorf("channels.%s: %w", key, err)
 	}
 	return i, nil
 }
