@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"slices"
 
 	"spotloom/capture"
 	"spotloom/recon/recipe"
@@ -56,6 +57,7 @@ type liveCore struct {
 	sinePer   float64
 	canvas    liveCanvas
 	committed liveTotals
+	scratch   []float64 // Result's accumulators
 }
 
 // liveRevs adds up the timed revolutions for the report.
@@ -188,14 +190,10 @@ func (c *liveCore) append(x []float32) error {
 	return c.advance(k)
 }
 
-// grow extends s by k elements (their values to be written).
+// grow extends s by k elements (their values to be written), its
+// capacity growing as append's does.
 func grow(s []float32, k int) []float32 {
-	if cap(s)-len(s) < k {
-		t := make([]float32, len(s), 2*len(s)+k)
-		copy(t, s)
-		s = t
-	}
-	return s[:len(s)+k]
+	return slices.Grow(s, k)[:len(s)+k]
 }
 
 // replay feeds c everything old was given, a second at a time.

@@ -95,7 +95,10 @@ func (c *liveCore) result() *Result {
 		return nil
 	}
 	top, _ := rowLattice(total.yHi, total.yLo, p)
-	acc := make([]float64, 2*g.cols*g.rows)
+	// The accumulators are scratch, kept between calls.
+	acc := slices.Grow(c.scratch[:0], 2*g.cols*g.rows)[:2*g.cols*g.rows]
+	clear(acc)
+	c.scratch = acc
 	if v := c.canvas; v.g != nil {
 		// Canvas row r is lattice row v.top−r, frame row int(top)−(v.top−r).
 		shift := v.top - int(top)

@@ -1,0 +1,168 @@
+package recon
+
+import (
+	"context"
+	"fmt"
+	"runtime"
+	"sync"
+	"testing"
+
+	"spotloom/capture"
+	"spotloom/recon/recipe"
+	"spotloom/sampledata"
+)
+
+// The live path's budget (issue 13, §5) at 192 kHz × 4 channels: the
+// demo rig's wheel at 1800 rev/min (180 lines/s, so the first thousand
+// lines are in after under 6 s) and a head pushed back and forth by hand,
+// with a fourth channel the recipe does not read, as a four-input card
+// records it.
+const (
+	benchRate     = 192000
+	benchSeconds  = 75
+	benchChannels = 4
+	benchBlock    = benchRate / 100 // 10 ms, as a sound card delivers
+)
+
+var benchLive struct {
+	once sync.Once
+	in   []float32 // interleaved
+	r    recipe.Recipe
+	err  error
+}
+
+// liveBenchInput simulates the capture once and resolves its recipe from
+// the first 3 s.
+func liveBenchInput(b *testing.B) ([]float32, recipe.Recipe) {
+	benchLive.once.Do(func() {
+		rig := sampledata.DemoRig()
+		rig.Wheel.RevPerMin = 1800
+		rig.Motion.StartRestS = 1
+		rig.Motion.StrokeCount = 6
+		rig.Motion.StrokeS = 12
+		rig.Motion.PauseCount = 0
+		rec, _, err := sampledata.Simulate(context.Background(), rig, "parcel", sampledata.SimOptions{Seed: 3, DurationS: benchSeconds, SampleRateHz: benchRate})
+		if err != nil {
+			benchLive.err = err
+			return
+		}
+		first := &capture.Recording{SampleRateHz: rec.SampleRateHz}
+		for _, c := range rec.Channels {
+			first.Channels = append(first.Channels, capture.Channel{Name: c.Name, Unit: c.Unit, Samples: c.Samples[:3*benchRate]})
+		}
+		if benchLive.r, err = ResolveLive(context.Background(), first, rig.Recipe()); err != nil {
+			benchLive.err = err
+			return
+		}
+		n := rec.Frames()
+		in := make([]float32, n*benchChannels)
+		for i := 0; i < n; i++ {
+			for c := range rec.Channels {
+				in[i*benchChannels+c] = rec.Channels[c].Samples[i]
+			}
+			in[i*benchChannels+3] = rec.Channels[0].Samples[n-1-i] // something to carry
+		}
+		benchLive.in = in
+	})
+	if benchLive.err != nil {
+		b.Fatal(benchLive.err)
+	}
+	return benchLive.in, benchLive.r
+}
+
+func benchLayout() LiveLayout {
+	l := LiveLayout{SampleRateHz: benchRate}
+	for _, name := range []string{"detector", "index", "position", "spare"} {
+		l.Channels = append(l.Channels, capture.Channel{Name: name, Unit: capture.UnitFullScale})
+	}
+	return l
+}
+
+// feed appends seconds [from, to) of in in 10 ms blocks.
+func feed(b *testing.B, l *Live, in []float32, from, to int) {
+	for at := from * benchRate; at < to*benchRate; at += benchBlock {
+		if err := l.Append(in[at*benchChannels : (at+benchBlock)*benchChannels]); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// liveAt is a Live that has taken the first seconds of in.
+func liveAt(b *testing.B, in []float32, r recipe.Recipe, seconds int) *Live {
+	l, err := NewLive(r, benchLayout())
+	if err != nil {
+		b.Fatal(err)
+	}
+	feed(b, l, in, 0, seconds)
+	return l
+}
+
+// BenchmarkLiveAppend is the steady-state cost of Live.Append for one
+// second of capture (192 kHz × 4 channels in 10 ms blocks) after 10 s and
+// after 60 s of history: "core-%" is the share of one core it takes, the
+// same for both when the cost per second does not grow with the recording.
+// Target (with the ring, the WAV writer and the image update): under 10 %.
+func BenchmarkLiveAppend(b *testing.B) {
+	in, r := liveBenchInput(b)
+	for _, history := range []int{10, 60} {
+		b.Run(fmt.Sprintf("history=%ds", history), func(b *testing.B) {
+			l := liveAt(b, in, r, history)
+			at := history
+			b.SetBytes(benchRate * benchChannels * 4)
+			b.ResetTimer()
+			for i := 0; i < b.N; i++ {
+				if at+1 > benchSeconds || at >= history+5 {
+					// Stay near the history: start again from it.
+					b.StopTimer()
+					l, at = liveAt(b, in, r, history), history
+					b.StartTimer()
+				}
+				feed(b, l, in, at, at+1)
+				at++
+			}
+			b.ReportMetric(100*b.Elapsed().Seconds()/float64(b.N), "core-%")
+		})
+	}
+}
+
+// BenchmarkLiveResult is the cost of one Live.Result (the frame so far,
+// normalised, and its report) after 10 s and 60 s of capture: at a screen
+// rate of 10 updates a second, "core-%@10Hz" is the share of one core.
+func BenchmarkLiveResult(b *testing.B) {
+	in, r := liveBenchInput(b)
+	for _, history := range []int{10, 60} {
+		b.Run(fmt.Sprintf("history=%ds", history), func(b *testing.B) {
+			l := liveAt(b, in, r, history)
+			b.ReportAllocs()
+			b.ResetTimer()
+			for i := 0; i < b.N; i++ {
+				if l.Result() == nil {
+					b.Fatal("no result")
+				}
+			}
+			b.ReportMetric(10*100*b.Elapsed().Seconds()/float64(b.N), "core-%@10Hz")
+		})
+	}
+}
+
+// BenchmarkLiveMemory is the memory a Live keeps per second of capture
+// between 10 s and 60 s (the samples of every channel, 3 MB/s at this
+// rate, and what the stages keep beside them), in "kept-B/s".
+func BenchmarkLiveMemory(b *testing.B) {
+	in, r := liveBenchInput(b)
+	for i := 0; i < b.N; i++ {
+		l := liveAt(b, in, r, 10)
+		before := heapInUse()
+		feed(b, l, in, 10, 60)
+		after := heapInUse()
+		runtime.KeepAlive(l)
+		b.ReportMetric(float64(after-before)/50, "kept-B/s")
+	}
+}
+
+func heapInUse() int64 {
+	runtime.GC()
+	var m runtime.MemStats
+	runtime.ReadMemStats(&m)
+	return int64(m.HeapAlloc)
+}
