@@ -245,15 +245,16 @@ func (ws *Workstation) stillShown() string {
 
 func (ws *Workstation) finishOpen(o *opened) {
 	ws.dropLive()
-	ws.rec, ws.engine = o.rec, o.engine
-	ws.sourcePath, ws.sourceName = o.path, o.name
-	ws.hist = newHistory()
-	ws.cur = settings{Recipe: cloneRecipe(o.recipe), Measurements: measure.CloneList(o.measurements)}
-	ws.frameIndex = 0
-	ws.result = nil
+	// A new capture is a new state: nothing of the last one's settings,
+	// build or history is kept.
+	ws.state = state{
+		rec: o.rec, engine: o.engine, sourcePath: o.path, sourceName: o.name, hist: newHistory(),
+		cur: settings{Recipe: cloneRecipe(o.recipe), Measurements: measure.CloneList(o.measurements)},
+	}
 	ws.view.Reset()
 	resume := ws.resume
 	ws.resume = nil
+	ws.source.showCapture(o.rec, o.path, o.note)
 	ws.applyResult(o.result, true)
 	ws.good = ws.cur.clone()
 	ws.clean = ws.cur.clone()
@@ -263,10 +264,8 @@ func (ws *Workstation) finishOpen(o *opened) {
 		ws.cur.Tone, ws.good.Tone = resume.Tone, resume.Tone
 		ws.cur.Measurements = measure.CloneList(resume.Measurements)
 		ws.clean = settings{}
-		ws.view.SetTone(ws.cur.Tone)
 		ws.view.setPlace(resume.View)
 	}
-	ws.source.showCapture(o.rec, o.path, o.note)
 	ws.render()
 	if o.path != "" {
 		ws.addRecent(o.path)
@@ -367,10 +366,7 @@ func (ws *Workstation) applyResult(res *Result, first bool) {
 	} else if ws.frameIndex >= len(res.Frames) {
 		ws.frameIndex = len(res.Frames) - 1
 	}
-	var frame *recon.Frame
-	if len(res.Frames) > 0 {
-		frame = res.Frames[ws.frameIndex]
-	}
+	frame := ws.shownFrame()
 	refit := first || ws.controls.autoEachBuild() || res.Recipe.Signal.Invert != ws.tonedInvert
 	if refit && frame != nil {
 		shownInverted := ws.cur.Tone.Invert
@@ -381,14 +377,30 @@ func (ws *Workstation) applyResult(res *Result, first bool) {
 		ws.good.Tone = ws.cur.Tone
 	}
 	ws.tonedInvert = res.Recipe.Signal.Invert
+	ws.render()
+}
+
+// shownFrame is the frame of the build shown that the view shows, or nil.
+func (ws *Workstation) shownFrame() *recon.Frame {
+	if ws.result == nil || ws.frameIndex >= len(ws.result.Frames) {
+		return nil
+	}
+	return ws.result.Frames[ws.frameIndex]
+}
+
+// renderBuild puts the build and the frame shown into the image, the
+// trace strip, the facts and the measurements.
+func (ws *Workstation) renderBuild(frame *recon.Frame) {
+	res := ws.result
 	ws.view.SetFrame(frame, ws.cur.Tone)
 	ws.showZoom(ws.view.Zoom())
-	det, idx, pos := ws.roleChannels(res.Recipe)
-	ws.strip.SetData(ws.rec, det, idx, pos, res.Lines, res.Report.Threshold)
-	ws.showLineNumber()
-	ws.facts.show(res.Report, ws.rec)
+	if res != ws.drawn.result {
+		det, idx, pos := ws.roleChannels(res.Recipe)
+		ws.strip.SetData(ws.rec, det, idx, pos, res.Lines, res.Report.Threshold)
+		ws.showLineNumber()
+		ws.facts.show(res.Report, ws.rec)
+	}
 	ws.measures.show(frame)
-	ws.render()
 	// The pointer has not moved but the frame under it has.
 	if p, ok := ws.view.Hover(); ok {
 		ws.pointerMoved(p)
@@ -407,9 +419,17 @@ func (ws *Workstation) shown() shown {
 }
 
 // render is the one step that puts the window's state into its panels:
-// the controls, the channel roles, undo, the title.
+// the build and frame shown (image, traces, facts, measurements) when they
+// changed, the tone when it changed, and always the controls, the channel
+// roles, the frame controls, undo and the title.
 func (ws *Workstation) render() {
 	if ws.result != nil {
+		if frame := ws.shownFrame(); ws.result != ws.drawn.result || frame != ws.view.Frame() {
+			ws.renderBuild(frame)
+		} else if ws.cur.Tone != ws.drawn.tone {
+			ws.view.SetTone(ws.cur.Tone)
+		}
+		ws.drawn = drawn{result: ws.result, tone: ws.cur.Tone}
 		ws.controls.show(ws.shown())
 		ws.source.showRoles(ws.cur.Recipe)
 	}
@@ -471,7 +491,6 @@ func (ws *Workstation) edit(control string, f func(*settings) bool) {
 	ws.cur = next
 	if sameRecipe(next.Recipe, before.Recipe) {
 		ws.good.Tone = next.Tone
-		ws.view.SetTone(next.Tone)
 		ws.render()
 	} else {
 		ws.updateUndo()
@@ -519,7 +538,6 @@ func (ws *Workstation) restore(s settings, ok bool) {
 	}
 	recipeChanged := !sameRecipe(s.Recipe, ws.cur.Recipe)
 	ws.cur = s.clone()
-	ws.view.SetTone(ws.cur.Tone)
 	if recipeChanged {
 		ws.rebuild("The restored settings")
 	} else {

@@ -19,6 +19,7 @@ import (
 
 	"spotloom/capture"
 	"spotloom/capture/live"
+	"spotloom/recon"
 	"spotloom/recon/recipe"
 )
 
@@ -53,24 +54,16 @@ type Workstation struct {
 	opts Options
 	work *worker
 
-	// State of the capture shown.
-	rec         *capture.Recording
-	engine      Engine
-	sourcePath  string // "" for the built-in demo
-	sourceName  string
-	cur         settings // what the controls show
-	good        settings // what the image was built with
-	result      *Result
-	frameIndex  int
-	hist        *history
+	// The state of the capture shown; render puts it into the panels.
+	state
+	drawn drawn // what render last put in
+
 	followLine  bool // the trace strip follows the pointer
 	problem     string
 	buildSeq    int
 	lastBuild   time.Duration
-	afterBuild  string   // a note to show with the next finished build
-	settled     string   // what the status line said after the last open or build
-	clean       settings // the settings as opened or last saved
-	tonedInvert bool     // the detector polarity the tone was fitted for
+	afterBuild  string // a note to show with the next finished build
+	settled     string // what the status line said after the last open or build
 	resume      *savedSession
 	sessionNote string
 	saveTimer   *time.Timer
@@ -113,6 +106,31 @@ type Workstation struct {
 	lv          liveState       // a recording or replay forming its image
 }
 
+// state is what the window shows: the capture, the settings being tuned
+// and the build they made. It belongs to the UI goroutine; every change of
+// it ends in render.
+type state struct {
+	rec         *capture.Recording
+	engine      Engine
+	sourcePath  string // "" for the built-in demo
+	sourceName  string
+	cur         settings // what the controls show
+	good        settings // what the image was built with
+	clean       settings // the settings as opened or last saved
+	result      *Result
+	frameIndex  int // the frame of result shown
+	hist        *history
+	tonedInvert bool // the detector polarity the tone was fitted for
+}
+
+// drawn is what render last put into the panels, so it puts in again only
+// what changed: a build's image, traces, facts and measurements cost far
+// more than the controls.
+type drawn struct {
+	result *Result
+	tone   recon.Tone
+}
+
 // relayout lays the side panels out again after their texts changed
 // height (wrapped labels, a new number of aperture controls).
 func (ws *Workstation) relayout() {
@@ -124,7 +142,7 @@ func (ws *Workstation) relayout() {
 
 // New builds the window's content in win. Call OpenDemo or OpenFile next.
 func New(a fyne.App, win fyne.Window, opts Options) *Workstation {
-	ws := &Workstation{app: a, win: win, opts: opts, hist: newHistory(), followLine: true}
+	ws := &Workstation{app: a, win: win, opts: opts, state: state{hist: newHistory()}, followLine: true}
 	ws.work = newWorker(ws.reportProgress, uiDo)
 	ws.work.settled = ws.settledWork
 	ws.build()
@@ -692,9 +710,7 @@ func (ws *Workstation) showFrame(i int) {
 	}
 	i = min(max(i, 0), len(ws.result.Frames)-1)
 	ws.frameIndex = i
-	ws.view.SetFrame(ws.result.Frames[i], ws.cur.Tone)
-	ws.measures.show(ws.result.Frames[i])
-	ws.showFrameControls()
+	ws.render()
 }
 
 func (ws *Workstation) showFrameControls() {
