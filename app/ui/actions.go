@@ -349,7 +349,7 @@ func (ws *Workstation) finishBuild(r recipe.Recipe, res *Result, err error, reas
 func (ws *Workstation) restoreGood() {
 	good := ws.good.clone()
 	good.Measurements = ws.cur.Measurements
-	if len(ws.hist.undo) > 0 && sameSettings(ws.hist.undo[len(ws.hist.undo)-1], good) {
+	if last, ok := ws.hist.newest(); ok && sameSettings(last, good) {
 		ws.hist.dropLast()
 	}
 	ws.cur = good

@@ -46,14 +46,15 @@ func sameSettings(a, b settings) bool {
 }
 
 // history keeps undo and redo stacks of settings. A drag of a slider is
-// one step: the step is recorded when the drag starts and the changes
-// until it ends (Fyne's drag end) merge into it.
+// one step, recorded when the drag ends (Fyne's drag end): its first change
+// keeps the settings from before the drag, and the changes until it ends
+// add nothing.
 type history struct {
 	undo, redo []settings
-	// gesture is the control being dragged ("" when none) and stepped
-	// whether its step was already recorded.
+	// gesture is the control being dragged ("" when none) and pending the
+	// settings before its first change (nil until it changes).
 	gesture string
-	stepped bool
+	pending *settings
 	limit   int
 }
 
@@ -61,59 +62,86 @@ func newHistory() *history {
 	return &history{limit: 200}
 }
 
-// begin and end bracket a drag of control.
-func (h *history) begin(control string) { h.gesture, h.stepped = control, false }
-func (h *history) end()                 { h.gesture, h.stepped = "", false }
-
-// record notes that control is about to change the settings from before.
-// Changes during one drag of a control merge into one step. It returns
-// true when a new step was pushed.
-func (h *history) record(control string, before settings) bool {
-	h.redo = nil
-	if control != "" && control == h.gesture {
-		if h.stepped && len(h.undo) > 0 {
-			return false
-		}
-		h.stepped = true
+// begin and end bracket a drag of control; end records its step.
+func (h *history) begin(control string) { h.end(); h.gesture = control }
+func (h *history) end() {
+	if h.pending != nil {
+		h.push(*h.pending)
 	}
-	h.undo = append(h.undo, before.clone())
+	h.gesture, h.pending = "", nil
+}
+
+func (h *history) push(before settings) {
+	h.undo = append(h.undo, before)
 	if len(h.undo) > h.limit {
 		h.undo = h.undo[len(h.undo)-h.limit:]
 	}
+}
+
+// record notes that control is about to change the settings from before.
+// A change outside a drag is a step at once; the first change of a drag
+// is kept for the step its end records, and the others merge into it. It
+// returns true when the change starts a step.
+func (h *history) record(control string, before settings) bool {
+	h.redo = nil
+	if control != "" && control == h.gesture {
+		if h.pending != nil {
+			return false
+		}
+		b := before.clone()
+		h.pending = &b
+		return true
+	}
+	h.push(before.clone())
 	return true
 }
 
-// dropLast removes the newest undo step (its change was refused).
+// newest is the settings the newest step goes back to: a drag's that has
+// not ended, else the top of the undo stack.
+func (h *history) newest() (settings, bool) {
+	if h.pending != nil {
+		return *h.pending, true
+	}
+	if len(h.undo) == 0 {
+		return settings{}, false
+	}
+	return h.undo[len(h.undo)-1], true
+}
+
+// dropLast removes the newest step (its change was refused).
 func (h *history) dropLast() {
+	if h.pending != nil {
+		h.pending = nil
+		return
+	}
 	if len(h.undo) > 0 {
 		h.undo = h.undo[:len(h.undo)-1]
 	}
-	h.stepped = false
 }
 
 // back returns the settings to restore for undo, given the current ones.
 func (h *history) back(current settings) (settings, bool) {
+	h.end() // a drag under way is a step of its own
 	if len(h.undo) == 0 {
 		return current, false
 	}
 	prev := h.undo[len(h.undo)-1]
 	h.undo = h.undo[:len(h.undo)-1]
 	h.redo = append(h.redo, current.clone())
-	h.end()
 	return prev, true
 }
 
 // forward returns the settings to restore for redo.
 func (h *history) forward(current settings) (settings, bool) {
+	h.end()
 	if len(h.redo) == 0 {
 		return current, false
 	}
 	next := h.redo[len(h.redo)-1]
 	h.redo = h.redo[:len(h.redo)-1]
 	h.undo = append(h.undo, current.clone())
-	h.end()
 	return next, true
 }
 
-func (h *history) canUndo() bool { return len(h.undo) > 0 }
+func (h *history) canUndo() bool { return len(h.undo) > 0 || h.pending != nil }
 func (h *history) canRedo() bool { return len(h.redo) > 0 }

@@ -129,7 +129,13 @@ func TestHistoryStepsEndWithTheDrag(t *testing.T) {
 	h.begin("level")
 	h.record("level", s(1)) // 1 → 2
 	h.record("level", s(2)) // 2 → 3, same drag, even much later
+	if len(h.undo) != 0 || !h.canUndo() {
+		t.Errorf("during the drag %d steps are recorded (undo possible: %v), want none until it ends, with undo possible", len(h.undo), h.canUndo())
+	}
 	h.end()
+	if len(h.undo) != 1 || h.undo[0].Tone.Level != 1 {
+		t.Fatalf("the drag's end recorded %v, want one step back to level 1", h.undo)
+	}
 	h.begin("level")
 	h.record("level", s(3)) // a second drag: a new step
 	h.end()
