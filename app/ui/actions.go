@@ -412,8 +412,20 @@ func (ws *Workstation) renderBuild(frame *recon.Frame) {
 // shown is what the controls show now.
 func (ws *Workstation) shown() shown {
 	v := shown{s: ws.cur, res: ws.result, rec: ws.rec, frame: ws.view.Frame()}
+	if v.frame != nil {
+		// A scan of the whole frame: once per frame.
+		if m := &ws.drawn.frameRange; m.frame != v.frame {
+			m.frame = v.frame
+			m.span[0], m.span[1] = coveredRange(v.frame)
+		}
+		v.frameRange = ws.drawn.frameRange.span
+	}
 	if _, idx, _ := ws.roleChannels(ws.result.Recipe); idx >= 0 && ws.rec != nil {
-		v.indexSpan = channelRange(ws.rec, idx)
+		// A scan of the whole channel: once per capture and channel.
+		if m := &ws.drawn.indexSpan; m.rec != ws.rec || m.ch != idx {
+			*m = channelSpan{rec: ws.rec, ch: idx, span: channelRange(ws.rec, idx)}
+		}
+		v.indexSpan = ws.drawn.indexSpan.span
 	}
 	return v
 }
@@ -429,15 +441,17 @@ func (ws *Workstation) render() {
 		} else if ws.cur.Tone != ws.drawn.tone {
 			ws.view.SetTone(ws.cur.Tone)
 		}
-		ws.drawn = drawn{result: ws.result, tone: ws.cur.Tone}
-		ws.controls.show(ws.shown())
+		newCapture := ws.rec != ws.drawn.rec
+		ws.drawn.result, ws.drawn.tone, ws.drawn.rec = ws.result, ws.cur.Tone, ws.rec
+		if ws.controls.show(ws.shown()) || newCapture {
+			ws.relayout()
+		}
 		ws.source.showRoles(ws.cur.Recipe)
 	}
 	ws.showFrameControls()
 	ws.showMeasurements()
 	ws.updateUndo()
 	ws.setTitle()
-	ws.relayout()
 }
 
 // roleChannels returns the channel numbers of the detector, index and
@@ -625,7 +639,9 @@ var progressGate struct {
 func (ws *Workstation) reportProgress(stage string, fraction float64) {
 	progressGate.Lock()
 	now := time.Now()
-	if fraction > 0 && fraction < 1 && now.Sub(progressGate.last) < 50*time.Millisecond {
+	// A stage's start and end too: a build of a few tens of ms would
+	// otherwise hand a dozen status lines to the UI goroutine, none seen.
+	if now.Sub(progressGate.last) < 50*time.Millisecond {
 		progressGate.Unlock()
 		return
 	}

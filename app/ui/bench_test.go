@@ -8,6 +8,9 @@ import (
 	"testing"
 	"time"
 
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/test"
+
 	"spotloom/capture"
 	"spotloom/capture/live"
 	"spotloom/recon/measure"
@@ -41,21 +44,95 @@ func BenchmarkDelayChange(b *testing.B) {
 	b.ReportMetric(float64(b.Elapsed().Milliseconds())/float64(b.N), "ms/change")
 }
 
-// BenchmarkDelayChangeInWindow times the whole way from typing a delay to
-// the new image in the view: change, build off the UI goroutine, hand-back,
-// tone mapping, trace strip and facts.
-func BenchmarkDelayChangeInWindow(b *testing.B) {
-	ws, _ := newTestWorkstation(b)
-	d0 := ws.result.Report.DelayDeg
+// timedEngine counts the builds of the engine it wraps and sums their
+// time, so a benchmark can tell the window's own share of a change.
+type timedEngine struct {
+	Engine
+	builds int
+	inside time.Duration
+}
+
+func (e *timedEngine) Build(ctx context.Context, r recipe.Recipe, progress func(string, float64)) (*Result, error) {
 	start := time.Now()
+	res, err := e.Engine.Build(ctx, r, progress)
+	e.builds++
+	e.inside += time.Since(start)
+	return res, err
+}
+
+// benchChange times the whole way from a change typed into a control to
+// the new image in the view, headless: the change, the build off the UI
+// goroutine, the hand-back and render (image, trace strip, facts,
+// controls). It reports the time per change, the build's share and the
+// window's (the rest), and the builds per change, which must be one.
+func benchChange(b *testing.B, change func(ws *Workstation, i int)) {
+	a := test.NewTempApp(b)
+	a.Settings().SetTheme(Theme())
+	w := a.NewWindow("Spotloom bench")
+	timed := &timedEngine{}
+	ws := New(a, w, Options{NewEngine: func(rec *capture.Recording) Engine {
+		timed.Engine = NewSessionEngine(rec)
+		return timed
+	}})
+	w.Resize(fyne.NewSize(1366, 768))
+	ws.OpenDemo()
+	ws.Wait()
+	if ws.result == nil {
+		b.Fatalf("the demo did not build: %s", ws.Problem())
+	}
+	// The time spent on the UI goroutine: the change itself and the
+	// hand-over of its build (render).
+	var ui time.Duration
+	deliver := ws.work.deliver
+	ws.work.deliver = func(f func()) {
+		deliver(func() {
+			start := time.Now()
+			f()
+			ui += time.Since(start)
+		})
+	}
+	builds, inside := timed.builds, timed.inside
+	shown := ws.view.Frame()
 	for i := 0; b.Loop(); i++ {
-		ws.controls.number(ctlDelay).typed(fmt.Sprintf("%.3f", d0+0.25*float64(i%2+1)))
+		start := time.Now()
+		change(ws, i)
+		ui += time.Since(start)
 		ws.Wait()
 		if ws.Problem() != "" {
 			b.Fatal(ws.Problem())
 		}
+		if f := ws.view.Frame(); f == shown {
+			b.Fatal("the view still shows the frame from before the change")
+		} else {
+			shown = f
+		}
 	}
-	b.ReportMetric(float64(time.Since(start).Milliseconds())/float64(b.N), "ms/change")
+	n := float64(b.N)
+	total := float64(b.Elapsed().Microseconds()) / 1000 / n
+	build := float64((timed.inside - inside).Microseconds()) / 1000 / n
+	b.ReportMetric(total, "ms/change")
+	b.ReportMetric(build, "ms-build/change")
+	b.ReportMetric(total-build, "ms-window/change")
+	b.ReportMetric(float64(ui.Microseconds())/1000/n, "ms-ui/change")
+	b.ReportMetric(float64(timed.builds-builds)/n, "builds/change")
+}
+
+// BenchmarkDelayChangeInWindow: a delay typed into its box.
+func BenchmarkDelayChangeInWindow(b *testing.B) {
+	var d0 float64
+	benchChange(b, func(ws *Workstation, i int) {
+		if i == 0 {
+			d0 = ws.result.Report.DelayDeg
+		}
+		ws.controls.number(ctlDelay).typed(fmt.Sprintf("%.3f", d0+0.25*float64(i%2+1)))
+	})
+}
+
+// BenchmarkOffsetChangeInWindow: an aperture offset typed into its box.
+func BenchmarkOffsetChangeInWindow(b *testing.B) {
+	benchChange(b, func(ws *Workstation, i int) {
+		ws.controls.offsets[1].typed(fmt.Sprintf("%.3f", 0.05*float64(i%2+1)))
+	})
 }
 
 // BenchmarkMeasureListOnNewFrame times what every rebuilt frame costs the

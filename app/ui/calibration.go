@@ -59,12 +59,14 @@ func newCalibrationEditor(apply func([][2]float64), problem func(title, what, tr
 
 // show puts points into the editor; on says whether the rows source uses
 // a calibration at all.
-func (e *calibrationEditor) show(points [][2]float64, on bool) {
-	changed := !samePairs(points, e.points)
+// show puts points into the editor, enabled or not; it returns whether
+// they changed (and with them, maybe, the editor's height).
+func (e *calibrationEditor) show(points [][2]float64, on bool) bool {
+	changed := !samePairs(points, e.points) || e.summary.Text == ""
 	e.points = points
-	e.summary.SetText(pairsSummary(points))
 	long := len(points) > inlinePairs
 	if changed {
+		e.summary.SetText(pairsSummary(points))
 		if long {
 			e.text.SetText("")
 		} else {
@@ -82,6 +84,7 @@ func (e *calibrationEditor) show(points [][2]float64, on bool) {
 	enable(e.applyB, on)
 	enable(e.loadB, on)
 	enable(e.listB, len(points) > 0)
+	return changed
 }
 
 func samePairs(a, b [][2]float64) bool {

@@ -22,6 +22,8 @@ type shown struct {
 	res   *Result
 	rec   *capture.Recording
 	frame *recon.Frame
+	// frameRange is the lowest and highest covered value of frame.
+	frameRange [2]float64
 	// indexSpan is the index channel's lowest and highest level (equal
 	// when unknown).
 	indexSpan [2]float64
@@ -316,7 +318,7 @@ func frameSpan(f func(lo, hi, span float64) (float64, float64)) func(v shown) (f
 		if v.frame == nil {
 			return 0, 0, false
 		}
-		lo, hi := coveredRange(v.frame)
+		lo, hi := v.frameRange[0], v.frameRange[1]
 		span := hi - lo
 		if !(span > 0) {
 			span = 1
@@ -477,8 +479,10 @@ func (c *controlPanel) number(name string) *numberControl { return c.byName[name
 func (c *controlPanel) choice(name string) *choice        { return c.byName[name].choice }
 func (c *controlPanel) toggle(name string) *toggle        { return c.byName[name].toggle }
 
-// show puts what is shown into every control, from the table.
-func (c *controlPanel) show(v shown) {
+// show puts what is shown into every control, from the table. It returns
+// whether the panel may have changed height (a note, the number of
+// aperture controls, the calibration), so the column is laid out again.
+func (c *controlPanel) show(v shown) (reshaped bool) {
 	for _, b := range c.ctls {
 		on := b.enabled == nil || b.enabled(v)
 		switch b.kind {
@@ -503,13 +507,14 @@ func (c *controlPanel) show(v shown) {
 		if b.auto != nil {
 			// The button says how the value was found; pressed, it finds
 			// it again after a change by hand.
+			text := "Find automatically"
 			if b.isAuto(v) {
-				b.auto.SetText("Found automatically")
-				b.auto.Disable()
-			} else {
-				b.auto.SetText("Find automatically")
-				b.auto.Enable()
+				text = "Found automatically"
 			}
+			if b.auto.Text != text {
+				b.auto.SetText(text)
+			}
+			enable(b.auto, !b.isAuto(v))
 		}
 	}
 	r, resolved := v.r(), v.resolved()
@@ -526,21 +531,28 @@ func (c *controlPanel) show(v shown) {
 			note = "Estimated in every build; move one to set them by hand."
 		}
 	}
-	showNote(c.offsetNote, note)
-	c.showOffsets(apertures, values)
-	c.rowsNote.SetText(rowsDescription(resolved.Rows))
-	c.cal.show(r.Rows.Calibration, r.Rows.Source.ReadsPosition())
+	reshaped = showNote(c.offsetNote, note)
+	reshaped = c.showOffsets(apertures, values) || reshaped
+	if text := rowsDescription(resolved.Rows); c.rowsNote.Text != text {
+		c.rowsNote.SetText(text)
+		reshaped = true
+	}
+	return c.cal.show(r.Rows.Calibration, r.Rows.Source.ReadsPosition()) || reshaped
 }
 
 // showNote shows text in label, hiding the label when there is none so
-// an empty note leaves no gap.
-func showNote(label *widget.Label, text string) {
+// an empty note leaves no gap; it returns whether the text changed.
+func showNote(label *widget.Label, text string) bool {
+	if label.Text == text && label.Visible() == (text != "") {
+		return false
+	}
 	label.SetText(text)
 	if text == "" {
 		label.Hide()
 	} else {
 		label.Show()
 	}
+	return true
 }
 
 func enable(w fyne.Disableable, on bool) {
@@ -571,12 +583,14 @@ func rowsDescription(rows recipe.Rows) string {
 	return "Rows from " + string(rows.Source) + "."
 }
 
-// showOffsets makes one control per aperture when their number changes.
-func (c *controlPanel) showOffsets(apertures int, values []float64) {
+// showOffsets makes one control per aperture when their number changes
+// (and then returns true).
+func (c *controlPanel) showOffsets(apertures int, values []float64) (remade bool) {
 	if apertures < 0 || apertures > 64 {
 		apertures = 0
 	}
 	if len(c.offsets) != apertures || len(c.offsetsBox.Objects) == 0 {
+		remade = true
 		c.offsets = nil
 		c.offsetsBox.RemoveAll()
 		for k := 0; k < apertures; k++ {
@@ -611,6 +625,7 @@ func (c *controlPanel) showOffsets(apertures int, values []float64) {
 		}
 		ctl.set(v)
 	}
+	return remade
 }
 
 // coveredRange is the smallest and largest value of the covered pixels.

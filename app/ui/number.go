@@ -106,12 +106,20 @@ func (c *numberControl) setRange(lo, hi float64) {
 	if !(hi > lo) {
 		return
 	}
-	c.slider.Min, c.slider.Max = math.Min(lo, c.value), math.Max(hi, c.value)
+	lo, hi = math.Min(lo, c.value), math.Max(hi, c.value)
+	if c.slider.Min == lo && c.slider.Max == hi {
+		return
+	}
+	c.slider.Min, c.slider.Max = lo, hi
 	c.slider.Refresh()
 }
 
+// showEntry writes the value into the entry; the same text is not set
+// again (an entry lays its text out anew at every SetText).
 func (c *numberControl) showEntry() {
-	c.entry.SetText(fmt.Sprintf(c.format, c.value))
+	if text := fmt.Sprintf(c.format, c.value); c.entry.Text != text {
+		c.entry.SetText(text)
+	}
 }
 
 func (c *numberControl) enable(on bool) {

@@ -127,8 +127,22 @@ type state struct {
 // what changed: a build's image, traces, facts and measurements cost far
 // more than the controls.
 type drawn struct {
-	result *Result
-	tone   recon.Tone
+	result    *Result
+	tone      recon.Tone
+	rec       *capture.Recording
+	indexSpan channelSpan // the index channel's range, for its control
+	// frameRange is the frame's covered range, for the tone's controls.
+	frameRange struct {
+		frame *recon.Frame
+		span  [2]float64
+	}
+}
+
+// channelSpan is the lowest and highest sample of channel ch of rec.
+type channelSpan struct {
+	rec  *capture.Recording
+	ch   int
+	span [2]float64
 }
 
 // relayout lays the side panels out again after their texts changed
