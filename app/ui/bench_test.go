@@ -9,7 +9,6 @@ import (
 	"time"
 
 	"fyne.io/fyne/v2"
-	"fyne.io/fyne/v2/test"
 
 	"spotloom/capture"
 	"spotloom/capture/live"
@@ -63,23 +62,12 @@ func (e *timedEngine) Build(ctx context.Context, r recipe.Recipe, progress func(
 // benchChange times the whole way from a change typed into a control to
 // the new image in the view, headless: the change, the build off the UI
 // goroutine, the hand-back and render (image, trace strip, facts,
-// controls). It reports the time per change, the build's share and the
-// window's (the rest), and the builds per change, which must be one.
+// controls). It reports the time per change, the build's share, the
+// window's (the rest, waits between goroutines included), the time on the
+// UI goroutine alone, and the builds per change, which must be one.
 func benchChange(b *testing.B, change func(ws *Workstation, i int)) {
-	a := test.NewTempApp(b)
-	a.Settings().SetTheme(Theme())
-	w := a.NewWindow("Spotloom bench")
 	timed := &timedEngine{}
-	ws := New(a, w, Options{NewEngine: func(rec *capture.Recording) Engine {
-		timed.Engine = NewSessionEngine(rec)
-		return timed
-	}})
-	w.Resize(fyne.NewSize(1366, 768))
-	ws.OpenDemo()
-	ws.Wait()
-	if ws.result == nil {
-		b.Fatalf("the demo did not build: %s", ws.Problem())
-	}
+	ws := demoWithEngine(b, fyne.NewSize(1366, 768), func(e Engine) Engine { timed.Engine = e; return timed })
 	// The time spent on the UI goroutine: the change itself and the
 	// hand-over of its build (render).
 	var ui time.Duration

@@ -420,20 +420,27 @@ func (e *slowEngine) Build(ctx context.Context, r recipe.Recipe, progress func(s
 	return nil, ctx.Err()
 }
 
-func TestCancelKeepsImageAndSettings(t *testing.T) {
+// demoWithEngine opens the demo in a window of size whose engine is the
+// session engine as wrap wraps it.
+func demoWithEngine(t testing.TB, size fyne.Size, wrap func(Engine) Engine) *Workstation {
+	t.Helper()
 	a := test.NewTempApp(t)
+	a.Settings().SetTheme(Theme())
 	w := a.NewWindow("Spotloom test")
-	slow := &slowEngine{started: make(chan struct{}, 1)}
-	ws := New(a, w, Options{NewEngine: func(rec *capture.Recording) Engine {
-		slow.Engine = NewSessionEngine(rec)
-		return slow
-	}})
-	w.Resize(fyne.NewSize(1280, 800))
+	ws := New(a, w, Options{NewEngine: func(rec *capture.Recording) Engine { return wrap(NewSessionEngine(rec)) }})
+	w.Resize(size)
 	ws.OpenDemo()
 	ws.Wait()
 	if ws.result == nil {
 		t.Fatalf("demo did not open: %s", ws.Problem())
 	}
+	return ws
+}
+
+func TestCancelKeepsImageAndSettings(t *testing.T) {
+	slow := &slowEngine{started: make(chan struct{}, 1)}
+	ws := demoWithEngine(t, fyne.NewSize(1280, 800), func(e Engine) Engine { slow.Engine = e; return slow })
+	w := ws.win
 	if !ws.cancel.Disabled() || !ws.menuStop.Disabled {
 		t.Error("Stop is enabled with nothing running")
 	}
