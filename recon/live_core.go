@@ -62,9 +62,8 @@ type liveCore struct {
 
 // liveRevs adds up the timed revolutions for the report.
 type liveRevs struct {
-	n                   int
-	sum, rpmSum, rpmSq  float64
-	periodMin, periodMx float64
+	n                  int
+	sum, rpmSum, rpmSq float64
 }
 
 func (v *liveRevs) add(period, rate float64) {
