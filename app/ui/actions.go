@@ -659,7 +659,7 @@ func (ws *Workstation) reportProgress(stage string, fraction float64) {
 func (ws *Workstation) busy(what string) {
 	ws.stage.SetText(what)
 	ws.progress.SetValue(0)
-	ws.progress.Show()
+	ws.progressBox.Show()
 	ws.showRunning(true)
 }
 
@@ -667,7 +667,7 @@ func (ws *Workstation) busy(what string) {
 // run; the worker calls it on the UI goroutine after the last outcome.
 func (ws *Workstation) settledWork() {
 	ws.progress.SetValue(1)
-	ws.progress.Hide()
+	ws.progressBox.Hide()
 	ws.showRunning(false)
 }
 

@@ -3,13 +3,16 @@ package ui
 import (
 	"fmt"
 	"image/png"
+	"math"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/test"
+	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
 )
 
@@ -123,6 +126,7 @@ func TestLayoutFitsSmallScreens(t *testing.T) {
 				}
 			}
 			checkTraceLegendAndAxes(t, ws)
+			checkCaptionsWhole(t, ws)
 			if r := boxOf(ws.facts.warnings); !(r.y0 < size.Height-ws.statusBar.Size().Height) {
 				t.Errorf("the warnings start at y %.0f, below the visible part of the window", r.y0)
 			}
@@ -157,9 +161,10 @@ func checkTraceLegendAndAxes(t *testing.T, ws *Workstation) {
 			}
 		}
 	}
-	p := &tracePainter{scale: 1}
-	h := int(ws.strip.Size().Height)
-	for lane, a := range p.laneAxes(ws.strip.view(), p.px(traceCaptionH), h-p.px(traceAxisH)) {
+	p := newTracePainter(nil, 1)
+	h, w := int(ws.strip.Size().Height), int(ws.strip.Size().Width)
+	rows := p.captionRows(ws.strip.view(), w-p.px(traceRight))
+	for lane, a := range p.laneAxes(ws.strip.view(), p.px(traceCaptionH)*len(rows), h-p.px(traceAxisH)) {
 		var ys []int
 		for k, tick := range a.ticks {
 			if a.labelled[k] {
@@ -178,3 +183,45 @@ func checkTraceLegendAndAxes(t *testing.T, ws *Workstation) {
 }
 
 func widgetRenderer(w fyne.Widget) fyne.WidgetRenderer { return test.WidgetRenderer(w) }
+
+// checkCaptionsWhole: the trace strip's caption and the cursors' readout,
+// with no cursor, one and both, are laid out whole (wrapped, not cut) in
+// the strip's width with room left for the lanes; and the pointer's
+// read-out in the status bar has room for its text.
+func checkCaptionsWhole(t *testing.T, ws *Workstation) {
+	t.Helper()
+	p := newTracePainter(nil, 1)
+	w, h := int(ws.strip.Size().Width), int(ws.strip.Size().Height)
+	room := w - p.px(traceRight) - p.px(4)
+	from, to := ws.strip.Window()
+	for _, c := range [][2]float64{{math.NaN(), math.NaN()}, {0.3, math.NaN()}, {0.3, 0.7}} {
+		ws.strip.ClearCursors()
+		for k := range c {
+			if !math.IsNaN(c[k]) {
+				ws.strip.SetCursor(k, from+c[k]*(to-from))
+			}
+		}
+		v := ws.strip.view()
+		rows := p.captionRows(v, w-p.px(traceRight))
+		var got []string
+		for _, r := range rows {
+			if width := textWidth(p.face, r.left) + textWidth(p.small, r.right); width > room {
+				t.Errorf("caption row %q / %q is %d wide, the strip has %d", r.left, r.right, width, room)
+			}
+			got = append(got, r.left, r.right)
+		}
+		if joined := strings.Join(got, " · "); !strings.Contains(joined, strings.Split(v.caption, " · ")[0]) ||
+			!v.noCursors() && !strings.Contains(joined, cursorReadout(v)) {
+			t.Errorf("caption rows %q leave out part of %q or the readout %q", got, v.caption, cursorReadout(v))
+		}
+		if plot := h - p.px(traceCaptionH)*len(rows) - p.px(traceAxisH); plot < 3*30 {
+			t.Errorf("with cursors %v the caption takes %d rows, leaving %d units for three lanes", c, len(rows), plot)
+		}
+	}
+	ws.strip.ClearCursors()
+	ws.pointerMoved(Pointer{Inside: true, Covered: true, Value: -0.012345, XMM: -123.4, YMM: 456.7, Col: 1234, Row: 5678})
+	need := fyne.MeasureText(ws.readout.Text, theme.TextSize(), ws.readout.TextStyle).Width + 2*theme.InnerPadding()
+	if have := ws.readout.Size().Width; have < need-0.5 {
+		t.Errorf("the pointer read-out %q needs %.0f wide, has %.0f", ws.readout.Text, need, have)
+	}
+}

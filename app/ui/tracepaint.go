@@ -6,6 +6,7 @@ import (
 	"image/color"
 	"math"
 	"sort"
+	"strings"
 	"sync"
 
 	"golang.org/x/image/font"
@@ -160,6 +161,11 @@ type tracePainter struct {
 	scale float64
 }
 
+// newTracePainter paints on img at scale pixels per unit.
+func newTracePainter(img *image.NRGBA, scale float64) *tracePainter {
+	return &tracePainter{img: img, scale: scale, face: traceFace(int(math.Round(12 * scale))), small: traceFace(int(math.Round(10.5 * scale)))}
+}
+
 func (p *tracePainter) px(units float64) int { return int(math.Round(units * p.scale)) }
 
 func textWidth(face font.Face, s string) int {
@@ -197,19 +203,20 @@ func paintTraces(v *traceView, w, h int, scale float64) *image.NRGBA {
 	if scale <= 0 {
 		scale = 1
 	}
-	p := &tracePainter{img: img, scale: scale, face: traceFace(int(math.Round(12 * scale))), small: traceFace(int(math.Round(10.5 * scale)))}
-	capH, axisH := p.px(traceCaptionH), p.px(traceAxisH)
+	p := newTracePainter(img, scale)
+	axisH := p.px(traceAxisH)
 	left, right := p.px(traceLeft), w-p.px(traceRight)
+	rows := p.captionRows(v, right)
+	capH := p.px(traceCaptionH) * len(rows)
 	top, bottom := capH, h-axisH
 	if right-left < 8 || bottom-top < 12 {
 		return img
 	}
-	readout := cursorReadout(v)
-	if v.noCursors() && textWidth(p.face, v.caption)+textWidth(p.small, readout)+p.px(16) > right {
-		readout = "" // the hint gives way to the line's own caption
+	for i, r := range rows {
+		y := p.px(traceCaptionH)*(i+1) - p.px(5)
+		p.text(p.small, r.right, right, y, 2, traceInk, false)
+		p.text(p.face, truncateText(p.face, r.left, right-p.px(4)), p.px(4), y, 0, traceInk, false)
 	}
-	rw := p.text(p.small, readout, right, capH-p.px(5), 2, traceInk, false)
-	p.text(p.face, truncateText(p.face, v.caption, right-p.px(4)-rw-p.px(12)), p.px(4), capH-p.px(5), 0, traceInk, false)
 	shade(img, left, right, top, bottom, color.NRGBA{R: 0xff, G: 0xff, B: 0xff, A: 0x70})
 	if v.rec == nil || v.rec.SampleRateHz <= 0 || !(v.to > v.from) {
 		p.text(p.face, "No line to show", (left+right)/2, (top+bottom)/2, 1, traceMuted, false)
@@ -342,6 +349,56 @@ func paintTraces(v *traceView, w, h int, scale float64) *image.NRGBA {
 	}
 	rect(img, left, top, right, bottom, traceLaneEdge)
 	return img
+}
+
+// captionRow is one row of the strip's caption: the line's facts on the
+// left, the cursors' readout (or the hint) ending at the right.
+type captionRow struct{ left, right string }
+
+// captionRows lays the caption and the cursors' readout out in rows of
+// width pixels: one row when both fit, else the caption's parts (split at
+// " · ") wrapped over as many rows as they need, with the readout at the
+// end of the last row or on a row of its own. The hint of what the mouse
+// does gives way rather than taking a row; nothing is cut off unless a
+// single part is wider than the strip.
+func (p *tracePainter) captionRows(v *traceView, width int) []captionRow {
+	readout := cursorReadout(v)
+	gap, room := p.px(12), width-p.px(4)
+	fits := func(left, right string) bool {
+		w := textWidth(p.face, left)
+		if right != "" {
+			w += gap + textWidth(p.small, right)
+		}
+		return w <= room
+	}
+	if fits(v.caption, readout) {
+		return []captionRow{{v.caption, readout}}
+	}
+	if v.noCursors() {
+		readout = "" // the hint gives way to the line's own caption
+	}
+	var rows []captionRow
+	line := ""
+	for _, part := range strings.Split(v.caption, " · ") {
+		switch {
+		case line == "":
+			line = part
+		case fits(line+" · "+part, ""):
+			line += " · " + part
+		default:
+			rows = append(rows, captionRow{left: line})
+			line = part
+		}
+	}
+	rows = append(rows, captionRow{left: line})
+	if last := &rows[len(rows)-1]; readout != "" {
+		if fits(last.left, readout) {
+			last.right = readout
+		} else {
+			rows = append(rows, captionRow{right: readout})
+		}
+	}
+	return rows
 }
 
 // cursorReadout says where the cursors are and Δt between them.

@@ -84,6 +84,7 @@ type Workstation struct {
 	lineEntry   *widget.Entry
 	followCheck *toggle
 	progress    *widget.ProgressBar
+	progressBox *fyne.Container // the progress bar, shown while work runs
 	stage       *widget.Label
 	cancel      *widget.Button
 	undoButton  *widget.Button
@@ -238,7 +239,6 @@ func (ws *Workstation) build() {
 
 	ws.readout = widget.NewLabel("")
 	ws.readout.TextStyle = fyne.TextStyle{Monospace: true}
-	ws.readout.Truncation = fyne.TextTruncateEllipsis // never widens the window
 	ws.zoomLabel = widget.NewLabel("")
 	ws.frameLabel = widget.NewLabel("frame 1 of 1")
 	ws.prevFrame = widget.NewButtonWithIcon("", theme.NavigateBackIcon(), func() { ws.showFrame(ws.frameIndex - 1) })
@@ -290,11 +290,16 @@ func (ws *Workstation) build() {
 	ws.stage = widget.NewLabel("Ready")
 	ws.cancel = widget.NewButtonWithIcon("Cancel", theme.CancelIcon(), ws.Cancel)
 	ws.cancel.Disable()
-	ws.progress.Hide()
+	ws.progressBox = container.NewGridWrap(fyne.NewSize(220, ws.progress.MinSize().Height), ws.progress)
+	ws.progressBox.Hide()
 	ws.stage.Truncation = fyne.TextTruncateEllipsis
+	// The read-out is never cut: it takes its text's width (at least that
+	// of a usual reading, so it does not jump as the pointer moves) and the
+	// build's stage the rest; the progress bar takes room only while a
+	// build runs.
+	readout := container.New(atLeastWide{w: readoutWidth(ws.readout)}, ws.readout)
 	status := container.NewBorder(nil, nil, nil,
-		container.NewHBox(container.NewGridWrap(fyne.NewSize(220, ws.progress.MinSize().Height), ws.progress), ws.cancel),
-		container.NewGridWithColumns(2, ws.stage, ws.readout))
+		container.NewHBox(readout, ws.progressBox, ws.cancel), ws.stage)
 
 	ws.undoButton = widget.NewButtonWithIcon("Undo", theme.ContentUndoIcon(), ws.Undo)
 	ws.redoButton = widget.NewButtonWithIcon("Redo", theme.ContentRedoIcon(), ws.Redo)
@@ -510,6 +515,30 @@ func (m *minWidth) MinSize(objects []fyne.CanvasObject) fyne.Size {
 		s.Height = max(s.Height, o.MinSize().Height)
 	}
 	return s
+}
+
+// atLeastWide makes its content as wide as it needs, and at least w.
+type atLeastWide struct{ w float32 }
+
+func (a atLeastWide) MinSize(objects []fyne.CanvasObject) fyne.Size {
+	s := fyne.NewSize(a.w, 0)
+	for _, o := range objects {
+		s = s.Max(o.MinSize())
+	}
+	return s
+}
+
+func (atLeastWide) Layout(objects []fyne.CanvasObject, size fyne.Size) {
+	for _, o := range objects {
+		o.Move(fyne.NewPos(0, 0))
+		o.Resize(size)
+	}
+}
+
+// readoutWidth is the width of label holding a usual pointer reading.
+func readoutWidth(label *widget.Label) float32 {
+	usual := widget.NewLabelWithStyle("value -0.0000 · x -000.0 y -000.0 mm · px 0000,0000", fyne.TextAlignLeading, label.TextStyle)
+	return usual.MinSize().Width
 }
 
 func (m *minWidth) Layout(objects []fyne.CanvasObject, size fyne.Size) {
