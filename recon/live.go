@@ -2,7 +2,6 @@ package recon
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"sync"
 
@@ -47,16 +46,35 @@ func ResolveLive(ctx context.Context, first *capture.Recording, r recipe.Recipe)
 	return res, nil
 }
 
+// LiveRefusal is the error of a recipe that the live path cannot build
+// at all, however many samples come (unlike one the first seconds cannot
+// resolve yet): a batch build of the saved recording can. Its message says
+// why and what to do.
+type LiveRefusal struct{ msg string }
+
+func (e *LiveRefusal) Error() string { return e.msg }
+
 // liveRefusal says why the live path cannot build r, or nil. Everything
-// else it builds as a batch build would.
+// else it builds as a batch build would. What it refuses rests on a value
+// taken from the whole recording, which no sample before the last fixes,
+// so a live image could not equal the batch build of the recording:
+//   - rows.strokes split or first: the passes of the head are cut at its
+//     reversals with a hysteresis from the whole travel and its noise
+//     (levelRows, findStrokes);
+//   - rows.source steps: the step pulses' threshold is Otsu's split of the
+//     whole steps channel (stepsSource);
+//   - the position tone on the index channel: the pulses are told from the
+//     tone by a zero-phase notch run backward from the recording's end, and
+//     their span by the two levels of the whole notched channel
+//     (sharedChannel).
 func liveRefusal(r recipe.Recipe) error {
 	switch {
 	case r.Rows.Strokes == "split" || r.Rows.Strokes == "first":
-		return fmt.Errorf("rows.strokes %s: a live image merges every pass of the head (passes are told apart over the whole recording); record with rows.strokes merge, then build the saved recording with %s", r.Rows.Strokes, r.Rows.Strokes)
+		return &LiveRefusal{fmt.Sprintf("rows.strokes %s cannot be formed live: the passes of the head are cut at its reversals with a hysteresis from the whole travel, known only when the recording ends; watch it with rows.strokes merge, or build the recording with rows.strokes %s once it is stopped", r.Rows.Strokes, r.Rows.Strokes)}
 	case r.Rows.Source == recipe.SourceSteps:
-		return errors.New("rows.source steps: the step pulses' threshold comes from the whole steps channel, so a live image cannot use them; record, then build the saved recording")
+		return &LiveRefusal{"rows.source steps cannot be formed live: the step pulses are found with a threshold from the whole steps channel, known only when the recording ends; build the recording once it is stopped"}
 	case r.Rows.Source == recipe.SourceTone && r.Channels.Position.IsSet() && r.Channels.Position == r.Channels.Index:
-		return errors.New("channels.position names the index channel: the zero-phase notch that separates the pulses from the tone needs the whole recording, so a live image cannot use it; record, then build the saved recording")
+		return &LiveRefusal{"a position tone on the index channel cannot be formed live: the pulses are told from the tone by a filter run backward from the end of the recording, and their levels come from all of it; build the recording once it is stopped"}
 	}
 	return nil
 }
@@ -106,9 +124,10 @@ type Live struct {
 }
 
 // NewLive starts an incremental build with a resolved recipe (ResolveLive):
-// one with a null left, rows.strokes split or first, rows.source steps, or
-// a position tone on the index channel is refused with a one-line error
-// saying what to do.
+// one with a null left is refused with a one-line error saying what to do,
+// and one with rows.strokes split or first, rows.source steps, or a
+// position tone on the index channel with a *LiveRefusal (liveRefusal says
+// why).
 func NewLive(r recipe.Recipe, layout LiveLayout) (*Live, error) {
 	c, err := newLiveCore(r, layout)
 	if err != nil {
@@ -135,8 +154,9 @@ func (l *Live) Append(interleaved []float32) error {
 }
 
 // Result is the image so far: one merged frame and its report, the shape
-// Session.Build gives (Result.Lines is nil; the report's Lines counts
-// them). It is nil until the first line is placed. The value is the
+// Session.Build gives, with Result.Lines the newest LiveRecentLines lines
+// as Session.Build lists them but for their stroke, -1 (the report's
+// Lines counts them all). It is nil until the first line is placed. The value is the
 // caller's own. Its cost grows with the frame's pixels, not with the
 // length of the recording.
 func (l *Live) Result() *Result {

@@ -57,7 +57,46 @@ type liveCore struct {
 	sinePer   float64
 	canvas    liveCanvas
 	committed liveTotals
+	recent    []Line    // the last gridded lines, at most LiveRecentLines
 	scratch   []float64 // Result's accumulators
+}
+
+// LiveRecentLines is how many of the newest lines a live Result lists
+// (Result.Lines), for the trace strip: enough to step through the last
+// few revolutions, and a constant cost however long the recording runs.
+const LiveRecentLines = 32
+
+// liveLine is l as Result.Lines lists it: its baseline interval in
+// seconds and its cross-scan position at mid-field, as linesOnRows and
+// placeLines give them. Its stroke is -1: the passes of the head are told
+// apart over the whole recording (findStrokes), not while it is recorded.
+func (c *liveCore) liveLine(l *placedLine, rows *rowsResult) Line {
+	out := l.Line
+	if c.baseline {
+		out.BaselineStartS, out.BaselineEndS = float64(l.baseFirst)/c.rate, float64(l.baseLast)/c.rate
+	}
+	out.YMM = rows.at(float64((l.first + l.last) / 2))
+	out.Stroke = -1
+	return out
+}
+
+// keepRecent adds a gridded line to the recent ones, dropping the oldest.
+func (c *liveCore) keepRecent(l Line) {
+	if len(c.recent) == LiveRecentLines {
+		copy(c.recent, c.recent[1:])
+		c.recent = c.recent[:LiveRecentLines-1]
+	}
+	c.recent = append(c.recent, l)
+}
+
+// recentLines is the newest LiveRecentLines lines: the gridded ones kept
+// and then those of the tail (lines, on rows).
+func (c *liveCore) recentLines(lines []placedLine, rows *rowsResult) []Line {
+	out := slices.Clone(c.recent)
+	for i := max(len(lines)-LiveRecentLines, 0); i < len(lines); i++ {
+		out = append(out, c.liveLine(&lines[i], rows))
+	}
+	return out[max(len(out)-LiveRecentLines, 0):]
 }
 
 // liveRevs adds up the timed revolutions for the report.
@@ -366,6 +405,7 @@ func (c *liveCore) commit() error {
 		in := c.gridInput(&c.live.rows, c.edge)
 		clipped, ties := splatLine(&in, c.canvas.g, l, c.canvas.acc)
 		c.committed.add(l, y0, y1, clipped, ties)
+		c.keepRecent(c.liveLine(l, &c.live.rows))
 		c.queue = c.queue[1:]
 	}
 	return nil

@@ -120,7 +120,7 @@ func (c *liveCore) result() *Result {
 	rep := c.report(t, total, f, covered, gapRows)
 	f.Report, f.Recipe = rep, c.r.Clone()
 	f.Report.Warnings = slices.Clone(rep.Warnings)
-	return &Result{Frames: []*Frame{f}, Report: rep, Recipe: c.r.Clone()}
+	return &Result{Frames: []*Frame{f}, Report: rep, Recipe: c.r.Clone(), Lines: c.recentLines(t.lines, t.rows)}
 }
 
 // report is the build report of the samples so far, as timingReport and

@@ -2,8 +2,10 @@ package recon_test
 
 import (
 	"context"
+	"errors"
 	"math"
 	"path/filepath"
+	"strings"
 	"sync"
 	"testing"
 
@@ -222,8 +224,35 @@ func TestLiveEqualsBatch(t *testing.T) {
 			if want.Report.Lines <= 1000 {
 				t.Fatalf("only %d lines: the test needs more than the first thousand, which are measured before any is gridded", want.Report.Lines)
 			}
-			sameImage(t, lv.Result(), want)
+			got := lv.Result()
+			sameImage(t, got, want)
+			sameRecentLines(t, got, want)
 		})
+	}
+}
+
+// sameRecentLines checks that the live result lists the batch build's
+// last recon.LiveRecentLines lines (the trace strip's), each with the same
+// number, aperture, times and cross-scan position, to float rounding, and
+// its stroke unknown (-1).
+func sameRecentLines(t *testing.T, got, want *recon.Result) {
+	t.Helper()
+	k := min(recon.LiveRecentLines, len(want.Lines))
+	if len(got.Lines) != k {
+		t.Fatalf("the live result lists %d lines, want the last %d", len(got.Lines), k)
+	}
+	for i, g := range got.Lines {
+		w := want.Lines[len(want.Lines)-k+i]
+		if g.Number != w.Number || g.Aperture != w.Aperture || g.Repaired != w.Repaired || g.Stroke != -1 {
+			t.Fatalf("recent line %d: live number %d aperture %d repaired %v stroke %d, batch %d %d %v (stroke -1 while recording)",
+				i, g.Number, g.Aperture, g.Repaired, g.Stroke, w.Number, w.Aperture, w.Repaired)
+		}
+		for _, v := range [][3]float64{{g.EdgeS, w.EdgeS, 1e-9}, {g.FieldStartS, w.FieldStartS, 1e-9}, {g.FieldEndS, w.FieldEndS, 1e-9},
+			{g.BaselineStartS, w.BaselineStartS, 1e-9}, {g.BaselineEndS, w.BaselineEndS, 1e-9}, {g.YMM, w.YMM, 1e-6}} {
+			if math.Abs(v[0]-v[1]) > v[2] {
+				t.Fatalf("recent line %d (number %d): live %+v, batch %+v", i, g.Number, g, w)
+			}
+		}
 	}
 }
 
@@ -263,15 +292,29 @@ func TestLiveShort(t *testing.T) {
 }
 
 // TestLiveRefuses: what cannot be built as it is recorded is refused with
-// the key to change.
+// a LiveRefusal naming the key to change; a recipe whose automatic values
+// are not resolved yet is refused with another error.
 func TestLiveRefuses(t *testing.T) {
 	rec := head(simulate(t, liveRig()), 1)
 	r := sampledata.DemoRecipe()
-	if _, err := recon.NewLive(r, recon.LayoutOf(rec)); err == nil {
-		t.Error("a recipe with an automatic delay was taken without being resolved")
+	_, err := recon.NewLive(r, recon.LayoutOf(rec))
+	var refusal *recon.LiveRefusal
+	if err == nil || errors.As(err, &refusal) {
+		t.Errorf("a recipe with an automatic delay: %v, want an error that is not a refusal", err)
 	}
-	r.Rows.Strokes = "split"
-	if _, err := recon.ResolveLive(context.Background(), rec, r); err == nil {
-		t.Error("rows.strokes split was taken")
+	stereo := sampledata.StereoSoundCardRig().Recipe()
+	for _, tc := range []struct {
+		name, key string
+		r         recipe.Recipe
+	}{
+		{"strokes split", "rows.strokes split", func() recipe.Recipe { c := r.Clone(); c.Rows.Strokes = "split"; return c }()},
+		{"strokes first", "rows.strokes first", func() recipe.Recipe { c := r.Clone(); c.Rows.Strokes = "first"; return c }()},
+		{"steps", "rows.source steps", func() recipe.Recipe { c := r.Clone(); c.Rows.Source = recipe.SourceSteps; return c }()},
+		{"tone on the index channel", "index channel", stereo},
+	} {
+		_, err := recon.ResolveLive(context.Background(), rec, tc.r)
+		if !errors.As(err, &refusal) || !strings.Contains(err.Error(), tc.key) {
+			t.Errorf("%s: %v, want a LiveRefusal naming %s", tc.name, err, tc.key)
+		}
 	}
 }

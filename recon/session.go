@@ -45,7 +45,7 @@ type Result struct {
 	Frames []*Frame      // one per stroke with rows.strokes split, else one
 	Report Report        // the whole build; each frame carries its own copy
 	Recipe recipe.Recipe // every automatic value resolved
-	Lines  []Line        // every line found, in time order
+	Lines  []Line        // every line found, in time order (recon.Live: the newest LiveRecentLines)
 }
 
 // WarnNegativeDetector is the warning a build gives when the automatic

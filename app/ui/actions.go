@@ -396,7 +396,11 @@ func (ws *Workstation) renderBuild(frame *recon.Frame) {
 	ws.showZoom(ws.view.Zoom())
 	if res != ws.drawn.result {
 		det, idx, pos := ws.roleChannels(res.Recipe)
-		ws.strip.SetData(ws.rec, det, idx, pos, res.Lines, res.Report.Threshold)
+		if ws.lv.run != nil {
+			ws.strip.SetLive(ws.rec, det, idx, pos, res.Lines, res.Report.Threshold, ws.lv.laneRanges(det, idx, pos), ws.lv.lines)
+		} else {
+			ws.strip.SetData(ws.rec, det, idx, pos, res.Lines, res.Report.Threshold)
+		}
 		ws.showLineNumber()
 		ws.facts.show(res.Report, ws.rec)
 	}

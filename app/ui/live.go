@@ -4,7 +4,9 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math"
 	"path/filepath"
+	"slices"
 	"sync"
 	"sync/atomic"
 	"time"
@@ -62,10 +64,12 @@ type liveRun struct {
 	mu      sync.Mutex // guards what follows: the engine goroutine and the window's worker share it
 	rec     *capture.Recording
 	builder liveBuilder
-	noImage string  // why no image is formed yet
-	tryAt   float64 // seconds of capture at which to try to start the engine next
-	first   int     // frames the settings were resolved from
-	final   *Result // the last image, once the capture has ended
+	noImage string       // why no image is formed yet
+	ranges  [][2]float64 // each channel's smallest and largest sample so far, for the trace strip
+	tryAt   float64      // seconds of capture at which to try to start the engine next
+	first   int          // frames the settings were resolved from
+	refused bool         // the settings cannot form a live image at all (recon.LiveRefusal)
+	final   *Result      // the last image, once the capture has ended
 
 	// On the UI goroutine: how long frames waited for their image.
 	latMax, latSum time.Duration
@@ -81,6 +85,7 @@ type liveStatus struct {
 	overruns              int64
 	overrunFrames         int64
 	noImage               string
+	ranges                [][2]float64 // each channel's range so far
 	writing, replay, done bool
 	arrived               time.Time // when the oldest frame new in this update arrived
 }
@@ -155,6 +160,7 @@ func (r *liveRun) consume(block []float32, closed bool) {
 	r.mu.Lock()
 	defer r.mu.Unlock()
 	appendInterleaved(r.rec, block)
+	r.ranges = widenRanges(r.ranges, block, len(r.rec.Channels))
 	if r.builder != nil {
 		if len(block) > 0 {
 			if err := r.builder.Append(block); err != nil {
@@ -172,6 +178,13 @@ func (r *liveRun) consume(block []float32, closed bool) {
 	b, err := startBuilder(r.ctx, r.rec, r.start)
 	if err == nil {
 		err = b.Append(interleave(r.rec))
+	}
+	var refusal *recon.LiveRefusal
+	if errors.As(err, &refusal) {
+		// No later sample changes that: stop trying, keep capturing.
+		r.noImage = fmt.Sprintf("no live image: %s. The capture goes on; at the end it is built with these settings", windowWords(err.Error()))
+		r.tryAt, r.refused = -1, true
+		return
 	}
 	if err != nil {
 		r.noImage = fmt.Sprintf("no image from the first %.1f s yet: %s", secs, windowWords(err.Error()))
@@ -200,7 +213,7 @@ func (r *liveRun) deliver(peak []float32, frames int64, closed bool, since time.
 	}
 	rec := snapshotRecording(r.rec)
 	st := liveStatus{frames: frames, committed: r.committed.Load(), rateHz: r.format.RateHz, peak: peak,
-		overruns: r.overruns.Load(), overrunFrames: r.overrunFrames.Load(), noImage: r.noImage,
+		overruns: r.overruns.Load(), overrunFrames: r.overrunFrames.Load(), noImage: r.noImage, ranges: slices.Clone(r.ranges),
 		writing: r.out != "", replay: r.replayed != nil, done: closed, arrived: since}
 	if r.replayed != nil {
 		st.total = int64(r.replayed.Frames())
@@ -244,6 +257,20 @@ func appendInterleaved(rec *capture.Recording, block []float32) {
 		}
 		rec.Channels[c].Samples = s
 	}
+}
+
+// widenRanges widens each channel's [smallest, largest] sample by the
+// interleaved frames of block (nch channels): the trace strip's lane scales
+// at a cost per frame, not per update.
+func widenRanges(ranges [][2]float64, block []float32, nch int) [][2]float64 {
+	for len(ranges) < nch {
+		ranges = append(ranges, [2]float64{math.Inf(1), math.Inf(-1)})
+	}
+	for i, v := range block {
+		r := &ranges[i%nch]
+		r[0], r[1] = math.Min(r[0], float64(v)), math.Max(r[1], float64(v))
+	}
+	return ranges
 }
 
 // interleave is rec's frames, interleaved.

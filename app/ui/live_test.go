@@ -3,6 +3,7 @@ package ui
 import (
 	"context"
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -340,5 +341,108 @@ func TestRecordWithoutSoundSystem(t *testing.T) {
 		if !strings.HasPrefix(p, tc.want) {
 			t.Errorf("problem %q, want %q", p, tc.want)
 		}
+	}
+}
+
+// waitLive waits (at most 30 s) until ok holds of the window, on the UI
+// goroutine, while a live view runs.
+func waitLive(t *testing.T, ws *Workstation, what string, ok func() bool) {
+	t.Helper()
+	deadline := time.Now().Add(30 * time.Second)
+	for time.Now().Before(deadline) {
+		done := false
+		uiDo(func() { done = ok() })
+		if done {
+			return
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+	t.Fatalf("%s: not seen within 30 s (%s)", what, ws.Problem())
+}
+
+// While the image forms, the trace strip shows the newest line the live
+// build lists, its lanes scaled to each channel's range so far (the
+// recording's own minimum and maximum, computed here from the samples
+// shown), and its caption counts the lines so far; at the end it shows
+// the ordinary capture's lines.
+func TestTraceStripFollowsTheLiveImage(t *testing.T) {
+	src, srcPath, r := liveCapture(t)
+	ws := newLiveWorkstation(t, src, 2)
+	ws.Replay(srcPath, capture.Options{}, &r, 2)
+	ws.Wait()
+	var checked bool
+	waitLive(t, ws, "a live image with lines in the trace strip", func() bool {
+		if !ws.Live() || ws.result == nil || len(ws.result.Lines) < recon.LiveRecentLines || ws.strip.Chosen() < 0 {
+			return false
+		}
+		res, v := ws.result, ws.strip.view()
+		newest := res.Lines[len(res.Lines)-1]
+		if v.chosen != len(res.Lines)-1 || v.lines[v.chosen].Number != newest.Number {
+			return false // the strip is updated once a second: wait for it
+		}
+		if v.rec != ws.rec {
+			t.Errorf("the strip shows another capture than the window's")
+		}
+		if from, to := v.from, v.to; !(from <= newest.EdgeS && newest.FieldEndS <= to) {
+			t.Errorf("the strip shows %.4f–%.4f s, not the newest line (edge %.4f s, field ends %.4f s)", from, to, newest.EdgeS, newest.FieldEndS)
+		}
+		for i, lane := range v.lanes {
+			want := channelRange(v.rec, lane.channel)
+			if math.Abs(v.ranges[i][0]-want[0]) > 1e-7 || math.Abs(v.ranges[i][1]-want[1]) > 1e-7 {
+				t.Errorf("lane %s: range %v, the capture so far spans %v", lane.name, v.ranges[i], want)
+			}
+		}
+		if want := fmt.Sprintf("Line %d of %d so far", newest.Number, res.Report.Lines); !strings.HasPrefix(v.caption, want) {
+			t.Errorf("caption %q, want it to start %q", v.caption, want)
+		}
+		checked = true
+		return true
+	})
+	if !checked {
+		t.Fatal("the strip was not checked")
+	}
+	endOfLive(t, ws)
+	var lines, shown int
+	uiDo(func() { lines, shown = len(ws.result.Lines), len(ws.strip.view().lines) })
+	if lines <= recon.LiveRecentLines || shown != lines {
+		t.Errorf("after the end the strip has %d lines, the capture's build %d", shown, lines)
+	}
+}
+
+// Settings the live path cannot form (one frame per pass of the head) are
+// said once, in the window's words, while the recording goes on; at the
+// end the capture is built with them.
+func TestLiveRefusalKeepsRecordingAndBuildsAtTheEnd(t *testing.T) {
+	src, srcPath, r := liveCapture(t)
+	r.Rows.Strokes = "split"
+	ws := newLiveWorkstation(t, src, 4)
+	ws.Replay(srcPath, capture.Options{}, &r, 4)
+	ws.Wait()
+	var run *liveRun
+	waitLive(t, ws, "the live view started", func() bool { run = ws.lv.run; return run != nil })
+	waitLive(t, ws, "the refusal", func() bool {
+		run.mu.Lock()
+		defer run.mu.Unlock()
+		return run.refused
+	})
+	run.mu.Lock()
+	msg, tryAt := run.noImage, run.tryAt
+	run.mu.Unlock()
+	if !strings.Contains(msg, "Passes of the head: one frame per pass cannot be formed live") || strings.Contains(msg, "rows.") || tryAt >= 0 {
+		t.Errorf("while live: %q (next try at %g s); want the refusal in the window's words, tried no more", msg, tryAt)
+	}
+	endOfLive(t, ws)
+	if ws.result == nil || ws.result.Recipe.Rows.Strokes != "split" || ws.sourcePath != srcPath {
+		t.Fatalf("at the end the window shows %q built with %+v (%s); want the replayed file with strokes split", ws.sourcePath, ws.result, ws.Problem())
+	}
+	batch, err := recon.NewSession(src).Build(context.Background(), ws.result.Recipe, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(batch.Frames) != len(ws.result.Frames) {
+		t.Fatalf("the window has %d frames, the batch build %d", len(ws.result.Frames), len(batch.Frames))
+	}
+	for i := range batch.Frames {
+		sameFrames(t, fmt.Sprintf("frame %d against the batch build", i), ws.result.Frames[i], batch.Frames[i])
 	}
 }

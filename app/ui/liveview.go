@@ -22,7 +22,22 @@ type liveState struct {
 	run         *liveRun // nil when no live view runs
 	toneFollows bool     // the tone is fitted to each new image until the user sets it
 	autoTone    recon.Tone
-	fullAt      time.Time // when every panel was last brought up to date
+	fullAt      time.Time    // when every panel was last brought up to date
+	ranges      [][2]float64 // each channel's range so far, for the trace strip
+	lines       int          // lines so far
+}
+
+// laneRanges is the range so far of the channels of the trace strip's
+// lanes ([0, 1] for none, as channelRange gives).
+func (lv *liveState) laneRanges(ch ...int) [3][2]float64 {
+	var out [3][2]float64
+	for i, c := range ch[:3] {
+		out[i] = [2]float64{0, 1}
+		if c >= 0 && c < len(lv.ranges) && lv.ranges[c][1] >= lv.ranges[c][0] {
+			out[i] = lv.ranges[c]
+		}
+	}
+	return out
 }
 
 // Live reports whether a live view (a recording or a replay) is running.
@@ -95,6 +110,10 @@ func (ws *Workstation) showLive(run *liveRun, rec *capture.Recording, res *Resul
 		return // stopped, or replaced by another capture
 	}
 	ws.lv.bar.show(st)
+	ws.lv.ranges = st.ranges
+	if res != nil {
+		ws.lv.lines = res.Report.Lines
+	}
 	if res == nil || len(res.Frames) == 0 {
 		if st.done {
 			ws.finishLive(run, st)
@@ -167,9 +186,15 @@ func (ws *Workstation) finishLive(run *liveRun, st liveStatus) {
 		return // nothing of ours to open
 	}
 	if run.final == nil {
-		// No image was formed live: open it as any capture is opened.
+		// No image was formed live: open it as any capture is opened,
+		// with the settings asked for when only the live path refused
+		// them.
 		ws.lv.bar.hide()
-		ws.OpenFile(run.path, nil)
+		var with *recipe.Recipe
+		if run.refused {
+			with = &run.start
+		}
+		ws.OpenFile(run.path, with)
 		return
 	}
 	ws.reopenLive(run, what)

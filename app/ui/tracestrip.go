@@ -82,6 +82,10 @@ type TraceStrip struct {
 	cursors  [2]float64
 	dragging int // the cursor a drag moves, -1 for a pan, -2 for none
 	caption  string
+	// live is set while the capture is still recorded (SetLive); total is
+	// then the number of lines so far, of which lines are the newest.
+	live  bool
+	total int
 }
 
 // NewTraceStrip returns an empty strip.
@@ -95,24 +99,42 @@ func NewTraceStrip() *TraceStrip {
 // (detector, index, position; -1 for none), the lines found and the index
 // threshold (NaN when unknown).
 func (t *TraceStrip) SetData(rec *capture.Recording, detector, index, position int, lines []Line, threshold float64) {
+	t.setData(rec, [3]int{detector, index, position}, lines, threshold, nil, 0)
+}
+
+// SetLive gives the strip a capture still being recorded: lines are its
+// newest (a live build lists only those), total how many there are so
+// far, and ranges each lane's range so far, kept by the recorder, so no
+// update scans the whole capture. The strip shows the newest line at every
+// update, keeping its zoom and cursors while the capture grows.
+func (t *TraceStrip) SetLive(rec *capture.Recording, detector, index, position int, lines []Line, threshold float64, ranges [3][2]float64, total int) {
+	t.setData(rec, [3]int{detector, index, position}, lines, threshold, &ranges, total)
+}
+
+func (t *TraceStrip) setData(rec *capture.Recording, ch [3]int, lines []Line, threshold float64, ranges *[3][2]float64, total int) {
 	t.mu.Lock()
-	if rec != t.rec {
+	growing := ranges != nil && t.live
+	if rec != t.rec && !growing {
 		t.zoomed = false
 		t.cursors = [2]float64{math.NaN(), math.NaN()}
 	}
+	t.live, t.total = ranges != nil, total
 	t.rec = rec
 	old := t.lanes
-	t.lanes = [3]traceLane{{"detector", detector}, {"index", index}, {"position", position}}
+	t.lanes = [3]traceLane{{"detector", ch[0]}, {"index", ch[1]}, {"position", ch[2]}}
 	t.prevLanes = old
 	t.lines = lines
-	if rec != t.rangesOf || t.lanesChanged(detector, index, position) {
+	switch {
+	case ranges != nil:
+		t.ranges, t.rangesOf = *ranges, nil
+	case rec != t.rangesOf || t.lanesChanged(ch[0], ch[1], ch[2]):
 		t.rangesOf = rec
 		for i, lane := range t.lanes {
 			t.ranges[i] = channelRange(rec, lane.channel)
 		}
 	}
 	t.threshold, t.hasThresh = threshold, !math.IsNaN(threshold)
-	if t.chosen >= len(lines) {
+	if t.chosen >= len(lines) || t.live {
 		t.chosen = len(lines) - 1
 	}
 	if t.chosen < 0 && len(lines) > 0 {
@@ -302,8 +324,16 @@ func (t *TraceStrip) placeWindow() {
 	if l.Repaired {
 		repaired = " (edge filled in)"
 	}
-	t.caption = fmt.Sprintf("Line %d of %d · aperture %d · stroke %d · edge at %.4f s%s · field %.2f–%.2f ms · y %.1f mm",
-		l.Number, len(t.lines), l.Aperture, l.Stroke, l.EdgeS, repaired,
+	of := fmt.Sprintf("of %d", len(t.lines))
+	if t.live {
+		of = fmt.Sprintf("of %d so far", t.total)
+	}
+	stroke := ""
+	if l.Stroke >= 0 {
+		stroke = fmt.Sprintf(" · stroke %d", l.Stroke)
+	}
+	t.caption = fmt.Sprintf("Line %d %s · aperture %d%s · edge at %.4f s%s · field %.2f–%.2f ms · y %.1f mm",
+		l.Number, of, l.Aperture, stroke, l.EdgeS, repaired,
 		1000*(l.FieldStartS-l.EdgeS), 1000*(l.FieldEndS-l.EdgeS), l.YMM)
 }
 
