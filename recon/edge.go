@@ -164,7 +164,10 @@ func measureEdgeResponse(det []float32, lines []placedLine) *edgeResponse {
 			break
 		}
 	}
-	e.rise = int(math.Ceil(float64(len(e.f)-lead) / edgeBinsPerSample))
+	// A field placed to end after the beam left (a delay set late) has a
+	// table that falls to 0 before the placed end: no sample at the
+	// start of a line is then still rising.
+	e.rise = max(0, int(math.Ceil(float64(len(e.f)-lead)/edgeBinsPerSample)))
 	return e
 }
 
