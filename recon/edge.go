@@ -103,26 +103,45 @@ func measureEdgeResponse(det []float32, lines []placedLine) *edgeResponse {
 	const level = 2 // samples before the table that give the level
 	before := float64(edgeLeadSamples + level)
 	bins := int((span + before) * edgeBinsPerSample)
-	sum := make([]float64, bins)
-	cnt := make([]float64, bins)
-	var levels []float64
-	for i := 0; i+1 < len(lines); i++ {
-		l := &lines[i]
-		from := max(int(math.Ceil(l.end-before)), l.first, 0)
-		to := min(int(math.Floor(l.end+span)), lines[i+1].first, len(det))
-		for j := from; j < to; j++ {
-			t := float64(j) - l.end
-			b := int((t + before) * edgeBinsPerSample)
-			if b < 0 || b >= bins {
-				continue
-			}
-			v := float64(det[j]) - l.baselineAt(j)
-			sum[b] += v
-			cnt[b]++
-			if t < -edgeLeadSamples {
-				levels = append(levels, v)
+	// Each worker folds its own share of the lines, in order; the shares'
+	// sums are added and their levels joined in the order of the lines.
+	spans := splitSpans(len(lines)-1, workers())
+	sums := make([][]float64, len(spans))
+	cnts := make([][]float64, len(spans))
+	lvls := make([][]float64, len(spans))
+	forEachSpan(spans, len(lines) > 64, func(k, a, b int) {
+		sum, cnt := make([]float64, bins), make([]float64, bins)
+		var levels []float64
+		for i := a; i < b; i++ {
+			l := &lines[i]
+			from := max(int(math.Ceil(l.end-before)), l.first, 0)
+			to := min(int(math.Floor(l.end+span)), lines[i+1].first, len(det))
+			for j := from; j < to; j++ {
+				t := float64(j) - l.end
+				b := int((t + before) * edgeBinsPerSample)
+				if b < 0 || b >= bins {
+					continue
+				}
+				v := float64(det[j]) - l.baselineAt(j)
+				sum[b] += v
+				cnt[b]++
+				if t < -edgeLeadSamples {
+					levels = append(levels, v)
+				}
 			}
 		}
+		sums[k], cnts[k], lvls[k] = sum, cnt, levels
+	})
+	sum, cnt := sums[0], cnts[0]
+	var levels []float64
+	for k := range spans {
+		if k > 0 {
+			for b := range sum {
+				sum[b] += sums[k][b]
+				cnt[b] += cnts[k][b]
+			}
+		}
+		levels = append(levels, lvls[k]...)
 	}
 	if len(levels) < 16 {
 		return nil

@@ -149,11 +149,18 @@ func baselineLines(ctx context.Context, det []float32, st *channelStats, lines [
 	}
 	means := make([]float64, len(iv))
 	valid := make([]bool, len(iv))
-	for i, v := range iv {
-		if i%4096 == 0 && ctx.Err() != nil {
-			return ctx.Err()
+	// Each mean is read on its own, so the workers' shares give the
+	// values one worker would.
+	forSpans(len(iv), 256, func(a, b int) {
+		for i := a; i < b; i++ {
+			if (i-a)%4096 == 0 && ctx.Err() != nil {
+				return
+			}
+			means[i], valid[i] = iv[i].mean(det, st)
 		}
-		means[i], valid[i] = v.mean(det, st)
+	})
+	if err := ctx.Err(); err != nil {
+		return err
 	}
 	// Fill empty intervals from their neighbours.
 	last := math.NaN()
@@ -254,6 +261,9 @@ type gridInput struct {
 	// edge, when not nil, is the detector's step response: the first
 	// samples of each line are divided by it.
 	edge *edgeResponse
+	// clips, when not nil, answers the clipping test of each line in
+	// place of a scan of its samples.
+	clips *clipTable
 	// progress, when not nil, gets the fraction of lines done; it is
 	// called from one goroutine at a time.
 	progress func(fraction float64)
@@ -443,17 +453,21 @@ func frameFromSums(g *frameGrid, p float64, accs [][]float64) *Frame {
 		OriginXMM: g.x0, OriginYMM: g.yTop,
 	}
 	first, rest := accs[0], accs[1:]
-	for i := range f.Pix {
-		sum, wt := first[2*i], first[2*i+1]
-		for _, a := range rest {
-			sum += a[2*i]
-			wt += a[2*i+1]
+	// Each pixel is summed on its own: the workers' shares of the pixels
+	// give the values one worker would.
+	forSpans(npx, 1<<15, func(a, b int) {
+		for i := a; i < b; i++ {
+			sum, wt := first[2*i], first[2*i+1]
+			for _, acc := range rest {
+				sum += acc[2*i]
+				wt += acc[2*i+1]
+			}
+			if wt >= minCoverWeight {
+				f.Pix[i] = float32(sum / wt)
+				f.Covered[i] = true
+			}
 		}
-		if wt >= minCoverWeight {
-			f.Pix[i] = float32(sum / wt)
-			f.Covered[i] = true
-		}
-	}
+	})
 	return f
 }
 
@@ -589,7 +603,11 @@ func splatLine(in *gridInput, g *frameGrid, l *placedLine, acc []float64) (clipp
 	if in.recorded != nil {
 		clipTest = in.recorded[l.first:l.last]
 	}
-	clipped, ties = clipScan(clipTest, det, in.clipHi, in.clipLo)
+	if in.clips != nil {
+		clipped, ties = in.clips.span(l.first, l.last)
+	} else {
+		clipped, ties = clipScan(clipTest, det, in.clipHi, in.clipLo)
+	}
 	lg := g.line(in.rows, l)
 	sign := 1.0
 	if in.invert {

@@ -76,6 +76,8 @@ type Session struct {
 	places     *memo[*placement]
 	grids      *memo[*Result]
 	stats      *memo[*channelStats]   // whole-channel statistics of the recording
+	clips      *memo[*clipTable]      // the detector's clipping test, once it is gridded again
+	gridded    map[string]bool        // detectors (by clipKey) gridded at least once
 	flat       map[int]flatRunsResult // constant stretches of each channel, once needed
 	roles      []capture.RoleGuess    // the capture's guessed roles, once needed
 	// runs counts how often each stage was computed (not reused), for
@@ -94,6 +96,7 @@ func NewSession(rec *capture.Recording) *Session {
 		// and the image: keep one of each.
 		coupled: newMemo[detectorView](1), places: newMemo[*placement](2), grids: newMemo[*Result](1),
 		stats: newMemo[*channelStats](len(rec.Channels)), shared: newMemo[*sharedIndex](1),
+		clips: newMemo[*clipTable](1), gridded: map[string]bool{},
 	}
 }
 
@@ -757,10 +760,22 @@ func (s *Session) gridSignal(ctx context.Context, rs *resolved, rows *rowsResult
 	if st.lo < 0 {
 		clipLo = st.lo
 	}
+	recorded := s.rec.Channels[rs.ch.detector].Samples
+	// The first gridding of a detector scans each line's samples for
+	// clipping; a session that grids it again (a delay, pitch or offset
+	// moved) builds the clipping table once and reads the lines from it.
+	var clips *clipTable
+	ck := key([2]any{rs.ch.detector, detectorKey(r.Signal)})
+	if s.gridded[ck] {
+		clips, _ = cachedStage(s.clips, nil, "", ck, func() (*clipTable, error) {
+			return newClipTable(recorded, det, st.hi, clipLo), nil
+		})
+	}
+	s.gridded[ck] = true
 	return gridInput{
-		det: det, recorded: s.rec.Channels[rs.ch.detector].Samples, sweep: pl.sweep, rows: rows, pitch: r.Image.PitchMM,
+		det: det, recorded: recorded, sweep: pl.sweep, rows: rows, pitch: r.Image.PitchMM,
 		invert: r.Signal.Invert, fill: r.Image.FillGapsPx, maxGapMM: *r.Image.MaxGapMM, clipHi: st.hi, clipLo: clipLo,
-		edge: pl.edge,
+		edge: pl.edge, clips: clips,
 	}, nil
 }
 
