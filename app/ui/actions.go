@@ -250,8 +250,8 @@ func (ws *Workstation) finishOpen(o *opened) {
 	ws.state = state{
 		rec: o.rec, engine: o.engine, sourcePath: o.path, sourceName: o.name, hist: newHistory(),
 		cur: settings{Recipe: cloneRecipe(o.recipe), Measurements: measure.CloneList(o.measurements)},
+		place: &viewPlace{},
 	}
-	ws.view.Reset()
 	resume := ws.resume
 	ws.resume = nil
 	ws.source.showCapture(o.rec, o.path, o.note)
@@ -264,7 +264,7 @@ func (ws *Workstation) finishOpen(o *opened) {
 		ws.cur.Tone, ws.good.Tone = resume.Tone, resume.Tone
 		ws.cur.Measurements = measure.CloneList(resume.Measurements)
 		ws.clean = settings{}
-		ws.view.setPlace(resume.View)
+		ws.place = &resume.View
 	}
 	ws.render()
 	if o.path != "" {
@@ -439,6 +439,24 @@ func (ws *Workstation) shown() shown {
 // changed, the tone when it changed, and always the controls, the channel
 // roles, the frame controls, undo and the title.
 func (ws *Workstation) render() {
+	if ws.place != nil && !(ws.place.Zoom > 0) {
+		ws.view.Reset() // a new capture: the next frame fits
+	}
+	if ws.liveUpdate {
+		ws.liveUpdate = false
+		if ws.result != nil && ws.drawn.result != nil {
+			ws.view.SetFrame(ws.shownFrame(), ws.cur.Tone)
+			ws.drawn.tone = ws.cur.Tone
+			ws.facts.show(ws.result.Report, ws.rec)
+			return
+		}
+	}
+	if ws.result == nil {
+		if ws.view.Frame() != nil {
+			ws.view.SetFrame(nil, ws.cur.Tone)
+		}
+		ws.drawn.result = nil
+	}
 	if ws.result != nil {
 		if frame := ws.shownFrame(); ws.result != ws.drawn.result || frame != ws.view.Frame() {
 			ws.renderBuild(frame)
@@ -452,6 +470,10 @@ func (ws *Workstation) render() {
 		}
 		ws.source.showRoles(ws.cur.Recipe)
 	}
+	if ws.place != nil && ws.place.Zoom > 0 {
+		ws.view.setPlace(*ws.place)
+	}
+	ws.place = nil
 	ws.showFrameControls()
 	ws.showMeasurements()
 	ws.updateUndo()

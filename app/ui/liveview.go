@@ -56,9 +56,7 @@ func (ws *Workstation) beginLive(run *liveRun, what string) {
 	ws.hist = newHistory()
 	ws.cur = settings{Recipe: cloneRecipe(run.start)}
 	ws.good, ws.clean = ws.cur.clone(), ws.cur.clone()
-	ws.result, ws.frameIndex = nil, 0
-	ws.view.Reset()
-	ws.view.SetFrame(nil, ws.cur.Tone)
+	ws.result, ws.frameIndex, ws.place = nil, 0, &viewPlace{}
 	ws.source.showCapture(ws.rec, run.path, fmt.Sprintf("found from the first %.0f s of the capture (more if that is too little), then kept while the image forms", liveResolveS))
 	ws.lv.bar.start(what, run.format.Channels)
 	ws.settled = what
@@ -135,10 +133,9 @@ func (ws *Workstation) showLive(run *liveRun, rec *capture.Recording, res *Resul
 		ws.rec, ws.lv.fullAt = rec, time.Now()
 		ws.applyResult(res, first)
 	} else {
-		ws.result = res
+		ws.result, ws.liveUpdate = res, true
 		ws.frameIndex = min(ws.frameIndex, len(res.Frames)-1)
-		ws.view.SetFrame(res.Frames[ws.frameIndex], ws.cur.Tone)
-		ws.facts.show(res.Report, ws.rec)
+		ws.render()
 	}
 	ws.lv.autoTone = ws.cur.Tone
 	if first {
@@ -230,8 +227,7 @@ func (ws *Workstation) reopenLive(run *liveRun, what string) {
 		}
 		ws.finishOpen(o)
 		ws.cur.Tone, ws.good.Tone = tone, tone
-		ws.view.SetTone(tone)
-		ws.view.setPlace(place)
+		ws.place = &place
 		ws.hist = hist
 		if tuned {
 			ws.clean = settings{} // tuned while live: not saved anywhere yet

@@ -122,6 +122,16 @@ type state struct {
 	frameIndex  int // the frame of result shown
 	hist        *history
 	tonedInvert bool // the detector polarity the tone was fitted for
+	// place is where the next render puts the view: nil leaves it where
+	// the user put it, a zero place fits the next frame (a new capture),
+	// another zoom and centre are put back (a session resumed, a live view
+	// become an ordinary capture).
+	place *viewPlace
+	// liveUpdate says the build shown is a live view's update between two
+	// full ones: the next render puts in only the image and the facts, and
+	// leaves the panels that rescan the capture or redraw many widgets (the
+	// trace strip, the measurements, the controls) for the next full one.
+	liveUpdate bool
 }
 
 // drawn is what render last put into the panels, so it puts in again only
