@@ -249,7 +249,7 @@ func (ws *Workstation) finishOpen(o *opened) {
 	// build or history is kept.
 	ws.state = state{
 		rec: o.rec, engine: o.engine, sourcePath: o.path, sourceName: o.name, hist: newHistory(),
-		cur: settings{Recipe: cloneRecipe(o.recipe), Measurements: measure.CloneList(o.measurements)},
+		cur:   settings{Recipe: cloneRecipe(o.recipe), Measurements: measure.CloneList(o.measurements)},
 		place: &viewPlace{},
 	}
 	resume := ws.resume

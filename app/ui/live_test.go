@@ -263,15 +263,7 @@ func TestLiveControlsActOnTheFormingImage(t *testing.T) {
 // Stop ends a recording part-way: what was captured until then is the
 // file, and the window opens it.
 func TestStopEndsTheRecordingAndOpensIt(t *testing.T) {
-	src, srcPath, r := liveCapture(t)
-	ws := newLiveWorkstation(t, src, 1)
-	ws.OpenFile(srcPath, &r)
-	ws.Wait()
-	out := filepath.Join(t.TempDir(), "part.wav")
-	uiDo(func() {
-		src, _ := ws.openDeviceFunc()("bench replay", live.Format{})
-		ws.RecordFrom(src, out, "int16")
-	})
+	ws, out := recordOverCapture(t, "part.wav")
 	time.Sleep(1200 * time.Millisecond)
 	uiDo(ws.StopLive)
 	endOfLive(t, ws)

@@ -9,21 +9,30 @@ import (
 	"spotloom/capture/live"
 )
 
+// recordOverCapture opens the live test capture in a headless window and
+// starts recording the bench replay of it, at its real rate, into name in
+// a new folder.
+func recordOverCapture(t *testing.T, name string) (ws *Workstation, out string) {
+	t.Helper()
+	src, srcPath, r := liveCapture(t)
+	ws = newLiveWorkstation(t, src, 1)
+	ws.OpenFile(srcPath, &r)
+	ws.Wait()
+	out = filepath.Join(t.TempDir(), name)
+	uiDo(func() {
+		s, _ := ws.openDeviceFunc()("bench replay", live.Format{})
+		ws.RecordFrom(s, out, "int16")
+	})
+	return ws, out
+}
+
 // TestLiveUpdatesGoThroughRender: a live view's image reaches the view
 // only through the window's state and its render step: at every update
 // the view shows the state's frame, a zoom set while the image forms
 // stays through the updates, and stays when the recording is stopped and
 // opened as an ordinary capture (the state's place, put back by render).
 func TestLiveUpdatesGoThroughRender(t *testing.T) {
-	src, srcPath, r := liveCapture(t)
-	ws := newLiveWorkstation(t, src, 1)
-	ws.OpenFile(srcPath, &r)
-	ws.Wait()
-	out := filepath.Join(t.TempDir(), "zoomed.wav")
-	uiDo(func() {
-		s, _ := ws.openDeviceFunc()("bench replay", live.Format{})
-		ws.RecordFrom(s, out, "int16")
-	})
+	ws, out := recordOverCapture(t, "zoomed.wav")
 	// Wait for the first live image, then zoom in on it.
 	deadline := time.Now().Add(30 * time.Second)
 	shown := false
