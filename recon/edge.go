@@ -2,6 +2,7 @@ package recon
 
 import (
 	"math"
+	"slices"
 )
 
 // The detector does not follow the beam at once: its chain (a phosphor's
@@ -86,63 +87,107 @@ const measureLines = 1000
 // field is too dark to measure the fall against the noise, or the lines
 // leave too little beam-off time after their field.
 func measureEdgeResponse(det []float32, lines []placedLine) *edgeResponse {
+	span, ok := edgeSpan(lines)
+	if !ok {
+		return nil
+	}
 	lines = lines[:min(len(lines), measureLines+1)]
-	if len(lines) < 2 {
-		return nil
-	}
-	// The fall is measured over the beam-off time after the field, up to
-	// maxEdgeSamples, and never into the next line's field.
-	var gaps []float64
-	for i := 1; i < len(lines); i++ {
-		gaps = append(gaps, lines[i].start-lines[i-1].end)
-	}
-	span := math.Min(median(gaps)-1, maxEdgeSamples)
-	if !(span >= 4) {
-		return nil
-	}
-	const level = 2 // samples before the table that give the level
-	before := float64(edgeLeadSamples + level)
-	bins := int((span + before) * edgeBinsPerSample)
 	// Each worker folds its own share of the lines, in order; the shares'
 	// sums are added and their levels joined in the order of the lines.
 	spans := splitSpans(len(lines)-1, workers())
-	sums := make([][]float64, len(spans))
-	cnts := make([][]float64, len(spans))
-	lvls := make([][]float64, len(spans))
+	folds := make([]*edgeFold, len(spans))
 	forEachSpan(spans, len(lines) > 64, func(k, a, b int) {
-		sum, cnt := make([]float64, bins), make([]float64, bins)
-		var levels []float64
+		f := newEdgeFold(span)
 		for i := a; i < b; i++ {
-			l := &lines[i]
-			from := max(int(math.Ceil(l.end-before)), l.first, 0)
-			to := min(int(math.Floor(l.end+span)), lines[i+1].first, len(det))
-			for j := from; j < to; j++ {
-				t := float64(j) - l.end
-				b := int((t + before) * edgeBinsPerSample)
-				if b < 0 || b >= bins {
-					continue
-				}
-				v := float64(det[j]) - l.baselineAt(j)
-				sum[b] += v
-				cnt[b]++
-				if t < -edgeLeadSamples {
-					levels = append(levels, v)
-				}
-			}
+			f.add(det, &lines[i], lines[i+1].first)
 		}
-		sums[k], cnts[k], lvls[k] = sum, cnt, levels
+		folds[k] = f
 	})
-	sum, cnt := sums[0], cnts[0]
-	var levels []float64
-	for k := range spans {
-		if k > 0 {
-			for b := range sum {
-				sum[b] += sums[k][b]
-				cnt[b] += cnts[k][b]
-			}
-		}
-		levels = append(levels, lvls[k]...)
+	f := folds[0]
+	for _, o := range folds[1:] {
+		f.merge(o)
 	}
+	return f.response()
+}
+
+// edgeSpan is how long after the field end the fall is measured over,
+// samples: the beam-off time after the field (the median over the first
+// measureLines lines, up to maxEdgeSamples), and never into the next
+// line's field; ok is false when that is too short to measure.
+func edgeSpan(lines []placedLine) (span float64, ok bool) {
+	lines = lines[:min(len(lines), measureLines+1)]
+	if len(lines) < 2 {
+		return 0, false
+	}
+	gaps := make([]float64, 0, len(lines)-1)
+	for i := 1; i < len(lines); i++ {
+		gaps = append(gaps, lines[i].start-lines[i-1].end)
+	}
+	span = math.Min(median(gaps)-1, maxEdgeSamples)
+	return span, span >= 4
+}
+
+// edgeLevelSamples is how many samples before the table give the level.
+const edgeLevelSamples = 2
+
+// edgeFold is the detector folded around the field end of lines, as
+// measureEdgeResponse sums it: per bin of the time axis the sum and count
+// of the baseline-removed samples, and the samples before the table. Lines
+// are added one at a time, so a live build keeps the fold of the lines it
+// has (edgeFold.add is the same whatever was added before).
+type edgeFold struct {
+	span     float64
+	sum, cnt []float64
+	levels   []float64
+}
+
+func newEdgeFold(span float64) *edgeFold {
+	bins := int((span + edgeLeadSamples + edgeLevelSamples) * edgeBinsPerSample)
+	return &edgeFold{span: span, sum: make([]float64, bins), cnt: make([]float64, bins)}
+}
+
+// clone is a copy of e that lines can be added to.
+func (e *edgeFold) clone() *edgeFold {
+	return &edgeFold{span: e.span, sum: slices.Clone(e.sum), cnt: slices.Clone(e.cnt), levels: slices.Clone(e.levels)}
+}
+
+// merge adds the fold of the lines after e's (of the same span).
+func (e *edgeFold) merge(o *edgeFold) {
+	for b := range e.sum {
+		e.sum[b] += o.sum[b]
+		e.cnt[b] += o.cnt[b]
+	}
+	e.levels = append(e.levels, o.levels...)
+}
+
+// add folds in the samples of det around l's field end, up to the span
+// and to nextFirst, the next line's first sample.
+func (e *edgeFold) add(det []float32, l *placedLine, nextFirst int) {
+	before := float64(edgeLeadSamples + edgeLevelSamples)
+	bins := len(e.sum)
+	from := max(int(math.Ceil(l.end-before)), l.first, 0)
+	to := min(int(math.Floor(l.end+e.span)), nextFirst, len(det))
+	for j := from; j < to; j++ {
+		t := float64(j) - l.end
+		b := int((t + before) * edgeBinsPerSample)
+		if b < 0 || b >= bins {
+			continue
+		}
+		v := float64(det[j]) - l.baselineAt(j)
+		e.sum[b] += v
+		e.cnt[b]++
+		if t < -edgeLeadSamples {
+			e.levels = append(e.levels, v)
+		}
+	}
+}
+
+// response is the edge response the fold gives, nil when the level is
+// too dark to measure against the noise or the table too short.
+func (fd *edgeFold) response() *edgeResponse {
+	const level = edgeLevelSamples
+	bins := len(fd.sum)
+	sum, cnt, levels := fd.sum, fd.cnt, fd.levels
 	if len(levels) < 16 {
 		return nil
 	}

@@ -598,15 +598,33 @@ func (g *frameGrid) line(rows *rowsResult, l *placedLine) lineOnGrid {
 // nothing about clipping). It touches only acc, so lines can be splatted
 // one at a time as they arrive.
 func splatLine(in *gridInput, g *frameGrid, l *placedLine, acc []float64) (clipped bool, ties int) {
+	clipped, ties = clipLine(in, l)
+	splatSpan(in, g, l, acc, 0, l.last-l.first)
+	return clipped, ties
+}
+
+// clipLine is splatLine's clipping test and count of repeated samples.
+func clipLine(in *gridInput, l *placedLine) (clipped bool, ties int) {
+	if in.clips != nil {
+		return in.clips.span(l.first, l.last)
+	}
 	det := in.det[l.first:l.last]
 	clipTest := det
 	if in.recorded != nil {
 		clipTest = in.recorded[l.first:l.last]
 	}
-	if in.clips != nil {
-		clipped, ties = in.clips.span(l.first, l.last)
-	} else {
-		clipped, ties = clipScan(clipTest, det, in.clipHi, in.clipLo)
+	return clipScan(clipTest, det, in.clipHi, in.clipLo)
+}
+
+// splatSpan adds samples [from, to) of the line (counted from l.first) to
+// acc as splatLine adds them, so splatting the spans of a partition of a
+// line adds what splatLine adds, to float rounding.
+func splatSpan(in *gridInput, g *frameGrid, l *placedLine, acc []float64, from, to int) {
+	det := in.det[l.first:l.last]
+	n := len(det)
+	from, to = max(from, 0), min(to, n)
+	if from >= to {
+		return
 	}
 	lg := g.line(in.rows, l)
 	sign := 1.0
@@ -615,13 +633,12 @@ func splatLine(in *gridInput, g *frameGrid, l *placedLine, acc []float64) (clipp
 	}
 	// Samples inside the detector's rise [0, a) and fall [b, n) are
 	// corrected by its step response one by one; the rest go in a run.
-	n := len(det)
 	a, b := 0, n
 	if in.edge != nil {
 		a = min(in.edge.rise, n)
 		b = max(n-in.edge.fall, a)
 		lead := float64(l.first) - l.start
-		for _, r := range [2][2]int{{0, a}, {b, n}} {
+		for _, r := range [2][2]int{{from, min(a, to)}, {max(b, from), to}} {
 			for k := r[0]; k < r[1]; k++ {
 				fk := float64(k)
 				gain := 1.0
@@ -639,19 +656,22 @@ func splatLine(in *gridInput, g *frameGrid, l *placedLine, acc []float64) (clipp
 			}
 		}
 	}
+	lo, hi := max(a, from), min(b, to)
+	if lo >= hi {
+		return
+	}
 	// Lines whose every sample lands at least one pixel inside the grid
 	// take the fast path without bounds checks (most lines do).
 	vEnd := lg.v0 + lg.dv*float64(n)
 	if g.insideX && math.Min(lg.v0, vEnd) >= 0 && math.Max(lg.v0, vEnd) < float64(g.rows-1) {
-		g.splatRun(acc, det[:b], a, lg, sign)
-		return clipped, ties
+		g.splatRun(acc, det[:hi], lo, lg, sign)
+		return
 	}
-	for k := a; k < b; k++ {
+	for k := lo; k < hi; k++ {
 		fk := float64(k)
 		value := sign * (float64(det[k]) - (lg.base0 + lg.slope*fk))
 		g.splatPoint(acc, g.colAt(lg.pu0+lg.dpu*fk), lg.v0+lg.dv*fk, value)
 	}
-	return clipped, ties
 }
 
 // clipScan reports whether test sits at or beyond hi or lo for three

@@ -57,7 +57,8 @@ type liveCore struct {
 	sinePer   float64
 	canvas    liveCanvas
 	committed liveTotals
-	recent    []Line    // the last gridded lines, at most LiveRecentLines
+	recent    []Line // the last gridded lines, at most LiveRecentLines
+	early     earlyLines
 	scratch   []float64 // Result's accumulators
 }
 
@@ -132,6 +133,16 @@ func (t *liveTotals) add(l *placedLine, y0, y1 float64, clipped bool, ties int) 
 	t.yLo = math.Min(t.yLo, math.Min(y0, y1))
 }
 
+// merge adds the lines o counts.
+func (t *liveTotals) merge(o liveTotals) {
+	t.lines += o.lines
+	t.clipped += o.clipped
+	t.ties += o.ties
+	t.samples += o.samples
+	t.periodSum += o.periodSum
+	t.yHi, t.yLo = math.Max(t.yHi, o.yHi), math.Min(t.yLo, o.yLo)
+}
+
 func newLiveCore(r recipe.Recipe, layout LiveLayout) (*liveCore, error) {
 	r = r.Clone()
 	if r.Format == "" {
@@ -179,6 +190,7 @@ func newLiveCore(r recipe.Recipe, layout LiveLayout) (*liveCore, error) {
 	c.stats.prefix = []float64{0}
 	c.bound.lastValid = math.NaN()
 	c.committed.yHi, c.committed.yLo = math.Inf(-1), math.Inf(1)
+	c.early = earlyLines{zone: 2 * edgeLeadSamples, totals: c.committed}
 	if c.live, err = newLiveRows(r, c.ch, c.rate); err != nil {
 		return nil, err
 	}
@@ -385,10 +397,16 @@ func (c *liveCore) meanOf(iv interval, lastValid float64) (mean, valid float64) 
 
 // commit grids the queued lines that nothing later can change: once the
 // first lines have given the typical beam-off and the edge response, a
-// line whose next line is placed and whose rows are final.
+// line whose next line is placed and whose rows are final (the first
+// ones mostly gridded already, earlyLines).
 func (c *liveCore) commit() error {
 	if !c.warm && !c.warmUp() {
 		return nil
+	}
+	if len(c.early.lines) > 0 {
+		if err := c.commitEarly(); err != nil {
+			return err
+		}
 	}
 	for len(c.queue) > 0 {
 		l := &c.queue[0]
@@ -398,16 +416,222 @@ func (c *liveCore) commit() error {
 		if c.baseline {
 			c.bound = c.baselineNext(c.bound, l, c.queue[1].first, c.typ)
 		}
-		y0, y1 := c.live.rows.at(float64(l.first)), c.live.rows.at(float64(l.last-1))
-		if err := c.canvas.cover(c, math.Min(y0, y1), math.Max(y0, y1)); err != nil {
+		if err := c.commitLine(l); err != nil {
+			return err
+		}
+		c.queue = c.queue[1:]
+	}
+	return nil
+}
+
+// commitLine grids l on the canvas with the measured edge response and
+// counts it in the totals.
+func (c *liveCore) commitLine(l *placedLine) error {
+	y0, y1, err := c.coverLine(l)
+	if err != nil {
+		return err
+	}
+	in := c.gridInput(&c.live.rows, c.edge)
+	clipped, ties := splatLine(&in, c.canvas.g, l, c.canvas.acc)
+	c.committed.add(l, y0, y1, clipped, ties)
+	c.keepRecent(c.liveLine(l, &c.live.rows))
+	return nil
+}
+
+// coverLine grows the canvas to hold l and returns the y of its ends.
+func (c *liveCore) coverLine(l *placedLine) (y0, y1 float64, err error) {
+	y0, y1 = c.live.rows.at(float64(l.first)), c.live.rows.at(float64(l.last-1))
+	return y0, y1, c.canvas.cover(c, math.Min(y0, y1), math.Max(y0, y1))
+}
+
+// earlyLines is what a live build keeps of its first lines until warmUp
+// fixes the typical beam-off and the edge response, which the first
+// measureLines lines give (and the index repair its reference period,
+// which the first pulses give): until then every Result works the lines
+// out afresh, as a batch build of the samples so far, and most of them
+// come out as the last Result had them. Those it keeps: lines[k] was line
+// k+1 of the last Result, with its baseline, the y of its ends and the
+// first sample of the line after it — all that the middle of a line
+// (its samples but the first zone and the last edgeLeadSamples, the only
+// ones the edge response corrects) is gridded from, and that middle is on
+// the canvas. A Result grids a kept line's middle only when it is not
+// the same any more (and the canvas is then made again from the lines
+// that are), so its cost does not grow with the first lines. The first
+// line is never kept: the typical beam-off sets the stretch before it.
+type earlyLines struct {
+	lines  []earlyLine
+	zone   int        // samples at a kept line's start left off the canvas
+	fold   *edgeFold  // of lines[:folded], nil until a Result folds them
+	folded int        //
+	totals liveTotals // of the kept lines
+}
+
+// earlyLine is one kept line.
+type earlyLine struct {
+	l         placedLine
+	y0, y1    float64
+	nextFirst int
+	clipped   bool
+	ties      int
+}
+
+// same reports whether l (followed by a line from nextFirst) grids and
+// folds as the kept line does.
+func (k *earlyLine) same(l *placedLine, rows *rowsResult, nextFirst int) bool {
+	a := &k.l
+	return a.first == l.first && a.last == l.last && a.start == l.start && a.end == l.end && a.u0 == l.u0 && a.du == l.du &&
+		a.base0 == l.base0 && a.baseSlope == l.baseSlope && k.nextFirst == nextFirst &&
+		k.y0 == rows.at(float64(l.first)) && k.y1 == rows.at(float64(l.last-1))
+}
+
+// interior is the part of a kept line of n samples on the canvas.
+func (e *earlyLines) interior(n int) (from, to int) {
+	from = min(e.zone, n)
+	return from, max(n-edgeLeadSamples, from)
+}
+
+// splatEnds splats the samples of kept line l that are not on the canvas.
+func (e *earlyLines) splatEnds(in *gridInput, g *frameGrid, l *placedLine, acc []float64) {
+	n := l.last - l.first
+	from, to := e.interior(n)
+	splatSpan(in, g, l, acc, 0, from)
+	splatSpan(in, g, l, acc, to, n)
+}
+
+// keep adds lines[i] (all of whose rows are final, followed by
+// lines[i+1]) to the kept lines, its middle to the canvas.
+func (c *liveCore) keep(lines []placedLine, i int) error {
+	e := &c.early
+	l := &lines[i]
+	y0, y1, err := c.coverLine(l)
+	if err != nil {
+		return err
+	}
+	in := c.gridInput(&c.live.rows, nil)
+	k := earlyLine{l: *l, y0: y0, y1: y1, nextFirst: lines[i+1].first}
+	k.clipped, k.ties = clipLine(&in, l)
+	e.totals.add(l, y0, y1, k.clipped, k.ties)
+	from, to := e.interior(l.last - l.first)
+	splatSpan(&in, c.canvas.g, l, c.canvas.acc, from, to)
+	if e.fold != nil && e.folded == len(e.lines) && i < measureLines {
+		e.fold.add(c.det, l, k.nextFirst)
+		e.folded++
+	}
+	e.lines = append(e.lines, k)
+	return nil
+}
+
+// regrid makes the canvas again from the kept lines (their totals and
+// fold too), with zone samples at their starts left off.
+func (c *liveCore) regrid(zone int) {
+	e := &c.early
+	clear(c.canvas.acc)
+	e.zone, e.fold, e.folded = zone, nil, 0
+	e.totals = liveTotals{yHi: math.Inf(-1), yLo: math.Inf(1)}
+	in := c.gridInput(&c.live.rows, nil)
+	for i := range e.lines {
+		k := &e.lines[i]
+		e.totals.add(&k.l, k.y0, k.y1, k.clipped, k.ties)
+		from, to := e.interior(k.l.last - k.l.first)
+		splatSpan(&in, c.canvas.g, &k.l, c.canvas.acc, from, to)
+	}
+}
+
+// keepEarly matches the kept lines against lines (lines[i] is kept line
+// i−1), drops those that are not the same any more, and keeps the lines
+// after them whose rows are final, short of the last few, which the next
+// edges may still change. It returns how many lines are kept.
+func (c *liveCore) keepEarly(lines []placedLine, rows *rowsResult) (int, error) {
+	e := &c.early
+	k := 0
+	for k < len(e.lines) && k+2 < len(lines) && e.lines[k].same(&lines[k+1], rows, lines[k+2].first) {
+		k++
+	}
+	if k < len(e.lines) {
+		e.lines = e.lines[:k]
+		c.regrid(e.zone)
+	}
+	margin := max(c.tp.Apertures, 1) + 2
+	for i := k + 1; i+1+margin < len(lines) && c.live.final(&lines[i]); i++ {
+		if err := c.keep(lines, i); err != nil {
+			return 0, err
+		}
+	}
+	return len(e.lines), nil
+}
+
+// measureEarly is measureEdgeResponse of lines, the first lines of the
+// build with their baselines, of which lines[1 : 1+kept] are the kept
+// ones: only the others are folded afresh.
+func (c *liveCore) measureEarly(lines []placedLine, kept int) *edgeResponse {
+	span, ok := edgeSpan(lines)
+	if !ok {
+		return nil
+	}
+	e := &c.early
+	k := min(kept, measureLines-1) // lines 1…k are kept and measured
+	if k == 0 {
+		return measureEdgeResponse(c.det, lines)
+	}
+	if e.fold == nil || e.fold.span != span || e.folded != k {
+		e.fold, e.folded = newEdgeFold(span), k
+		for i := range e.lines[:k] {
+			e.fold.add(c.det, &e.lines[i].l, e.lines[i].nextFirst)
+		}
+	}
+	f := e.fold.clone()
+	m := min(len(lines), measureLines+1)
+	for i := 0; i+1 < m; i++ {
+		if i == 1 {
+			i = k + 1
+			if i+1 >= m {
+				break
+			}
+		}
+		f.add(c.det, &lines[i], lines[i+1].first)
+	}
+	return f.response()
+}
+
+// commitEarly commits the first line and the kept ones that are the same
+// as the queue's, once warmUp has fixed the edge response: only their
+// ends are gridded now.
+func (c *liveCore) commitEarly() error {
+	e := &c.early
+	st := c.baselineNext(c.bound, &c.queue[0], c.queue[1].first, c.typ)
+	k := 0
+	for k < len(e.lines) && k+2 < len(c.queue) {
+		l := &c.queue[k+1]
+		next := c.baselineNext(st, l, c.queue[k+2].first, c.typ)
+		if !e.lines[k].same(l, &c.live.rows, c.queue[k+2].first) {
+			break
+		}
+		st, k = next, k+1
+	}
+	zone := e.zone
+	if c.edge != nil {
+		zone = max(zone, c.edge.rise)
+	}
+	if k < len(e.lines) || zone > e.zone {
+		e.lines = e.lines[:k]
+		c.regrid(zone)
+	}
+	if k > 0 {
+		first := &c.queue[0]
+		c.bound = c.baselineNext(c.bound, first, c.queue[1].first, c.typ)
+		if err := c.commitLine(first); err != nil {
 			return err
 		}
 		in := c.gridInput(&c.live.rows, c.edge)
-		clipped, ties := splatLine(&in, c.canvas.g, l, c.canvas.acc)
-		c.committed.add(l, y0, y1, clipped, ties)
-		c.keepRecent(c.liveLine(l, &c.live.rows))
-		c.queue = c.queue[1:]
+		for i := 1; i <= k; i++ {
+			e.splatEnds(&in, c.canvas.g, &c.queue[i], c.canvas.acc)
+			c.keepRecent(c.liveLine(&c.queue[i], &c.live.rows))
+		}
+		c.committed.merge(e.totals)
+		c.bound = st
+		c.queue = c.queue[k+1:]
 	}
+	c.early = earlyLines{}
 	return nil
 }
 

@@ -20,10 +20,11 @@ type liveTail struct {
 	lvLo    float64
 	lvHi    float64
 	timings int
+	settled int // lines[1 : 1+settled] are kept (earlyLines)
 }
 
 // tail works out the open part of the build.
-func (c *liveCore) tail() *liveTail {
+func (c *liveCore) tail() (*liveTail, error) {
 	t := &liveTail{revs: c.revs}
 	// The repair walked to the end, as with no more edges to come.
 	w := c.rep
@@ -56,13 +57,21 @@ func (c *liveCore) tail() *liveTail {
 	t.rows, t.lvLo, t.lvHi = c.live.tail(c.raw, c.n)
 	t.edge = c.edge
 	if !c.baseline {
-		return t
+		return t, nil
 	}
 	if !c.warm {
-		// Nothing is gridded yet: every line so far, as a batch build.
+		// Every line so far, as a batch build; the settled ones have
+		// their baselines already and most of their samples gridded.
 		_ = baselineLines(context.Background(), c.det, &c.stats, t.lines)
-		t.edge = measureEdgeResponse(c.det, t.lines)
-		return t
+		var err error
+		if t.settled, err = c.keepEarly(t.lines, t.rows); err != nil {
+			return nil, err
+		}
+		t.edge = c.measureEarly(t.lines, t.settled)
+		if t.settled > 0 && t.edge != nil && t.edge.rise > c.early.zone {
+			c.regrid(2 * t.edge.rise)
+		}
+		return t, nil
 	}
 	st := c.bound
 	for i := range t.lines {
@@ -72,16 +81,28 @@ func (c *liveCore) tail() *liveTail {
 		}
 		st = c.baselineNext(st, &t.lines[i], next, c.typ)
 	}
-	return t
+	return t, nil
 }
+
+// settles reports whether lines[i] is kept (earlyLines).
+func (t *liveTail) settles(i int) bool { return i >= 1 && i <= t.settled }
 
 // result is the image and report of the samples so far.
 func (c *liveCore) result() *Result {
-	t := c.tail()
+	t, err := c.tail()
+	if err != nil {
+		return nil
+	}
 	p := c.r.Image.PitchMM
 	total := c.committed
+	if t.settled > 0 {
+		total.merge(c.early.totals)
+	}
 	ys := make([][2]float64, len(t.lines))
 	for i := range t.lines {
+		if t.settles(i) {
+			continue
+		}
 		l := &t.lines[i]
 		ys[i] = [2]float64{t.rows.at(float64(l.first)), t.rows.at(float64(l.last - 1))}
 		total.yHi = math.Max(total.yHi, math.Max(ys[i][0], ys[i][1]))
@@ -99,7 +120,7 @@ func (c *liveCore) result() *Result {
 	acc := slices.Grow(c.scratch[:0], 2*g.cols*g.rows)[:2*g.cols*g.rows]
 	clear(acc)
 	c.scratch = acc
-	if v := c.canvas; v.g != nil {
+	if v := c.canvas; v.g != nil && (c.warm || t.settled > 0) {
 		// Canvas row r is lattice row v.top−r, frame row int(top)−(v.top−r).
 		shift := v.top - int(top)
 		row := 2 * g.cols
@@ -111,6 +132,10 @@ func (c *liveCore) result() *Result {
 	in := c.gridInput(t.rows, t.edge)
 	for i := range t.lines {
 		l := &t.lines[i]
+		if t.settles(i) {
+			c.early.splatEnds(&in, g, l, acc)
+			continue
+		}
 		clipped, ties := splatLine(&in, g, l, acc)
 		total.add(l, ys[i][0], ys[i][1], clipped, ties)
 	}

@@ -318,3 +318,59 @@ func TestLiveRefuses(t *testing.T) {
 		}
 	}
 }
+
+// TestLiveFirstLines: before the first thousand lines (and index pulses)
+// fix the edge response and the repair, each Result works the lines out
+// afresh but grids only what changed; at several points it equals the
+// batch build of the samples so far (Session.Build of the same frames),
+// also after a kept line turned out different and when the measured rise
+// outgrew the samples left off the canvas.
+func TestLiveFirstLines(t *testing.T) {
+	rec := simulate(t, liveRig())
+	r, err := recon.ResolveLive(context.Background(), head(rec, 3), sampledata.DemoRecipe())
+	if err != nil {
+		t.Fatal(err)
+	}
+	lv, err := recon.NewLive(r, recon.LayoutOf(rec))
+	if err != nil {
+		t.Fatal(err)
+	}
+	recon.SetLiveZone(lv, 1) // any measured rise is longer
+	block := int(rec.SampleRateHz) / 100
+	at := 0
+	feedTo := func(seconds float64) {
+		for end := int(seconds * rec.SampleRateHz); at < end; at += block {
+			k := min(block, end-at)
+			x := make([]float32, 0, k*len(rec.Channels))
+			for i := at; i < at+k; i++ {
+				for _, c := range rec.Channels {
+					x = append(x, c.Samples[i])
+				}
+			}
+			if err := lv.Append(x); err != nil {
+				t.Fatal(err)
+			}
+		}
+	}
+	for i, s := range []float64{2.5, 4, 5.5, 7} {
+		feedTo(s)
+		got := lv.Result()
+		if i > 0 && recon.LiveKept(lv) == 0 {
+			t.Fatalf("at %g s no line is kept", s)
+		}
+		want, err := recon.NewSession(head(rec, float64(at)/rec.SampleRateHz)).Build(context.Background(), r, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if want.Report.Lines >= 1000 {
+			t.Fatalf("at %g s already %d lines: the test is about the first thousand", s, want.Report.Lines)
+		}
+		sameImage(t, got, want)
+		if i == 1 {
+			if z := recon.LiveZone(lv); z <= 1 {
+				t.Errorf("the zone left off the canvas is still %d samples after a rise was measured", z)
+			}
+			recon.SpoilLiveKept(lv, recon.LiveKept(lv)/2)
+		}
+	}
+}
