@@ -72,30 +72,61 @@ func TestAutomaticAlignmentAgainstTruth(t *testing.T) {
 
 // The first and last columns of the field are as bright as the scene
 // there: the samples the detector's rise and fall dim are corrected by its
-// measured step response. The parcel's edges are air of even brightness
-// (checked on the simulator's truth raster), so each of the three
+// measured step response. Only pixels whose scene is the even background
+// count: on the parcel every pixel of the field's edges (air, checked on
+// the simulator's truth raster), on the demo dot grid (the issue's own
+// example) those whose truth raster is the sheet's level within 4 mm (over
+// twice the spot's FWHM, so no dot's blur reaches them). Each of the three
 // outermost columns at either side must come within 5 % of the mean of the
 // six columns next to them (the simulator's inverse-square fall-off,
 // cos²θ, changes by under 0.3 % over those columns: a closed form). Before
 // the correction the first three columns of the demo parcel averaged
 // 0.014, 0.028 and 0.056 against 0.094 with the offsets left at zero, and
-// the first 0.062 with the true alignment.
+// the first 0.062 with the true alignment; those of the demo dot grid
+// 0.15, 0.29 and 0.59 against 0.87.
 func TestFieldEdgesKeepTheirBrightness(t *testing.T) {
 	ctx := context.Background()
 	rig := sampledata.DemoRig()
 	rig.DurationS = 10
-	for _, scene := range []string{"parcel"} {
+	for _, scene := range []string{"parcel", "dot-grid"} {
 		rec, truth, err := sampledata.Simulate(ctx, rig, scene, sampledata.SimOptions{Seed: 5, TruthPitchMM: 1})
 		if err != nil {
 			t.Fatal(err)
 		}
 		img := truth.ImageRaster()
-		for row := 0; row < img.Height; row++ {
-			for _, c := range []int{0, 1, 2, 3, 4, 5, 6, 7, 8, img.Width - 9, img.Width - 5, img.Width - 1} {
-				if v, w := img.Pix[row*img.Width+c], img.Pix[row*img.Width]; v != w {
-					t.Fatalf("%s: the truth is not even at the field's edges (row %d column %d: %g, column 0: %g)", scene, row, c, v, w)
+		if scene == "parcel" {
+			for row := 0; row < img.Height; row++ {
+				for _, c := range []int{0, 1, 2, 3, 4, 5, 6, 7, 8, img.Width - 9, img.Width - 5, img.Width - 1} {
+					if v, w := img.Pix[row*img.Width+c], img.Pix[row*img.Width]; v != w {
+						t.Fatalf("%s: the truth is not even at the field's edges (row %d column %d: %g, column 0: %g)", scene, row, c, v, w)
+					}
 				}
 			}
+		}
+		sheet := float32(0)
+		for _, v := range img.Pix {
+			sheet = max(sheet, v)
+		}
+		// background reports whether the truth around (x, y) is the sheet
+		// (the parcel: anywhere).
+		background := func(x, y float64) bool {
+			if scene == "parcel" {
+				return true
+			}
+			r := int(math.Round(4 / img.PitchMM))
+			tc := int(math.Round((x - img.OriginXMM) / img.PitchMM))
+			tr := int(math.Round((img.OriginYMM - y) / img.PitchMM))
+			for i := tr - r; i <= tr+r; i++ {
+				for j := tc - r; j <= tc+r; j++ {
+					if i < 0 || i >= img.Height || j < 0 || j >= img.Width {
+						continue
+					}
+					if img.Pix[i*img.Width+j] < sheet-1e-3 {
+						return false
+					}
+				}
+			}
+			return true
 		}
 		s := NewSession(rec)
 		automatic := rig.Recipe()
@@ -113,15 +144,16 @@ func TestFieldEdgesKeepTheirBrightness(t *testing.T) {
 				t.Fatal(err)
 			}
 			f := res.Frames[0]
-			col := func(c int) float64 {
+			col := func(c int) (float64, int) {
 				sum, n := 0.0, 0
+				x := f.OriginXMM + float64(c)*f.PitchXMM
 				for row := 0; row < f.Height; row++ {
-					if v, ok := f.At(c, row); ok {
+					if v, ok := f.At(c, row); ok && background(x, f.OriginYMM-float64(row)*f.PitchYMM) {
 						sum += float64(v)
 						n++
 					}
 				}
-				return sum / float64(n)
+				return sum / float64(n), n
 			}
 			for _, side := range []struct {
 				name  string
@@ -132,16 +164,21 @@ func TestFieldEdgesKeepTheirBrightness(t *testing.T) {
 				{"last", [3]int{f.Width - 1, f.Width - 2, f.Width - 3}, [6]int{f.Width - 4, f.Width - 5, f.Width - 6, f.Width - 7, f.Width - 8, f.Width - 9}},
 			} {
 				inner := 0.0
-				for _, c := range side.inner {
-					inner += col(c) / 6
+				for _, k := range side.inner {
+					v, n := col(k)
+					if n < 20 {
+						t.Fatalf("%s, %s: column %d has %d background pixels: the check shows nothing", scene, c.name, k, n)
+					}
+					inner += v / 6
 				}
 				var got []float64
 				for _, c := range side.edge {
-					got = append(got, col(c))
+					v, _ := col(c)
+					got = append(got, v)
 				}
 				t.Logf("%s, %s: %s columns %.3f against %.3f", scene, c.name, side.name, got, inner)
 				for i, v := range got {
-					if math.Abs(v-inner) > 0.05*inner {
+					if !(math.Abs(v-inner) <= 0.05*inner) {
 						t.Errorf("%s, %s: %s column %d averages %.3f, the columns beside it %.3f", scene, c.name, side.name, i, v, inner)
 					}
 				}
@@ -246,7 +283,8 @@ func TestFinePitchHasNoStripes(t *testing.T) {
 // The automatic delay is the simulator's truth (delay_deg, a geometric
 // quantity from the rig's numbers, sampledata.Truth) within 0.05° on every
 // rig the law applies to and on the scenes with a beam-off step into the
-// field: the demo rig, the sound-card rig (AC-coupled detector), the hand
+// field: the demo rig, the sound-card rig (AC-coupled detector), the
+// two-input sound card (index pulses and position tone on one input), the hand
 // rig (aperture errors up to 0.3°) and the resonant mirror, each with its
 // own detector and, on the wheels, a 300 µs phosphor afterglow, with
 // signal.afterglow_us null so the engine estimates and undoes it. With the
@@ -257,7 +295,7 @@ func TestFinePitchHasNoStripes(t *testing.T) {
 // along the field, so a mirror's lines also match a bar period off).
 func TestAutomaticDelayOverRigsAndScenes(t *testing.T) {
 	if testing.Short() {
-		t.Skip("simulates 21 captures")
+		t.Skip("simulates 24 captures")
 	}
 	ctx := context.Background()
 	demo := sampledata.DemoRig()
@@ -269,7 +307,9 @@ func TestAutomaticDelayOverRigsAndScenes(t *testing.T) {
 		rig  sampledata.Rig
 		glow bool // also with a 300 µs afterglow
 	}
-	for _, c := range []rigCase{{"demo", demo, true}, {"sound card", sampledata.SoundCardRig(), true}, {"hand", handRig(), true}, {"mirror", mirror, false}} {
+	worstGiven, worstBoth := 0.0, 0.0
+	for _, c := range []rigCase{{"demo", demo, true}, {"sound card", sampledata.SoundCardRig(), true}, {"two-input sound card", sampledata.StereoSoundCardRig(), false},
+		{"hand", handRig(), true}, {"mirror", mirror, false}} {
 		glows := []float64{c.rig.Detector.AfterglowS}
 		if c.glow {
 			glows = append(glows, 300e-6)
@@ -295,7 +335,9 @@ func TestAutomaticDelayOverRigsAndScenes(t *testing.T) {
 				if err != nil {
 					t.Fatalf("%s: %v", name, err)
 				}
-				if d := *res.Recipe.Sweep.DelayDeg; math.Abs(d-truth.DelayDeg) > 0.05 {
+				d := *res.Recipe.Sweep.DelayDeg
+				worstGiven = math.Max(worstGiven, math.Abs(d-truth.DelayDeg))
+				if math.Abs(d-truth.DelayDeg) > 0.05 {
 					t.Errorf("%s: with the true offsets, delay %.3f°, truth %.3f°", name, d, truth.DelayDeg)
 				}
 				if r.Sweep.Law == recipe.LawSine {
@@ -309,6 +351,7 @@ func TestAutomaticDelayOverRigsAndScenes(t *testing.T) {
 				sw := res.Recipe.Sweep
 				for k, o := range sw.ApertureOffsetsDeg {
 					got, want := *sw.DelayDeg+o, truth.DelayDeg+truth.ApertureOffsetsDeg[k]
+					worstBoth = math.Max(worstBoth, math.Abs(got-want))
 					if math.Abs(got-want) > 0.05 {
 						t.Errorf("%s: aperture %d field starts %.3f° after its edge, truth %.3f° (afterglow found %.1f µs)", name, k, got, want, *res.Recipe.Signal.AfterglowUS)
 					}
@@ -316,4 +359,5 @@ func TestAutomaticDelayOverRigsAndScenes(t *testing.T) {
 			}
 		}
 	}
+	t.Logf("worst delay error with the true offsets %.4f°; worst field start with both null %.4f°", worstGiven, worstBoth)
 }

@@ -218,7 +218,7 @@ func newTruth(rig Rig, scene SceneModel, opts SimOptions, wheel *wheelPath, moti
 	}
 	j0 := t.FirstWheelAperture
 	// A wheel's delay runs from the edge to its field's start; the sine
-	// law's from the edge to φ = 0 (DESIGN.md, sweep.law sine), both
+	// law's from the edge to φ = 0 (docs/pipeline.md, "Sine law"), both
 	// lead_deg plus the aperture's error (none for a mirror).
 	t.DelayDeg = rig.Index.LeadDeg + apertureError(rig, j0)
 	t.DelayMeanDeg = rig.Index.LeadDeg
