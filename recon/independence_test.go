@@ -68,6 +68,13 @@ func TestReportDependsOnlyOnCaptureAndRecipe(t *testing.T) {
 	for i, r := range set {
 		fresh[i] = build(NewSession(rec), r)
 	}
+	// Every recipe of the set builds: a set of refusals would compare
+	// nothing but error texts.
+	for i, o := range fresh {
+		if o.err != "" {
+			t.Errorf("recipe %d (%s, strokes %s, invert %v) refused in a fresh session: %s", i, set[i].Sweep.Law, set[i].Rows.Strokes, set[i].Signal.Invert, o.err)
+		}
+	}
 	for _, order := range [][]int{ascending(len(set)), descending(len(set))} {
 		shared := NewSession(rec)
 		for _, i := range order {
