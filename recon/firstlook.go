@@ -54,7 +54,8 @@ type Look struct {
 // a DC level), signal.ac_corner_hz (from how the beam-off level drifts
 // back after bright stretches), the aperture count the beam-on fraction
 // implies, signal.invert for a negative-going detector, a calibration
-// spanning the position levels seen, and an automatic pitch. It also says
+// spanning the position levels seen, an automatic pitch, and (null) the
+// aperture offsets, which every build then measures. It also says
 // when the capture has no beam-off stretch and when the aperture count,
 // the field and the beam-on fraction disagree. The command line and the
 // window both start a capture with it, so they agree on every value.
@@ -116,6 +117,11 @@ func (d *lookDraft) guessSignals(rec *capture.Recording) {
 	}
 	if !d.known.Has("image.pitch_mm") {
 		d.r.Image.PitchMM = 0
+	}
+	// Offsets nobody stated are measured in every build (null), so the
+	// starting recipe holds the values the capture shows, not zeros.
+	if !d.known.Has("sweep.aperture_offsets_deg") && mustLaw(d.r.Sweep.Law).isWheel() {
+		d.r.Sweep.ApertureOffsetsDeg = nil
 	}
 }
 
@@ -296,7 +302,7 @@ func fitDuty(r *recipe.Recipe, duty float64, ok bool, known Known) (bool, []stri
 		}
 		r.Sweep.Apertures = n
 		if len(r.Sweep.ApertureOffsetsDeg) != 0 {
-			r.Sweep.ApertureOffsetsDeg = []float64{} // one per aperture no longer fits
+			r.Sweep.ApertureOffsetsDeg = nil // one per aperture no longer fits: measure them
 		}
 		return true, []string{fmt.Sprintf("sweep.apertures is set to %d, the count the beam-on fraction (%.0f %% of each line) implies for a %g° field: check it against the wheel", n, 100*duty, sw.FieldDeg)}
 	}
