@@ -172,7 +172,7 @@ func (ws *Workstation) openWith(path string, copts capture.Options, given *recip
 func forNewCapture(r recipe.Recipe) recipe.Recipe {
 	r = cloneRecipe(r)
 	r.Sweep.DelayDeg = nil
-	r.Sweep.ApertureOffsetsDeg = []float64{}
+	r.Sweep.ApertureOffsetsDeg = nil // measured in every build
 	r.Sweep.SinePeriodS = nil
 	r.Timing.Threshold, r.Timing.Hysteresis = nil, nil
 	r.Rows.CarrierHz = nil
