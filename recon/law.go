@@ -41,6 +41,9 @@ type sweepLaw interface {
 	// measured index periods (samples at rateHz) when they are left
 	// automatic.
 	fromTiming(s *recipe.Sweep, t *timingResult, rateHz float64)
+	// liveNull names the key of s that fromTiming fills in and is still
+	// null, or "": a live build needs it resolved first.
+	liveNull(s recipe.Sweep) string
 }
 
 // lineAdder takes one placed line: its number and aperture, its index

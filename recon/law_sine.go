@@ -65,3 +65,10 @@ func (sineLaw) fromTiming(s *recipe.Sweep, t *timingResult, rateHz float64) {
 	}
 	s.SinePeriodS = recipe.Float(median(periods) / rateHz)
 }
+
+func (sineLaw) liveNull(s recipe.Sweep) string {
+	if s.SinePeriodS == nil {
+		return "sweep.sine_period_s"
+	}
+	return ""
+}

@@ -66,3 +66,5 @@ func (tableLaw) isWheel() bool { return true }
 func (tableLaw) dutyTellsApertures() bool { return false }
 
 func (tableLaw) fromTiming(*recipe.Sweep, *timingResult, float64) {}
+
+func (tableLaw) liveNull(recipe.Sweep) string { return "" }

@@ -45,3 +45,5 @@ func (uniformLaw) isWheel() bool { return true }
 func (uniformLaw) dutyTellsApertures() bool { return true }
 
 func (uniformLaw) fromTiming(*recipe.Sweep, *timingResult, float64) {}
+
+func (uniformLaw) liveNull(recipe.Sweep) string { return "" }

@@ -62,27 +62,34 @@ func (e *LiveRefusal) Error() string { return e.msg }
 //     reversals with a hysteresis from the whole travel and its noise
 //     (levelRows, findStrokes);
 //   - rows.source steps: the step pulses' threshold is Otsu's split of the
-//     whole steps channel (stepsSource);
+//     whole steps channel (stepsSource.liveCheck);
 //   - the position tone on the index channel: the pulses are told from the
 //     tone by a zero-phase notch run backward from the recording's end, and
 //     their span by the two levels of the whole notched channel
-//     (sharedChannel).
+//     (sharedChannel; toneSource.liveCheck).
 func liveRefusal(r recipe.Recipe) error {
-	switch {
-	case r.Rows.Strokes == "split" || r.Rows.Strokes == "first":
+	if r.Rows.Strokes == "split" || r.Rows.Strokes == "first" {
 		return &LiveRefusal{fmt.Sprintf("rows.strokes %s cannot be formed live: the passes of the head are cut at its reversals with a hysteresis from the whole travel, known only when the recording ends; watch it with rows.strokes merge, or build the recording with rows.strokes %s once it is stopped", r.Rows.Strokes, r.Rows.Strokes)}
-	case r.Rows.Source == recipe.SourceSteps:
-		return &LiveRefusal{"rows.source steps cannot be formed live: the step pulses are found with a threshold from the whole steps channel, known only when the recording ends; build the recording once it is stopped"}
-	case r.Rows.Source == recipe.SourceTone && r.Channels.Position.IsSet() && r.Channels.Position == r.Channels.Index:
-		return &LiveRefusal{"a position tone on the index channel cannot be formed live: the pulses are told from the tone by a filter run backward from the end of the recording, and their levels come from all of it; build the recording once it is stopped"}
 	}
-	return nil
+	src, err := sourceOf(r.Rows.Source)
+	if err != nil {
+		return err
+	}
+	_, refusal := src.liveCheck(r)
+	return refusal
 }
 
 // unresolved names the first automatic (null) key of r that a Live needs
 // resolved, or "".
 func unresolved(r recipe.Recipe) string {
 	src, _ := sourceOf(r.Rows.Source)
+	sourceKey, lawKey := "", ""
+	if src != nil {
+		sourceKey, _ = src.liveCheck(r)
+	}
+	if law, err := lawOf(r.Sweep.Law); err == nil {
+		lawKey = law.liveNull(r.Sweep)
+	}
 	for _, k := range []struct {
 		key     string
 		missing bool
@@ -94,9 +101,8 @@ func unresolved(r recipe.Recipe) string {
 		{"timing.hysteresis", r.Timing.Hysteresis == nil},
 		{"sweep.delay_deg", r.Sweep.DelayDeg == nil},
 		{"sweep.aperture_offsets_deg", r.Sweep.ApertureOffsetsDeg == nil},
-		{"sweep.sine_period_s", r.Sweep.Law == recipe.LawSine && r.Sweep.SinePeriodS == nil},
-		{"rows.carrier_hz", r.Rows.Source == recipe.SourceTone && r.Rows.CarrierHz == nil},
-		{"rows.speed_mm_s", r.Rows.Source == recipe.SourceEven && r.Rows.SpeedMMS == nil},
+		{lawKey, lawKey != ""},
+		{sourceKey, sourceKey != ""},
 		{"signal.afterglow_us", r.Signal.AfterglowUS == nil},
 		{"image.pitch_mm", r.Image.PitchMM == 0},
 		{"image.max_gap_mm", r.Image.MaxGapMM == nil},

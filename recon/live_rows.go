@@ -6,16 +6,29 @@ import (
 	"spotloom/recon/recipe"
 )
 
+// liveLevels is a rows source's share of a live build: the level of each
+// block of its channel as the samples come in (rowSource.liveLevels).
+type liveLevels interface {
+	// blockLen is the samples in one block.
+	blockLen() int
+	// final extends levels, the final levels so far, by the blocks of the
+	// n samples of x so far that no later sample changes.
+	final(x []float32, n int, levels []float64) []float64
+	// all returns the levels of all nb blocks of the n samples so far, as
+	// a batch build of them finds them, given the final ones (whose
+	// backing array it may extend).
+	all(x []float32, n, nb int, levels []float64) []float64
+}
+
 // liveRows is the rows stage of a live build: the level of every block
 // the samples so far decide (its mean, or the tone's amplitude over a
 // whole window), smoothed and calibrated as levelRows does once the
 // smoothing window after a block is final too.
 type liveRows struct {
-	source   recipe.RowSource
+	src      liveLevels // nil: an even motion at speed
 	channel  int
 	speed    float64
 	cal      calibration
-	tone     *toneDemod
 	half     int
 	centre   []float64   // Savitzky–Golay weights at the centre
 	ends     [][]float64 // and for the first (and, mirrored, last) half blocks
@@ -28,18 +41,18 @@ type liveRows struct {
 }
 
 func newLiveRows(r recipe.Recipe, ch channels, rate float64) (liveRows, error) {
-	lr := liveRows{source: r.Rows.Source, channel: ch.position, blockLen: max(1, int(math.Round(rate*0.25e-3))), rate: rate,
+	src, err := sourceOf(r.Rows.Source)
+	if err != nil {
+		return liveRows{}, err
+	}
+	lr := liveRows{src: src.liveLevels(r, rate), channel: ch.position, blockLen: levelBlockLen(rate), rate: rate,
 		lvLo: math.Inf(1), lvHi: math.Inf(-1)}
-	switch r.Rows.Source {
-	case recipe.SourceEven:
+	if lr.src == nil {
 		lr.speed = *r.Rows.SpeedMMS
 		lr.rows.blockLen = lr.blockLen
 		return lr, nil
-	case recipe.SourceTone:
-		lr.tone = newToneDemod(*r.Rows.CarrierHz, rate)
-		lr.blockLen = lr.tone.blockLen
 	}
-	var err error
+	lr.blockLen = lr.src.blockLen()
 	if lr.cal, err = newCalibration(r.Rows.Calibration); err != nil {
 		return lr, err
 	}
@@ -58,30 +71,13 @@ func newLiveRows(r recipe.Recipe, ch channels, rate float64) (liveRows, error) {
 // add extends the final levels and y over the n samples so far.
 func (lr *liveRows) add(raw [][]float32, n int) {
 	bl := lr.blockLen
-	switch lr.source {
-	case recipe.SourceEven:
+	if lr.src == nil {
 		for j := len(lr.rows.y); j < (n+bl-1)/bl; j++ {
 			lr.rows.y = append(lr.rows.y, lr.evenAt(j))
 		}
 		return
-	case recipe.SourcePosition:
-		x := raw[lr.channel]
-		for j := len(lr.levels); (j+1)*bl <= n; j++ {
-			lr.levels = append(lr.levels, blockMeans(x[j*bl:(j+1)*bl], bl)[0])
-		}
-	case recipe.SourceTone:
-		x := raw[lr.channel][:n]
-		first, last := toneWholeBlocks(n, bl)
-		if last < first {
-			return
-		}
-		for j := len(lr.levels); j <= last; j++ {
-			lr.levels = append(lr.levels, lr.tone.block(x, j))
-		}
-		for j := 0; j < first; j++ {
-			lr.levels[j] = lr.levels[first]
-		}
 	}
+	lr.levels = lr.src.final(raw[lr.channel], n, lr.levels)
 	final := len(lr.levels)
 	if lr.half >= 1 {
 		if final < 2*lr.half+1 {
@@ -134,31 +130,13 @@ func (lr *liveRows) tail(raw [][]float32, n int) (*rowsResult, float64, float64)
 	nb := (n + bl - 1) / bl
 	out := &rowsResult{blockLen: bl, y: lr.rows.y}
 	lo, hi := lr.lvLo, lr.lvHi
-	if lr.source == recipe.SourceEven {
+	if lr.src == nil {
 		for j := len(out.y); j < nb; j++ {
 			out.y = append(out.y, lr.evenAt(j))
 		}
 		return out, lo, hi
 	}
-	levels := lr.levels
-	switch lr.source {
-	case recipe.SourcePosition:
-		if full := n / bl; full < nb {
-			levels = append(levels, blockMeans(raw[lr.channel][full*bl:n], bl)[0])
-		}
-	case recipe.SourceTone:
-		x := raw[lr.channel][:n]
-		first, last := toneWholeBlocks(n, bl)
-		if last < first {
-			levels = nil
-			for j := 0; j < nb; j++ {
-				levels = append(levels, lr.tone.block(x, j))
-			}
-		}
-		for len(levels) < nb {
-			levels = append(levels, levels[last])
-		}
-	}
+	levels := lr.src.all(raw[lr.channel], n, nb, lr.levels)
 	for j := len(out.y); j < nb; j++ {
 		v := lr.smoothAt(levels, j, nb)
 		lo, hi = math.Min(lo, v), math.Max(hi, v)

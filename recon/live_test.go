@@ -185,7 +185,8 @@ func sameImage(t *testing.T, got, want *recon.Result) {
 // liveCases are rigs whose recipes take different stages: a DC position
 // sensor on a wheel; a sound card (a tone for the position, an AC-coupled
 // detector) with the afterglow, aperture offsets and pitch left automatic;
-// a resonant mirror (the sine law, no beam-off baseline).
+// a resonant mirror (the sine law, no beam-off baseline); a head moved at
+// an even speed with no position sensor (rows.source even).
 func liveCases() []struct {
 	name string
 	rig  sampledata.Rig
@@ -197,11 +198,14 @@ func liveCases() []struct {
 	mirror := sampledata.MirrorRig()
 	mirror.DurationS = 11
 	mirror.Motion.StartRestS = 0.5
+	even := liveRig()
+	even.Position.Kind, even.Motion.Kind = sampledata.SensorNone, sampledata.MotionMotor
+	even.Motion.StartRestS = 0
 	return []struct {
 		name string
 		rig  sampledata.Rig
 		auto bool
-	}{{"dc position", liveRig(), false}, {"sound card", card, true}, {"mirror", mirror, false}}
+	}{{"dc position", liveRig(), false}, {"sound card", card, true}, {"mirror", mirror, false}, {"even motion", even, false}}
 }
 
 // TestLiveEqualsBatch: a replay recorded to a WAV and watched live at the
@@ -315,6 +319,46 @@ func TestLiveRefuses(t *testing.T) {
 		_, err := recon.ResolveLive(context.Background(), rec, tc.r)
 		if !errors.As(err, &refusal) || !strings.Contains(err.Error(), tc.key) {
 			t.Errorf("%s: %v, want a LiveRefusal naming %s", tc.name, err, tc.key)
+		}
+	}
+	// Each source and law says what a live build needs of it: the key
+	// left null, or why it cannot be used at all.
+	resolved, err := recon.ResolveLive(context.Background(), head(simulate(t, liveRig()), 3), sampledata.DemoRecipe())
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		change func(*recipe.Recipe)
+		want   string
+	}{
+		{func(r *recipe.Recipe) { r.Rows.Source = recipe.SourceTone; r.Rows.CarrierHz = nil }, "rows.carrier_hz is automatic"},
+		{func(r *recipe.Recipe) {
+			r.Rows.Source, r.Rows.SpeedMMS = recipe.SourceEven, nil
+			r.Channels.Position = ""
+		}, "rows.speed_mm_s is automatic"},
+		{func(r *recipe.Recipe) {
+			r.Rows.Source, r.Rows.MMPerStep = recipe.SourceSteps, recipe.Float(0.1)
+			r.Channels.Steps, r.Channels.Position = r.Channels.Position, ""
+		}, "rows.source steps cannot be formed live"},
+		{func(r *recipe.Recipe) {
+			r.Rows.Source, r.Rows.CarrierHz = recipe.SourceTone, recipe.Float(1500)
+			r.Channels.Position = r.Channels.Index
+		}, "a position tone on the index channel cannot be formed live"},
+		{func(r *recipe.Recipe) {
+			r.Sweep.Law, r.Sweep.SinePeriodS, r.Signal.Baseline = recipe.LawSine, nil, "none"
+			r.Sweep.ApertureOffsetsDeg = []float64{}
+		}, "sweep.sine_period_s is automatic"},
+	} {
+		r := resolved.Clone()
+		c.change(&r)
+		_, err := recon.NewLive(r, recon.LayoutOf(rec))
+		if err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("NewLive: %v, want an error saying %q", err, c.want)
+		}
+		// What no sample can resolve is a refusal; a null key is not.
+		var refusal *recon.LiveRefusal
+		if errors.As(err, &refusal) != strings.Contains(c.want, "cannot be formed live") {
+			t.Errorf("NewLive: %v (%T): a refusal only when it cannot be formed live", err, err)
 		}
 	}
 }

@@ -197,7 +197,7 @@ func findRows(ctx context.Context, rec rowsInput, p rowsParams) (*rowsResult, er
 	if err != nil {
 		return nil, err
 	}
-	res := &rowsResult{blockLen: max(1, int(math.Round(rec.rateHz*0.25e-3)))}
+	res := &rowsResult{blockLen: levelBlockLen(rec.rateHz)}
 	return src.find(ctx, rec, p, res)
 }
 
@@ -535,3 +535,7 @@ func toneSpectrum(x []float32, rate float64) (spectrumPeak, error) {
 	sp.peakHz = (float64(best) + d) * sp.binHz
 	return sp, nil
 }
+
+// levelBlockLen is the samples in one block of the rows (0.25 ms, at least
+// one) for a source whose level is not a tone's.
+func levelBlockLen(rateHz float64) int { return max(1, int(math.Round(rateHz*0.25e-3))) }

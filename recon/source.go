@@ -26,6 +26,15 @@ type rowSource interface {
 	// fromTiming fills in the rows values the source takes from the
 	// index timing when they are left automatic, and says so.
 	fromTiming(r *recipe.Recipe, t *timingResult, rateHz float64) []string
+	// liveCheck says whether a live build (docs/pipeline.md, "Live") can
+	// use the source with r: the key of the source's own that must be
+	// resolved first and is still null (or ""), or a *LiveRefusal saying
+	// why it cannot.
+	liveCheck(r recipe.Recipe) (null string, refusal error)
+	// liveLevels is the source's share of a live build of r: how the
+	// level of each block is read as the samples come in, or nil for a
+	// source read from no channel.
+	liveLevels(r recipe.Recipe, rateHz float64) liveLevels
 }
 
 // sourceOf returns the implementation of a rows source.

@@ -31,6 +31,16 @@ func (evenSource) needs() string { return "" }
 
 func (evenSource) readsTone() bool { return false }
 
+func (evenSource) liveCheck(r recipe.Recipe) (string, error) {
+	if r.Rows.SpeedMMS == nil {
+		return "rows.speed_mm_s", nil
+	}
+	return "", nil
+}
+
+// liveLevels is nil: an even motion's rows come from its speed alone.
+func (evenSource) liveLevels(recipe.Recipe, float64) liveLevels { return nil }
+
 // fromTiming sets an automatic rows.speed_mm_s to one pitch per line, and
 // warns that it is assumed.
 func (evenSource) fromTiming(r *recipe.Recipe, t *timingResult, rateHz float64) []string {

@@ -22,3 +22,30 @@ func (positionSource) needs() string { return "position" }
 func (positionSource) readsTone() bool { return false }
 
 func (positionSource) fromTiming(*recipe.Recipe, *timingResult, float64) []string { return nil }
+
+func (positionSource) liveCheck(recipe.Recipe) (string, error) { return "", nil }
+
+func (positionSource) liveLevels(_ recipe.Recipe, rateHz float64) liveLevels {
+	return positionLevels{bl: levelBlockLen(rateHz)}
+}
+
+// positionLevels reads a live position channel: a block's level is its
+// mean, final once the block is whole.
+type positionLevels struct{ bl int }
+
+func (p positionLevels) blockLen() int { return p.bl }
+
+func (p positionLevels) final(x []float32, n int, levels []float64) []float64 {
+	bl := p.bl
+	for j := len(levels); (j+1)*bl <= n; j++ {
+		levels = append(levels, blockMeans(x[j*bl:(j+1)*bl], bl)[0])
+	}
+	return levels
+}
+
+func (p positionLevels) all(x []float32, n, nb int, levels []float64) []float64 {
+	if full := n / p.bl; full < nb {
+		levels = append(levels, blockMeans(x[full*p.bl:n], p.bl)[0])
+	}
+	return levels
+}

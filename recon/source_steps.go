@@ -56,3 +56,9 @@ func (stepsSource) needs() string { return "steps" }
 func (stepsSource) readsTone() bool { return false }
 
 func (stepsSource) fromTiming(*recipe.Recipe, *timingResult, float64) []string { return nil }
+
+func (stepsSource) liveCheck(recipe.Recipe) (string, error) {
+	return "", &LiveRefusal{"rows.source steps cannot be formed live: the step pulses are found with a threshold from the whole steps channel, known only when the recording ends; build the recording once it is stopped"}
+}
+
+func (stepsSource) liveLevels(recipe.Recipe, float64) liveLevels { return nil }

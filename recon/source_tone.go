@@ -31,6 +31,57 @@ func (toneSource) readsTone() bool { return true }
 
 func (toneSource) fromTiming(*recipe.Recipe, *timingResult, float64) []string { return nil }
 
+func (toneSource) liveCheck(r recipe.Recipe) (string, error) {
+	if r.Channels.Position.IsSet() && r.Channels.Position == r.Channels.Index {
+		return "", &LiveRefusal{"a position tone on the index channel cannot be formed live: the pulses are told from the tone by a filter run backward from the end of the recording, and their levels come from all of it; build the recording once it is stopped"}
+	}
+	if r.Rows.CarrierHz == nil {
+		return "rows.carrier_hz", nil
+	}
+	return "", nil
+}
+
+func (toneSource) liveLevels(r recipe.Recipe, rateHz float64) liveLevels {
+	return toneLevels{newToneDemod(*r.Rows.CarrierHz, rateHz)}
+}
+
+// toneLevels reads a live tone: a block's level is the tone's amplitude
+// over the window around it, final once the window is whole; the blocks
+// before the first whole window take its level.
+type toneLevels struct{ d *toneDemod }
+
+func (t toneLevels) blockLen() int { return t.d.blockLen }
+
+func (t toneLevels) final(x []float32, n int, levels []float64) []float64 {
+	x = x[:n]
+	first, last := toneWholeBlocks(n, t.d.blockLen)
+	if last < first {
+		return levels
+	}
+	for j := len(levels); j <= last; j++ {
+		levels = append(levels, t.d.block(x, j))
+	}
+	for j := 0; j < first; j++ {
+		levels[j] = levels[first]
+	}
+	return levels
+}
+
+func (t toneLevels) all(x []float32, n, nb int, levels []float64) []float64 {
+	x = x[:n]
+	first, last := toneWholeBlocks(n, t.d.blockLen)
+	if last < first {
+		levels = nil
+		for j := 0; j < nb; j++ {
+			levels = append(levels, t.d.block(x, j))
+		}
+	}
+	for len(levels) < nb {
+		levels = append(levels, levels[last])
+	}
+	return levels
+}
+
 // minToneShare is the least share of a window's weight that must lie
 // outside the pulses for its block to get a tone amplitude of its own.
 const minToneShare = 0.3
