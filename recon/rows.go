@@ -219,10 +219,19 @@ func levelRows(ctx context.Context, rec rowsInput, p rowsParams, res *rowsResult
 	smooth := smoothSG(levels, half)
 	res.levelMin, res.levelMax = math.Inf(1), math.Inf(-1)
 	res.y = make([]float64, len(smooth))
-	for j, v := range smooth {
-		res.levelMin = math.Min(res.levelMin, v)
-		res.levelMax = math.Max(res.levelMax, v)
-		res.y[j] = cal.at(v)
+	spans := splitSpans(len(smooth), workers())
+	los, his := make([]float64, len(spans)), make([]float64, len(spans))
+	forEachSpan(spans, len(smooth) >= 1<<14, func(k, a, b int) {
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for j, v := range smooth[a:b] {
+			lo, hi = math.Min(lo, v), math.Max(hi, v)
+			res.y[a+j] = cal.at(v)
+		}
+		los[k], his[k] = lo, hi
+	})
+	for k := range spans {
+		res.levelMin = math.Min(res.levelMin, los[k])
+		res.levelMax = math.Max(res.levelMax, his[k])
 	}
 	// A calibration that covers less than half of the levels seen was
 	// most likely written for another sensor or left at its default.

@@ -252,12 +252,17 @@ func alignApertures(prof []float64, perAperture [][]float64, binDeg float64) []f
 	// Aperture errors are rarely more than a degree; look within ±3°.
 	reach := max(2, int(math.Ceil(3/binDeg)))
 	aligned := prof
+	lags := make([]float64, len(perAperture))
 	for range 2 {
+		// Each aperture's lag on its own, in parallel; the shifted
+		// profiles are then added in the apertures' order.
+		forEachSpan(splitSpans(len(perAperture), len(perAperture)), true, func(k, _, _ int) {
+			lags[k] = profileLag(perAperture[k], aligned, reach)
+		})
 		next := make([]float64, len(prof))
-		for _, pk := range perAperture {
-			lag := profileLag(pk, aligned, reach)
+		for k, pk := range perAperture {
 			for b := range next {
-				next[b] += circularAt(pk, float64(b)+lag) / float64(len(perAperture))
+				next[b] += circularAt(pk, float64(b)+lags[k]) / float64(len(perAperture))
 			}
 		}
 		aligned = next
@@ -693,47 +698,73 @@ func foldLines(ctx context.Context, t *timingResult, det []float32, s recipe.Swe
 	pMed := median(periods)
 	bins := int(math.Min(3600, math.Max(90, pMed/2)))
 	n := max(s.Apertures, 1)
-	sums := make([][]float64, n)
-	counts := make([][]float64, n)
-	for k := range sums {
-		sums[k] = make([]float64, bins)
-		counts[k] = make([]float64, bins)
-	}
-	sumSq := make([]float64, bins)
 	// About 1000 lines, spread over the capture, average the noise down
-	// far enough.
+	// far enough. Each worker folds its own share of the revolutions into
+	// its own sums, which are added in the order of the shares.
 	revs := (len(t.lines) + n - 1) / n
 	stride := 1 + revs*n/1000
-	for rv := 0; rv < revs; rv += stride {
-		if rv%64 == 0 {
-			if err := ctx.Err(); err != nil {
-				return nil, nil, nil, err
+	picked := (revs + stride - 1) / stride // revolutions 0, stride, 2·stride, …
+	spans := splitSpans(picked, workers())
+	if len(spans) == 0 {
+		return nil, nil, nil, fmt.Errorf("no lines to find the delay from")
+	}
+	type fold struct {
+		sums, counts [][]float64
+		sumSq        []float64
+	}
+	folds := make([]fold, len(spans))
+	forEachSpan(spans, picked >= 64, func(w, a, b int) {
+		f := fold{sums: make([][]float64, n), counts: make([][]float64, n), sumSq: make([]float64, bins)}
+		for k := range f.sums {
+			f.sums[k] = make([]float64, bins)
+			f.counts[k] = make([]float64, bins)
+		}
+		for p := a; p < b; p++ {
+			if (p-a)%64 == 0 && ctx.Err() != nil {
+				return
+			}
+			rv := p * stride
+			for i := rv * n; i < min((rv+1)*n, len(t.lines)); i++ {
+				lt := t.lines[i]
+				off := 0.0
+				if lt.aperture < len(s.ApertureOffsetsDeg) {
+					off = s.ApertureOffsetsDeg[lt.aperture]
+				}
+				ap := lt.aperture % n
+				sum, cnt, sumSq := f.sums[ap], f.counts[ap], f.sumSq
+				from, to := lineWindow(lt, len(det))
+				k := float64(bins) / lt.period
+				b0 := -off / spacing * float64(bins)
+				for j := from; j < to; j++ {
+					b := int(math.Floor((float64(j)-lt.edge)*k + b0))
+					if b < 0 || b >= bins { // rarely: no division otherwise
+						b %= bins
+						if b < 0 {
+							b += bins
+						}
+					}
+					v := float64(det[j])
+					sum[b] += v
+					sumSq[b] += v * v
+					cnt[b]++
+				}
 			}
 		}
-		for i := rv * n; i < min((rv+1)*n, len(t.lines)); i++ {
-			lt := t.lines[i]
-			off := 0.0
-			if lt.aperture < len(s.ApertureOffsetsDeg) {
-				off = s.ApertureOffsetsDeg[lt.aperture]
+		folds[w] = f
+	})
+	if err := ctx.Err(); err != nil {
+		return nil, nil, nil, err
+	}
+	sums, counts, sumSq := folds[0].sums, folds[0].counts, folds[0].sumSq
+	for _, f := range folds[1:] {
+		for k := range sums {
+			for b := range sums[k] {
+				sums[k][b] += f.sums[k][b]
+				counts[k][b] += f.counts[k][b]
 			}
-			ap := lt.aperture % n
-			sum, cnt := sums[ap], counts[ap]
-			from, to := lineWindow(lt, len(det))
-			k := float64(bins) / lt.period
-			b0 := -off / spacing * float64(bins)
-			for j := from; j < to; j++ {
-				b := int(math.Floor((float64(j)-lt.edge)*k + b0))
-				if b < 0 || b >= bins { // rarely: no division otherwise
-					b %= bins
-					if b < 0 {
-						b += bins
-					}
-				}
-				v := float64(det[j])
-				sum[b] += v
-				sumSq[b] += v * v
-				cnt[b]++
-			}
+		}
+		for b := range sumSq {
+			sumSq[b] += f.sumSq[b]
 		}
 	}
 	prof = make([]float64, bins)
