@@ -86,23 +86,63 @@ func newChannelStats(ctx context.Context, x []float32) (*channelStats, error) {
 // blockStats returns the sum of the samples of one block (a multiple of
 // four long), and lo and hi widened to their range. Four lanes, each with
 // its own sum, minimum and maximum, keep the processor's adders busy
-// instead of waiting on one chain; the sums are kept in float64.
+// instead of waiting on one chain; the sums are kept in float64. The range
+// is found with plain comparisons, which cost less than the built-in min
+// and max (those handle NaN and signed zeros on every call); a plain
+// comparison passes over a NaN, so a block whose sum comes out NaN (a NaN
+// sample, or +Inf and −Inf together) is ranged again with the built-ins,
+// and a NaN sample makes the range NaN as before (TestChannelStatsNaN).
 func blockStats(x []float32, lo, hi float32) (float64, float32, float32) {
 	var s0, s1, s2, s3 float64
 	lo0, lo1, lo2, lo3 := lo, lo, lo, lo
 	hi0, hi1, hi2, hi3 := hi, hi, hi, hi
 	for i := 0; i+3 < len(x); i += 4 {
 		v := x[i : i+4 : i+4]
-		s0 += float64(v[0])
-		s1 += float64(v[1])
-		s2 += float64(v[2])
-		s3 += float64(v[3])
-		lo0, hi0 = min(lo0, v[0]), max(hi0, v[0])
-		lo1, hi1 = min(lo1, v[1]), max(hi1, v[1])
-		lo2, hi2 = min(lo2, v[2]), max(hi2, v[2])
-		lo3, hi3 = min(lo3, v[3]), max(hi3, v[3])
+		a, b, c, d := v[0], v[1], v[2], v[3]
+		s0 += float64(a)
+		s1 += float64(b)
+		s2 += float64(c)
+		s3 += float64(d)
+		if a < lo0 {
+			lo0 = a
+		}
+		if a > hi0 {
+			hi0 = a
+		}
+		if b < lo1 {
+			lo1 = b
+		}
+		if b > hi1 {
+			hi1 = b
+		}
+		if c < lo2 {
+			lo2 = c
+		}
+		if c > hi2 {
+			hi2 = c
+		}
+		if d < lo3 {
+			lo3 = d
+		}
+		if d > hi3 {
+			hi3 = d
+		}
 	}
-	return (s0 + s1) + (s2 + s3), min(lo0, lo1, lo2, lo3), max(hi0, hi1, hi2, hi3)
+	s := (s0 + s1) + (s2 + s3)
+	if s != s { // NaN
+		lo, hi = blockRangeNaN(x, lo, hi)
+		return s, lo, hi
+	}
+	return s, min(lo0, lo1, lo2, lo3), max(hi0, hi1, hi2, hi3)
+}
+
+// blockRangeNaN is blockStats' range of a block with the built-in min and
+// max, which make it NaN when a sample is NaN.
+func blockRangeNaN(x []float32, lo, hi float32) (float32, float32) {
+	for _, v := range x {
+		lo, hi = min(lo, v), max(hi, v)
+	}
+	return lo, hi
 }
 
 // sum returns the sum of x[a:b].

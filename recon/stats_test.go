@@ -80,3 +80,69 @@ func TestFlatRunsFindPlantedRuns(t *testing.T) {
 		}
 	}
 }
+
+// A NaN sample makes the channel's range NaN, as the standard library's
+// slices.Min and slices.Max do ("If the slice contains a NaN, the result
+// is NaN", package slices), wherever it lies: in a block's first or last
+// lane, in the tail after the last block, in either worker's share; and
+// the sums of intervals away from it stay those of the samples. A block
+// that holds +Inf and −Inf (its sum NaN, no sample NaN) keeps its infinite
+// range. Without NaNs the range is slices.Min and slices.Max.
+func TestChannelStatsNaN(t *testing.T) {
+	n := minSplitSamples + 3*statsBlock + 77
+	nb := n / statsBlock
+	cases := []struct {
+		name string
+		at   []int
+		inf  bool
+	}{
+		{"none", nil, false},
+		{"first lane of the first block", []int{0}, false},
+		{"last lane of a block", []int{5*statsBlock - 1}, false},
+		{"second worker's share", []int{n - 2*statsBlock + 3}, false},
+		{"tail", []int{n - 1}, false},
+		{"+Inf and -Inf in one block", nil, true},
+	}
+	for _, c := range cases {
+		rng := rand.New(rand.NewPCG(5, 6))
+		x := make([]float32, n)
+		for i := range x {
+			x[i] = float32(0.3 + 0.2*rng.NormFloat64())
+		}
+		for _, i := range c.at {
+			x[i] = float32(math.NaN())
+		}
+		if c.inf {
+			x[7*statsBlock+1], x[7*statsBlock+2] = float32(math.Inf(1)), float32(math.Inf(-1))
+		}
+		st, err := newChannelStats(context.Background(), x)
+		if err != nil {
+			t.Fatal(err)
+		}
+		wantLo, wantHi := slices.Min(x), slices.Max(x)
+		same := func(a, b float32) bool { return a == b || a != a && b != b }
+		if !same(st.lo, wantLo) || !same(st.hi, wantHi) {
+			t.Errorf("%s: range %g…%g, want %g…%g", c.name, st.lo, st.hi, wantLo, wantHi)
+		}
+		if len(c.at) > 0 && !(st.lo != st.lo && st.hi != st.hi) {
+			t.Errorf("%s: range %g…%g, want NaN", c.name, st.lo, st.hi)
+		}
+		// An interval of whole blocks before the first NaN or infinity.
+		end := nb * statsBlock
+		for _, i := range c.at {
+			end = min(end, i/statsBlock*statsBlock)
+		}
+		if c.inf {
+			end = 7 * statsBlock
+		}
+		if end > 0 {
+			wide := make([]float64, end)
+			for i := range wide {
+				wide[i] = float64(x[i])
+			}
+			if got, want := st.sum(x, 0, end), floats.Sum(wide); math.Abs(got-want) > 1e-10*math.Max(1, math.Abs(want)) {
+				t.Errorf("%s: sum of [0, %d) = %.12g, want %.12g", c.name, end, got, want)
+			}
+		}
+	}
+}
