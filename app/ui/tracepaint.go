@@ -302,7 +302,13 @@ func paintTraces(v *traceView, w, h int, scale float64) *image.NRGBA {
 		}
 		p.text(p.face, v.labels[lane], left+p.px(6), lt+p.px(15), 0, traceColours[lane], true)
 		if lane == 1 && v.hasThresh {
-			p.text(p.small, fmt.Sprintf("threshold %.4g %s", v.threshold, v.units[1]), right-p.px(6), toY(v.threshold)-p.px(4), 2, traceThreshold, true)
+			// At the right end, or left of the lane's cursor reading when
+			// the lane is too low for both to stand one above the other.
+			y, end := toY(v.threshold)-p.px(4), right-p.px(6)
+			if rd := laneReadout(v.reading(), lane, v.units[lane]); rd != "" && abs(y-(lt+p.px(15))) < p.px(13) {
+				end -= textWidth(p.small, rd) + p.px(12)
+			}
+			p.text(p.small, fmt.Sprintf("threshold %.4g %s", v.threshold, v.units[1]), end, y, 2, traceThreshold, true)
 		}
 	}
 
