@@ -82,6 +82,15 @@ func TestMessagesUseControlNames(t *testing.T) {
 	if got := windowWords(`recipe key "sweep.field_deg" is 0: expected an angle above 0° and below 360°`); got != "Field of view is 0: expected an angle above 0° and below 360°" {
 		t.Errorf("got %q", got)
 	}
+	// The same from the engine itself: an index threshold above the demo's
+	// index signal, typed into the window.
+	ws, _ := newTestWorkstation(t)
+	ws.controls.number(ctlThreshold).typed("5")
+	ws.Wait()
+	msg := ws.Problem()
+	if !strings.Contains(msg, "Index threshold") || strings.Contains(msg, "timing.") || strings.Contains(msg, "null") {
+		t.Errorf("a threshold of 5 says %q, want the control's name and no recipe keys", msg)
+	}
 }
 
 // TestDismissedErrorLeavesStatusLine: the status line names a problem
