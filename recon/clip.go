@@ -1,7 +1,7 @@
 package recon
 
 // clipBlock is the number of samples a clipTable entry sums up.
-const clipBlock = 64
+const clipBlock = 32
 
 // clipTable answers clipScan's two questions (did the detector sit at an
 // extreme for three samples in a row, and how many samples away from the
@@ -12,8 +12,8 @@ const clipBlock = 64
 // blocks' entries and at most two part-blocks of samples. It is built once
 // per detector in a session that grids again (a delay or pitch moved), so
 // a re-grid does not scan every line's samples a second time; its answers
-// are clipScan's exactly (TestClipTableMatchesScan). One byte per 64
-// samples keeps it at 0.4 % of the samples' memory.
+// are clipScan's exactly (TestClipTableMatchesScan). One byte per 32
+// samples keeps it under 1 % of the samples' memory.
 type clipTable struct {
 	test, det []float32
 	hi, lo    float32

@@ -844,11 +844,10 @@ func addCell(acc []float64, cell, cols int, sign, n, sx, sy, sxy, v, vx, vy, vxy
 // each row (at most along), by linear interpolation between the two ends.
 // Wider holes stay no-data.
 func fillGaps(f *Frame, down, along int) {
-	fillRuns := func(n, stride, count, step, maxRun int) {
-		if maxRun <= 0 {
-			return
-		}
-		for line := 0; line < count; line++ {
+	// fill fills the runs of lines [from, to): line l starts at pixel
+	// l·step, and its n pixels lie stride apart.
+	fill := func(n, stride, step, maxRun, from, to int) {
+		for line := from; line < to; line++ {
 			base := line * step
 			prev := -1
 			for k := 0; k < n; k++ {
@@ -870,6 +869,12 @@ func fillGaps(f *Frame, down, along int) {
 			}
 		}
 	}
-	fillRuns(f.Height, f.Width, f.Width, 1, down)  // down each column
-	fillRuns(f.Width, 1, f.Height, f.Width, along) // along each row
+	// Each column, then each row, is filled on its own, so the workers'
+	// shares give what one worker would.
+	if down > 0 {
+		forSpans(f.Width, 64, func(from, to int) { fill(f.Height, f.Width, 1, down, from, to) })
+	}
+	if along > 0 {
+		forSpans(f.Height, 64, func(from, to int) { fill(f.Width, 1, f.Width, along, from, to) })
+	}
 }

@@ -77,6 +77,7 @@ type Session struct {
 	grids      *memo[*Result]
 	stats      *memo[*channelStats]   // whole-channel statistics of the recording
 	clips      *memo[*clipTable]      // the detector's clipping test, once it is gridded again
+	maps       *memo[*sweepMap]       // the sweep's x lookup, by the sweep without delay and offsets
 	gridded    map[string]bool        // detectors (by clipKey) gridded at least once
 	flat       map[int]flatRunsResult // constant stretches of each channel, once needed
 	roles      []capture.RoleGuess    // the capture's guessed roles, once needed
@@ -96,7 +97,7 @@ func NewSession(rec *capture.Recording) *Session {
 		// and the image: keep one of each.
 		coupled: newMemo[detectorView](1), places: newMemo[*placement](2), grids: newMemo[*Result](1),
 		stats: newMemo[*channelStats](len(rec.Channels)), shared: newMemo[*sharedIndex](1),
-		clips: newMemo[*clipTable](1), gridded: map[string]bool{},
+		clips: newMemo[*clipTable](1), gridded: map[string]bool{}, maps: newMemo[*sweepMap](2),
 	}
 }
 
@@ -532,7 +533,7 @@ func (s *Session) placeStage(ctx context.Context, r recipe.Recipe, ch channels, 
 // its baseline from the beam-off stretch before it.
 func (s *Session) placeLines(ctx context.Context, r recipe.Recipe, ch channels, t *timingResult) (*placement, error) {
 	sw := r.Sweep
-	m, err := lawMap(sw)
+	m, err := s.sweepMap(sw)
 	if err != nil {
 		return nil, err
 	}
@@ -564,6 +565,14 @@ func (s *Session) placeLines(ctx context.Context, r recipe.Recipe, ch channels, 
 		pl.edge = measureEdgeResponse(det, pl.lines)
 	}
 	return pl, nil
+}
+
+// sweepMap is the x lookup of a sweep (lawMap), kept across changes of
+// the delay and the aperture offsets, which move the lines in time but
+// not the law's map from u to x.
+func (s *Session) sweepMap(sw recipe.Sweep) (*sweepMap, error) {
+	sw.DelayDeg, sw.ApertureOffsetsDeg = nil, nil
+	return cachedStage(s.maps, nil, "", sw, func() (*sweepMap, error) { return lawMap(sw) })
 }
 
 // detectorView is the detector as the stages see it, and its statistics.
