@@ -50,6 +50,16 @@ func TestControlGroupsFoldWithAlignmentFirst(t *testing.T) {
 	if !isUnder(align.Detail, ws.controls.offsetsBox) || !isUnder(align.Detail, ws.controls.estimate) {
 		t.Error("the aperture offsets are not in the line-alignment group")
 	}
+	// The two "invert" ideas stand apart, each named for what it inverts:
+	// the signal's polarity among the detector's settings, the display's
+	// tone among the tone's.
+	for _, c := range []struct{ name, group string }{{ctlPolarity, groupSignal}, {ctlShowNeg, groupTone}} {
+		for _, it := range g.Items {
+			if in := isUnder(it.Detail, ws.controls.byName[c.name].box); in != (it.Title == c.group) {
+				t.Errorf("%q in group %q: %v, want it only in %q", c.name, it.Title, in, c.group)
+			}
+		}
+	}
 	delay := ws.controls.number(ctlDelay).box
 	g.Close(0)
 	if align.Detail.Visible() {
