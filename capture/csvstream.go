@@ -504,8 +504,8 @@ func (p *csvPlan) rate(rec *Recording, tt *timeTrack, ct *counterTrack, rows int
 		rec.Warnings = append(rec.Warnings, fmt.Sprintf("the sample counter in %s jumps from %.0f to %.0f at line %d (%s in all: lost or skipped samples); samples are treated as evenly spaced at %.6g Hz",
 			columnName(shape, p.counterCol), ct.gapFrom, ct.gapTo, ct.gapLine, plural(ct.gaps, "jump"), rec.SampleRateHz))
 	}
-	if !(rec.SampleRateHz > 0) || rec.SampleRateHz > MaxSampleRateHz || math.IsInf(rec.SampleRateHz, 0) {
-		return &FormatError{Format: "csv", Place: ratePlace, Problem: fmt.Sprintf("%s gives a sample rate of %g Hz", p.rateSource, rec.SampleRateHz), Expected: fmt.Sprintf("a rate above 0 and at most %g Hz", MaxSampleRateHz)}
+	if !(rec.SampleRateHz >= MinSampleRateHz) || rec.SampleRateHz > MaxSampleRateHz || math.IsInf(rec.SampleRateHz, 0) {
+		return &FormatError{Format: "csv", Place: ratePlace, Problem: fmt.Sprintf("%s gives a sample rate of %g Hz", p.rateSource, rec.SampleRateHz), Expected: fmt.Sprintf("a rate of at least %g Hz and at most %g Hz", float64(MinSampleRateHz), MaxSampleRateHz)}
 	}
 	return nil
 }
