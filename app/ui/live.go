@@ -127,7 +127,7 @@ func (r *liveRun) capture() {
 		r.src.Stop()
 		return
 	}
-	res, err := live.Record(r.ctx, r.src, live.Options{Path: r.out, SampleType: r.sampleType, Tap: r.feed.push,
+	res, err := live.Record(r.ctx, r.src, live.Options{Path: r.out, SampleType: r.sampleType, Tap: r.feed.push, Create: r.ws.opts.CreateWAV,
 		Status: func(s live.Status) {
 			r.committed.Store(s.Committed)
 			r.overruns.Store(int64(s.Overruns))

@@ -16,6 +16,7 @@ import (
 
 	"spotloom/capture"
 	"spotloom/capture/live"
+	"spotloom/internal/fulldisk"
 	"spotloom/recon"
 	"spotloom/recon/recipe"
 	"spotloom/sampledata"
@@ -436,5 +437,69 @@ func TestLiveRefusalKeepsRecordingAndBuildsAtTheEnd(t *testing.T) {
 	}
 	for i := range batch.Frames {
 		sameFrames(t, fmt.Sprintf("frame %d against the batch build", i), ws.result.Frames[i], batch.Frames[i])
+	}
+}
+
+// A disk that fills up during a recording (writes fail with ENOSPC, as
+// write(2) says on a full disk) stops it with a message saying so and how
+// much is kept; what was written is a readable WAV holding exactly the
+// source's first frames, its sidecar says why it stopped, and the window
+// opens it as an ordinary capture.
+func TestRecordStopsOnAFullDiskAndKeepsWhatWasWritten(t *testing.T) {
+	src, srcPath, r := liveCapture(t)
+	const room = 3.0 // seconds of the capture the disk holds, about
+	a := test.NewTempApp(t)
+	w := a.NewWindow("Spotloom full disk test")
+	ws := New(a, w, Options{
+		OpenDevice: func(string, live.Format) (live.Source, error) { return live.NewReplay(src, 4) },
+		CreateWAV:  fulldisk.Create(int64(room * src.SampleRateHz * 2 * float64(len(src.Channels)))),
+	})
+	w.Resize(fyne.NewSize(1280, 800))
+	ws.OpenFile(srcPath, &r)
+	ws.Wait()
+	out := filepath.Join(t.TempDir(), "full.wav")
+	uiDo(func() {
+		dev, _ := ws.openDeviceFunc()("bench replay", live.Format{})
+		ws.RecordFrom(dev, out, "int16")
+	})
+	endOfLive(t, ws)
+	var problem, shown string
+	uiDo(func() { problem, shown = ws.Problem(), ws.sourcePath })
+	if !strings.HasPrefix(problem, "The recording stopped") || !strings.Contains(problem, "the disk is full") || !strings.Contains(problem, "are in the file") {
+		t.Errorf("problem %q, want the full disk said and what is kept", problem)
+	}
+	kept, err := capture.Open(out, capture.Options{})
+	if err != nil {
+		t.Fatalf("what was written does not read back: %v", err)
+	}
+	if secs := kept.DurationS(); secs < room-0.1 || secs > room {
+		t.Errorf("the file holds %.3f s; the disk had room for about %.1f s", secs, room)
+	}
+	side, err := live.ReadSidecar(live.SidecarPath(out))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if side.Frames != int64(kept.Frames()) || !strings.Contains(side.Stopped, "no space") {
+		t.Errorf("sidecar: %d frames, stopped %q; the file holds %d", side.Frames, side.Stopped, kept.Frames())
+	}
+	lost := make([]bool, kept.Frames()) // overruns (a loaded machine) are zeros at their place
+	for _, o := range side.Overruns {
+		for i := o.AtFrame; i < min(o.AtFrame+o.Frames, int64(len(lost))); i++ {
+			lost[i] = true
+		}
+	}
+	for c := range kept.Channels {
+		for i, v := range kept.Channels[c].Samples {
+			want := src.Channels[c].Samples[i] // int16 keeps the rig's 16-bit values exactly
+			if lost[i] {
+				want = 0
+			}
+			if v != want {
+				t.Fatalf("channel %d frame %d: file %v, source %v", c, i, v, want)
+			}
+		}
+	}
+	if shown != out || ws.result == nil || ws.rec.Frames() != kept.Frames() {
+		t.Errorf("the window shows %q (built: %v), want the %d frames of %s as a capture", shown, ws.result != nil, kept.Frames(), out)
 	}
 }

@@ -40,6 +40,9 @@ type Options struct {
 	// nil means the sound cards (capture/live). Tests give replays.
 	Devices    func() ([]live.DeviceInfo, error)
 	OpenDevice func(name string, want live.Format) (live.Source, error)
+	// CreateWAV makes the WAV a recording writes (live.Options.Create);
+	// nil means a new file on disk. Tests give one on a disk that fills.
+	CreateWAV func(path string, f capture.WAVStreamFormat) (*capture.WAVStream, error)
 }
 
 // Workstation is the Spotloom window: the source and controls on the

@@ -40,6 +40,10 @@ type Options struct {
 	// mark them), so a live view sees exactly what is kept. It must not
 	// keep the slice, and should return quickly.
 	Tap func(interleaved []float32)
+	// Create makes the WAV at Path; nil means capture.CreateWAVStream,
+	// which creates a new file and never replaces one. Tests give one
+	// whose writes fail, as on a full disk.
+	Create func(path string, f capture.WAVStreamFormat) (*capture.WAVStream, error)
 }
 
 // Status is the progress of a recording.
@@ -57,9 +61,6 @@ type Result struct {
 	Path, SidecarPath string
 	Sidecar           Sidecar
 }
-
-// createStream makes the WAV; tests replace it to inject a full disk.
-var createStream = capture.CreateWAVStream
 
 // Record records src into opts.Path until ctx ends, the source is done,
 // MaxFrames are in or writing fails. Samples cross from the source's
@@ -89,7 +90,11 @@ func Record(ctx context.Context, src Source, opts Options) (*Result, error) {
 	if _, err := os.Lstat(sidePath); err == nil {
 		return nil, fmt.Errorf("%s already exists; a recording never overwrites a file, choose another name", sidePath)
 	}
-	stream, err := createStream(opts.Path, capture.WAVStreamFormat{RateHz: format.RateHz, Channels: format.Channels, SampleType: opts.SampleType})
+	create := opts.Create
+	if create == nil {
+		create = capture.CreateWAVStream
+	}
+	stream, err := create(opts.Path, capture.WAVStreamFormat{RateHz: format.RateHz, Channels: format.Channels, SampleType: opts.SampleType})
 	if err != nil {
 		return nil, err
 	}

@@ -14,6 +14,7 @@ import (
 	"time"
 
 	"spotloom/capture"
+	"spotloom/internal/fulldisk"
 )
 
 // knownValue is sample c of frame i of the test signal: a multiple of
@@ -193,37 +194,10 @@ func TestRecordNeverOverwrites(t *testing.T) {
 	}
 }
 
-// fullDisk takes limit bytes, then fails as a full disk does (ENOSPC,
-// write(2) ERRORS); rewriting bytes already there still works.
-type fullDisk struct {
-	f     *os.File
-	limit int64
-}
-
-func (d *fullDisk) WriteAt(b []byte, off int64) (int, error) {
-	if off+int64(len(b)) <= d.limit {
-		return d.f.WriteAt(b, off)
-	}
-	room := max(d.limit-off, 0)
-	n, _ := d.f.WriteAt(b[:room], off)
-	return n, syscall.ENOSPC
-}
-func (d *fullDisk) Sync() error  { return d.f.Sync() }
-func (d *fullDisk) Close() error { return d.f.Close() }
-
 func TestRecordDiskFullStopsAndKeepsWhatWasWritten(t *testing.T) {
-	old := createStream
-	defer func() { createStream = old }()
-	createStream = func(path string, f capture.WAVStreamFormat) (*capture.WAVStream, error) {
-		file, err := os.OpenFile(path, os.O_RDWR|os.O_CREATE|os.O_EXCL, 0o644)
-		if err != nil {
-			return nil, err
-		}
-		return capture.NewWAVStream(path, &fullDisk{f: file, limit: 44 + 4*30000}, f)
-	}
 	src, _ := NewReplay(knownRecording(8000, 2, 80000), 40)
 	path := filepath.Join(t.TempDir(), "take.wav")
-	res, err := Record(context.Background(), src, Options{Path: path})
+	res, err := Record(context.Background(), src, Options{Path: path, Create: fulldisk.Create(44 + 4*30000)})
 	if err == nil || !strings.Contains(err.Error(), "disk is full") || !strings.Contains(err.Error(), "3.8 s") {
 		t.Fatalf("error %v, want a full-disk message giving the 3.8 s kept", err)
 	}
