@@ -61,8 +61,6 @@ func (e *LiveRefusal) Error() string { return e.msg }
 //   - rows.strokes split or first: the passes of the head are cut at its
 //     reversals with a hysteresis from the whole travel and its noise
 //     (levelRows, findStrokes);
-//   - rows.source steps: the step pulses' threshold is Otsu's split of the
-//     whole steps channel (stepsSource.liveCheck);
 //   - the position tone on the index channel: the pulses are told from the
 //     tone by a zero-phase notch run backward from the recording's end, and
 //     their span by the two levels of the whole notched channel
@@ -131,9 +129,8 @@ type Live struct {
 
 // NewLive starts an incremental build with a resolved recipe (ResolveLive):
 // one with a null left is refused with a one-line error saying what to do,
-// and one with rows.strokes split or first, rows.source steps, or a
-// position tone on the index channel with a *LiveRefusal (liveRefusal says
-// why).
+// and one with rows.strokes split or first or a position tone on the
+// index channel with a *LiveRefusal (liveRefusal says why).
 func NewLive(r recipe.Recipe, layout LiveLayout) (*Live, error) {
 	c, err := newLiveCore(r, layout)
 	if err != nil {

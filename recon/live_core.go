@@ -208,8 +208,8 @@ func liveChannels(rec *capture.Recording, r recipe.Recipe) (channels, error) {
 		key string
 		ref recipe.ChannelRef
 		out *int
-	}{{"detector", r.Channels.Detector, &c.detector}, {"index", r.Channels.Index, &c.index}, {"position", r.Channels.Position, &c.position}} {
-		if role.key == "position" && src.needs() != "position" {
+	}{{"detector", r.Channels.Detector, &c.detector}, {"index", r.Channels.Index, &c.index}, {"position", r.Channels.Position, &c.position}, {"steps", r.Channels.Steps, &c.steps}} {
+		if (role.key == "position" || role.key == "steps") && src.needs() != role.key {
 			continue
 		}
 		i, err := rec.Lookup(string(role.ref))
@@ -218,8 +218,8 @@ func liveChannels(rec *capture.Recording, r recipe.Recipe) (channels, error) {
 		}
 		*role.out = i
 	}
-	if c.detector == c.index || c.detector == c.position || c.index == c.position {
-		return c, fmt.Errorf("channels.detector, index and position must name three channels (%d, %d, %d)", c.detector, c.index, c.position)
+	if rows := max(c.position, c.steps); c.detector == c.index || c.detector == rows || c.index == rows {
+		return c, fmt.Errorf("channels.detector, index and the rows' channel must name three channels (%d, %d, %d)", c.detector, c.index, rows)
 	}
 	return c, nil
 }

@@ -20,14 +20,27 @@ type liveLevels interface {
 	all(x []float32, n, nb int, levels []float64) []float64
 }
 
+// liveY is a rows source's share of a live build when it gives each
+// block's position itself (rowSource.liveY).
+type liveY interface {
+	// final extends y, the final positions so far, by the blocks of the n
+	// samples of x so far (blocks of bl samples) that no later sample
+	// changes.
+	final(x []float32, n, bl int, y []float64) []float64
+	// all returns the positions of all nb blocks of the n samples so far,
+	// as a batch build of them finds them, given the final ones (whose
+	// backing array it may extend).
+	all(x []float32, n, nb, bl int, y []float64) []float64
+}
+
 // liveRows is the rows stage of a live build: the level of every block
 // the samples so far decide (its mean, or the tone's amplitude over a
 // whole window), smoothed and calibrated as levelRows does once the
 // smoothing window after a block is final too.
 type liveRows struct {
-	src      liveLevels // nil: an even motion at speed
+	src      liveLevels // nil: ys gives the positions
+	ys       liveY
 	channel  int
-	speed    float64
 	cal      calibration
 	half     int
 	centre   []float64   // Savitzky–Golay weights at the centre
@@ -45,10 +58,9 @@ func newLiveRows(r recipe.Recipe, ch channels, rate float64) (liveRows, error) {
 	if err != nil {
 		return liveRows{}, err
 	}
-	lr := liveRows{src: src.liveLevels(r, rate), channel: ch.position, blockLen: levelBlockLen(rate), rate: rate,
+	lr := liveRows{src: src.liveLevels(r, rate), ys: src.liveY(r, rate), channel: src.channel(ch), blockLen: levelBlockLen(rate), rate: rate,
 		lvLo: math.Inf(1), lvHi: math.Inf(-1)}
 	if lr.src == nil {
-		lr.speed = *r.Rows.SpeedMMS
 		lr.rows.blockLen = lr.blockLen
 		return lr, nil
 	}
@@ -70,11 +82,8 @@ func newLiveRows(r recipe.Recipe, ch channels, rate float64) (liveRows, error) {
 
 // add extends the final levels and y over the n samples so far.
 func (lr *liveRows) add(raw [][]float32, n int) {
-	bl := lr.blockLen
 	if lr.src == nil {
-		for j := len(lr.rows.y); j < (n+bl-1)/bl; j++ {
-			lr.rows.y = append(lr.rows.y, lr.evenAt(j))
-		}
+		lr.rows.y = lr.ys.final(lr.channelOf(raw), n, lr.blockLen, lr.rows.y)
 		return
 	}
 	lr.levels = lr.src.final(raw[lr.channel], n, lr.levels)
@@ -95,9 +104,12 @@ func (lr *liveRows) addY(v float64) {
 	lr.rows.y = append(lr.rows.y, lr.cal.at(v))
 }
 
-func (lr *liveRows) evenAt(j int) float64 {
-	bl := lr.blockLen
-	return lr.speed * (float64(j*bl) + float64(bl)/2) / lr.rate
+// channelOf is the source's channel in raw, or nil for none.
+func (lr *liveRows) channelOf(raw [][]float32) []float32 {
+	if lr.channel < 0 {
+		return nil
+	}
+	return raw[lr.channel]
 }
 
 // smoothAt is smoothSG's value at block j of levels, for a capture of nb
@@ -131,9 +143,7 @@ func (lr *liveRows) tail(raw [][]float32, n int) (*rowsResult, float64, float64)
 	out := &rowsResult{blockLen: bl, y: lr.rows.y}
 	lo, hi := lr.lvLo, lr.lvHi
 	if lr.src == nil {
-		for j := len(out.y); j < nb; j++ {
-			out.y = append(out.y, lr.evenAt(j))
-		}
+		out.y = lr.ys.all(lr.channelOf(raw), n, nb, bl, out.y)
 		return out, lo, hi
 	}
 	levels := lr.src.all(raw[lr.channel], n, nb, lr.levels)

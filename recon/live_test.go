@@ -186,7 +186,8 @@ func sameImage(t *testing.T, got, want *recon.Result) {
 // sensor on a wheel; a sound card (a tone for the position, an AC-coupled
 // detector) with the afterglow, aperture offsets and pitch left automatic;
 // a resonant mirror (the sine law, no beam-off baseline); a head moved at
-// an even speed with no position sensor (rows.source even).
+// an even speed with no position sensor (rows.source even); a stepper's
+// step pulses, their trigger resolved from the first seconds.
 func liveCases() []struct {
 	name string
 	rig  sampledata.Rig
@@ -201,11 +202,15 @@ func liveCases() []struct {
 	even := liveRig()
 	even.Position.Kind, even.Motion.Kind = sampledata.SensorNone, sampledata.MotionMotor
 	even.Motion.StartRestS = 0
+	stepper := liveRig()
+	stepper.Motion = sampledata.Motion{Kind: sampledata.MotionStepper, TravelMM: 300, StrokeS: 10, StrokeCount: 1, StartRestS: 1,
+		MMPerStep: 0.5, StepPulseS: 0.002, StepLevelV: 0.7}
+	stepper.Position = sampledata.PositionSensor{Kind: sampledata.SensorNone}
 	return []struct {
 		name string
 		rig  sampledata.Rig
 		auto bool
-	}{{"dc position", liveRig(), false}, {"sound card", card, true}, {"mirror", mirror, false}, {"even motion", even, false}}
+	}{{"dc position", liveRig(), false}, {"sound card", card, true}, {"mirror", mirror, false}, {"even motion", even, false}, {"steps", stepper, false}}
 }
 
 // TestLiveEqualsBatch: a replay recorded to a WAV and watched live at the
@@ -313,7 +318,6 @@ func TestLiveRefuses(t *testing.T) {
 	}{
 		{"strokes split", "rows.strokes split", func() recipe.Recipe { c := r.Clone(); c.Rows.Strokes = "split"; return c }()},
 		{"strokes first", "rows.strokes first", func() recipe.Recipe { c := r.Clone(); c.Rows.Strokes = "first"; return c }()},
-		{"steps", "rows.source steps", func() recipe.Recipe { c := r.Clone(); c.Rows.Source = recipe.SourceSteps; return c }()},
 		{"tone on the index channel", "index channel", stereo},
 	} {
 		_, err := recon.ResolveLive(context.Background(), rec, tc.r)
@@ -339,7 +343,7 @@ func TestLiveRefuses(t *testing.T) {
 		{func(r *recipe.Recipe) {
 			r.Rows.Source, r.Rows.MMPerStep = recipe.SourceSteps, recipe.Float(0.1)
 			r.Channels.Steps, r.Channels.Position = r.Channels.Position, ""
-		}, "rows.source steps cannot be formed live"},
+		}, "rows.steps_threshold is automatic"},
 		{func(r *recipe.Recipe) {
 			r.Rows.Source, r.Rows.CarrierHz = recipe.SourceTone, recipe.Float(1500)
 			r.Channels.Position = r.Channels.Index

@@ -146,7 +146,10 @@ type rowsResult struct {
 	carrier  float64 // Hz, for source tone
 	levelMin float64 // range of the smoothed level (volts or full scale)
 	levelMax float64
-	warnings []string
+	// stepsThreshold and stepsHysteresis are the step pulses' trigger, for
+	// source steps.
+	stepsThreshold, stepsHysteresis float64
+	warnings                        []string
 }
 
 // at interpolates y at a (fractional) sample position.
@@ -182,6 +185,10 @@ type rowsParams struct {
 	CarrierHz *float64
 	MMPerStep *float64
 	SpeedMMS  *float64
+	// StepsThreshold and StepsHysteresis time the step pulses (source
+	// steps); nil: from the steps channel's two levels.
+	StepsThreshold  *float64 `json:",omitempty"`
+	StepsHysteresis *float64 `json:",omitempty"`
 	// SharesIndex is set when the tone is read from the index channel,
 	// around its pulses.
 	SharesIndex bool `json:",omitempty"`

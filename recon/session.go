@@ -229,6 +229,9 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 	if mustSource(r.Rows.Source).readsTone() && r.Rows.CarrierHz == nil {
 		r.Rows.CarrierHz = recipe.Float(rows.carrier)
 	}
+	if r.Rows.Source == recipe.SourceSteps {
+		r.Rows.StepsThreshold, r.Rows.StepsHysteresis = recipe.Float(rows.stepsThreshold), recipe.Float(rows.stepsHysteresis)
+	}
 	progress.report("rows", 1)
 	if r.Signal.AfterglowUS == nil {
 		us, w, err := s.afterglowStage(ctx, r, ch, t)
@@ -325,6 +328,9 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 		Source: r.Rows.Source, Channel: -1, Calib: r.Rows.Calibration,
 		CarrierHz: r.Rows.CarrierHz, MMPerStep: r.Rows.MMPerStep, SpeedMMS: r.Rows.SpeedMMS,
 	}
+	if p.Source == recipe.SourceSteps {
+		p.StepsThreshold, p.StepsHysteresis = r.Rows.StepsThreshold, r.Rows.StepsHysteresis
+	}
 	src, err := sourceOf(p.Source)
 	if err != nil {
 		return nil, err
@@ -348,6 +354,12 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 			return nil, err
 		}
 		in.pulses, p.SharesIndex = sh.spans, true
+	}
+	if p.Source == recipe.SourceSteps && p.Channel >= 0 {
+		// Resolved first, so a recipe and its resolved copy share one key.
+		if p, err = p.withStepLevels(in.channel, in.name, in.unit); err != nil {
+			return nil, err
+		}
 	}
 	return cachedStage(s.rows, s.runs, "rows", p, func() (*rowsResult, error) {
 		rows, err := findRows(ctx, in, p)

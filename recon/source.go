@@ -33,8 +33,12 @@ type rowSource interface {
 	liveCheck(r recipe.Recipe) (null string, refusal error)
 	// liveLevels is the source's share of a live build of r: how the
 	// level of each block is read as the samples come in, or nil for a
-	// source read from no channel.
+	// source that gives the position itself (liveY).
 	liveLevels(r recipe.Recipe, rateHz float64) liveLevels
+	// liveY is the share of a live build of a source whose blocks'
+	// positions need no level smoothed and calibrated (an even motion,
+	// step pulses), or nil.
+	liveY(r recipe.Recipe, rateHz float64) liveY
 }
 
 // sourceOf returns the implementation of a rows source.

@@ -41,6 +41,24 @@ func (evenSource) liveCheck(r recipe.Recipe) (string, error) {
 // liveLevels is nil: an even motion's rows come from its speed alone.
 func (evenSource) liveLevels(recipe.Recipe, float64) liveLevels { return nil }
 
+func (evenSource) liveY(r recipe.Recipe, rateHz float64) liveY {
+	return evenY{speed: *r.Rows.SpeedMMS, rate: rateHz}
+}
+
+// evenY is a live even motion: every block's position is final at once.
+type evenY struct{ speed, rate float64 }
+
+func (e evenY) final(_ []float32, n, bl int, y []float64) []float64 {
+	return e.all(nil, n, (n+bl-1)/bl, bl, y)
+}
+
+func (e evenY) all(_ []float32, _, nb, bl int, y []float64) []float64 {
+	for j := len(y); j < nb; j++ {
+		y = append(y, e.speed*(float64(j*bl)+float64(bl)/2)/e.rate)
+	}
+	return y
+}
+
 // fromTiming sets an automatic rows.speed_mm_s to one pitch per line, and
 // warns that it is assumed.
 func (evenSource) fromTiming(r *recipe.Recipe, t *timingResult, rateHz float64) []string {

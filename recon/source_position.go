@@ -49,3 +49,5 @@ func (p positionLevels) all(x []float32, n, nb int, levels []float64) []float64 
 	}
 	return levels
 }
+
+func (positionSource) liveY(recipe.Recipe, float64) liveY { return nil }

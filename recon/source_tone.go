@@ -162,3 +162,5 @@ func interpolateNaN(v []float64) bool {
 	}
 	return true
 }
+
+func (toneSource) liveY(recipe.Recipe, float64) liveY { return nil }

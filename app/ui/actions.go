@@ -176,6 +176,7 @@ func forNewCapture(r recipe.Recipe) recipe.Recipe {
 	r.Sweep.SinePeriodS = nil
 	r.Timing.Threshold, r.Timing.Hysteresis = nil, nil
 	r.Rows.CarrierHz = nil
+	r.Rows.StepsThreshold, r.Rows.StepsHysteresis = nil, nil
 	return r
 }
 

@@ -59,6 +59,8 @@ var windowKeys = map[string]string{
 	"rows.calibration":           "the position calibration",
 	"rows.speed_mm_s":            "Head speed",
 	"rows.mm_per_step":           "Travel per step",
+	"rows.steps_threshold":       "step-pulse threshold (set in a recipe file)",
+	"rows.steps_hysteresis":      "step-pulse hysteresis (set in a recipe file)",
 	"rows.source":                "Rows from",
 	"rows.strokes":               "Passes of the head",
 	"rows.carrier_hz":            "the carrier frequency (set in a recipe file)",

@@ -147,6 +147,8 @@ func (r Recipe) Clone() Recipe {
 	c.Sweep.SinePeriodS = clonePtr(r.Sweep.SinePeriodS)
 	c.Rows.CarrierHz = clonePtr(r.Rows.CarrierHz)
 	c.Rows.MMPerStep = clonePtr(r.Rows.MMPerStep)
+	c.Rows.StepsThreshold = clonePtr(r.Rows.StepsThreshold)
+	c.Rows.StepsHysteresis = clonePtr(r.Rows.StepsHysteresis)
 	c.Rows.SpeedMMS = clonePtr(r.Rows.SpeedMMS)
 	c.Image.MaxGapMM = clonePtr(r.Image.MaxGapMM)
 	c.Signal.AfterglowUS = clonePtr(r.Signal.AfterglowUS)

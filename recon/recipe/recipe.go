@@ -99,6 +99,13 @@ type Rows struct {
 	MMPerStep   *float64     `json:"mm_per_step"`
 	SpeedMMS    *float64     `json:"speed_mm_s"`
 	Strokes     string       `json:"strokes"` // "merge", "split", "first"
+	// StepsThreshold and StepsHysteresis are the level at which step
+	// pulses are timed on the steps channel and the hysteresis of that
+	// trigger, in the channel's unit (source steps). Left out (null): Otsu's
+	// split of the whole channel and a fifth of the step between its two
+	// levels; a build's resolved recipe gives them.
+	StepsThreshold  *float64 `json:"steps_threshold,omitempty"`
+	StepsHysteresis *float64 `json:"steps_hysteresis,omitempty"`
 }
 
 // Signal controls detector clean-up.

@@ -206,6 +206,10 @@ func (r Recipe) checkRows(c *checker) {
 	if c.finite("rows.mm_per_step", w.MMPerStep) && (*w.MMPerStep == 0 || math.Abs(*w.MMPerStep) > maxLengthMM) {
 		c.bad("rows.mm_per_step", "is %g: expected the head travel per step pulse in mm, not 0 and at most %g (negative to count down)", *w.MMPerStep, float64(maxLengthMM))
 	}
+	c.finite("rows.steps_threshold", w.StepsThreshold)
+	if c.finite("rows.steps_hysteresis", w.StepsHysteresis) && *w.StepsHysteresis < 0 {
+		c.bad("rows.steps_hysteresis", "is %g: expected 0 or more (the steps channel's unit), or null for automatic", *w.StepsHysteresis)
+	}
 	if w.Source == SourceSteps {
 		if w.MMPerStep == nil {
 			c.bad("rows.mm_per_step", "is null: source steps needs the head travel per step pulse in mm")
