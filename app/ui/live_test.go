@@ -136,6 +136,31 @@ func sameFrames(t *testing.T, what string, got, want *recon.Frame) {
 	}
 }
 
+// keptAsSource checks that every frame of the file kept is the source's
+// frame at its place (int16 keeps the rig's 16-bit ADC values exactly:
+// WAVE PCM, 16-bit two's complement), but those the sidecar lists as
+// overruns (a loaded machine), which are zeros.
+func keptAsSource(t *testing.T, kept, src *capture.Recording, side *live.Sidecar) {
+	t.Helper()
+	lost := make([]bool, kept.Frames())
+	for _, o := range side.Overruns {
+		for i := o.AtFrame; i < min(o.AtFrame+o.Frames, int64(len(lost))); i++ {
+			lost[i] = true
+		}
+	}
+	for c := range kept.Channels {
+		for i, v := range kept.Channels[c].Samples {
+			want := src.Channels[c].Samples[i]
+			if lost[i] {
+				want = 0
+			}
+			if v != want {
+				t.Fatalf("channel %d frame %d: file %v, source %v", c, i, v, want)
+			}
+		}
+	}
+}
+
 // Record… with a replay as the device: the WAV holds every sample of the
 // source (the rig's 16-bit ADC values, which int16 keeps exactly: WAVE
 // PCM, 16-bit two's complement), the live image after the last sample is
@@ -173,22 +198,7 @@ func TestRecordLiveEqualsBatchBuildAndOpensTheFile(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	lost := make([]bool, src.Frames()) // overruns (a loaded machine) are zeros at their place
-	for _, o := range side.Overruns {
-		for i := o.AtFrame; i < o.AtFrame+o.Frames; i++ {
-			lost[i] = true
-		}
-	}
-	for c := range src.Channels {
-		for i, v := range src.Channels[c].Samples {
-			if lost[i] {
-				v = 0
-			}
-			if kept.Channels[c].Samples[i] != v {
-				t.Fatalf("channel %d frame %d: file %v, source %v", c, i, kept.Channels[c].Samples[i], v)
-			}
-		}
-	}
+	keptAsSource(t, kept, src, side)
 	batch, err := recon.NewSession(kept).Build(context.Background(), run.final.Recipe, nil)
 	if err != nil {
 		t.Fatal(err)
@@ -482,23 +492,7 @@ func TestRecordStopsOnAFullDiskAndKeepsWhatWasWritten(t *testing.T) {
 	if side.Frames != int64(kept.Frames()) || !strings.Contains(side.Stopped, "no space") {
 		t.Errorf("sidecar: %d frames, stopped %q; the file holds %d", side.Frames, side.Stopped, kept.Frames())
 	}
-	lost := make([]bool, kept.Frames()) // overruns (a loaded machine) are zeros at their place
-	for _, o := range side.Overruns {
-		for i := o.AtFrame; i < min(o.AtFrame+o.Frames, int64(len(lost))); i++ {
-			lost[i] = true
-		}
-	}
-	for c := range kept.Channels {
-		for i, v := range kept.Channels[c].Samples {
-			want := src.Channels[c].Samples[i] // int16 keeps the rig's 16-bit values exactly
-			if lost[i] {
-				want = 0
-			}
-			if v != want {
-				t.Fatalf("channel %d frame %d: file %v, source %v", c, i, v, want)
-			}
-		}
-	}
+	keptAsSource(t, kept, src, side)
 	if shown != out || ws.result == nil || ws.rec.Frames() != kept.Frames() {
 		t.Errorf("the window shows %q (built: %v), want the %d frames of %s as a capture", shown, ws.result != nil, kept.Frames(), out)
 	}
