@@ -9,6 +9,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 	"sync"
@@ -159,7 +160,9 @@ func TestRecordFromPulseAudio(t *testing.T) {
 		}
 	}
 	time.Sleep(300 * time.Millisecond) // the device starts after the line
-	if out, err := exec.Command("paplay", "--device="+sink, played).CombinedOutput(); err != nil {
+	// A second of the capture held by the server, so a player starved of
+	// the CPU for a moment on a loaded machine does not leave a gap.
+	if out, err := exec.Command("paplay", "--device="+sink, "--latency-msec=1000", played).CombinedOutput(); err != nil {
 		t.Fatalf("paplay: %v: %s", err, out)
 	}
 	if code := <-recorded; code != 0 {
@@ -183,9 +186,10 @@ func TestRecordFromPulseAudio(t *testing.T) {
 	// The rig's pulses are 0.8 V on a 1 V full scale (rig.Index); counted
 	// as rising crossings of half that with a tenth of it as hysteresis.
 	level := rig.Index.LevelV / rig.ADC.FullScaleV
-	pulses := risingCrossings(got.Channels[truth.Channels["index"]].Samples, level/2, level/10)
+	pulses, gaps := risingCrossings(got.Channels[truth.Channels["index"]].Samples, level/2, level/10)
 	if want := len(truth.IndexEdgesS); pulses > want || pulses < want-3 {
-		t.Errorf("%d index pulses recorded, the simulator made %d; the recording's overruns: %+v", pulses, want, side.Overruns)
+		t.Errorf("%d index pulses recorded, the simulator made %d; the recording's overruns: %+v; gaps between pulses at %v s",
+			pulses, want, side.Overruns, gapTimes(gaps, got.SampleRateHz))
 	}
 
 	r := rig.Recipe()
@@ -236,19 +240,42 @@ func writeWAVFile(t *testing.T, path string, rec *capture.Recording) {
 }
 
 // risingCrossings counts the rises of x through threshold+hysteresis/2
-// after it was below threshold−hysteresis/2.
-func risingCrossings(x []float32, threshold, hysteresis float64) int {
-	n, high := 0, true // a capture that starts high is not a rise
-	for _, v := range x {
+// after it was below threshold−hysteresis/2, and returns the sample at
+// which each rise that follows a longer wait than 1.5 times the median
+// one begins its wait (where pulses went missing).
+func risingCrossings(x []float32, threshold, hysteresis float64) (int, []int) {
+	var rises []int
+	high := true // a capture that starts high is not a rise
+	for i, v := range x {
 		switch {
 		case !high && float64(v) > threshold+hysteresis/2:
 			high = true
-			n++
+			rises = append(rises, i)
 		case high && float64(v) < threshold-hysteresis/2:
 			high = false
 		}
 	}
-	return n
+	var waits []float64
+	for i := 1; i < len(rises); i++ {
+		waits = append(waits, float64(rises[i]-rises[i-1]))
+	}
+	slices.Sort(waits)
+	var gaps []int
+	for i := 1; len(waits) > 0 && i < len(rises); i++ {
+		if float64(rises[i]-rises[i-1]) > 1.5*waits[len(waits)/2] {
+			gaps = append(gaps, rises[i-1])
+		}
+	}
+	return len(rises), gaps
+}
+
+// gapTimes is the samples as seconds, rounded to the millisecond.
+func gapTimes(gaps []int, rateHz float64) []float64 {
+	out := make([]float64, len(gaps))
+	for i, g := range gaps {
+		out[i] = math.Round(float64(g)/rateHz*1000) / 1000
+	}
+	return out
 }
 
 // dotCentreError builds rec with r, finds the dot grid (measure.Grid) and

@@ -5,7 +5,9 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
+	"time"
 
 	"github.com/go-audio/wav"
 
@@ -83,5 +85,56 @@ func TestMeterLine(t *testing.T) {
 		if !strings.Contains(line, want) {
 			t.Errorf("meter line %q lacks %q", line, want)
 		}
+	}
+}
+
+// Ctrl-C (SIGINT) ends a recording as its normal stop: exit 0, and the
+// WAV holds what came until then (checked with the independent go-audio
+// decoder), its sidecar finished and saying it was stopped.
+func TestRecordStopsOnCtrlC(t *testing.T) {
+	dir := t.TempDir()
+	src := filepath.Join(dir, "sim.wav")
+	if code, _, errOut := runSimulateCmd("--scene", "dot-grid", "--out", src, "--seconds", "3", "--rate", "48000"); code != 0 {
+		t.Fatalf("simulate: %s", errOut)
+	}
+	out := filepath.Join(dir, "take.wav")
+	var errOut lockedBuffer
+	done := make(chan int, 1)
+	go func() {
+		var stdout bytes.Buffer
+		done <- run([]string{"record", "--from", src, "--out", out}, &stdout, &errOut)
+	}()
+	for start := time.Now(); !strings.Contains(errOut.String(), "recording "); time.Sleep(10 * time.Millisecond) {
+		if time.Since(start) > 10*time.Second {
+			t.Fatalf("record did not start: %s", errOut.String())
+		}
+	}
+	time.Sleep(700 * time.Millisecond)
+	syscall.Kill(os.Getpid(), syscall.SIGINT)
+	var code int
+	select {
+	case code = <-done:
+	case <-time.After(10 * time.Second):
+		t.Fatal("record did not stop on SIGINT")
+	}
+	if code != 0 {
+		t.Fatalf("record after Ctrl-C: exit %d: %s", code, errOut.String())
+	}
+	f, err := os.Open(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	buf, err := wav.NewDecoder(f).FullPCMBuffer()
+	if err != nil {
+		t.Fatalf("go-audio/wav: %v", err)
+	}
+	secs := float64(buf.NumFrames()) / float64(buf.Format.SampleRate)
+	side, err := live.ReadSidecar(live.SidecarPath(out))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if secs < 0.3 || secs > 2.9 || side.Frames != int64(buf.NumFrames()) || !side.Finished || side.Stopped != "stopped" {
+		t.Errorf("after Ctrl-C at about 0.7 s of 3 s: the file holds %.2f s; sidecar %d frames, finished %v, stopped %q", secs, side.Frames, side.Finished, side.Stopped)
 	}
 }
