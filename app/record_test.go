@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -20,16 +21,23 @@ func runRecordCmd(args ...string) (code int, stderr string) {
 	return code, errOut.String()
 }
 
+// simulatedTake simulates a dot-grid capture of the given length at 48 kHz
+// into a new folder, and names the take to record beside it.
+func simulatedTake(t *testing.T, seconds float64) (src, out string) {
+	t.Helper()
+	dir := t.TempDir()
+	src = filepath.Join(dir, "sim.wav")
+	if code, _, errOut := runSimulateCmd("--scene", "dot-grid", "--out", src, "--seconds", fmt.Sprint(seconds), "--rate", "48000"); code != 0 {
+		t.Fatalf("simulate: %s", errOut)
+	}
+	return src, filepath.Join(dir, "take.wav")
+}
+
 // "record --from" replays a simulated capture through the live path; the
 // WAV it writes holds the same samples, checked with the independent
 // go-audio/wav decoder, and its sidecar says it finished without loss.
 func TestRecordFromReplay(t *testing.T) {
-	dir := t.TempDir()
-	src := filepath.Join(dir, "sim.wav")
-	if code, _, errOut := runSimulateCmd("--scene", "dot-grid", "--out", src, "--seconds", "0.5", "--rate", "48000"); code != 0 {
-		t.Fatalf("simulate: %s", errOut)
-	}
-	out := filepath.Join(dir, "take.wav")
+	src, out := simulatedTake(t, 0.5)
 	if code, errOut := runRecordCmd("--from", src, "--speed", "25", "--out", out); code != 0 {
 		t.Fatalf("record exited %d: %s", code, errOut)
 	}
@@ -92,12 +100,7 @@ func TestMeterLine(t *testing.T) {
 // WAV holds what came until then (checked with the independent go-audio
 // decoder), its sidecar finished and saying it was stopped.
 func TestRecordStopsOnCtrlC(t *testing.T) {
-	dir := t.TempDir()
-	src := filepath.Join(dir, "sim.wav")
-	if code, _, errOut := runSimulateCmd("--scene", "dot-grid", "--out", src, "--seconds", "3", "--rate", "48000"); code != 0 {
-		t.Fatalf("simulate: %s", errOut)
-	}
-	out := filepath.Join(dir, "take.wav")
+	src, out := simulatedTake(t, 3)
 	var errOut lockedBuffer
 	done := make(chan int, 1)
 	go func() {

@@ -497,3 +497,37 @@ func TestRecordStopsOnAFullDiskAndKeepsWhatWasWritten(t *testing.T) {
 		t.Errorf("the window shows %q (built: %v), want the %d frames of %s as a capture", shown, ws.result != nil, kept.Frames(), out)
 	}
 }
+
+// A tone set while the image forms acts on the live image at once and is
+// kept at every later update (the live view fits the tone to each new
+// image only until the user sets it), and after the capture is opened.
+func TestLiveToneSetByTheUserActsAndIsKept(t *testing.T) {
+	src, srcPath, r := liveCapture(t)
+	ws := newLiveWorkstation(t, src, 2)
+	ws.Replay(srcPath, capture.Options{}, &r, 2)
+	ws.Wait()
+	var run *liveRun
+	waitLive(t, ws, "a live image", func() bool { run = ws.lv.run; return ws.Live() && ws.result != nil })
+	var frames int
+	uiDo(func() {
+		ws.edit(ctlGamma, func(s *settings) bool { s.Tone.Gamma = 2.5; return true })
+		frames = ws.result.Report.Lines
+	})
+	check := func(when string) {
+		uiDo(func() {
+			if ws.cur.Tone.Gamma != 2.5 || ws.view.tone.Gamma != 2.5 {
+				t.Errorf("%s: the window's gamma %g, the image's %g; want the 2.5 set", when, ws.cur.Tone.Gamma, ws.view.tone.Gamma)
+			}
+		})
+	}
+	check("at once")
+	waitLive(t, ws, "later live images", func() bool { return !ws.Live() || ws.result.Report.Lines > frames+200 })
+	check("while the image forms")
+	select {
+	case <-run.ended:
+	case <-time.After(60 * time.Second):
+		t.Fatal("the live view did not end")
+	}
+	ws.Wait()
+	check("once the capture is opened")
+}
