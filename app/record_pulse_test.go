@@ -147,7 +147,9 @@ func TestRecordFromPulseAudio(t *testing.T) {
 		t.Fatalf("record --list: exit %d, no monitor of the %s sink in %q (%s)", code, sink, list, errOut)
 	}
 	take := filepath.Join(dir, "take.wav")
-	seconds := rig.DurationS + pulseLeadInS + 2
+	// Room after the capture for a player that starts late on a loaded
+	// machine.
+	seconds := rig.DurationS + pulseLeadInS + 4
 	var recordErr lockedBuffer
 	recorded := make(chan int, 1)
 	go func() {
@@ -186,10 +188,10 @@ func TestRecordFromPulseAudio(t *testing.T) {
 	// The rig's pulses are 0.8 V on a 1 V full scale (rig.Index); counted
 	// as rising crossings of half that with a tenth of it as hysteresis.
 	level := rig.Index.LevelV / rig.ADC.FullScaleV
-	pulses, gaps := risingCrossings(got.Channels[truth.Channels["index"]].Samples, level/2, level/10)
+	pulses, gaps, first, last := risingCrossings(got.Channels[truth.Channels["index"]].Samples, level/2, level/10)
 	if want := len(truth.IndexEdgesS); pulses > want || pulses < want-3 {
-		t.Errorf("%d index pulses recorded, the simulator made %d; the recording's overruns: %+v; gaps between pulses at %v s",
-			pulses, want, side.Overruns, gapTimes(gaps, got.SampleRateHz))
+		t.Errorf("%d index pulses recorded, the simulator made %d; the recording's overruns: %+v; gaps between pulses at %v s; pulses from %.3f s to %.3f s of %.3f s",
+			pulses, want, side.Overruns, gapTimes(gaps, got.SampleRateHz), float64(first)/got.SampleRateHz, float64(last)/got.SampleRateHz, got.DurationS())
 	}
 
 	r := rig.Recipe()
@@ -210,7 +212,7 @@ func TestRecordFromPulseAudio(t *testing.T) {
 // pulseLeadInS is the silence played before the capture: the recorder's
 // device starts a moment after its first line, later on a loaded machine,
 // and what the server plays before that is not recorded.
-const pulseLeadInS = 1.0
+const pulseLeadInS = 2.0
 
 // withLeadIn is rec after s seconds of silence on every channel.
 func withLeadIn(rec *capture.Recording, s float64) *capture.Recording {
@@ -242,8 +244,9 @@ func writeWAVFile(t *testing.T, path string, rec *capture.Recording) {
 // risingCrossings counts the rises of x through threshold+hysteresis/2
 // after it was below threshold−hysteresis/2, and returns the sample at
 // which each rise that follows a longer wait than 1.5 times the median
-// one begins its wait (where pulses went missing).
-func risingCrossings(x []float32, threshold, hysteresis float64) (int, []int) {
+// one begins its wait (where pulses went missing), and the samples of the
+// first and last rise.
+func risingCrossings(x []float32, threshold, hysteresis float64) (n int, gaps []int, first, last int) {
 	var rises []int
 	high := true // a capture that starts high is not a rise
 	for i, v := range x {
@@ -260,13 +263,15 @@ func risingCrossings(x []float32, threshold, hysteresis float64) (int, []int) {
 		waits = append(waits, float64(rises[i]-rises[i-1]))
 	}
 	slices.Sort(waits)
-	var gaps []int
 	for i := 1; len(waits) > 0 && i < len(rises); i++ {
 		if float64(rises[i]-rises[i-1]) > 1.5*waits[len(waits)/2] {
 			gaps = append(gaps, rises[i-1])
 		}
 	}
-	return len(rises), gaps
+	if len(rises) == 0 {
+		return 0, nil, 0, 0
+	}
+	return len(rises), gaps, rises[0], rises[len(rises)-1]
 }
 
 // gapTimes is the samples as seconds, rounded to the millisecond.
