@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -13,6 +14,7 @@ import (
 
 	"spotloom/app/ui"
 	"spotloom/capture"
+	"spotloom/recon"
 	"spotloom/recon/recipe"
 	"spotloom/sampledata"
 )
@@ -103,6 +105,25 @@ func TestRecipeSoundCardCapture(t *testing.T) {
 	}
 	if r.Rows.Calibration[0] != rig.Recipe().Rows.Calibration[0] {
 		t.Errorf("the stated calibration was changed: %v", r.Rows.Calibration)
+	}
+	// The recipe written builds the rig's frame: the field's width is
+	// 2·D·tan(field/2) = 2·500·tan 15° = 268 mm (closed form), the rows
+	// span the head's travel (the rig's 400 mm stroke), each within a
+	// tenth (the spot's blur and the turning ends).
+	rec, err := capture.Open(path, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := recon.NewSession(rec).Build(context.Background(), r, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := res.Frames[0]
+	width, height := float64(f.Width)*f.PitchXMM, float64(f.Height)*f.PitchYMM
+	wantW := 2 * 500 * math.Tan(15*math.Pi/180)
+	t.Logf("frame %.0f × %.0f mm at %g mm pitch", width, height, f.PitchXMM)
+	if math.Abs(width-wantW) > 0.1*wantW || math.Abs(height-rig.Motion.TravelMM) > 0.1*rig.Motion.TravelMM {
+		t.Errorf("frame %d × %d px at %g mm: %.0f × %.0f mm, want about %.0f × %.0f mm", f.Width, f.Height, f.PitchXMM, width, height, wantW, rig.Motion.TravelMM)
 	}
 }
 
