@@ -16,7 +16,7 @@ import (
 
 	"spotloom/capture"
 	"spotloom/capture/live"
-	"spotloom/internal/fulldisk"
+	"spotloom/internal/faultydisk"
 	"spotloom/recon"
 	"spotloom/recon/recipe"
 	"spotloom/sampledata"
@@ -462,7 +462,7 @@ func TestRecordStopsOnAFullDiskAndKeepsWhatWasWritten(t *testing.T) {
 	w := a.NewWindow("Spotloom full disk test")
 	ws := New(a, w, Options{
 		OpenDevice: func(string, live.Format) (live.Source, error) { return live.NewReplay(src, 4) },
-		CreateWAV:  fulldisk.Create(int64(room * src.SampleRateHz * 2 * float64(len(src.Channels)))),
+		CreateWAV:  faultydisk.Full(int64(room * src.SampleRateHz * 2 * float64(len(src.Channels)))),
 	})
 	w.Resize(fyne.NewSize(1280, 800))
 	ws.OpenFile(srcPath, &r)
@@ -530,4 +530,54 @@ func TestLiveToneSetByTheUserActsAndIsKept(t *testing.T) {
 	}
 	ws.Wait()
 	check("once the capture is opened")
+}
+
+// A disk that stalls for a moment during a recording loses the frames the
+// ring buffer cannot hold meanwhile: they are counted and shown in the
+// live bar and the end's summary, listed in the sidecar, and written as
+// zeros at their place, so the file keeps the source's length and every
+// other frame where it was (a gap marked, not closed up).
+func TestRecordOverrunIsShownAndMarked(t *testing.T) {
+	src, srcPath, r := liveCapture(t)
+	frame := int64(2 * len(src.Channels)) // int16
+	a := test.NewTempApp(t)
+	w := a.NewWindow("Spotloom overrun test")
+	ws := New(a, w, Options{
+		OpenDevice: func(string, live.Format) (live.Source, error) { return live.NewReplay(src, 4) },
+		// At 4× real time the 2 s ring fills in half a second: a 1.5 s
+		// stall a second in loses about a second of frames.
+		CreateWAV: faultydisk.Stalling(int64(src.SampleRateHz)*frame, 1500*time.Millisecond),
+	})
+	w.Resize(fyne.NewSize(1280, 800))
+	ws.OpenFile(srcPath, &r)
+	ws.Wait()
+	out := filepath.Join(t.TempDir(), "stall.wav")
+	uiDo(func() {
+		dev, _ := ws.openDeviceFunc()("bench replay", live.Format{})
+		ws.RecordFrom(dev, out, "int16")
+	})
+	endOfLive(t, ws)
+	side, err := live.ReadSidecar(live.SidecarPath(out))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(side.Overruns) == 0 || side.OverrunFrames < int64(src.SampleRateHz)/4 {
+		t.Fatalf("sidecar overruns %+v (%d frames); a 1.5 s stall at 4× should lose about a second", side.Overruns, side.OverrunFrames)
+	}
+	kept, err := capture.Open(out, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if kept.Frames() != src.Frames() {
+		t.Fatalf("the file holds %d frames, the source %d: the gap was closed up", kept.Frames(), src.Frames())
+	}
+	keptAsSource(t, kept, src, side)
+	var bar, stage string
+	uiDo(func() { bar, stage = ws.lv.bar.overruns.Text, ws.settled })
+	if want := fmt.Sprintf("overruns %d (%d frames marked as zeros)", len(side.Overruns), side.OverrunFrames); bar != want {
+		t.Errorf("live bar %q, want %q", bar, want)
+	}
+	if want := fmt.Sprintf("%d overruns", len(side.Overruns)); !strings.Contains(stage, want) {
+		t.Errorf("the end's summary %q does not say %q", stage, want)
+	}
 }

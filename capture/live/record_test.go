@@ -14,7 +14,7 @@ import (
 	"time"
 
 	"spotloom/capture"
-	"spotloom/internal/fulldisk"
+	"spotloom/internal/faultydisk"
 )
 
 // knownValue is sample c of frame i of the test signal: a multiple of
@@ -197,7 +197,7 @@ func TestRecordNeverOverwrites(t *testing.T) {
 func TestRecordDiskFullStopsAndKeepsWhatWasWritten(t *testing.T) {
 	src, _ := NewReplay(knownRecording(8000, 2, 80000), 40)
 	path := filepath.Join(t.TempDir(), "take.wav")
-	res, err := Record(context.Background(), src, Options{Path: path, Create: fulldisk.Create(44 + 4*30000)})
+	res, err := Record(context.Background(), src, Options{Path: path, Create: faultydisk.Full(44 + 4*30000)})
 	if err == nil || !strings.Contains(err.Error(), "disk is full") || !strings.Contains(err.Error(), "3.8 s") {
 		t.Fatalf("error %v, want a full-disk message giving the 3.8 s kept", err)
 	}
