@@ -193,6 +193,20 @@ func (l *Live) Recipe() recipe.Recipe {
 	return l.core.r.Clone()
 }
 
+// Channels is every channel's samples appended so far, in layout order:
+// the Live's own store, shared with the caller (who must not change it)
+// so that a window showing the capture keeps no second copy. Later
+// Appends and Retunes never change what it returns.
+func (l *Live) Channels() [][]float32 {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	out := make([][]float32, len(l.core.raw))
+	for ch, s := range l.core.raw {
+		out[ch] = s[:l.core.n:l.core.n]
+	}
+	return out
+}
+
 // Samples is the number of frames appended so far.
 func (l *Live) Samples() int64 {
 	l.mu.Lock()

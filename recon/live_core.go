@@ -246,7 +246,9 @@ func grow(s []float32, k int) []float32 {
 	return slices.Grow(s, k)[:len(s)+k]
 }
 
-// replay feeds c everything old was given, a second at a time.
+// replay feeds c everything old was given, a second at a time. The two
+// share the samples' store: c takes it over, writing past old's samples
+// only, and old, unless c fails, is given no more.
 func (c *liveCore) replay(ctx context.Context, old *liveCore) error {
 	step := max(int(c.rate), 1)
 	for at := 0; at < old.n; at += step {
@@ -255,7 +257,7 @@ func (c *liveCore) replay(ctx context.Context, old *liveCore) error {
 		}
 		k := min(step, old.n-at)
 		for ch := range c.raw {
-			c.raw[ch] = append(c.raw[ch], old.raw[ch][at:at+k]...)
+			c.raw[ch] = old.raw[ch][:at+k]
 		}
 		if err := c.advance(k); err != nil {
 			return err

@@ -426,9 +426,14 @@ func (ws *Workstation) shown() shown {
 		v.frameRange = ws.drawn.frameRange.span
 	}
 	if _, idx, _ := ws.roleChannels(ws.result.Recipe); idx >= 0 && ws.rec != nil {
-		// A scan of the whole channel: once per capture and channel.
+		// A scan of the whole channel: once per capture and channel; a
+		// live capture has its range so far kept as it comes.
 		if m := &ws.drawn.indexSpan; m.rec != ws.rec || m.ch != idx {
-			*m = channelSpan{rec: ws.rec, ch: idx, span: channelRange(ws.rec, idx)}
+			span, ok := ws.lv.rangeOf(idx)
+			if !ok {
+				span = channelRange(ws.rec, idx)
+			}
+			*m = channelSpan{rec: ws.rec, ch: idx, span: span}
 		}
 		v.indexSpan = ws.drawn.indexSpan.span
 	}

@@ -92,9 +92,14 @@ func NewImageView() *ImageView {
 func (v *ImageView) SetFrame(f *recon.Frame, t recon.Tone) {
 	v.mu.Lock()
 	old := v.frame
-	v.frame = f
-	v.tone = t
-	v.retone()
+	if sameGrid(old, f) && t == v.tone && len(v.toned) == f.Width*f.Height {
+		v.frame = f
+		v.retoneChanged(old)
+	} else {
+		v.frame = f
+		v.tone = t
+		v.retone()
+	}
 	if old == nil || f == nil || v.autoFit {
 		v.fit, v.autoFit = true, true
 	}
@@ -166,6 +171,26 @@ func (v *ImageView) retone() {
 	v.covered = f.Covered
 	for i := 0; i < n && i < len(f.Pix); i++ {
 		if i < len(f.Covered) && f.Covered[i] {
+			v.toned[i] = uint8(math.Round(255 * v.tone.Map(f.Pix[i])))
+		}
+	}
+}
+
+// sameGrid reports whether frames a and b have the same pixel grid.
+func sameGrid(a, b *recon.Frame) bool {
+	return a != nil && b != nil && a.Width == b.Width && a.Height == b.Height && a.OriginXMM == b.OriginXMM && a.OriginYMM == b.OriginYMM &&
+		a.PitchXMM == b.PitchXMM && a.PitchYMM == b.PitchYMM && len(a.Pix) == len(b.Pix) && len(a.Covered) == len(b.Covered)
+}
+
+// retoneChanged is retone for a frame that follows old on the same grid
+// with the same tone: only the pixels whose value or coverage changed are
+// mapped again (a live image changes in the rows its newest lines cross).
+// Call with mu held.
+func (v *ImageView) retoneChanged(old *recon.Frame) {
+	f := v.frame
+	v.covered = f.Covered
+	for i, c := range f.Covered {
+		if c && (!old.Covered[i] || f.Pix[i] != old.Pix[i]) {
 			v.toned[i] = uint8(math.Round(255 * v.tone.Map(f.Pix[i])))
 		}
 	}

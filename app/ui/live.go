@@ -70,6 +70,7 @@ type liveRun struct {
 	first   int          // frames the settings were resolved from
 	refused bool         // the settings cannot form a live image at all (recon.LiveRefusal)
 	final   *Result      // the last image, once the capture has ended
+	store   *float32     // where the samples delivered last are stored
 
 	// On the UI goroutine: how long frames waited for their image.
 	latMax, latSum time.Duration
@@ -88,6 +89,7 @@ type liveStatus struct {
 	ranges                [][2]float64 // each channel's range so far
 	writing, replay, done bool
 	arrived               time.Time // when the oldest frame new in this update arrived
+	moved                 bool      // the samples are in a new store (the engine's grew): drop the old one
 }
 
 // newLiveRun prepares a live view of src; out is the WAV to write ("" to
@@ -159,7 +161,6 @@ func (r *liveRun) engineLoop() {
 func (r *liveRun) consume(block []float32, closed bool) {
 	r.mu.Lock()
 	defer r.mu.Unlock()
-	appendInterleaved(r.rec, block)
 	r.ranges = widenRanges(r.ranges, block, len(r.rec.Channels))
 	if r.builder != nil {
 		if len(block) > 0 {
@@ -167,10 +168,14 @@ func (r *liveRun) consume(block []float32, closed bool) {
 				r.noImage = windowWords(err.Error())
 				r.builder = nil
 				r.tryAt = -1
+				appendInterleaved(r.rec, block) // the capture goes on without the engine
+				return
 			}
 		}
+		r.shareSamples()
 		return
 	}
+	appendInterleaved(r.rec, block)
 	secs := r.rec.DurationS()
 	if r.tryAt < 0 || (secs < r.tryAt && !closed) || secs == 0 {
 		return
@@ -192,6 +197,16 @@ func (r *liveRun) consume(block []float32, closed bool) {
 		return
 	}
 	r.builder, r.noImage, r.first = b, "", r.rec.Frames()
+	r.shareSamples()
+}
+
+// shareSamples makes the capture so far the engine's samples, so that the
+// window keeps one copy of them (the engine's): the capture's own copy of
+// the first seconds is dropped. Call with mu held.
+func (r *liveRun) shareSamples() {
+	for c, s := range r.builder.Channels() {
+		r.rec.Channels[c].Samples = s
+	}
 }
 
 // deliver hands the image and the meters to the window, unless the last
@@ -212,7 +227,12 @@ func (r *liveRun) deliver(peak []float32, frames int64, closed bool, since time.
 		r.final = res
 	}
 	rec := snapshotRecording(r.rec)
-	st := liveStatus{frames: frames, committed: r.committed.Load(), rateHz: r.format.RateHz, peak: peak,
+	moved := false
+	if len(rec.Channels) > 0 && len(rec.Channels[0].Samples) > 0 {
+		s := rec.Channels[0].Samples
+		moved, r.store = r.store != nil && r.store != &s[0], &s[0]
+	}
+	st := liveStatus{moved: moved, frames: frames, committed: r.committed.Load(), rateHz: r.format.RateHz, peak: peak,
 		overruns: r.overruns.Load(), overrunFrames: r.overrunFrames.Load(), noImage: r.noImage, ranges: slices.Clone(r.ranges),
 		writing: r.out != "", replay: r.replayed != nil, done: closed, arrived: since}
 	if r.replayed != nil {

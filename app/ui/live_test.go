@@ -498,16 +498,24 @@ func TestRecordStopsOnAFullDiskAndKeepsWhatWasWritten(t *testing.T) {
 	}
 }
 
+// replayToFirstImage replays the live test capture at speed times its
+// rate in a headless window and waits for the first live image.
+func replayToFirstImage(t *testing.T, speed float64) (*capture.Recording, *Workstation, *liveRun) {
+	t.Helper()
+	src, srcPath, r := liveCapture(t)
+	ws := newLiveWorkstation(t, src, speed)
+	ws.Replay(srcPath, capture.Options{}, &r, speed)
+	ws.Wait()
+	var run *liveRun
+	waitLive(t, ws, "a live image", func() bool { run = ws.lv.run; return ws.Live() && ws.result != nil })
+	return src, ws, run
+}
+
 // A tone set while the image forms acts on the live image at once and is
 // kept at every later update (the live view fits the tone to each new
 // image only until the user sets it), and after the capture is opened.
 func TestLiveToneSetByTheUserActsAndIsKept(t *testing.T) {
-	src, srcPath, r := liveCapture(t)
-	ws := newLiveWorkstation(t, src, 2)
-	ws.Replay(srcPath, capture.Options{}, &r, 2)
-	ws.Wait()
-	var run *liveRun
-	waitLive(t, ws, "a live image", func() bool { run = ws.lv.run; return ws.Live() && ws.result != nil })
+	_, ws, run := replayToFirstImage(t, 2)
 	var frames int
 	uiDo(func() {
 		ws.edit(ctlGamma, func(s *settings) bool { s.Tone.Gamma = 2.5; return true })
@@ -580,4 +588,53 @@ func TestRecordOverrunIsShownAndMarked(t *testing.T) {
 	if want := fmt.Sprintf("%d overruns", len(side.Overruns)); !strings.Contains(stage, want) {
 		t.Errorf("the end's summary %q does not say %q", stage, want)
 	}
+}
+
+// The window keeps one copy of the samples while the image forms: the
+// capture it shows is the live engine's own store (the same memory; when
+// the engine's store grows into new memory, the next update shows that),
+// holds the source's samples, and stays so after a control re-grids what
+// was captured.
+func TestLiveWindowSharesTheEngineSamples(t *testing.T) {
+	src, ws, run := replayToFirstImage(t, 1)
+	check := func(when string, mustBeLive bool) {
+		t.Helper()
+		var shown *capture.Recording
+		waitLive(t, ws, when+": the capture shown in the engine's store", func() bool {
+			if !ws.Live() {
+				return true
+			}
+			shown = ws.rec
+			run.mu.Lock()
+			engine := run.builder.Channels()
+			run.mu.Unlock()
+			for c, ch := range shown.Channels {
+				if n := len(ch.Samples); n == 0 || n > len(engine[c]) || &ch.Samples[0] != &engine[c][0] {
+					return false
+				}
+			}
+			return true
+		})
+		if shown == nil {
+			if mustBeLive {
+				t.Fatalf("%s: the replay ended before the check", when)
+			}
+			return // the replay ended first
+		}
+		// The replay hands the file's samples on unchanged.
+		for c, ch := range shown.Channels {
+			for i, v := range ch.Samples {
+				if v != src.Channels[c].Samples[i] {
+					t.Fatalf("%s: channel %d sample %d is %v, the file's %v", when, c, i, v, src.Channels[c].Samples[i])
+				}
+			}
+		}
+	}
+	check("while the image forms", true)
+	uiDo(func() {
+		ws.change("delay", func(rr *recipe.Recipe) { d := *ws.result.Recipe.Sweep.DelayDeg + 1; rr.Sweep.DelayDeg = &d })
+	})
+	ws.Wait()
+	check("after a re-grid", false)
+	endOfLive(t, ws)
 }

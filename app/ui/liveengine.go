@@ -15,6 +15,9 @@ type liveBuilder interface {
 	Result() *recon.Result
 	Retune(ctx context.Context, r recipe.Recipe) error
 	Recipe() recipe.Recipe
+	// Channels is the samples appended so far, the builder's own store
+	// (read only), which the capture shown shares.
+	Channels() [][]float32
 }
 
 // resolveLive fills r's automatic values from first, the first seconds of

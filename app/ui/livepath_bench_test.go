@@ -5,6 +5,7 @@ package ui
 import (
 	"context"
 	"path/filepath"
+	"runtime"
 	"syscall"
 	"testing"
 	"time"
@@ -31,7 +32,10 @@ func cpuTime(b *testing.B) time.Duration {
 // (getrusage, so every goroutine counts, the replay source's too) as
 // "core-%" of one core, and how long frames waited from their arrival in
 // the feed to their image in the window ("ms-wait-max", "ms-wait-mean";
-// the ring adds up to its 20 ms tick before that). The headless driver
+// the ring adds up to its 20 ms tick before that), and the heap the
+// steady state keeps per second of capture ("kept-B/s", after a GC at
+// each end, and "kept/raw", its ratio to the samples as float32, 4 B per
+// sample and channel; the GCs are outside the CPU time). The headless driver
 // does not paint, which a display adds. One iteration is one 8 s capture.
 func BenchmarkLivePath(b *testing.B) {
 	rig := liveRig()
@@ -43,7 +47,7 @@ func BenchmarkLivePath(b *testing.B) {
 	fourth := append([]float32(nil), rec.Channels[0].Samples...)
 	rec.Channels = append(rec.Channels, capture.Channel{Name: "ch3", Unit: capture.UnitFullScale, Samples: fourth})
 	r := rig.Recipe()
-	var core, waitMax, waitMean float64
+	var core, waitMax, waitMean, kept float64
 	for b.Loop() {
 		ws := newLiveWorkstation(b, rec, 1)
 		src, err := ws.openDeviceFunc()("bench replay", live.Format{})
@@ -66,11 +70,16 @@ func BenchmarkLivePath(b *testing.B) {
 			time.Sleep(20 * time.Millisecond)
 		}
 		uiDo(func() { run.latMax, run.latSum, run.latN = 0, 0, 0 })
+		heap0 := heapInUse()
+		_, frames0 := look()
 		t0, cpu0 := time.Now(), cpuTime(b)
 		for _, frames := look(); frames < int64(rec.Frames())-rate(rec)/2; _, frames = look() {
 			time.Sleep(20 * time.Millisecond)
 		}
 		wall, cpu := time.Since(t0), cpuTime(b)-cpu0
+		heap1 := heapInUse()
+		_, frames1 := look()
+		kept = float64(heap1-heap0) / (float64(frames1-frames0) / rec.SampleRateHz)
 		uiDo(func() {
 			core = 100 * cpu.Seconds() / wall.Seconds()
 			waitMax = float64(run.latMax.Microseconds()) / 1000
@@ -85,6 +94,16 @@ func BenchmarkLivePath(b *testing.B) {
 	b.ReportMetric(core, "core-%")
 	b.ReportMetric(waitMax, "ms-wait-max")
 	b.ReportMetric(waitMean, "ms-wait-mean")
+	b.ReportMetric(kept, "kept-B/s")
+	b.ReportMetric(kept/(rec.SampleRateHz*float64(len(rec.Channels))*4), "kept/raw")
 }
 
 func rate(rec *capture.Recording) int64 { return int64(rec.SampleRateHz) }
+
+// heapInUse is the live heap after a collection, bytes.
+func heapInUse() int64 {
+	runtime.GC()
+	var m runtime.MemStats
+	runtime.ReadMemStats(&m)
+	return int64(m.HeapAlloc)
+}

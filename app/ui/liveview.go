@@ -40,6 +40,15 @@ func (lv *liveState) laneRanges(ch ...int) [3][2]float64 {
 	return out
 }
 
+// rangeOf is channel c's range so far while a live view runs (the
+// minimum and maximum channelRange would find), ok false otherwise.
+func (lv *liveState) rangeOf(c int) (span [2]float64, ok bool) {
+	if lv.run == nil || c < 0 || c >= len(lv.ranges) || lv.ranges[c][1] < lv.ranges[c][0] {
+		return span, false
+	}
+	return lv.ranges[c], true
+}
+
 // Live reports whether a live view (a recording or a replay) is running.
 func (ws *Workstation) Live() bool { return ws.lv.run != nil }
 
@@ -122,13 +131,16 @@ func (ws *Workstation) showLive(run *liveRun, rec *capture.Recording, res *Resul
 	if ws.lv.toneFollows && !first && ws.cur.Tone != ws.lv.autoTone {
 		ws.lv.toneFollows = false // the user set the tone
 	}
-	if ws.lv.toneFollows && !first {
+	full := first || st.done || st.moved || time.Since(ws.lv.fullAt) >= time.Second ||
+		len(res.Frames) != len(ws.result.Frames) || !sameRecipe(res.Recipe, ws.result.Recipe)
+	if ws.lv.toneFollows && !first && full {
+		// Fitted at the full updates only: a fit sorts the whole frame,
+		// and between them the image keeps its tone, so only the pixels
+		// that changed are toned again.
 		t := recon.AutoTone(res.Frames[0])
 		t.Invert = ws.cur.Tone.Invert
 		ws.cur.Tone, ws.good.Tone = t, t
 	}
-	full := first || st.done || time.Since(ws.lv.fullAt) >= time.Second ||
-		len(res.Frames) != len(ws.result.Frames) || !sameRecipe(res.Recipe, ws.result.Recipe)
 	if full {
 		ws.rec, ws.lv.fullAt = rec, time.Now()
 		ws.applyResult(res, first)

@@ -161,3 +161,48 @@ func TestImageViewHatchesNoData(t *testing.T) {
 		}
 	}
 }
+
+// A frame that follows another on the same grid with the same tone (a live
+// update) is toned again only where it changed, and the view then holds
+// what toning the new frame whole gives: round(255·Tone.Map(v)) at each
+// covered pixel, the mapping retone documents. A new tone or grid tones
+// the frame whole.
+func TestImageViewTonesOnlyChangedPixels(t *testing.T) {
+	test.NewTempApp(t)
+	frame := func(shift float32, covered func(i int) bool) *recon.Frame {
+		f := &recon.Frame{Width: 40, Height: 30, PitchXMM: 0.5, PitchYMM: 0.5, OriginXMM: -10, OriginYMM: 7}
+		f.Pix = make([]float32, f.Width*f.Height)
+		f.Covered = make([]bool, len(f.Pix))
+		for i := range f.Pix {
+			f.Pix[i], f.Covered[i] = float32(i%f.Width)/40, covered(i)
+			if i/f.Width >= 10 {
+				f.Pix[i] += shift // the rows the newest lines cross
+			}
+		}
+		return f
+	}
+	tone := recon.Tone{Window: 1.2, Level: 0.6, Gamma: 1.4}
+	v := NewImageView()
+	check := func(what string, f *recon.Frame, tone recon.Tone) {
+		t.Helper()
+		for i, c := range f.Covered {
+			if want := uint8(math.Round(255 * tone.Map(f.Pix[i]))); c && v.toned[i] != want {
+				t.Fatalf("%s: pixel %d toned %d, want %d", what, i, v.toned[i], want)
+			}
+		}
+	}
+	a := frame(0, func(i int) bool { return i < 700 })
+	v.SetFrame(a, tone)
+	check("the first frame", a, tone)
+	b := frame(0.3, func(i int) bool { return i < 1000 })
+	v.SetFrame(b, tone)
+	check("a frame with new rows and new values", b, tone)
+	darker := tone
+	darker.Level = 0.8
+	v.SetFrame(b, darker)
+	check("a new tone", b, darker)
+	c := frame(0.1, func(i int) bool { return true })
+	c.OriginYMM += 0.5
+	v.SetFrame(c, darker)
+	check("a frame on another grid", c, darker)
+}
