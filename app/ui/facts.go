@@ -55,7 +55,13 @@ func newFactsPanel() *factsPanel {
 func (p *factsPanel) object() fyne.CanvasObject { return p.box }
 
 func (p *factsPanel) show(rep recon.Report, rec *capture.Recording) {
-	set := func(name, text string) { p.values[name].SetText(text) }
+	// A label is set only when its text changes: a live view shows a
+	// report at every update, and most of its facts stay as they were.
+	set := func(name, text string) {
+		if l := p.values[name]; l.Text != text {
+			l.SetText(text)
+		}
+	}
 	set("Lines", fmt.Sprint(rep.Lines))
 	repaired := fmt.Sprint(rep.LinesRepaired)
 	if rep.Lines > 0 && rep.LinesRepaired > 0 {
