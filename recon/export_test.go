@@ -3,6 +3,8 @@ package recon
 // Hooks for the external tests of the live build's first lines
 // (earlyLines).
 
+import "testing"
+
 // LiveKept is how many of the first lines l keeps gridded.
 func LiveKept(l *Live) int {
 	l.mu.Lock()
@@ -30,4 +32,10 @@ func SpoilLiveKept(l *Live, i int) {
 	l.mu.Lock()
 	defer l.mu.Unlock()
 	l.core.early.lines[i].l.base0 += 1e-3
+}
+
+// TruthDotFit is truthDotFit, for the live tests.
+func TruthDotFit(t *testing.T, f *Frame, dots [][2]float64, diameter float64) (rms, scaleX, scaleY float64, n int) {
+	t.Helper()
+	return truthDotFit(t, f, dots, diameter)
 }

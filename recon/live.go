@@ -30,7 +30,9 @@ func LayoutOf(rec *capture.Recording) LiveLayout {
 // ResolveLive returns r with every automatic value (null) filled in from
 // first, the first seconds of a recording (through Session.Resolve):
 // channels, threshold, hysteresis, delay, aperture offsets, sine period,
-// carrier, afterglow, speed, pitch and max_gap_mm. It refuses what the live
+// carrier, the levels of index pulses sharing the tone's input
+// (rows.pulse_rest, rows.pulse_away), afterglow, speed, pitch and
+// max_gap_mm. It refuses what the live
 // path cannot do (see NewLive).
 func ResolveLive(ctx context.Context, first *capture.Recording, r recipe.Recipe) (recipe.Recipe, error) {
 	if err := liveRefusal(r); err != nil {
@@ -58,13 +60,10 @@ func (e *LiveRefusal) Error() string { return e.msg }
 // else it builds as a batch build would. What it refuses rests on a value
 // taken from the whole recording, which no sample before the last fixes,
 // so a live image could not equal the batch build of the recording:
-//   - rows.strokes split or first: the passes of the head are cut at its
-//     reversals with a hysteresis from the whole travel and its noise
-//     (levelRows, findStrokes);
-//   - the position tone on the index channel: the pulses are told from the
-//     tone by a zero-phase notch run backward from the recording's end, and
-//     their span by the two levels of the whole notched channel
-//     (sharedChannel; toneSource.liveCheck).
+// rows.strokes split or first, whose passes of the head are cut at its
+// reversals with a hysteresis from the whole travel and its noise
+// (levelRows, findStrokes). (The position tone on the index channel is
+// built live: liveShared.)
 func liveRefusal(r recipe.Recipe) error {
 	if r.Rows.Strokes == "split" || r.Rows.Strokes == "first" {
 		return &LiveRefusal{fmt.Sprintf("rows.strokes %s cannot be formed live: the passes of the head are cut at its reversals with a hysteresis from the whole travel, known only when the recording ends; watch it with rows.strokes merge, or build the recording with rows.strokes %s once it is stopped", r.Rows.Strokes, r.Rows.Strokes)}
@@ -129,8 +128,8 @@ type Live struct {
 
 // NewLive starts an incremental build with a resolved recipe (ResolveLive):
 // one with a null left is refused with a one-line error saying what to do,
-// and one with rows.strokes split or first or a position tone on the
-// index channel with a *LiveRefusal (liveRefusal says why).
+// and one with rows.strokes split or first with a *LiveRefusal
+// (liveRefusal says why).
 func NewLive(r recipe.Recipe, layout LiveLayout) (*Live, error) {
 	c, err := newLiveCore(r, layout)
 	if err != nil {

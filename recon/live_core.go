@@ -32,6 +32,10 @@ type liveCore struct {
 	detLo, detHi      float32      // range of the recorded detector so far
 	blockSum          float32      // of det since the last whole stats block
 	corrected, usePos bool
+	// sh takes apart an index channel carrying the position tone too;
+	// the edges are found on its notched samples, scanned up to there.
+	sh      *liveShared
+	scanned int
 
 	// Timing: raw edges, the repair walk, the final edges' flags.
 	tp        timingParams
@@ -194,6 +198,11 @@ func newLiveCore(r recipe.Recipe, layout LiveLayout) (*liveCore, error) {
 	if c.live, err = newLiveRows(r, c.ch, c.rate); err != nil {
 		return nil, err
 	}
+	if sharesIndex(r, c.ch) {
+		d := newToneDemod(*r.Rows.CarrierHz, c.rate)
+		c.sh = newLiveShared(*r.Rows.CarrierHz, *r.Rows.PulseRest, *r.Rows.PulseAway, c.rate, d.blockLen)
+		c.live.src = &sharedLevels{d: d, sh: c.sh}
+	}
 	return c, nil
 }
 
@@ -218,8 +227,13 @@ func liveChannels(rec *capture.Recording, r recipe.Recipe) (channels, error) {
 		}
 		*role.out = i
 	}
-	if rows := max(c.position, c.steps); c.detector == c.index || c.detector == rows || c.index == rows {
-		return c, fmt.Errorf("channels.detector, index and the rows' channel must name three channels (%d, %d, %d)", c.detector, c.index, rows)
+	rows := max(c.position, c.steps)
+	if c.index == rows && sharesIndex(r, c) {
+		// A two-input sound card: the tone on the index channel.
+		rows = -1
+	}
+	if c.detector == c.index || c.detector == rows || c.index == rows {
+		return c, fmt.Errorf("channels.detector, index and the rows' channel must name three channels (%d, %d, %d)", c.detector, c.index, max(c.position, c.steps))
 	}
 	return c, nil
 }
@@ -287,6 +301,9 @@ func (c *liveCore) advance(k int) error {
 	} else {
 		c.det = rec
 	}
+	if c.sh != nil {
+		c.sh.add(c.raw[c.ch.index], c.n)
+	}
 	c.addStats(from)
 	c.addEdges(from)
 	c.live.add(c.raw, c.n)
@@ -310,11 +327,16 @@ func (c *liveCore) addStats(from int) {
 // edges so far decide it and makes the lines of the edges whose next edge
 // is known.
 func (c *liveCore) addEdges(from int) {
-	x := c.raw[c.ch.index]
-	if from == 0 {
-		c.high = c.trig.sign*x[0] > c.trig.t
+	if c.sh != nil {
+		c.rawEdges, c.high = c.sh.edges(c.trig, c.scanned, c.sh.nf, c.high, c.rawEdges)
+		c.scanned = max(c.scanned, c.sh.nf)
+	} else {
+		x := c.raw[c.ch.index]
+		if from == 0 {
+			c.high = c.trig.sign*x[0] > c.trig.t
+		}
+		c.rawEdges, c.high, _ = c.trig.scanState(context.Background(), x, from, c.n, c.high, c.rawEdges)
 	}
-	c.rawEdges, c.high, _ = c.trig.scanState(context.Background(), x, from, c.n, c.high, c.rawEdges)
 	c.rep.walk(c.rawEdges, false)
 	edges := c.rep.res.edges
 	starts := map[float64]bool{}

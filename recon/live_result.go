@@ -26,11 +26,19 @@ type liveTail struct {
 // tail works out the open part of the build.
 func (c *liveCore) tail() (*liveTail, error) {
 	t := &liveTail{revs: c.revs}
+	raw := c.rawEdges
+	if c.sh != nil {
+		// The notched samples after the final ones, and their edges.
+		if err := c.sh.tail(c.raw[c.ch.index], c.n); err != nil {
+			return nil, err
+		}
+		raw, _ = c.sh.edges(c.trig, c.scanned, c.n, c.high, slices.Clip(raw))
+	}
 	// The repair walked to the end, as with no more edges to come.
 	w := c.rep
 	w.recent, w.scratch = slices.Clone(w.recent), slices.Clone(w.scratch)
 	w.res.gaps = slices.Clone(w.res.gaps)
-	w.walk(c.rawEdges, true)
+	w.walk(raw, true)
 	t.rep = w.res
 	edges := w.res.edges
 	gap := append(c.gapAfter, make([]bool, len(edges)-len(c.gapAfter))...)
@@ -54,7 +62,9 @@ func (c *liveCore) tail() (*liveTail, error) {
 	for i, lt := range timings {
 		c.law.place(c.r.Sweep, lt, c.timingNo+i, *c.r.Sweep.DelayDeg, c.sinePer, placer(&t.lines, c.n, c.rate))
 	}
-	t.rows, t.lvLo, t.lvHi = c.live.tail(c.raw, c.n)
+	if t.rows, t.lvLo, t.lvHi = c.live.tail(c.raw, c.n); t.rows == nil {
+		return nil, errNoToneStretch
+	}
 	t.edge = c.edge
 	if !c.baseline {
 		return t, nil

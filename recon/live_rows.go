@@ -136,7 +136,8 @@ func (lr *liveRows) final(l *placedLine) bool {
 
 // tail returns the rows of the n samples so far as a batch build of them
 // finds them: the final blocks and the last ones, which later samples may
-// still change. Its y shares the final blocks with lr.
+// still change (nil when the levels cannot be measured yet). Its y shares
+// the final blocks with lr.
 func (lr *liveRows) tail(raw [][]float32, n int) (*rowsResult, float64, float64) {
 	bl := lr.blockLen
 	nb := (n + bl - 1) / bl
@@ -147,6 +148,9 @@ func (lr *liveRows) tail(raw [][]float32, n int) (*rowsResult, float64, float64)
 		return out, lo, hi
 	}
 	levels := lr.src.all(raw[lr.channel], n, nb, lr.levels)
+	if len(levels) < nb {
+		return nil, lo, hi
+	}
 	for j := len(out.y); j < nb; j++ {
 		v := lr.smoothAt(levels, j, nb)
 		lo, hi = math.Min(lo, v), math.Max(hi, v)

@@ -192,6 +192,10 @@ type rowsParams struct {
 	// SharesIndex is set when the tone is read from the index channel,
 	// around its pulses.
 	SharesIndex bool `json:",omitempty"`
+	// PulseRest and PulseAway are the levels the pulse spans were found
+	// with (rows.pulse_rest, rows.pulse_away, resolved).
+	PulseRest *float64 `json:",omitempty"`
+	PulseAway *float64 `json:",omitempty"`
 }
 
 // smoothMS is the span of the position smoothing window.

@@ -232,6 +232,14 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 	if r.Rows.Source == recipe.SourceSteps {
 		r.Rows.StepsThreshold, r.Rows.StepsHysteresis = recipe.Float(rows.stepsThreshold), recipe.Float(rows.stepsHysteresis)
 	}
+	if sharesIndex(r, ch) {
+		sh, err := s.sharedStage(ctx, r, ch)
+		if err != nil {
+			return nil, nil, err
+		}
+		rest, away, _ := sh.spansFor(r.Rows.PulseRest, r.Rows.PulseAway)
+		r.Rows.PulseRest, r.Rows.PulseAway = recipe.Float(rest), recipe.Float(away)
+	}
 	progress.report("rows", 1)
 	if r.Signal.AfterglowUS == nil {
 		us, w, err := s.afterglowStage(ctx, r, ch, t)
@@ -353,7 +361,9 @@ func (s *Session) rowsStage(ctx context.Context, r recipe.Recipe, ch channels) (
 		if err != nil {
 			return nil, err
 		}
-		in.pulses, p.SharesIndex = sh.spans, true
+		var rest, away float64
+		rest, away, in.pulses = sh.spansFor(r.Rows.PulseRest, r.Rows.PulseAway)
+		p.SharesIndex, p.PulseRest, p.PulseAway = true, &rest, &away
 	}
 	if p.Source == recipe.SourceSteps && p.Channel >= 0 {
 		// Resolved first, so a recipe and its resolved copy share one key.

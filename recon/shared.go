@@ -3,6 +3,7 @@ package recon
 import (
 	"context"
 	"math"
+	"sync"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -31,10 +32,13 @@ const pulseGuardS = 50e-6
 // taken apart: the pulses with the tone notched out, their two levels, and
 // the sample spans the pulses (with a guard) cover, sorted.
 type sharedIndex struct {
-	carrierHz float64
-	pulses    []float32
-	otsu      OtsuResult
-	spans     [][2]int // [first, end) samples of each pulse
+	carrierHz  float64
+	pulses     []float32
+	otsu       OtsuResult
+	rest, away float64 // automatic levels (pulseLevels)
+	guard      int
+	mu         sync.Mutex
+	spans      map[[2]float64][][2]int // [first, end) samples of each pulse, by rest and away
 }
 
 // notchCoefficients are the coefficients of a second-order IIR notch at
@@ -199,30 +203,38 @@ func (t steadyTone) at(s float64) float64 {
 	return t.c*math.Cos(t.w*s) + t.d*math.Sin(t.w*s) + t.e
 }
 
-// pulseSpans returns the stretches where the tone-free index signal is
-// away from its resting level (the level most samples sit at) by more than
-// a quarter of the step between the two levels, each widened by guard
-// samples on either side and merged where they meet.
-func pulseSpans(x []float32, o OtsuResult, guard int) [][2]int {
+// pulseLevels are the resting level of a tone-free index signal x with
+// the two levels o (the level most samples sit at) and a quarter of the
+// step between the two levels: rows.pulse_rest and rows.pulse_away when
+// left automatic.
+func pulseLevels(x []float32, o OtsuResult) (rest, away float64) {
 	above := 0
 	for _, v := range x {
 		if float64(v) > o.Threshold {
 			above++
 		}
 	}
-	rest := o.LowMean
+	rest = o.LowMean
 	if 2*above > len(x) {
 		rest = o.HighMean
 	}
-	away := 0.25 * math.Abs(o.HighMean-o.LowMean)
+	return rest, 0.25 * math.Abs(o.HighMean-o.LowMean)
+}
+
+// pulseSpans returns the stretches where the tone-free index signal is
+// away from its resting level rest by more than away, each widened by
+// guard samples on either side and merged where they meet. A sample s
+// lies in a span exactly when some sample within guard of it (s−guard to
+// s+guard) is away from rest, which the live build uses (liveShared).
+func pulseSpans(x []float32, rest, away float64, guard int) [][2]int {
 	var spans [][2]int
 	for i := 0; i < len(x); {
-		if math.Abs(float64(x[i])-rest) <= away {
+		if !isAway(x[i], rest, away) {
 			i++
 			continue
 		}
 		j := i
-		for j < len(x) && math.Abs(float64(x[j])-rest) > away {
+		for j < len(x) && isAway(x[j], rest, away) {
 			j++
 		}
 		a, b := max(i-guard, 0), min(j+guard, len(x))
@@ -234,6 +246,33 @@ func pulseSpans(x []float32, o OtsuResult, guard int) [][2]int {
 		i = j
 	}
 	return spans
+}
+
+// isAway reports whether v is away from the resting level (pulseSpans).
+func isAway(v float32, rest, away float64) bool { return math.Abs(float64(v)-rest) > away }
+
+// pulseGuard is pulseGuardS in samples.
+func pulseGuard(rateHz float64) int { return max(2, int(math.Ceil(pulseGuardS*rateHz))) }
+
+// spansFor returns the pulse spans of sh at the levels rest and away
+// (nil: automatic), cached.
+func (sh *sharedIndex) spansFor(rest, away *float64) (float64, float64, [][2]int) {
+	r, a := sh.rest, sh.away
+	if rest != nil {
+		r = *rest
+	}
+	if away != nil {
+		a = *away
+	}
+	sh.mu.Lock()
+	defer sh.mu.Unlock()
+	k := [2]float64{r, a}
+	if sp, ok := sh.spans[k]; ok {
+		return r, a, sp
+	}
+	sp := pulseSpans(sh.pulses, r, a, sh.guard)
+	sh.spans[k] = sp
+	return r, a, sp
 }
 
 // sharedParams key the taken-apart channel.
@@ -256,7 +295,8 @@ func (s *Session) sharedChannel(ctx context.Context, ch int, carrierHz float64) 
 		}
 		pulses := notchZeroPhase(x, carrierHz, carrierHz*notchBandwidthFraction, rate)
 		o := Otsu(pulses)
-		guard := max(2, int(math.Ceil(pulseGuardS*rate)))
-		return &sharedIndex{carrierHz: carrierHz, pulses: pulses, otsu: o, spans: pulseSpans(pulses, o, guard)}, nil
+		rest, away := pulseLevels(pulses, o)
+		return &sharedIndex{carrierHz: carrierHz, pulses: pulses, otsu: o, rest: rest, away: away, guard: pulseGuard(rate),
+			spans: map[[2]float64][][2]int{}}, nil
 	})
 }

@@ -150,11 +150,12 @@ func TestSharedChannelFindsThePulses(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(sh.spans) != len(spans) {
-		t.Fatalf("%d pulse spans found, %d made", len(sh.spans), len(spans))
+	_, _, found := sh.spansFor(nil, nil)
+	if len(found) != len(spans) {
+		t.Fatalf("%d pulse spans found, %d made", len(found), len(spans))
 	}
 	guard := int(math.Ceil(pulseGuardS * rate))
-	for i, s := range sh.spans {
+	for i, s := range found {
 		m := spans[i]
 		if s[0] > m[0] || s[1] < m[1] || m[0]-s[0] > guard+2 || s[1]-m[1] > guard+2 {
 			t.Errorf("span %d is %v, the pulse %v (guard %d samples)", i, s, m, guard)
@@ -216,7 +217,8 @@ func BenchmarkSharedChannel(b *testing.B) {
 		if err != nil {
 			b.Fatal(err)
 		}
-		in := rowsInput{channel: x, n: len(x), rateHz: rate, pulses: sh.spans}
+		_, _, spans := sh.spansFor(nil, nil)
+		in := rowsInput{channel: x, n: len(x), rateHz: rate, pulses: spans}
 		if _, _, _, err := toneAmplitude(in, &carrier); err != nil {
 			b.Fatal(err)
 		}

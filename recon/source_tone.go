@@ -2,7 +2,7 @@ package recon
 
 import (
 	"context"
-	"fmt"
+	"errors"
 	"math"
 
 	"spotloom/recon/recipe"
@@ -32,11 +32,18 @@ func (toneSource) readsTone() bool { return true }
 func (toneSource) fromTiming(*recipe.Recipe, *timingResult, float64) []string { return nil }
 
 func (toneSource) liveCheck(r recipe.Recipe) (string, error) {
-	if r.Channels.Position.IsSet() && r.Channels.Position == r.Channels.Index {
-		return "", &LiveRefusal{"a position tone on the index channel cannot be formed live: the pulses are told from the tone by a filter run backward from the end of the recording, and their levels come from all of it; build the recording once it is stopped"}
-	}
 	if r.Rows.CarrierHz == nil {
 		return "rows.carrier_hz", nil
+	}
+	if r.Channels.Position.IsSet() && r.Channels.Position == r.Channels.Index {
+		// The tone on the index channel: the pulses are told from it by
+		// their levels (liveShared).
+		switch {
+		case r.Rows.PulseRest == nil:
+			return "rows.pulse_rest", nil
+		case r.Rows.PulseAway == nil:
+			return "rows.pulse_away", nil
+		}
 	}
 	return "", nil
 }
@@ -104,33 +111,44 @@ func maskedToneBlocks(x []float32, blockLen int, hann []float64, w float64, puls
 		}
 	}
 	out := make([]float64, (len(x)+blockLen-1)/blockLen)
-	rot := complex(math.Cos(w), math.Sin(w))
 	for j := range out {
-		c := j*blockLen + blockLen/2
-		a, b := max(c-blockLen, 0), min(c+blockLen, len(x))
-		fit := toneFit{w: w}
-		z := complex(math.Cos(w*float64(a)), math.Sin(w*float64(a)))
-		total, kept := 0.0, 0.0
-		for s := a; s < b; s++ {
-			h := hann[s-(c-blockLen)]
-			total += h
-			if !inPulse[s] {
-				kept += h
-				fit.addBasis(float64(x[s]), [4]float64{real(z), imag(z), 1, float64(s-c) / float64(blockLen)}, h)
-			}
-			z *= rot
-		}
-		out[j] = math.NaN()
-		if kept >= minToneShare*total {
-			if coef, ok := fit.solve(false); ok {
-				out[j] = math.Hypot(coef[0], coef[1])
-			}
-		}
+		out[j] = maskedToneBlock(x, inPulse, 0, j, blockLen, hann, w)
 	}
 	if !interpolateNaN(out) {
-		return nil, fmt.Errorf("the index pulses leave no stretch of the tone long enough to measure its amplitude")
+		return nil, errNoToneStretch
 	}
 	return out, nil
+}
+
+// errNoToneStretch is maskedToneBlocks' error when no block has a tone
+// amplitude of its own.
+var errNoToneStretch = errors.New("the index pulses leave no stretch of the tone long enough to measure its amplitude")
+
+// maskedToneBlock is the amplitude of block j (maskedToneBlocks), NaN when
+// its window is mostly pulse; inPulse[s−off] tells whether sample s is in
+// a pulse, for every sample of the block's window.
+func maskedToneBlock(x []float32, inPulse []bool, off, j, blockLen int, hann []float64, w float64) float64 {
+	rot := complex(math.Cos(w), math.Sin(w))
+	c := j*blockLen + blockLen/2
+	a, b := max(c-blockLen, 0), min(c+blockLen, len(x))
+	fit := toneFit{w: w}
+	z := complex(math.Cos(w*float64(a)), math.Sin(w*float64(a)))
+	total, kept := 0.0, 0.0
+	for s := a; s < b; s++ {
+		h := hann[s-(c-blockLen)]
+		total += h
+		if !inPulse[s-off] {
+			kept += h
+			fit.addBasis(float64(x[s]), [4]float64{real(z), imag(z), 1, float64(s-c) / float64(blockLen)}, h)
+		}
+		z *= rot
+	}
+	if kept >= minToneShare*total {
+		if coef, ok := fit.solve(false); ok {
+			return math.Hypot(coef[0], coef[1])
+		}
+	}
+	return math.NaN()
 }
 
 // interpolateNaN replaces NaN values by linear interpolation between the nearest

@@ -167,8 +167,8 @@ func (ws *Workstation) openWith(path string, copts capture.Options, given *recip
 // forNewCapture keeps the rig's settings of r (wheel, field, distance,
 // calibration, pitch) and sets back to automatic what belongs to one
 // capture: the delay, the index threshold, the aperture offsets (aperture
-// 0 is whichever comes first in each capture), the sine period and the
-// carrier.
+// 0 is whichever comes first in each capture), the sine period, the
+// carrier and the levels of pulses sharing the tone's input.
 func forNewCapture(r recipe.Recipe) recipe.Recipe {
 	r = cloneRecipe(r)
 	r.Sweep.DelayDeg = nil
@@ -177,6 +177,7 @@ func forNewCapture(r recipe.Recipe) recipe.Recipe {
 	r.Timing.Threshold, r.Timing.Hysteresis = nil, nil
 	r.Rows.CarrierHz = nil
 	r.Rows.StepsThreshold, r.Rows.StepsHysteresis = nil, nil
+	r.Rows.PulseRest, r.Rows.PulseAway = nil, nil
 	return r
 }
 

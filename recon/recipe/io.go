@@ -149,6 +149,8 @@ func (r Recipe) Clone() Recipe {
 	c.Rows.MMPerStep = clonePtr(r.Rows.MMPerStep)
 	c.Rows.StepsThreshold = clonePtr(r.Rows.StepsThreshold)
 	c.Rows.StepsHysteresis = clonePtr(r.Rows.StepsHysteresis)
+	c.Rows.PulseRest = clonePtr(r.Rows.PulseRest)
+	c.Rows.PulseAway = clonePtr(r.Rows.PulseAway)
 	c.Rows.SpeedMMS = clonePtr(r.Rows.SpeedMMS)
 	c.Image.MaxGapMM = clonePtr(r.Image.MaxGapMM)
 	c.Signal.AfterglowUS = clonePtr(r.Signal.AfterglowUS)

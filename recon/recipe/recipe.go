@@ -106,6 +106,17 @@ type Rows struct {
 	// levels; a build's resolved recipe gives them.
 	StepsThreshold  *float64 `json:"steps_threshold,omitempty"`
 	StepsHysteresis *float64 `json:"steps_hysteresis,omitempty"`
+	// PulseRest and PulseAway tell the index pulses from the rest on an
+	// index channel that carries the position tone too (rows.source tone
+	// with channels.position naming channels.index), once the tone is
+	// notched out: a sample more than PulseAway from the resting level
+	// PulseRest (the channel's unit) is part of a pulse, and the tone is
+	// measured around such samples. Left out (null): the level most of
+	// the notched channel sits at, of Otsu's two, and a quarter of the
+	// step between them; a build's resolved recipe gives them (a live
+	// build from its first seconds).
+	PulseRest *float64 `json:"pulse_rest,omitempty"`
+	PulseAway *float64 `json:"pulse_away,omitempty"`
 }
 
 // Signal controls detector clean-up.

@@ -210,6 +210,10 @@ func (r Recipe) checkRows(c *checker) {
 	if c.finite("rows.steps_hysteresis", w.StepsHysteresis) && *w.StepsHysteresis < 0 {
 		c.bad("rows.steps_hysteresis", "is %g: expected 0 or more (the steps channel's unit), or null for automatic", *w.StepsHysteresis)
 	}
+	c.finite("rows.pulse_rest", w.PulseRest)
+	if c.finite("rows.pulse_away", w.PulseAway) && !(*w.PulseAway > 0) {
+		c.bad("rows.pulse_away", "is %g: expected how far from rows.pulse_rest a pulse goes before the tone is left out, above 0 (the index channel's unit), or null for automatic", *w.PulseAway)
+	}
 	if w.Source == SourceSteps {
 		if w.MMPerStep == nil {
 			c.bad("rows.mm_per_step", "is null: source steps needs the head travel per step pulse in mm")
