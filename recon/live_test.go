@@ -369,6 +369,27 @@ func TestLiveRefuses(t *testing.T) {
 	}
 }
 
+// appendTo appends rec's frames from at up to seconds to lv, in blocks of
+// 10 ms, and returns where it stopped.
+func appendTo(t *testing.T, lv *recon.Live, rec *capture.Recording, at int, seconds float64) int {
+	t.Helper()
+	block := int(rec.SampleRateHz) / 100
+	for end := int(seconds * rec.SampleRateHz); at < end; {
+		k := min(block, end-at)
+		x := make([]float32, 0, k*len(rec.Channels))
+		for i := at; i < at+k; i++ {
+			for _, c := range rec.Channels {
+				x = append(x, c.Samples[i])
+			}
+		}
+		if err := lv.Append(x); err != nil {
+			t.Fatal(err)
+		}
+		at += k
+	}
+	return at
+}
+
 // TestLiveFirstLines: before the first thousand lines (and index pulses)
 // fix the edge response and the repair, each Result works the lines out
 // afresh but grids only what changed; at several points it equals the
@@ -386,22 +407,8 @@ func TestLiveFirstLines(t *testing.T) {
 		t.Fatal(err)
 	}
 	recon.SetLiveZone(lv, 1) // any measured rise is longer
-	block := int(rec.SampleRateHz) / 100
 	at := 0
-	feedTo := func(seconds float64) {
-		for end := int(seconds * rec.SampleRateHz); at < end; at += block {
-			k := min(block, end-at)
-			x := make([]float32, 0, k*len(rec.Channels))
-			for i := at; i < at+k; i++ {
-				for _, c := range rec.Channels {
-					x = append(x, c.Samples[i])
-				}
-			}
-			if err := lv.Append(x); err != nil {
-				t.Fatal(err)
-			}
-		}
-	}
+	feedTo := func(seconds float64) { at = appendTo(t, lv, rec, at, seconds) }
 	for i, s := range []float64{2.5, 4, 5.5, 7} {
 		feedTo(s)
 		got := lv.Result()
@@ -494,22 +501,9 @@ func TestLiveStereoFirstSeconds(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	block := int(rec.SampleRateHz) / 100
 	at := 0
 	for _, s := range []float64{0.015, 0.2, 0.6, 2.5, 6.97} {
-		for end := int(s * rec.SampleRateHz); at < end; {
-			k := min(block, end-at)
-			x := make([]float32, 0, k*len(rec.Channels))
-			for i := at; i < at+k; i++ {
-				for _, c := range rec.Channels {
-					x = append(x, c.Samples[i])
-				}
-			}
-			if err := lv.Append(x); err != nil {
-				t.Fatal(err)
-			}
-			at += k
-		}
+		at = appendTo(t, lv, rec, at, s)
 		got := lv.Result()
 		want, err := recon.NewSession(head(rec, float64(at)/rec.SampleRateHz)).Build(context.Background(), r, nil)
 		if err != nil {
