@@ -6,6 +6,7 @@ import (
 	"runtime"
 	"sync"
 	"testing"
+	"time"
 
 	"spotloom/capture"
 	"spotloom/recon/recipe"
@@ -187,4 +188,74 @@ func heapInUse() int64 {
 	var m runtime.MemStats
 	runtime.ReadMemStats(&m)
 	return int64(m.HeapAlloc)
+}
+
+// BenchmarkLiveShared is the steady-state cost of the two-input sound
+// card (the position tone on the index input: the notch run as the samples
+// come and the tone fitted around the pulses) beside the same rig on
+// three inputs, at 192 kHz after 10 s of capture: "append-core-%" is the
+// share of one core Live.Append takes, "result-core-%@10Hz" that of ten
+// Results a second (each after 0.1 s more), both for one second of capture.
+func BenchmarkLiveShared(b *testing.B) {
+	const seconds, history, step = 16, 10, benchRate / 10
+	for _, tc := range []struct {
+		name string
+		rig  sampledata.Rig
+	}{{"inputs=2", sampledata.StereoSoundCardRig()}, {"inputs=3", sampledata.SoundCardRig()}} {
+		b.Run(tc.name, func(b *testing.B) {
+			rec, _, err := sampledata.Simulate(context.Background(), tc.rig, "dot-grid", sampledata.SimOptions{Seed: 3, DurationS: seconds, SampleRateHz: benchRate})
+			if err != nil {
+				b.Fatal(err)
+			}
+			first := &capture.Recording{SampleRateHz: rec.SampleRateHz}
+			for _, c := range rec.Channels {
+				first.Channels = append(first.Channels, capture.Channel{Name: c.Name, Unit: c.Unit, Samples: c.Samples[:3*benchRate]})
+			}
+			r, err := ResolveLive(context.Background(), first, tc.rig.Recipe())
+			if err != nil {
+				b.Fatal(err)
+			}
+			nch := len(rec.Channels)
+			in := make([]float32, rec.Frames()*nch)
+			for i := range rec.Frames() {
+				for c := range rec.Channels {
+					in[i*nch+c] = rec.Channels[c].Samples[i]
+				}
+			}
+			appendTo := func(l *Live, from, to int) {
+				for at := from; at < to; at += benchBlock {
+					if err := l.Append(in[at*nch : (at+benchBlock)*nch]); err != nil {
+						b.Fatal(err)
+					}
+				}
+			}
+			start := func() *Live {
+				l, err := NewLive(r, LayoutOf(rec))
+				if err != nil {
+					b.Fatal(err)
+				}
+				appendTo(l, 0, history*benchRate)
+				l.Result()
+				return l
+			}
+			var appendS, resultS float64
+			for b.Loop() {
+				b.StopTimer()
+				l := start()
+				b.StartTimer()
+				for at := history * benchRate; at < (history+1)*benchRate; at += step {
+					t0 := time.Now()
+					appendTo(l, at, at+step)
+					t1 := time.Now()
+					if l.Result() == nil {
+						b.Fatal("no result")
+					}
+					appendS += t1.Sub(t0).Seconds()
+					resultS += time.Since(t1).Seconds()
+				}
+			}
+			b.ReportMetric(100*appendS/float64(b.N), "append-core-%")
+			b.ReportMetric(100*resultS/float64(b.N), "result-core-%@10Hz")
+		})
+	}
 }

@@ -12,7 +12,7 @@ import (
 // backward pass, which in a batch build starts at the recording's end,
 // starts at the newest sample and is kept only for the samples more than
 // margin before it: the notch's poles decay as exp(−π·bw·t), so what the
-// pass started from is forgotten by then (exp(−40) of it is left, far
+// pass started from is forgotten by then (exp(−30) of it is left, far
 // below float32 rounding), and those samples are the ones the whole
 // recording's pass gives. The last margin samples are worked out for each
 // Result as the batch build of the samples so far does, with its end
@@ -45,7 +45,7 @@ type liveShared struct {
 
 // sharedMarginTaus is how many of the notch's ring-down times (1/(π·bw))
 // the backward pass runs before its samples are kept.
-const sharedMarginTaus = 40
+const sharedMarginTaus = 30
 
 func newLiveShared(fc, rest, away, rate float64, blockLen int) *liveShared {
 	bw := fc * notchBandwidthFraction
@@ -85,8 +85,10 @@ func (s *liveShared) add(x []float32, n int) {
 	for i := s.fwdFrom + len(s.fwd); i < n; i++ {
 		s.fwd = append(s.fwd, s.step(float64(x[i]), &s.x1, &s.x2, &s.y1, &s.y2))
 	}
+	// The pass runs again each quarter of the margin, so a Result works
+	// out at most 5/4 of it.
 	to := n - s.margin
-	if to-s.nf < s.margin {
+	if to-s.nf < max(s.margin/4, 1) {
 		return
 	}
 	// The backward pass from the newest sample; the samples before to are
@@ -104,9 +106,12 @@ func (s *liveShared) add(x []float32, n int) {
 		s.inPulse = append(s.inPulse, false)
 	}
 	s.nf = to
-	// Only the forward output from nf on is needed again.
-	s.fwd = s.fwd[:copy(s.fwd, s.fwd[s.nf-s.fwdFrom:])]
-	s.fwdFrom = s.nf
+	// Only the forward output from nf on is needed again: the rest goes
+	// once it is most of the store.
+	if k := s.nf - s.fwdFrom; 2*k > len(s.fwd) {
+		s.fwd = s.fwd[:copy(s.fwd, s.fwd[k:])]
+		s.fwdFrom = s.nf
+	}
 }
 
 // markPulses marks, in (*m)[s−off] for off ≤ s < end, the samples within
