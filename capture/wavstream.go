@@ -119,28 +119,72 @@ func (s *WAVStream) frameBytes() int64 { return int64(s.channels * kindSize[s.ki
 // Write appends interleaved frames (±1.0 full scale for integer types);
 // len(interleaved) must be a whole number of frames. After a write error
 // every call returns that error.
-func (s *WAVStream) Write(interleaved []float32) error {
+func (s *WAVStream) Write(interleaved []float32) error { return s.write(nil, interleaved) }
+
+// WriteKept is Write, and it also puts into kept what a reader of the
+// finished file gets for these frames (as ReadBack), decoded from the very
+// bytes written, so a live view fed kept sees exactly the samples the file
+// keeps without encoding them twice. kept must be as long as interleaved;
+// the two may be the same slice. On an error kept's content is undefined.
+func (s *WAVStream) WriteKept(kept, interleaved []float32) error {
+	if len(kept) != len(interleaved) {
+		return fmt.Errorf("%s: %d kept values for %d samples", s.name, len(kept), len(interleaved))
+	}
+	return s.write(kept, interleaved)
+}
+
+// write encodes interleaved into the buffer a buffer-full at a time,
+// flushing each full buffer; kept (nil for none) gets each buffer-full's
+// values decoded back. The frames that fit under the RIFF size limit are
+// taken before the limit's error.
+func (s *WAVStream) write(kept, interleaved []float32) error {
 	if s.err != nil {
 		return s.err
 	}
 	if len(interleaved)%s.channels != 0 {
 		return fmt.Errorf("%s: %d samples are not a whole number of %d-channel frames", s.name, len(interleaved), s.channels)
 	}
-	for i := 0; i < len(interleaved); i += s.channels {
-		if err := s.roomFor(1); err != nil {
-			return err
+	fb := s.frameBytes()
+	frames := int64(len(interleaved) / s.channels)
+	fit := min(frames, (math.MaxUint32-1-s.dataAt)/fb-s.frames)
+	for at := int64(0); at < fit; {
+		n := min(fit-at, max((int64(cap(s.buf)-len(s.buf)))/fb-1, 1))
+		from, to := int(at)*s.channels, int(at+n)*s.channels
+		start := len(s.buf)
+		s.buf = s.enc.appendFrames(s.buf, interleaved[from:to], s.channels)
+		if kept != nil {
+			s.decodeKept(kept[from:to], s.buf[start:])
 		}
-		for c := 0; c < s.channels; c++ {
-			s.buf = s.enc.append(s.buf, c, interleaved[i+c])
-		}
-		s.frames++
-		if len(s.buf) >= cap(s.buf)-int(s.frameBytes()) {
+		s.frames += n
+		at += n
+		if len(s.buf) >= cap(s.buf)-int(fb) {
 			if err := s.flush(); err != nil {
 				return err
 			}
 		}
 	}
+	if fit < frames {
+		return s.roomFor(frames - fit)
+	}
 	return nil
+}
+
+// decodeKept decodes the interleaved stored frames of b into kept as
+// capture.Open decodes them.
+func (s *WAVStream) decodeKept(kept []float32, b []byte) {
+	size := kindSize[s.kind]
+	fb := s.channels * size
+	var col [1024]float32
+	for at := 0; at*fb < len(b); at += len(col) {
+		n := min(len(col), len(b)/fb-at)
+		for c := 0; c < s.channels; c++ {
+			scale, offset := float32(1/s.enc.inverse[c]), float32(s.enc.offset[c])
+			decodeInto(col[:n], b[at*fb+c*size:], fb, s.kind, false, scale, offset)
+			for i, v := range col[:n] {
+				kept[(at+i)*s.channels+c] = v
+			}
+		}
+	}
 }
 
 // WriteSilence appends frames of zeros: the mark of samples that were

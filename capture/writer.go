@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 )
@@ -214,6 +215,62 @@ func newSampleEncoder(kind sampleKind, bigEndian bool, channels int, scaleOf fun
 	return e
 }
 
+// appendFrames encodes the interleaved frames x of nch channels as append
+// does, each kind little-endian in a loop of its own (a WAV's kinds: the
+// kind is decided once per block, not per sample).
+func (e *sampleEncoder) appendFrames(buf []byte, x []float32, nch int) []byte {
+	if e.bigEndian || len(e.inverse) != nch {
+		for i, v := range x {
+			buf = e.append(buf, i%nch, v)
+		}
+		return buf
+	}
+	switch e.kind {
+	case kindInt16, kindInt24, kindFloat32:
+	default:
+		for i, v := range x {
+			buf = e.append(buf, i%nch, v)
+		}
+		return buf
+	}
+	size := kindSize[e.kind]
+	at := len(buf)
+	buf = slices.Grow(buf, len(x)*size)[:at+len(x)*size]
+	out := buf[at:]
+	for c := 0; c < nch; c++ {
+		inv, off := e.inverse[c], e.offset[c]
+		for i, j := c, c*size; i < len(x); i, j = i+nch, j+nch*size {
+			v := (float64(x[i]) - off) * inv
+			if e.kind == kindFloat32 {
+				binary.LittleEndian.PutUint32(out[j:j+4], math.Float32bits(float32(v)))
+				continue
+			}
+			u := uint32(e.integer(v))
+			if e.kind == kindInt16 {
+				out[j], out[j+1] = byte(u), byte(u>>8)
+			} else {
+				out[j], out[j+1], out[j+2] = byte(u), byte(u>>8), byte(u>>16)
+			}
+		}
+	}
+	return buf
+}
+
+// integer is the stored integer of scaled value x: rounded to nearest,
+// clipped to the kind's range, NaN as 0.
+func (e *sampleEncoder) integer(x float64) int64 {
+	x = math.Round(x)
+	switch {
+	case x != x:
+		x = 0
+	case x < e.lo:
+		x = e.lo
+	case x > e.hi:
+		x = e.hi
+	}
+	return int64(x)
+}
+
 // append encodes value v of channel c, rounding to nearest and clipping
 // integers to their range (NaN becomes 0).
 func (e *sampleEncoder) append(buf []byte, c int, v float32) []byte {
@@ -227,15 +284,7 @@ func (e *sampleEncoder) append(buf []byte, c int, v float32) []byte {
 		}
 		return binary.LittleEndian.AppendUint64(buf, math.Float64bits(x))
 	}
-	x = math.Round(x)
-	switch {
-	case x != x:
-		x = 0
-	case x < e.lo:
-		x = e.lo
-	case x > e.hi:
-		x = e.hi
-	}
+	x = float64(e.integer(x))
 	switch e.kind {
 	case kindInt8, kindUint8:
 		return append(buf, byte(int64(x)))

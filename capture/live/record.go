@@ -4,7 +4,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"math"
 	"os"
 	"path/filepath"
 	"syscall"
@@ -164,34 +163,44 @@ func (w *writer) room(n int64) int64 {
 func (w *writer) data(interleaved []float32) error {
 	n := w.room(int64(len(interleaved) / w.format.Channels))
 	interleaved = interleaved[:n*int64(w.format.Channels)]
-	for i, v := range interleaved {
-		c := i % w.format.Channels
-		if a := float32(math.Abs(float64(v))); a > w.peak[c] {
-			w.peak[c] = a
+	nch := w.format.Channels
+	for c := range nch {
+		p := w.peak[c]
+		for i := c; i < len(interleaved); i += nch {
+			if a := abs32(interleaved[i]); a > p {
+				p = a
+			}
 		}
+		w.peak[c] = p
 	}
-	if err := w.stream.Write(interleaved); err != nil {
-		return err
-	}
-	w.tap(interleaved, false)
-	return nil
-}
-
-// tap hands frames just written to opts.Tap as the file stores them.
-func (w *writer) tap(interleaved []float32, zero bool) {
 	if w.opts.Tap == nil || len(interleaved) == 0 {
-		return
-	}
-	if zero {
-		w.opts.Tap(interleaved)
-		return
+		return w.stream.Write(interleaved)
 	}
 	if cap(w.tapped) < len(interleaved) {
 		w.tapped = make([]float32, len(interleaved))
 	}
 	w.tapped = w.tapped[:len(interleaved)]
-	w.stream.ReadBack(w.tapped, interleaved)
-	w.opts.Tap(w.tapped)
+	if err := w.stream.WriteKept(w.tapped, interleaved); err != nil {
+		return err
+	}
+	w.tap(w.tapped)
+	return nil
+}
+
+// abs32 is |v| (NaN stays NaN, which no comparison takes).
+func abs32(v float32) float32 {
+	if v < 0 {
+		return -v
+	}
+	return v
+}
+
+// tap hands frames just written to opts.Tap as the file stores them
+// (zeros, or what WriteKept decoded from the bytes written).
+func (w *writer) tap(kept []float32) {
+	if w.opts.Tap != nil && len(kept) > 0 {
+		w.opts.Tap(kept)
+	}
 }
 
 func (w *writer) lost(frames uint64) error {
@@ -207,7 +216,7 @@ func (w *writer) lost(frames uint64) error {
 	if w.opts.Tap != nil {
 		zeros := make([]float32, min(n, 4096)*int64(w.format.Channels))
 		for left := n; left > 0; left -= 4096 {
-			w.tap(zeros[:min(left, 4096)*int64(w.format.Channels)], true)
+			w.tap(zeros[:min(left, 4096)*int64(w.format.Channels)])
 		}
 	}
 	return nil
