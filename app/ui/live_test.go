@@ -35,7 +35,12 @@ func liveRig() sampledata.Rig {
 // rig's 16-bit ADC fills exactly) with the rig's recipe.
 func liveCapture(t *testing.T) (*capture.Recording, string, recipe.Recipe) {
 	t.Helper()
-	rig := liveRig()
+	return rigCapture(t, liveRig())
+}
+
+// rigCapture is liveCapture of rig.
+func rigCapture(t *testing.T, rig sampledata.Rig) (*capture.Recording, string, recipe.Recipe) {
+	t.Helper()
 	rec, _, err := sampledata.Simulate(context.Background(), rig, "dot-grid", sampledata.SimOptions{Seed: 7})
 	if err != nil {
 		t.Fatal(err)
@@ -637,4 +642,50 @@ func TestLiveWindowSharesTheEngineSamples(t *testing.T) {
 	ws.Wait()
 	check("after a re-grid", false)
 	endOfLive(t, ws)
+}
+
+// Record… from a two-input sound card (the position tone on the index
+// input): the image forms live, with the pulses' levels resolved from the
+// first seconds, and after the last sample it is the batch build of the
+// file kept with the same recipe.
+func TestRecordTwoInputCardLive(t *testing.T) {
+	rig := sampledata.StereoSoundCardRig()
+	rig.SampleRateHz, rig.DurationS = 48000, 5
+	rig.Motion.StartRestS, rig.Motion.StrokeS, rig.Motion.PauseCount = 0.3, 4.4, 0
+	src, srcPath, r := rigCapture(t, rig)
+	ws := newLiveWorkstation(t, src, 5)
+	ws.OpenFile(srcPath, &r)
+	ws.Wait()
+	if ws.result == nil {
+		t.Fatalf("the capture did not open: %s", ws.Problem())
+	}
+	out := filepath.Join(t.TempDir(), "stereo-take.wav")
+	uiDo(func() {
+		form := ws.showRecordForm([]live.DeviceInfo{{Name: "bench replay", Default: true}}, nil)
+		form.folder.SetText(filepath.Dir(out))
+		form.name.SetText("stereo-take")
+		form.record()
+	})
+	run := endOfLive(t, ws)
+	run.mu.Lock()
+	refused, formed := run.refused, run.builder != nil
+	run.mu.Unlock()
+	if refused || !formed {
+		t.Fatalf("the two-input card was not built live (refused %v, engine started %v): %q", refused, formed, run.noImage)
+	}
+	if run.final == nil || len(run.final.Frames) != 1 {
+		t.Fatalf("no live image at the end: %+v (%s)", run.noImage, ws.Problem())
+	}
+	if run.final.Recipe.Rows.PulseRest == nil || run.final.Recipe.Channels.Position != run.final.Recipe.Channels.Index {
+		t.Fatalf("the live recipe does not share the index channel with resolved pulse levels: %+v %+v", run.final.Recipe.Channels, run.final.Recipe.Rows)
+	}
+	kept, err := capture.Open(out, capture.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	batch, err := recon.NewSession(kept).Build(context.Background(), run.final.Recipe, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sameFrames(t, "two-input live image against the batch build of the file", run.final.Frames[0], batch.Frames[0])
 }
