@@ -166,6 +166,28 @@ func keptAsSource(t *testing.T, kept, src *capture.Recording, side *live.Sidecar
 	}
 }
 
+// openAndRecord opens the capture at srcPath with r in a window whose
+// "sound card" replays src at five times real time, records it with
+// Record… as name (.wav is added) and waits for the end: the window, the
+// live run and the file written.
+func openAndRecord(t *testing.T, src *capture.Recording, srcPath string, r recipe.Recipe, name string) (*Workstation, *liveRun, string) {
+	t.Helper()
+	ws := newLiveWorkstation(t, src, 5)
+	ws.OpenFile(srcPath, &r)
+	ws.Wait()
+	if ws.result == nil {
+		t.Fatalf("the capture did not open: %s", ws.Problem())
+	}
+	out := filepath.Join(t.TempDir(), name+".wav")
+	uiDo(func() {
+		form := ws.showRecordForm([]live.DeviceInfo{{Name: "bench replay", Default: true}}, nil)
+		form.folder.SetText(filepath.Dir(out))
+		form.name.SetText(name)
+		form.record()
+	})
+	return ws, endOfLive(t, ws), out
+}
+
 // Record… with a replay as the device: the WAV holds every sample of the
 // source (the rig's 16-bit ADC values, which int16 keeps exactly: WAVE
 // PCM, 16-bit two's complement), the live image after the last sample is
@@ -173,21 +195,7 @@ func keptAsSource(t *testing.T, kept, src *capture.Recording, side *live.Sidecar
 // the window's ordinary capture, which rebuilds with new settings.
 func TestRecordLiveEqualsBatchBuildAndOpensTheFile(t *testing.T) {
 	src, srcPath, r := liveCapture(t)
-	ws := newLiveWorkstation(t, src, 5)
-	ws.OpenFile(srcPath, &r)
-	ws.Wait()
-	if ws.result == nil {
-		t.Fatalf("the capture did not open: %s", ws.Problem())
-	}
-	out := filepath.Join(t.TempDir(), "take.wav")
-	var form *recordForm
-	uiDo(func() {
-		form = ws.showRecordForm([]live.DeviceInfo{{Name: "bench replay", Default: true}}, nil)
-		form.folder.SetText(filepath.Dir(out))
-		form.name.SetText("take") // .wav is added
-		form.record()
-	})
-	run := endOfLive(t, ws)
+	ws, run, out := openAndRecord(t, src, srcPath, r, "take")
 	if run.final == nil || len(run.final.Frames) != 1 {
 		t.Fatalf("no live image at the end: %+v", run.noImage)
 	}
@@ -653,20 +661,7 @@ func TestRecordTwoInputCardLive(t *testing.T) {
 	rig.SampleRateHz, rig.DurationS = 48000, 5
 	rig.Motion.StartRestS, rig.Motion.StrokeS, rig.Motion.PauseCount = 0.3, 4.4, 0
 	src, srcPath, r := rigCapture(t, rig)
-	ws := newLiveWorkstation(t, src, 5)
-	ws.OpenFile(srcPath, &r)
-	ws.Wait()
-	if ws.result == nil {
-		t.Fatalf("the capture did not open: %s", ws.Problem())
-	}
-	out := filepath.Join(t.TempDir(), "stereo-take.wav")
-	uiDo(func() {
-		form := ws.showRecordForm([]live.DeviceInfo{{Name: "bench replay", Default: true}}, nil)
-		form.folder.SetText(filepath.Dir(out))
-		form.name.SetText("stereo-take")
-		form.record()
-	})
-	run := endOfLive(t, ws)
+	ws, run, out := openAndRecord(t, src, srcPath, r, "stereo-take")
 	run.mu.Lock()
 	refused, formed := run.refused, run.builder != nil
 	run.mu.Unlock()
