@@ -454,7 +454,9 @@ func (ws *Workstation) render() {
 		if ws.result != nil && ws.drawn.result != nil {
 			ws.view.SetFrame(ws.shownFrame(), ws.cur.Tone)
 			ws.drawn.tone = ws.cur.Tone
-			ws.facts.show(ws.result.Report, ws.rec)
+			if ws.liveFacts {
+				ws.facts.show(ws.result.Report, ws.rec)
+			}
 			return
 		}
 	}

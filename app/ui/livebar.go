@@ -68,13 +68,13 @@ func (b *liveBar) start(what string, channels int) {
 	b.box.Refresh()
 }
 
-// show puts a status into the bar.
+// show puts a status into the bar; a text is set only when it changed.
 func (b *liveBar) show(s liveStatus) {
 	secs := float64(s.frames) / float64(s.rateHz)
 	if s.total > 0 {
-		b.elapsed.SetText(clock(secs) + " of " + clock(float64(s.total)/float64(s.rateHz)))
+		setLabel(b.elapsed, clock(secs)+" of "+clock(float64(s.total)/float64(s.rateHz)))
 	} else {
-		b.elapsed.SetText(clock(secs))
+		setLabel(b.elapsed, clock(secs))
 	}
 	for c, o := range b.meters.Objects {
 		if c < len(s.peak) {
@@ -82,12 +82,15 @@ func (b *liveBar) show(s liveStatus) {
 		}
 	}
 	if s.writing {
-		b.disk.SetText(fmt.Sprintf("on disk %s", clock(float64(s.committed)/float64(s.rateHz))))
-		b.overruns.SetText(fmt.Sprintf("overruns %d", s.overruns))
+		setLabel(b.disk, fmt.Sprintf("on disk %s", clock(float64(s.committed)/float64(s.rateHz))))
 		if s.overruns > 0 {
-			b.overruns.SetText(fmt.Sprintf("overruns %d (%d frames marked as zeros)", s.overruns, s.overrunFrames))
-			b.overruns.Importance = widget.DangerImportance
-			b.readings.Refresh() // a longer text
+			if text := fmt.Sprintf("overruns %d (%d frames marked as zeros)", s.overruns, s.overrunFrames); text != b.overruns.Text {
+				b.overruns.SetText(text)
+				b.overruns.Importance = widget.DangerImportance
+				b.readings.Refresh() // a longer text
+			}
+		} else {
+			setLabel(b.overruns, fmt.Sprintf("overruns %d", s.overruns))
 		}
 	} else if b.disk.Visible() {
 		b.disk.Hide()
@@ -95,7 +98,7 @@ func (b *liveBar) show(s liveStatus) {
 		b.readings.Refresh()
 	}
 	if s.noImage != "" {
-		b.note.SetText(s.noImage)
+		setLabel(b.note, s.noImage)
 		b.note.Show()
 	} else if b.note.Visible() {
 		b.note.Hide()

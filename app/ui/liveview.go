@@ -7,6 +7,8 @@ import (
 	"path/filepath"
 	"time"
 
+	"fyne.io/fyne/v2/widget"
+
 	"spotloom/capture"
 	"spotloom/capture/live"
 	"spotloom/recon"
@@ -14,6 +16,21 @@ import (
 	"spotloom/recon/recipe"
 	"spotloom/sampledata"
 )
+
+// liveTextRate is how often a second a live view brings its texts (the
+// facts, the line count) up to date between the full updates: often enough
+// to read them change, seldom enough that laying out new text (each one is
+// shaped and measured again, by any Fyne driver) costs little. The image
+// and the meters follow at liveRate.
+const liveTextRate = 2
+
+// setLabel sets l's text when it differs: setting a label lays its text
+// out again even when it is the same.
+func setLabel(l *widget.Label, text string) {
+	if l.Text != text {
+		l.SetText(text)
+	}
+}
 
 // liveState is the window's side of a live view; it belongs to the UI
 // goroutine.
@@ -23,6 +40,7 @@ type liveState struct {
 	toneFollows bool     // the tone is fitted to each new image until the user sets it
 	autoTone    recon.Tone
 	fullAt      time.Time    // when every panel was last brought up to date
+	textAt      time.Time    // when the texts (facts, stage) were last brought up to date
 	ranges      [][2]float64 // each channel's range so far, for the trace strip
 	lines       int          // lines so far
 }
@@ -141,11 +159,15 @@ func (ws *Workstation) showLive(run *liveRun, rec *capture.Recording, res *Resul
 		t.Invert = ws.cur.Tone.Invert
 		ws.cur.Tone, ws.good.Tone = t, t
 	}
+	texts := full || time.Since(ws.lv.textAt) >= time.Second/liveTextRate
+	if texts {
+		ws.lv.textAt = time.Now()
+	}
 	if full {
 		ws.rec, ws.lv.fullAt = rec, time.Now()
 		ws.applyResult(res, first)
 	} else {
-		ws.result, ws.liveUpdate = res, true
+		ws.result, ws.liveUpdate, ws.liveFacts = res, true, texts
 		ws.frameIndex = min(ws.frameIndex, len(res.Frames)-1)
 		ws.render()
 	}
@@ -153,8 +175,8 @@ func (ws *Workstation) showLive(run *liveRun, rec *capture.Recording, res *Resul
 	if first {
 		ws.good = ws.cur.clone()
 	}
-	if !ws.work.busy() {
-		ws.stage.SetText(fmt.Sprintf("%s: %d lines", ws.settled, res.Report.Lines))
+	if texts && !ws.work.busy() {
+		setLabel(ws.stage, fmt.Sprintf("%s: %d lines", ws.settled, res.Report.Lines))
 	}
 	if !st.arrived.IsZero() {
 		lat := time.Since(st.arrived)

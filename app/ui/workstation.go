@@ -131,10 +131,11 @@ type state struct {
 	// become an ordinary capture).
 	place *viewPlace
 	// liveUpdate says the build shown is a live view's update between two
-	// full ones: the next render puts in only the image and the facts, and
+	// full ones: the next render puts in only the image (and the facts
+	// when liveFacts says they are due, liveTextRate times a second), and
 	// leaves the panels that rescan the capture or redraw many widgets (the
 	// trace strip, the measurements, the controls) for the next full one.
-	liveUpdate bool
+	liveUpdate, liveFacts bool
 }
 
 // drawn is what render last put into the panels, so it puts in again only
