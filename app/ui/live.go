@@ -286,9 +286,13 @@ func widenRanges(ranges [][2]float64, block []float32, nch int) [][2]float64 {
 	for len(ranges) < nch {
 		ranges = append(ranges, [2]float64{math.Inf(1), math.Inf(-1)})
 	}
-	for i, v := range block {
-		r := &ranges[i%nch]
-		r[0], r[1] = math.Min(r[0], float64(v)), math.Max(r[1], float64(v))
+	for c := range nch {
+		lo, hi := float32(math.Inf(1)), float32(math.Inf(-1))
+		for i := c; i < len(block); i += nch {
+			lo, hi = min(lo, block[i]), max(hi, block[i])
+		}
+		r := &ranges[c]
+		r[0], r[1] = math.Min(r[0], float64(lo)), math.Max(r[1], float64(hi))
 	}
 	return ranges
 }

@@ -1,7 +1,6 @@
 package ui
 
 import (
-	"math"
 	"sync"
 	"time"
 )
@@ -38,15 +37,26 @@ func (f *liveFeed) push(interleaved []float32) {
 		}
 		f.buf = append(f.buf, interleaved[:n]...)
 		f.frames += int64(n / f.channels)
-		for i, v := range interleaved[:n] {
-			c := i % f.channels
-			if a := float32(math.Abs(float64(v))); a > f.peak[c] {
-				f.peak[c] = a
+		for c := range f.channels {
+			p := f.peak[c]
+			for i := c; i < n; i += f.channels {
+				if a := abs32(interleaved[i]); a > p {
+					p = a
+				}
 			}
+			f.peak[c] = p
 		}
 	}
 	f.mu.Unlock()
 	f.signal()
+}
+
+// abs32 is |v| (NaN stays NaN, which no comparison takes).
+func abs32(v float32) float32 {
+	if v < 0 {
+		return -v
+	}
+	return v
 }
 
 func (f *liveFeed) signal() {
