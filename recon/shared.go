@@ -38,7 +38,7 @@ type sharedIndex struct {
 	rest, away float64 // automatic levels (pulseLevels)
 	guard      int
 	mu         sync.Mutex
-	spans      map[[2]float64][][2]int // [first, end) samples of each pulse, by rest and away
+	spans      *memo[[][2]int] // [first, end) samples of each pulse, by rest and away
 }
 
 // notchCoefficients are the coefficients of a second-order IIR notch at
@@ -255,7 +255,8 @@ func isAway(v float32, rest, away float64) bool { return math.Abs(float64(v)-res
 func pulseGuard(rateHz float64) int { return max(2, int(math.Ceil(pulseGuardS*rateHz))) }
 
 // spansFor returns the pulse spans of sh at the levels rest and away
-// (nil: automatic), cached.
+// (nil: automatic), kept in the session's usual memo for the last few
+// level pairs.
 func (sh *sharedIndex) spansFor(rest, away *float64) (float64, float64, [][2]int) {
 	r, a := sh.rest, sh.away
 	if rest != nil {
@@ -266,12 +267,9 @@ func (sh *sharedIndex) spansFor(rest, away *float64) (float64, float64, [][2]int
 	}
 	sh.mu.Lock()
 	defer sh.mu.Unlock()
-	k := [2]float64{r, a}
-	if sp, ok := sh.spans[k]; ok {
-		return r, a, sp
-	}
-	sp := pulseSpans(sh.pulses, r, a, sh.guard)
-	sh.spans[k] = sp
+	sp, _ := cachedStage(sh.spans, nil, "", [2]float64{r, a}, func() ([][2]int, error) {
+		return pulseSpans(sh.pulses, r, a, sh.guard), nil
+	})
 	return r, a, sp
 }
 
@@ -297,6 +295,6 @@ func (s *Session) sharedChannel(ctx context.Context, ch int, carrierHz float64) 
 		o := Otsu(pulses)
 		rest, away := pulseLevels(pulses, o)
 		return &sharedIndex{carrierHz: carrierHz, pulses: pulses, otsu: o, rest: rest, away: away, guard: pulseGuard(rate),
-			spans: map[[2]float64][][2]int{}}, nil
+			spans: newMemo[[][2]int](4)}, nil
 	})
 }
