@@ -52,8 +52,7 @@ func newLiveShared(fc, rest, away, rate float64, blockLen int) *liveShared {
 	s := &liveShared{rate: rate, fc: fc, bw: bw, w: 2 * math.Pi * fc / rate, rest: rest, away: away, guard: pulseGuard(rate)}
 	s.b, s.a = notchCoefficients(fc, bw, rate)
 	tau := rate / (math.Pi * bw)
-	s.pad = int(math.Ceil(7 * tau))
-	s.fit = max(int(math.Ceil(8*rate/fc)), 16)
+	s.pad, s.fit = notchEnds(fc, bw, rate)
 	// Also two tone blocks and the guard, so that a block whose mask is
 	// final has a whole window however the recording ends.
 	s.margin = max(int(math.Ceil(sharedMarginTaus*tau)), 2*blockLen+s.guard)

@@ -66,10 +66,10 @@ func notchZeroPhase(x []float32, fc, bw, rateHz float64) []float32 {
 	n := len(x)
 	// (No longer than the capture: a notch ringing for longer than that
 	// was asked for a carrier a capture cannot hold.)
-	pad := min(int(math.Ceil(7*rateHz/(math.Pi*bw))), n)
+	pad, fit := notchEnds(fc, bw, rateHz)
+	pad = min(pad, n)
 	ext := make([]float64, n+2*pad)
 	w := 2 * math.Pi * fc / rateHz
-	fit := max(int(math.Ceil(8*rateHz/fc)), 16)
 	head, tail := toneAtEnd(x, 0, min(fit, n), w), toneAtEnd(x, max(n-fit, 0), n, w)
 	for i := range pad {
 		ext[pad-1-i] = head.at(float64(-1 - i))
@@ -96,6 +96,14 @@ func notchZeroPhase(x []float32, fc, bw, rateHz float64) []float32 {
 		out[i] = float32(ext[pad+i])
 	}
 	return out
+}
+
+// notchEnds are how far notchZeroPhase extends a recording at each end
+// (seven of the notch's ring-down times, 1/(π·bw)) and how many samples
+// at each end the tone of the extension is fitted to (eight carrier
+// periods, at least 16). The live build (liveShared) uses the same.
+func notchEnds(fc, bw, rateHz float64) (pad, fit int) {
+	return int(math.Ceil(7 * rateHz / (math.Pi * bw))), max(int(math.Ceil(8*rateHz/fc)), 16)
 }
 
 // toneAtEnd fits a steady tone c·cos ωs + d·sin ωs + e to samples [a, b)
