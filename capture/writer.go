@@ -219,15 +219,8 @@ func newSampleEncoder(kind sampleKind, bigEndian bool, channels int, scaleOf fun
 // does, each kind little-endian in a loop of its own (a WAV's kinds: the
 // kind is decided once per block, not per sample).
 func (e *sampleEncoder) appendFrames(buf []byte, x []float32, nch int) []byte {
-	if e.bigEndian || len(e.inverse) != nch {
-		for i, v := range x {
-			buf = e.append(buf, i%nch, v)
-		}
-		return buf
-	}
-	switch e.kind {
-	case kindInt16, kindInt24, kindFloat32:
-	default:
+	fast := e.kind == kindInt16 || e.kind == kindInt24 || e.kind == kindFloat32
+	if e.bigEndian || len(e.inverse) != nch || !fast {
 		for i, v := range x {
 			buf = e.append(buf, i%nch, v)
 		}
