@@ -778,7 +778,156 @@ func (g *frameGrid) splatPoint(acc []float64, cu, cv, value float64) {
 // pixel's bilinear weight is a polynomial in the sample's offset (fx, fy)
 // in the cell, so sums of 1, fx, fy and fx·fy, and of the value times each,
 // give the four pixels' sums. The polarity is applied to the sums.
+//
+// The samples whose table position lies inside the sweep's table (all but
+// the one or two at each end of a line that runs to the table's ends) go
+// row by row (splatRow); the rest go through splatClampedRun, which clamps
+// to the table as sweepMap.x does.
 func (g *frameGrid) splatRun(acc []float64, det []float32, k0 int, lg lineOnGrid, sign float64) {
+	n := len(det)
+	if len(g.col) != 2*lutSize {
+		g.splatClampedRun(acc, det, k0, lg, sign)
+		return
+	}
+	p := newTablePos(lg)
+	a, b := k0, n
+	for a < b && !p.inside(a) {
+		a++
+	}
+	for b > a && !p.inside(b-1) {
+		b--
+	}
+	if b-a < 16 {
+		g.splatClampedRun(acc, det, k0, lg, sign)
+		return
+	}
+	g.splatClampedRun(acc, det[:a], k0, lg, sign)
+	g.splatClampedRun(acc, det, b, lg, sign)
+	for k := a; k < b; {
+		j := lg.rowOf(k)
+		e := lg.rowEnd(k, b, j)
+		c := rowCells{acc: acc, base: j * g.cols, cols: g.cols, fy0: lg.v0 - float64(j), dv: lg.dv, sign: sign}
+		c.splat(det[:e], k, p, lg.base0, lg.slope, g.col)
+		k = e
+	}
+}
+
+// tablePos is the table position pu0 + dpu·k of a line's samples in
+// fixed point, 32 fractional bits: stepping it is an integer addition, and
+// its whole and fractional parts come without a float-to-int conversion.
+// Its rounding (2⁻³³ of a table step per sample) moves a sample by less
+// than 10⁻⁸ of a pixel.
+type tablePos struct{ p0, d int64 }
+
+const tableOne = 1 << 32
+
+func newTablePos(lg lineOnGrid) tablePos {
+	return tablePos{p0: int64(math.Round(lg.pu0 * tableOne)), d: int64(math.Round(lg.dpu * tableOne))}
+}
+
+// inside reports whether sample k lies strictly inside the table, so that
+// it and the entry after it can be read without clamping. Positions too
+// far out for the fixed point are outside.
+func (p tablePos) inside(k int) bool {
+	at := float64(p.p0) + float64(p.d)*float64(k)
+	if !(at > 0 && at < float64((lutSize-1)<<32)) {
+		return false
+	}
+	q := p.p0 + int64(k)*p.d
+	return q > 0 && q < (lutSize-1)<<32
+}
+
+// rowOf is the grid row (cell) of sample k, as splatClampedRun finds it.
+func (lg lineOnGrid) rowOf(k int) int { return int(lg.v0 + lg.dv*float64(k)) }
+
+// rowEnd is the first sample after k, at most n, that is not in row j
+// (k's row): the row is linear in k, so the crossing is computed and then
+// checked against rowOf, which the samples on either side must agree with.
+func (lg lineOnGrid) rowEnd(k, n, j int) int {
+	if lg.dv == 0 {
+		return n
+	}
+	edge := float64(j + 1) // the row ends where v reaches j+1…
+	if lg.dv < 0 {
+		edge = float64(j) // …or, going up, falls below j
+	}
+	e := n
+	if c := math.Ceil((edge - lg.v0) / lg.dv); c < float64(n) {
+		e = max(int(c), k+1)
+	}
+	for e > k+1 && lg.rowOf(e-1) != j {
+		e--
+	}
+	for e < n && lg.rowOf(e) == j {
+		e++
+	}
+	return e
+}
+
+// rowCells hands the moments of a run of samples in one grid row to the
+// accumulator, cell by cell. Within the row the offset fy = fy0 + dv·k is
+// linear in the sample number k, so the sums over fy follow from sums over
+// k, and the run keeps only the sums that involve fx and the value.
+type rowCells struct {
+	acc        []float64
+	base, cols int // the row's first cell, and the grid's columns
+	fy0, dv    float64
+	sign       float64
+}
+
+// splat adds samples k0… of det (all in the row, all inside the table) to
+// the accumulator.
+func (c *rowCells) splat(det []float32, k0 int, p tablePos, base0, slope float64, col []float64) {
+	col = col[:2*lutSize]
+	cur, first := -1, k0
+	var sx, sxk, v, vk, vx, vxk float64
+	q := p.p0 + int64(k0)*p.d
+	fk := float64(k0)
+	for k := k0; k < len(det); k++ {
+		// The column from the table (frameGrid.colAt, inlined).
+		iu := int(q >> 32)
+		e := col[2*iu : 2*iu+2]
+		cu := e[0] + float64(q&(tableOne-1))*(1.0/tableOne)*e[1]
+		i := int(cu)
+		fx := cu - float64(i)
+		if i != cur {
+			c.add(cur, first, k, sx, sxk, v, vk, vx, vxk)
+			cur, first = i, k
+			sx, sxk, v, vk, vx, vxk = 0, 0, 0, 0, 0, 0
+		}
+		value := float64(det[k]) - (base0 + slope*fk)
+		sx += fx
+		sxk += fx * fk
+		v += value
+		vk += value * fk
+		vfx := value * fx
+		vx += vfx
+		vxk += vfx * fk
+		q += p.d
+		fk++
+	}
+	c.add(cur, first, len(det), sx, sxk, v, vk, vx, vxk)
+}
+
+// add hands cell i of the row, samples first…last−1, to addCell: sums of
+// fx and fx·k, of the value and the value times k, fx and fx·k. A negative
+// i is no cell.
+func (c *rowCells) add(i, first, last int, sx, sxk, v, vk, vx, vxk float64) {
+	if i < 0 {
+		return
+	}
+	n := float64(last - first)
+	sk := (float64(first) + float64(last-1)) * n / 2 // Σk, closed form
+	sy := n*c.fy0 + c.dv*sk
+	sxy := c.fy0*sx + c.dv*sxk
+	vy := c.fy0*v + c.dv*vk
+	vxy := c.fy0*vx + c.dv*vxk
+	addCell(c.acc, c.base+i, c.cols, c.sign, n, sx, sy, sxy, v, vx, vy, vxy)
+}
+
+// splatClampedRun is splatRun for any samples of such a line, the table
+// position clamped to the table's ends, the row found for each sample.
+func (g *frameGrid) splatClampedRun(acc []float64, det []float32, k0 int, lg lineOnGrid, sign float64) {
 	col, cols := g.col, g.cols
 	const top = 2 * (lutSize - 1)
 	cur := -1
