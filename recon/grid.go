@@ -781,7 +781,7 @@ func (g *frameGrid) splatPoint(acc []float64, cu, cv, value float64) {
 //
 // The samples whose table position lies inside the sweep's table (all but
 // the one or two at each end of a line that runs to the table's ends) go
-// row by row (splatRow); the rest go through splatClampedRun, which clamps
+// row by row (rowCells.splat); the rest go through splatClampedRun, which clamps
 // to the table as sweepMap.x does.
 func (g *frameGrid) splatRun(acc []float64, det []float32, k0 int, lg lineOnGrid, sign float64) {
 	n := len(det)
