@@ -574,6 +574,10 @@ type frameGrid struct {
 	// col holds, for entry i of the sweep's table, the column of its x at
 	// col[2i] and the step to the next entry's column at col[2i+1].
 	col []float64
+	// steps holds the same per table interval i < lutSize−1, the step
+	// scaled by 2⁻³² (exact, a power of two) for tablePos's fraction: the
+	// row-by-row splat reads an entry with one index check.
+	steps *[lutSize - 1][2]float64
 	// insideX is true when every x of the kept sweep lies at least a
 	// pixel inside the grid's columns.
 	insideX bool
@@ -587,8 +591,10 @@ func newFrameGrid(m *sweepMap, cols, rows int, x0, yTop, pitch float64) *frameGr
 		for i, x := range m.lut {
 			g.col[2*i] = (x - x0) * g.inv
 		}
+		g.steps = new([lutSize - 1][2]float64)
 		for i := 0; i+1 < lutSize; i++ {
 			g.col[2*i+1] = g.col[2*i+2] - g.col[2*i]
+			g.steps[i] = [2]float64{g.col[2*i], g.col[2*i+1] * (1.0 / tableOne)}
 		}
 	}
 	return g
@@ -807,7 +813,7 @@ func (g *frameGrid) splatRun(acc []float64, det []float32, k0 int, lg lineOnGrid
 		j := lg.rowOf(k)
 		e := lg.rowEnd(k, b, j)
 		c := rowCells{acc: acc, base: j * g.cols, cols: g.cols, fy0: lg.v0 - float64(j), dv: lg.dv, sign: sign}
-		c.splat(det[:e], k, p, lg.base0, lg.slope, g.col)
+		c.splat(det[:e], k, p, lg.base0, lg.slope, g.steps)
 		k = e
 	}
 }
@@ -820,6 +826,10 @@ func (g *frameGrid) splatRun(acc []float64, det []float32, k0 int, lg lineOnGrid
 type tablePos struct{ p0, d int64 }
 
 const tableOne = 1 << 32
+
+// The row-by-row splat masks a table index with lutSize−2, which needs
+// lutSize−1 to be a power of two; this fails to compile otherwise.
+var _ = [1]struct{}{}[(lutSize-1)&(lutSize-2)]
 
 func newTablePos(lg lineOnGrid) tablePos {
 	return tablePos{p0: int64(math.Round(lg.pu0 * tableOne)), d: int64(math.Round(lg.dpu * tableOne))}
@@ -877,17 +887,17 @@ type rowCells struct {
 
 // splat adds samples k0… of det (all in the row, all inside the table) to
 // the accumulator.
-func (c *rowCells) splat(det []float32, k0 int, p tablePos, base0, slope float64, col []float64) {
-	col = col[:2*lutSize]
+func (c *rowCells) splat(det []float32, k0 int, p tablePos, base0, slope float64, steps *[lutSize - 1][2]float64) {
 	cur, first := -1, k0
 	var sx, sxk, v, vk, vx, vxk float64
 	q := p.p0 + int64(k0)*p.d
 	fk := float64(k0)
 	for k := k0; k < len(det); k++ {
 		// The column from the table (frameGrid.colAt, inlined).
-		iu := int(q >> 32)
-		e := col[2*iu : 2*iu+2]
-		cu := e[0] + float64(q&(tableOne-1))*(1.0/tableOne)*e[1]
+		// Inside the table q>>32 < lutSize−1, a power of two, so the
+		// mask changes nothing and spares the index check.
+		e := &steps[int(q>>32)&(lutSize-2)]
+		cu := e[0] + float64(q&(tableOne-1))*e[1]
 		i := int(cu)
 		fx := cu - float64(i)
 		if i != cur {
