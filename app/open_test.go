@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"slices"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -157,7 +158,7 @@ func TestNoDisplay(t *testing.T) {
 		{[]string{"open"}, nil},
 		{[]string{"open"}, []string{"DISPLAY="}},
 		// a display number nobody serves: the toolkit itself fails
-		{[]string{"open"}, []string{"DISPLAY=:97"}},
+		{[]string{"open"}, []string{"DISPLAY=" + unservedDisplay(t)}},
 		{nil, []string{"WAYLAND_DISPLAY=spotloom-none"}},
 	}
 	for _, c := range cases {
@@ -199,4 +200,27 @@ func TestOpenReplayUsage(t *testing.T) {
 			t.Errorf("%q: exit %d, stderr %q; want 2 naming --replay", args, code, stderr.String())
 		}
 	}
+}
+
+// unservedDisplay is an X display number that no server here serves: no
+// socket for it in /tmp/.X11-unix, no lock file, and no abstract socket of
+// that name in /proc/net/unix (the X11 conventions for local displays).
+func unservedDisplay(t *testing.T) string {
+	t.Helper()
+	sockets, _ := os.ReadFile("/proc/net/unix")
+	for n := 97; n < 300; n++ {
+		name := "/tmp/.X11-unix/X" + strconv.Itoa(n)
+		if _, err := os.Stat(name); err == nil {
+			continue
+		}
+		if _, err := os.Stat("/tmp/.X" + strconv.Itoa(n) + "-lock"); err == nil {
+			continue
+		}
+		if strings.Contains(string(sockets), "@"+name+"\n") {
+			continue
+		}
+		return ":" + strconv.Itoa(n)
+	}
+	t.Skip("every display from :97 to :299 is in use")
+	return ""
 }

@@ -7,6 +7,8 @@ import (
 	"sync"
 	"sync/atomic"
 	"time"
+
+	"golang.org/x/term"
 )
 
 // stageHook, when tests set it, sees every progress report, terminal or
@@ -27,14 +29,23 @@ func newProgress(stderr io.Writer) *progressPrinter {
 	return &progressPrinter{w: stderr, enabled: isTerminal(stderr)}
 }
 
-// isTerminal says whether w is a terminal (a character device).
+// isTerminal says whether w is a terminal: a file that answers the
+// terminal's own request for its settings. Being a character device is not
+// enough: /dev/null is one, and a redirect there must stay quiet.
 func isTerminal(w io.Writer) bool {
 	f, ok := w.(*os.File)
-	if !ok {
-		return false
+	return ok && term.IsTerminal(int(f.Fd()))
+}
+
+// terminalWidth is the width of terminal w in columns, or 80 when it does
+// not say.
+func terminalWidth(w io.Writer) int {
+	if f, ok := w.(*os.File); ok {
+		if cols, _, err := term.GetSize(int(f.Fd())); err == nil && cols > 0 {
+			return cols
+		}
 	}
-	st, err := f.Stat()
-	return err == nil && st.Mode()&os.ModeCharDevice != 0
+	return 80
 }
 
 // Report shows stage and fraction (0..1); calls closer than 100 ms apart
@@ -54,7 +65,11 @@ func (p *progressPrinter) Report(stage string, fraction float64) {
 	}
 	p.last = now
 	p.shown = true
-	fmt.Fprintf(p.w, "\r%-24s %5.1f %%", stage, 100*fraction)
+	line := []rune(fmt.Sprintf("%-24s %5.1f %%", stage, 100*fraction))
+	if w := max(terminalWidth(p.w)-1, 1); len(line) > w {
+		line = line[:w]
+	}
+	fmt.Fprintf(p.w, "\r%s\x1b[K", string(line))
 }
 
 // Done ends the progress line.
@@ -65,6 +80,6 @@ func (p *progressPrinter) Done() {
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	if p.shown {
-		fmt.Fprintf(p.w, "\r%-40s\r", "")
+		fmt.Fprint(p.w, "\r\x1b[K")
 	}
 }

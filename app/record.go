@@ -6,6 +6,7 @@ import (
 	"math"
 	"strings"
 	"time"
+	"unicode/utf8"
 
 	"spotloom/capture"
 	"spotloom/capture/live"
@@ -156,7 +157,9 @@ func recordSource(f recordFlags) (live.Source, error) {
 }
 
 // levelMeter shows the elapsed time, per-channel peaks and overruns on one
-// terminal line.
+// terminal line, kept shorter than the terminal is wide (asked at every
+// update, so a resized window is followed) so that it never wraps, and
+// cleared to the line's end so that a shorter line leaves nothing behind.
 type levelMeter struct {
 	w       io.Writer
 	enabled bool
@@ -168,7 +171,22 @@ func (m *levelMeter) show(s live.Status) {
 		return
 	}
 	m.shown = true
-	fmt.Fprintf(m.w, "\r%s", meterLine(s))
+	fmt.Fprintf(m.w, "\r%s\x1b[K", fitMeterLine(s, terminalWidth(m.w)-1))
+}
+
+// fitMeterLine is meterLine in at most width columns: without the bars
+// when the full line is too long, cut at the width when even that is.
+func fitMeterLine(s live.Status, width int) string {
+	width = max(width, 1)
+	line := meterLine(s)
+	if utf8.RuneCountInString(line) <= width {
+		return line
+	}
+	line = meterText(s, false)
+	if r := []rune(line); len(r) > width {
+		line = string(r[:width])
+	}
+	return line
 }
 
 func (m *levelMeter) done() {
@@ -179,7 +197,11 @@ func (m *levelMeter) done() {
 
 // meterLine is "01:02.5  1 ▮▮▮▮▮▯▯▯ -12 dB  2 ...  overruns 0": a bar of 8
 // steps over 48 dB below full scale per channel.
-func meterLine(s live.Status) string {
+func meterLine(s live.Status) string { return meterText(s, true) }
+
+// meterText is meterLine, or without the bars its short form
+// "01:02.5 1:-12 2:-3 dB ovr 0".
+func meterText(s live.Status, bars bool) string {
 	elapsed := time.Duration(float64(s.Frames) / float64(s.RateHz) * float64(time.Second))
 	var b strings.Builder
 	fmt.Fprintf(&b, "%02d:%04.1f", int(elapsed.Minutes()), math.Mod(elapsed.Seconds(), 60))
@@ -189,14 +211,25 @@ func meterLine(s live.Status) string {
 		if p > 0 {
 			steps = max(min(int(math.Round((db+48)/6)), 8), 0)
 		}
-		label := fmt.Sprintf("%4.0f dB", db)
+		label := fmt.Sprintf("%.0f", db)
 		if p <= 0 {
-			label = "   - dB"
+			label = "-"
 		}
 		if p >= 1 {
-			label = "  CLIP "
+			label = "CLIP"
 		}
-		fmt.Fprintf(&b, "  %d %s%s %s", c+1, strings.Repeat("▮", steps), strings.Repeat("▯", 8-steps), label)
+		if !bars {
+			fmt.Fprintf(&b, " %d:%s", c+1, label)
+			continue
+		}
+		if p > 0 && p < 1 {
+			label += " dB"
+		}
+		fmt.Fprintf(&b, "  %d %s%s %7s", c+1, strings.Repeat("▮", steps), strings.Repeat("▯", 8-steps), label)
+	}
+	if !bars {
+		fmt.Fprintf(&b, " dB ovr %d", s.Overruns)
+		return b.String()
 	}
 	fmt.Fprintf(&b, "  overruns %d", s.Overruns)
 	return b.String()
