@@ -587,17 +587,34 @@ func newFrameGrid(m *sweepMap, cols, rows int, x0, yTop, pitch float64) *frameGr
 	g := &frameGrid{cols: cols, rows: rows, x0: x0, yTop: yTop, inv: 1 / pitch, sweep: m}
 	g.insideX = (m.xMin-x0)*g.inv >= 0 && (m.xMax-x0)*g.inv < float64(cols-1)
 	if len(m.lut) == lutSize {
-		g.col = make([]float64, 2*lutSize)
-		for i, x := range m.lut {
-			g.col[2*i] = (x - x0) * g.inv
+		t := m.columns.Load()
+		if t == nil || t.x0 != x0 || t.inv != g.inv {
+			t = newColumnTables(m, x0, g.inv)
+			m.columns.Store(t)
 		}
-		g.steps = new([lutSize - 1][2]float64)
-		for i := 0; i+1 < lutSize; i++ {
-			g.col[2*i+1] = g.col[2*i+2] - g.col[2*i]
-			g.steps[i] = [2]float64{g.col[2*i], g.col[2*i+1] * (1.0 / tableOne)}
-		}
+		g.col, g.steps = t.col, t.steps
 	}
 	return g
+}
+
+// columnTables are a grid's column tables for a sweep; never written once
+// made, so grids share them.
+type columnTables struct {
+	x0, inv float64
+	col     []float64
+	steps   *[lutSize - 1][2]float64
+}
+
+func newColumnTables(m *sweepMap, x0, inv float64) *columnTables {
+	t := &columnTables{x0: x0, inv: inv, col: make([]float64, 2*lutSize), steps: new([lutSize - 1][2]float64)}
+	for i, x := range m.lut {
+		t.col[2*i] = (x - x0) * inv
+	}
+	for i := 0; i+1 < lutSize; i++ {
+		t.col[2*i+1] = t.col[2*i+2] - t.col[2*i]
+		t.steps[i] = [2]float64{t.col[2*i], t.col[2*i+1] * (1.0 / tableOne)}
+	}
+	return t
 }
 
 // colAt is the column of table position pu (the sweep's x, interpolated

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync/atomic"
 
 	"spotloom/recon/recipe"
 )
@@ -22,6 +23,10 @@ type sweepMap struct {
 	scale      float64 // (lutSize-1)/(uMax-uMin)
 	lut        []float64
 	xMin, xMax float64 // extent of x over the part of u that is kept
+	// columns keeps the last grid's column tables (frameGrid.col and
+	// steps), which depend only on the grid's x0 and pitch: a live view's
+	// images and a re-grid use the same ones again and again.
+	columns atomic.Pointer[columnTables]
 }
 
 func newSweepMap(uMin, uMax float64, f func(u float64) float64) *sweepMap {

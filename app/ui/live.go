@@ -286,10 +286,19 @@ func widenRanges(ranges [][2]float64, block []float32, nch int) [][2]float64 {
 	for len(ranges) < nch {
 		ranges = append(ranges, [2]float64{math.Inf(1), math.Inf(-1)})
 	}
+	// Comparisons rather than min and max, which must look for NaN at
+	// every step: a sample kept from a file is never NaN, and a NaN here
+	// would only leave a range as it was.
 	for c := range nch {
 		lo, hi := float32(math.Inf(1)), float32(math.Inf(-1))
 		for i := c; i < len(block); i += nch {
-			lo, hi = min(lo, block[i]), max(hi, block[i])
+			v := block[i]
+			if v < lo {
+				lo = v
+			}
+			if v > hi {
+				hi = v
+			}
 		}
 		r := &ranges[c]
 		r[0], r[1] = math.Min(r[0], float64(lo)), math.Max(r[1], float64(hi))
