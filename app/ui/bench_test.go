@@ -105,21 +105,24 @@ func benchChange(b *testing.B, change func(ws *Workstation, i int)) {
 	b.ReportMetric(float64(timed.builds-builds)/n, "builds/change")
 }
 
-// BenchmarkDelayChangeInWindow: a delay typed into its box.
+// BenchmarkDelayChangeInWindow: a delay typed into its box, a new value
+// each time (steps of 0.004°, as a slow drag gives), so no remembered
+// build can answer.
 func BenchmarkDelayChangeInWindow(b *testing.B) {
 	var d0 float64
 	benchChange(b, func(ws *Workstation, i int) {
 		if i == 0 {
 			d0 = ws.result.Report.DelayDeg
 		}
-		ws.controls.number(ctlDelay).typed(fmt.Sprintf("%.3f", d0+0.25*float64(i%2+1)))
+		ws.controls.number(ctlDelay).typed(fmt.Sprintf("%.3f", d0+0.004*float64(i%250+1)))
 	})
 }
 
-// BenchmarkOffsetChangeInWindow: an aperture offset typed into its box.
+// BenchmarkOffsetChangeInWindow: an aperture offset typed into its box,
+// a new value each time.
 func BenchmarkOffsetChangeInWindow(b *testing.B) {
 	benchChange(b, func(ws *Workstation, i int) {
-		ws.controls.offsets[1].typed(fmt.Sprintf("%.3f", 0.05*float64(i%2+1)))
+		ws.controls.offsets[1].typed(fmt.Sprintf("%.3f", 0.001*float64(i%250+1)))
 	})
 }
 
