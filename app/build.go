@@ -37,8 +37,9 @@ stroke is a page of the TIFF. PNG: 16 (default) or 8 bits, one frame.
 
 Tone-mapped output uses --window and --level in frame units (default: from
 the 0.5th to the 99.5th percentile of the frame), then --gamma and --invert.
---scale-bar burns a bar of a round length into the lower left, --caption a
-line of text into the upper left (8 and 16 bits only).
+--scale-bar burns a bar of a round length into the lower left (none on a
+frame too small for a bar and its label), --caption a line of text into the
+upper left (8 and 16 bits only).
 
 An existing file is never replaced without --force. F.tiff and F.png of the
 same recipe share F.recipe.json, which lists both; a sidecar holding another

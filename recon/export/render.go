@@ -141,21 +141,40 @@ func overlay(img draw.Image, f *recon.Frame, scaleBarMM float64, caption string)
 		return 0, nil
 	}
 	widthMM := float64(width) * f.PitchXMM
-	if scaleBarMM < 0 {
-		scaleBarMM = roundScaleBarMM(widthMM)
+	thick := max(2, int(textPx/5))
+	// barBox is the box a bar of mm and its label need, lower left.
+	barBox := func(mm float64) (box image.Rectangle, barPx int, label string) {
+		barPx = int(math.Round(mm / f.PitchXMM))
+		label = strconv.FormatFloat(mm, 'g', -1, 64) + " mm"
+		labelW := font.MeasureString(face, label).Ceil()
+		boxW := max(barPx, labelW) + 2*pad
+		boxH := pad + ascent + descent + pad/2 + thick + pad
+		return image.Rect(pad, height-pad-boxH, pad+boxW, height-pad), barPx, label
 	}
-	barPx := int(math.Round(scaleBarMM / f.PitchXMM))
+	fits := func(box image.Rectangle) bool { return box.Min.Y >= 0 && box.Max.X <= width }
+	if scaleBarMM < 0 {
+		// A round length of at most a quarter of the width; shorter
+		// round ones while it and its label do not fit, and none on a
+		// frame too small for any (its pitch is in the file either way).
+		scaleBarMM = roundScaleBarMM(widthMM)
+		for scaleBarMM > 0 {
+			if box, px, _ := barBox(scaleBarMM); px < 1 {
+				return 0, nil
+			} else if fits(box) {
+				break
+			}
+			scaleBarMM = roundScaleBarMM(4 * scaleBarMM * (1 - 1e-9))
+		}
+		if !(scaleBarMM > 0) {
+			return 0, nil
+		}
+	}
+	box, barPx, label := barBox(scaleBarMM)
 	if barPx < 1 {
 		return 0, fmt.Errorf("a %g mm scale bar is less than one pixel at %g mm pitch", scaleBarMM, f.PitchXMM)
 	}
-	label := strconv.FormatFloat(scaleBarMM, 'g', -1, 64) + " mm"
-	labelW := font.MeasureString(face, label).Ceil()
-	thick := max(2, int(textPx/5))
-	boxW := max(barPx, labelW) + 2*pad
-	boxH := pad + ascent + descent + pad/2 + thick + pad
-	box := image.Rect(pad, height-pad-boxH, pad+boxW, height-pad)
-	if box.Min.Y < 0 || box.Max.X > width {
-		return 0, fmt.Errorf("a %g mm scale bar (%d px) with its label needs a %d×%d px box; the frame is %d×%d px (%.4g mm wide): choose a shorter bar", scaleBarMM, barPx, boxW+2*pad, boxH+2*pad, width, height, widthMM)
+	if !fits(box) {
+		return 0, fmt.Errorf("a %g mm scale bar (%d px) with its label needs a %d×%d px box; the frame is %d×%d px (%.4g mm wide): choose a shorter bar", scaleBarMM, barPx, box.Dx()+2*pad, box.Dy()+2*pad, width, height, widthMM)
 	}
 	draw.Draw(img, box, black, image.Point{}, draw.Src)
 	barY := box.Max.Y - pad - thick
