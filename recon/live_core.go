@@ -255,15 +255,16 @@ func (c *liveCore) append(x []float32) error {
 }
 
 // grow extends s by k elements (their values to be written). When it
-// must move, the capacity doubles (at least 64 Ki elements): a live
+// must move, the capacity grows by half (at least 64 Ki elements): a live
 // capture's channels are tens of megabytes, and moving them is the live
 // path's largest cost, done under the engine's lock, so they move less
-// often than under append's 1.25× (amortised one copy of each sample
-// instead of about four).
+// often than under append's 1.25× for large slices (amortised two copies
+// of each sample instead of about four), while the memory held beyond the
+// samples stays at most half of them.
 func grow(s []float32, k int) []float32 {
 	n := len(s) + k
 	if n > cap(s) {
-		t := make([]float32, len(s), max(2*cap(s), n, 1<<16))
+		t := make([]float32, len(s), max(cap(s)+cap(s)/2, n, 1<<16))
 		copy(t, s)
 		s = t
 	}
