@@ -630,16 +630,26 @@ func (c *controlPanel) showOffsets(apertures int, values []float64) (remade bool
 
 // coveredRange is the smallest and largest value of the covered pixels.
 func coveredRange(f *recon.Frame) (lo, hi float64) {
-	lo, hi = math.Inf(1), math.Inf(-1)
-	for i, v := range f.Pix {
-		if i < len(f.Covered) && f.Covered[i] && !math.IsNaN(float64(v)) && !math.IsInf(float64(v), 0) {
-			lo, hi = math.Min(lo, float64(v)), math.Max(hi, float64(v))
+	// Plain comparisons in float32: a NaN fails both, and the infinities
+	// are kept out by the bounds, so no per-pixel NaN or Inf tests.
+	const big = math.MaxFloat32
+	l, h := float32(big), float32(-big)
+	n := min(len(f.Pix), len(f.Covered))
+	pix, cov := f.Pix[:n], f.Covered[:n]
+	for i, v := range pix {
+		if cov[i] && v >= -big && v <= big {
+			if v < l {
+				l = v
+			}
+			if v > h {
+				h = v
+			}
 		}
 	}
-	if lo > hi {
+	if l > h {
 		return 0, 1
 	}
-	return lo, hi
+	return float64(l), float64(h)
 }
 
 // formatPairs writes calibration points one "level  mm" pair a line.
