@@ -141,3 +141,27 @@ func TestRecordStopsOnCtrlC(t *testing.T) {
 		t.Errorf("after Ctrl-C at about 0.7 s of 3 s: the file holds %.2f s; sidecar %d frames, finished %v, stopped %q", secs, side.Frames, side.Finished, side.Stopped)
 	}
 }
+
+// A name that is refused is not announced as a recording: an existing
+// file, or a folder that does not exist, gives exit 1 and one line saying
+// why, no "recording" line, and the file as it was.
+func TestRecordRefusalIsOneLine(t *testing.T) {
+	src, _ := simulatedTake(t, 0.2)
+	before, err := os.ReadFile(src)
+	if err != nil {
+		t.Fatal(err)
+	}
+	missing := filepath.Join(t.TempDir(), "no-such-folder", "take.wav")
+	for _, c := range []struct{ out, want string }{
+		{src, "already exists"},
+		{missing, "the folder " + filepath.Dir(missing) + " does not exist"},
+	} {
+		code, errOut := runRecordCmd("--from", src, "--out", c.out, "--speed", "50")
+		if code != 1 || strings.Count(errOut, "\n") != 1 || !strings.Contains(errOut, c.want) || strings.Contains(errOut, "recording replay") {
+			t.Errorf("record to %s: exit %d, stderr %q; want exit 1 and one line saying %q", c.out, code, errOut, c.want)
+		}
+	}
+	if after, _ := os.ReadFile(src); !bytes.Equal(after, before) {
+		t.Error("the existing file was changed")
+	}
+}
