@@ -37,9 +37,9 @@ stroke is a page of the TIFF. PNG: 16 (default) or 8 bits, one frame.
 
 Tone-mapped output uses --window and --level in frame units (default: from
 the 0.5th to the 99.5th percentile of the frame), then --gamma and --invert.
---scale-bar burns a bar of a round length into the lower left (none on a
-frame too small for a bar and its label), --caption a line of text into the
-upper left (8 and 16 bits only).
+--scale-bar burns a bar of a round length into the lower left (none, with a
+note, on a frame too small for a bar and its label), --caption a line of
+text into the upper left (8 and 16 bits only).
 
 An existing file is never replaced without --force. F.tiff and F.png of the
 same recipe share F.recipe.json, which lists both; a sidecar holding another
@@ -149,6 +149,8 @@ func runBuild(args []string, stdout, stderr io.Writer) error {
 		}
 		opts.Also[0].Data = append(data, '\n')
 	}
+	var notes []string
+	opts.Note = func(s string) { notes = append(notes, s) }
 	if err := export.WriteContext(ctx, bf.outPath, res.Frames, opts); err != nil {
 		return interrupted(ctx, forceHint(err))
 	}
@@ -161,6 +163,9 @@ func runBuild(args []string, stdout, stderr io.Writer) error {
 	fmt.Fprintf(stdout, "wrote %s (%d × %d px at %g mm: %.4g × %.4g mm%s) and %s\n",
 		bf.outPath, f.Width, f.Height, f.PitchXMM, float64(f.Width)*f.PitchXMM, float64(f.Height)*f.PitchYMM,
 		pages, filepath.Base(export.SidecarPath(bf.outPath)))
+	for _, n := range notes {
+		fmt.Fprintf(stderr, "note: %s\n", n)
+	}
 	for _, w := range res.Report.Warnings {
 		fmt.Fprintf(stderr, "warning: %s\n", w)
 	}

@@ -208,12 +208,15 @@ func (ws *Workstation) runExport(plan []exportRequest) {
 	}
 	ws.busy("Exporting " + filepath.Base(plan[0].path))
 	measured := measure.CloneList(plan[0].opts.Measurements)
+	var notes []string // written on the worker, read once it is done
 	submit(ws.work, false, func(ctx context.Context, progress progressFunc) ([]exportRequest, error) {
 		for i, req := range plan {
 			if ctx.Err() != nil {
 				return plan[i:], ctx.Err()
 			}
 			progress("exporting "+filepath.Base(req.path), float64(i)/float64(len(plan)))
+			name := filepath.Base(req.path)
+			req.opts.Note = func(s string) { notes = append(notes, name+": "+s) }
 			if err := export.Write(req.path, req.frames, req.opts); err != nil {
 				return plan[i:], err
 			}
@@ -226,7 +229,11 @@ func (ws *Workstation) runExport(plan []exportRequest) {
 			for i, p := range plan {
 				names[i] = filepath.Base(p.path)
 			}
-			ws.stage.SetText("Exported " + strings.Join(names, ", ") + " with the recipe beside it")
+			done := "Exported " + strings.Join(names, ", ") + " with the recipe beside it"
+			if len(notes) > 0 {
+				done += " (" + strings.Join(notes, "; ") + ")"
+			}
+			ws.stage.SetText(done)
 			ws.measuresSaved(measured)
 		case errors.Is(err, context.Canceled):
 			ws.stage.SetText("Export stopped")

@@ -45,6 +45,10 @@ type Options struct {
 	ScaleBarMM float64
 	// Caption is burned into the upper left of 8- and 16-bit exports.
 	Caption string
+	// Note, when set, is told what the export left out that was not
+	// asked for in so many words: an automatic scale bar on a frame too
+	// small for it and its label.
+	Note func(string)
 	// Force replaces an existing file (and its sidecar).
 	Force bool
 	// Compression of TIFF strips: "none" (or ""), "deflate" or "lzw". For
@@ -316,6 +320,9 @@ func write(ctx context.Context, path string, frames []*recon.Frame, opts Options
 		bar, err := overlay(img, f, opts.ScaleBarMM, opts.Caption)
 		if err != nil {
 			return fmt.Errorf("%s: frame %d: %w", path, i+1, err)
+		}
+		if opts.ScaleBarMM < 0 && bar == 0 && opts.Note != nil {
+			opts.Note(fmt.Sprintf("frame %d (%d × %d px) is too small for a scale bar and its label: none drawn", i+1, f.Width, f.Height))
 		}
 		pages[i] = page{frame: f, image: img, tone: tone, scaleBarMM: bar}
 	}
