@@ -516,12 +516,14 @@ func frameFromSums(g *frameGrid, p float64, accs [][]float64) *Frame {
 func coverCounts(f *Frame) (covered, gapRows int) {
 	perRow := make([]int, f.Height)
 	for r := range perRow {
+		n := 0 // a local count: no store and load of perRow[r] per pixel
 		for _, c := range f.Covered[r*f.Width : (r+1)*f.Width] {
 			if c {
-				perRow[r]++
+				n++
 			}
 		}
-		covered += perRow[r]
+		perRow[r] = n
+		covered += n
 	}
 	typical := medianInts(perRow)
 	for _, n := range perRow {
