@@ -120,10 +120,13 @@ func unresolved(r recipe.Recipe) string {
 // be called from any goroutine: Append on a consumer goroutine (never an
 // audio callback), Result and Retune on another.
 type Live struct {
-	mu     sync.Mutex
-	layout LiveLayout
-	core   *liveCore
-	failed error
+	mu sync.Mutex
+	// appending is held through an Append, so that the store is moved to
+	// new memory outside mu with no other Append between.
+	appending sync.Mutex
+	layout    LiveLayout
+	core      *liveCore
+	failed    error
 }
 
 // NewLive starts an incremental build with a resolved recipe (ResolveLive):
@@ -143,6 +146,9 @@ func NewLive(r recipe.Recipe, layout LiveLayout) (*Live, error) {
 // Its cost per second of capture is constant however long the recording
 // runs. An error is one line; the Live then refuses further blocks.
 func (l *Live) Append(interleaved []float32) error {
+	l.appending.Lock()
+	defer l.appending.Unlock()
+	l.moveStore(interleaved)
 	l.mu.Lock()
 	defer l.mu.Unlock()
 	if l.failed != nil {
@@ -153,6 +159,40 @@ func (l *Live) Append(interleaved []float32) error {
 		return err
 	}
 	return nil
+}
+
+// moveStore moves the store's slices that the block would make grow to
+// new memory before Append takes the lock, so that a Result or a window's
+// read never waits for tens of megabytes to be copied. Only Append writes
+// the store, and only past its samples, so the samples so far can be read
+// while the lock is free; the copies are taken only if the core is still
+// the one they came from (a Retune in between makes a new one) and the
+// slices are as they were.
+func (l *Live) moveStore(interleaved []float32) {
+	l.mu.Lock()
+	core := l.core
+	var mv []storeMove
+	if l.failed == nil && core.nch > 0 {
+		mv = core.moves(len(interleaved) / core.nch)
+	}
+	l.mu.Unlock()
+	if len(mv) == 0 {
+		return
+	}
+	k := len(interleaved) / core.nch
+	for i := range mv {
+		mv[i].new = moved(mv[i].old, k)
+	}
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	if l.core != core {
+		return
+	}
+	for _, m := range mv {
+		if s := *m.dst; len(s) == len(m.old) && cap(s) == cap(m.old) {
+			*m.dst = m.new
+		}
+	}
 }
 
 // Result is the image so far: one merged frame and its report, the shape

@@ -262,13 +262,43 @@ func (c *liveCore) append(x []float32) error {
 // of each sample instead of about four), while the memory held beyond the
 // samples stays at most half of them.
 func grow(s []float32, k int) []float32 {
-	n := len(s) + k
-	if n > cap(s) {
-		t := make([]float32, len(s), max(cap(s)+cap(s)/2, n, 1<<16))
-		copy(t, s)
-		s = t
+	if len(s)+k > cap(s) {
+		s = moved(s, k)
 	}
-	return s[:n]
+	return s[:len(s)+k]
+}
+
+// moved is s copied into new memory with room for k more as grow gives.
+func moved(s []float32, k int) []float32 {
+	t := make([]float32, len(s), max(cap(s)+cap(s)/2, len(s)+k, 1<<16))
+	copy(t, s)
+	return t
+}
+
+// storeMove is one of the store's slices that the next frames move to new
+// memory: where the core keeps it, as it was, and (once copied) the copy.
+type storeMove struct {
+	dst      *[]float32
+	old, new []float32
+}
+
+// moves lists the store's slices (the channels, and the corrected
+// detector) that k more frames would move, so that Live.Append can copy
+// them without holding its lock.
+func (c *liveCore) moves(k int) []storeMove {
+	var out []storeMove
+	add := func(p *[]float32) {
+		if s := *p; len(s)+k > cap(s) {
+			out = append(out, storeMove{dst: p, old: s})
+		}
+	}
+	for ch := range c.raw {
+		add(&c.raw[ch])
+	}
+	if c.corrected {
+		add(&c.det)
+	}
+	return out
 }
 
 // replay feeds c everything old was given, a second at a time. The two

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"math"
 	"path/filepath"
+	"slices"
 	"strings"
 	"sync"
 	"testing"
@@ -396,7 +397,10 @@ func appendTo(t *testing.T, lv *recon.Live, rec *capture.Recording, at int, seco
 // batch build of the samples so far (Session.Build of the same frames),
 // also after a kept line turned out different and when the measured rise
 // outgrew the samples left off the canvas.
-func TestLiveFirstLines(t *testing.T) {
+// newTestLive simulates the live rig's capture and starts a Live on it
+// with the recipe its first 3 s resolve.
+func newTestLive(t *testing.T) (*capture.Recording, recipe.Recipe, *recon.Live) {
+	t.Helper()
 	rec := simulate(t, liveRig())
 	r, err := recon.ResolveLive(context.Background(), head(rec, 3), sampledata.DemoRecipe())
 	if err != nil {
@@ -406,6 +410,11 @@ func TestLiveFirstLines(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	return rec, r, lv
+}
+
+func TestLiveFirstLines(t *testing.T) {
+	rec, r, lv := newTestLive(t)
 	recon.SetLiveZone(lv, 1) // any measured rise is longer
 	at := 0
 	feedTo := func(seconds float64) { at = appendTo(t, lv, rec, at, seconds) }
@@ -514,5 +523,60 @@ func TestLiveStereoFirstSeconds(t *testing.T) {
 		}
 		t.Logf("at %g s: %d lines", s, want.Report.Lines)
 		sameImage(t, got, want)
+	}
+}
+
+// TestLiveStoreMovesWhileRead: Append moves the growing store to new
+// memory outside the Live's lock; with Results, Channels and a Retune
+// taken from another goroutine all the while (run under -race too), every
+// channel's store ends bit for bit the samples given, in order (the
+// recording's own channels are the reference), and a slice Channels gave
+// earlier still holds what it held.
+func TestLiveStoreMovesWhileRead(t *testing.T) {
+	rec, r, lv := newTestLive(t)
+	r2 := r.Clone()
+	d := *r.Sweep.DelayDeg + 0.2
+	r2.Sweep.DelayDeg = &d
+	stop, done := make(chan struct{}), make(chan error, 1)
+	var early [][]float32
+	go func() {
+		retuned := false
+		for {
+			select {
+			case <-stop:
+				done <- nil
+				return
+			default:
+			}
+			lv.Result()
+			ch := lv.Channels()
+			if early == nil && len(ch[0]) > int(rec.SampleRateHz) {
+				early = ch
+			}
+			if !retuned && lv.Samples() > int64(2*rec.SampleRateHz) {
+				retuned = true
+				if err := lv.Retune(context.Background(), r2); err != nil {
+					done <- err
+					return
+				}
+			}
+		}
+	}()
+	appendTo(t, lv, rec, 0, rec.DurationS())
+	close(stop)
+	if err := <-done; err != nil {
+		t.Fatal(err)
+	}
+	got := lv.Channels()
+	for c, ch := range rec.Channels {
+		if len(got[c]) != len(ch.Samples) || !slices.Equal(got[c], ch.Samples) {
+			t.Errorf("channel %d: the store holds %d samples, not the %d given", c, len(got[c]), len(ch.Samples))
+		}
+		if early != nil && !slices.Equal(early[c], ch.Samples[:len(early[c])]) {
+			t.Errorf("channel %d: a slice taken early changed", c)
+		}
+	}
+	if early == nil {
+		t.Error("no Channels call saw a second of samples")
 	}
 }
