@@ -379,8 +379,11 @@ func (pr tiffPageReader) supported(t tiffPageTags) error {
 // strips decodes the page's strips into its pixel bytes.
 func (pr tiffPageReader) strips(t tiffPageTags) ([]byte, error) {
 	offsets, counts := pr.fields[tagStripOffsets].uints(pr.bo), pr.fields[tagStripByteCounts].uints(pr.bo)
+	if t.rowsPerStrip == 0 {
+		return nil, &ReadFormatError{pr.path, fmt.Sprintf("%s: RowsPerStrip is 0; a strip holds at least one row (TIFF 6.0, Section 3)", pr.where)}
+	}
 	rowsPerStrip := min(t.rowsPerStrip, t.height)
-	strips := int((t.height + rowsPerStrip - 1) / rowsPerStrip)
+	strips := int((uint64(t.height) + uint64(rowsPerStrip) - 1) / uint64(rowsPerStrip))
 	if len(offsets) != strips || len(counts) != strips {
 		return nil, &ReadFormatError{pr.path, fmt.Sprintf("%s: %d strip offsets and %d byte counts for %d strips of %d rows", pr.where, len(offsets), len(counts), strips, rowsPerStrip)}
 	}
