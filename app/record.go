@@ -1,13 +1,9 @@
 package main
 
 import (
-	"errors"
 	"fmt"
 	"io"
-	"io/fs"
 	"math"
-	"os"
-	"path/filepath"
 	"strings"
 	"time"
 	"unicode/utf8"
@@ -131,9 +127,6 @@ func record(f recordFlags, stderr io.Writer) error {
 	// Say so once the file is made: a name refused is not a recording.
 	opts.Create = func(path string, wf capture.WAVStreamFormat) (*capture.WAVStream, error) {
 		s, err := capture.CreateWAVStream(path, wf)
-		if dir := filepath.Dir(path); errors.Is(err, fs.ErrNotExist) && !exists(dir) {
-			return nil, fmt.Errorf("%s: the folder %s does not exist; create it or record elsewhere", path, dir)
-		}
 		if err == nil {
 			fmt.Fprintf(stderr, "recording %s: %d Hz, %d channels, %s, to %s\n", src.Name(), format.RateHz, format.Channels, f.format, f.out)
 		}
@@ -247,10 +240,4 @@ func meterText(s live.Status, bars bool) string {
 	}
 	fmt.Fprintf(&b, "  overruns %d", s.Overruns)
 	return b.String()
-}
-
-// exists reports whether path names anything.
-func exists(path string) bool {
-	_, err := os.Lstat(path)
-	return err == nil
 }

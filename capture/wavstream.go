@@ -4,8 +4,10 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"math"
 	"os"
+	"path/filepath"
 )
 
 // StreamFile is what a WAVStream writes to: an *os.File, or in tests a
@@ -62,6 +64,11 @@ func CreateWAVStream(path string, format WAVStreamFormat) (*WAVStream, error) {
 	if err != nil {
 		if errors.Is(err, os.ErrExist) {
 			return nil, fmt.Errorf("%s already exists; a recording never overwrites a file, choose another name", path)
+		}
+		if dir := filepath.Dir(path); errors.Is(err, fs.ErrNotExist) {
+			if _, serr := os.Stat(dir); errors.Is(serr, fs.ErrNotExist) {
+				return nil, fmt.Errorf("%s: the folder %s does not exist; create it or record elsewhere", path, dir)
+			}
 		}
 		return nil, err
 	}
