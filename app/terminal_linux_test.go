@@ -152,13 +152,13 @@ func TestProgressFitsTheTerminal(t *testing.T) {
 	}
 	p.Report("gridding the lines", 0.5)
 	p.Done()
-	fmt := "\r\x1b[K"
+	cleared := "\r\x1b[K"
 	out := readPty(t, master, "\x1b[K\r\x1b[K")
 	first, _, _ := strings.Cut(strings.TrimPrefix(out, "\r"), "\x1b[K")
 	if n := utf8.RuneCountInString(first); n > 19 || !strings.HasPrefix(first, "gridding") {
 		t.Errorf("progress %q: %d columns on a 20-column terminal", first, n)
 	}
-	if !strings.HasSuffix(out, fmt) {
+	if !strings.HasSuffix(out, cleared) {
 		t.Errorf("progress %q is not cleared at the end", out)
 	}
 }
