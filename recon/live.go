@@ -2,7 +2,6 @@ package recon
 
 import (
 	"context"
-	"fmt"
 	"sync"
 
 	"spotloom/capture"
@@ -32,48 +31,18 @@ func LayoutOf(rec *capture.Recording) LiveLayout {
 // channels, threshold, hysteresis, delay, aperture offsets, sine period,
 // carrier, the levels of index pulses sharing the tone's input
 // (rows.pulse_rest, rows.pulse_away), afterglow, speed, pitch and
-// max_gap_mm. It refuses what the live
-// path cannot do (see NewLive).
+// max_gap_mm and, with rows.strokes split or first, the reversal
+// hysteresis (rows.strokes_hysteresis_mm).
 func ResolveLive(ctx context.Context, first *capture.Recording, r recipe.Recipe) (recipe.Recipe, error) {
-	if err := liveRefusal(r); err != nil {
-		return recipe.Recipe{}, err
-	}
-	res, err := NewSession(first).Resolve(ctx, r)
-	if err != nil {
-		return recipe.Recipe{}, err
-	}
-	if err := liveRefusal(res); err != nil {
-		return recipe.Recipe{}, err
-	}
-	return res, nil
+	return NewSession(first).Resolve(ctx, r)
 }
 
-// LiveRefusal is the error of a recipe that the live path cannot build
-// at all, however many samples come (unlike one the first seconds cannot
-// resolve yet): a batch build of the saved recording can. Its message says
-// why and what to do.
-type LiveRefusal struct{ msg string }
-
-func (e *LiveRefusal) Error() string { return e.msg }
-
-// liveRefusal says why the live path cannot build r, or nil. Everything
-// else it builds as a batch build would. What it refuses rests on a value
-// taken from the whole recording, which no sample before the last fixes,
-// so a live image could not equal the batch build of the recording:
-// rows.strokes split or first, whose passes of the head are cut at its
-// reversals with a hysteresis from the whole travel and its noise
-// (levelRows, findStrokes). (The position tone on the index channel is
-// built live: liveShared.)
-func liveRefusal(r recipe.Recipe) error {
-	if r.Rows.Strokes == "split" || r.Rows.Strokes == "first" {
-		return &LiveRefusal{fmt.Sprintf("rows.strokes %s cannot be formed live: the passes of the head are cut at its reversals with a hysteresis from the whole travel, known only when the recording ends; watch it with rows.strokes merge, or build the recording with rows.strokes %s once it is stopped", r.Rows.Strokes, r.Rows.Strokes)}
-	}
+// byStroke reports whether r grids the lines stroke by stroke: with
+// rows.strokes split or first and a source that reads the position from a
+// sensor, whose reversals cut the strokes (the others make one stroke).
+func byStroke(r recipe.Recipe) bool {
 	src, err := sourceOf(r.Rows.Source)
-	if err != nil {
-		return err
-	}
-	_, refusal := src.liveCheck(r)
-	return refusal
+	return err == nil && (r.Rows.Strokes == "split" || r.Rows.Strokes == "first") && src.needs() == "position"
 }
 
 // unresolved names the first automatic (null) key of r that a Live needs
@@ -82,7 +51,7 @@ func unresolved(r recipe.Recipe) string {
 	src, _ := sourceOf(r.Rows.Source)
 	sourceKey, lawKey := "", ""
 	if src != nil {
-		sourceKey, _ = src.liveCheck(r)
+		sourceKey = src.liveNull(r)
 	}
 	if law, err := lawOf(r.Sweep.Law); err == nil {
 		lawKey = law.liveNull(r.Sweep)
@@ -94,6 +63,7 @@ func unresolved(r recipe.Recipe) string {
 		{"channels.detector", !r.Channels.Detector.IsSet()},
 		{"channels.index", !r.Channels.Index.IsSet()},
 		{"channels.position", src != nil && src.needs() == "position" && !r.Channels.Position.IsSet()},
+		{"rows.strokes_hysteresis_mm", byStroke(r) && r.Rows.StrokesHysteresisMM == nil},
 		{"timing.threshold", r.Timing.Threshold == nil},
 		{"timing.hysteresis", r.Timing.Hysteresis == nil},
 		{"sweep.delay_deg", r.Sweep.DelayDeg == nil},
@@ -130,9 +100,7 @@ type Live struct {
 }
 
 // NewLive starts an incremental build with a resolved recipe (ResolveLive):
-// one with a null left is refused with a one-line error saying what to do,
-// and one with rows.strokes split or first with a *LiveRefusal
-// (liveRefusal says why).
+// one with a null left is refused with a one-line error saying what to do.
 func NewLive(r recipe.Recipe, layout LiveLayout) (*Live, error) {
 	c, err := newLiveCore(r, layout)
 	if err != nil {

@@ -38,28 +38,32 @@ type liveCore struct {
 	scanned int
 
 	// Timing: raw edges, the repair walk, the final edges' flags.
-	tp        timingParams
-	trig      trigger
-	high      bool
-	rawEdges  []float64
-	rep       repairer
-	gapAfter  []bool // for rep.res.edges but the last (whose next is unknown)
-	gapsSeen  int
-	revDone   int // edges whose revolution is decided
-	revs      liveRevs
-	timings   []lineTiming // lines of final edges, not yet placed
-	timingNo  int          // number (index in the batch's lines) of timings[0]
-	baseline  bool         // beam-off baselines are taken
-	warm      bool         // typ and edge are known
-	typ       int
-	edge      *edgeResponse
-	queue     []placedLine // placed, not yet gridded
-	bound     beamOffState // the beam-off stretch before queue[0]
-	live      liveRows
-	law       sweepLaw
-	sweep     *sweepMap
-	sinePer   float64
-	canvas    liveCanvas
+	tp       timingParams
+	trig     trigger
+	high     bool
+	rawEdges []float64
+	rep      repairer
+	gapAfter []bool // for rep.res.edges but the last (whose next is unknown)
+	gapsSeen int
+	revDone  int // edges whose revolution is decided
+	revs     liveRevs
+	timings  []lineTiming // lines of final edges, not yet placed
+	timingNo int          // number (index in the batch's lines) of timings[0]
+	baseline bool         // beam-off baselines are taken
+	warm     bool         // typ and edge are known
+	typ      int
+	edge     *edgeResponse
+	queue    []placedLine // placed, not yet gridded
+	bound    beamOffState // the beam-off stretch before queue[0]
+	live     liveRows
+	law      sweepLaw
+	sweep    *sweepMap
+	sinePer  float64
+	// The strokes of the final rows, when the lines are gridded stroke by
+	// stroke (byStroke); each stroke has its canvas (one in all else).
+	byStroke  bool
+	strokes   strokeFinder
+	canvases  []liveCanvas
 	committed liveTotals
 	recent    []Line // the last gridded lines, at most LiveRecentLines
 	early     earlyLines
@@ -137,6 +141,12 @@ func (t *liveTotals) add(l *placedLine, y0, y1 float64, clipped bool, ties int) 
 	t.yLo = math.Min(t.yLo, math.Min(y0, y1))
 }
 
+// count counts a line that is not gridded.
+func (t *liveTotals) count(l *placedLine) {
+	t.lines++
+	t.periodSum += l.period
+}
+
 // merge adds the lines o counts.
 func (t *liveTotals) merge(o liveTotals) {
 	t.lines += o.lines
@@ -153,9 +163,6 @@ func newLiveCore(r recipe.Recipe, layout LiveLayout) (*liveCore, error) {
 		r.Format = recipe.RecipeFormat
 	}
 	if err := r.Validate(); err != nil {
-		return nil, err
-	}
-	if err := liveRefusal(r); err != nil {
 		return nil, err
 	}
 	if key := unresolved(r); key != "" {
@@ -197,6 +204,9 @@ func newLiveCore(r recipe.Recipe, layout LiveLayout) (*liveCore, error) {
 	c.early = earlyLines{zone: 2 * edgeLeadSamples, totals: c.committed}
 	if c.live, err = newLiveRows(r, c.ch, c.rate); err != nil {
 		return nil, err
+	}
+	if c.byStroke = byStroke(r); c.byStroke {
+		c.strokes = strokeFinder{hyst: *r.Rows.StrokesHysteresisMM}
 	}
 	if sharesIndex(r, c.ch) {
 		d := newToneDemod(*r.Rows.CarrierHz, c.rate)
@@ -348,6 +358,9 @@ func (c *liveCore) advance(k int) error {
 	c.addStats(from)
 	c.addEdges(from)
 	c.live.add(c.raw, c.n)
+	if c.byStroke {
+		c.strokes.feed(c.live.rows.y)
+	}
 	c.place()
 	return c.commit()
 }
@@ -475,7 +488,7 @@ func (c *liveCore) commit() error {
 	}
 	for len(c.queue) > 0 {
 		l := &c.queue[0]
-		if c.baseline && len(c.queue) < 2 || !c.live.final(l) {
+		if c.baseline && len(c.queue) < 2 || !c.live.final(l) || !c.strokeFinal(l) {
 			return nil
 		}
 		if c.baseline {
@@ -489,24 +502,64 @@ func (c *liveCore) commit() error {
 	return nil
 }
 
-// commitLine grids l on the canvas with the measured edge response and
-// counts it in the totals.
+// commitLine grids l on its stroke's canvas with the measured edge
+// response and counts it in the totals (a line after the first stroke,
+// with rows.strokes first, is counted only, as a batch build lists it but
+// grids no frame of its stroke).
 func (c *liveCore) commitLine(l *placedLine) error {
-	y0, y1, err := c.coverLine(l)
+	s := c.strokeOf(l)
+	c.keepRecent(c.liveLine(l, &c.live.rows))
+	if s > 0 && c.r.Rows.Strokes == "first" {
+		c.committed.count(l)
+		return nil
+	}
+	v := c.canvasOf(s)
+	y0, y1, err := c.coverLine(v, l)
 	if err != nil {
 		return err
 	}
 	in := c.gridInput(&c.live.rows, c.edge)
-	clipped, ties := splatLine(&in, c.canvas.g, l, c.canvas.acc)
+	clipped, ties := splatLine(&in, v.g, l, v.acc)
 	c.committed.add(l, y0, y1, clipped, ties)
-	c.keepRecent(c.liveLine(l, &c.live.rows))
+	v.yHi, v.yLo = math.Max(v.yHi, math.Max(y0, y1)), math.Min(v.yLo, math.Min(y0, y1))
 	return nil
 }
 
-// coverLine grows the canvas to hold l and returns the y of its ends.
-func (c *liveCore) coverLine(l *placedLine) (y0, y1 float64, err error) {
+// strokeFinal reports whether the stroke of l is final: always, unless
+// the lines are gridded stroke by stroke, and then when the middle of l
+// is before any reversal that later samples may still find.
+func (c *liveCore) strokeFinal(l *placedLine) bool {
+	return !c.byStroke || (l.first+l.last)/2 < c.strokes.horizon(c.live.rows.blockLen)
+}
+
+// strokeOf is the stroke of a line whose stroke is final (strokeFinal),
+// as linesOnRows numbers them: 0 unless the lines are gridded stroke by
+// stroke.
+func (c *liveCore) strokeOf(l *placedLine) int {
+	if !c.byStroke {
+		return 0
+	}
+	mid, bl, s := (l.first+l.last)/2, c.live.rows.blockLen, 0
+	for _, t := range c.strokes.turns {
+		if mid >= t*bl+bl/2 {
+			s++
+		}
+	}
+	return s
+}
+
+// canvasOf is the canvas of stroke s, made empty when there is none yet.
+func (c *liveCore) canvasOf(s int) *liveCanvas {
+	for len(c.canvases) <= s {
+		c.canvases = append(c.canvases, liveCanvas{yHi: math.Inf(-1), yLo: math.Inf(1)})
+	}
+	return &c.canvases[s]
+}
+
+// coverLine grows canvas v to hold l and returns the y of its ends.
+func (c *liveCore) coverLine(v *liveCanvas, l *placedLine) (y0, y1 float64, err error) {
 	y0, y1 = c.live.rows.at(float64(l.first)), c.live.rows.at(float64(l.last-1))
-	return y0, y1, c.canvas.cover(c, math.Min(y0, y1), math.Max(y0, y1))
+	return y0, y1, v.cover(c, math.Min(y0, y1), math.Max(y0, y1))
 }
 
 // earlyLines is what a live build keeps of its first lines until warmUp
@@ -568,7 +621,8 @@ func (e *earlyLines) splatEnds(in *gridInput, g *frameGrid, l *placedLine, acc [
 func (c *liveCore) keep(lines []placedLine, i int) error {
 	e := &c.early
 	l := &lines[i]
-	y0, y1, err := c.coverLine(l)
+	v := c.canvasOf(0)
+	y0, y1, err := c.coverLine(v, l)
 	if err != nil {
 		return err
 	}
@@ -577,7 +631,7 @@ func (c *liveCore) keep(lines []placedLine, i int) error {
 	k.clipped, k.ties = clipLine(&in, l)
 	e.totals.add(l, y0, y1, k.clipped, k.ties)
 	from, to := e.interior(l.last - l.first)
-	splatSpan(&in, c.canvas.g, l, c.canvas.acc, from, to)
+	splatSpan(&in, v.g, l, v.acc, from, to)
 	if e.fold != nil && e.folded == len(e.lines) && i < measureLines {
 		e.fold.add(c.det, l, k.nextFirst)
 		e.folded++
@@ -590,7 +644,8 @@ func (c *liveCore) keep(lines []placedLine, i int) error {
 // fold too), with zone samples at their starts left off.
 func (c *liveCore) regrid(zone int) {
 	e := &c.early
-	clear(c.canvas.acc)
+	v := c.canvasOf(0)
+	clear(v.acc)
 	e.zone, e.fold, e.folded = zone, nil, 0
 	e.totals = liveTotals{yHi: math.Inf(-1), yLo: math.Inf(1)}
 	in := c.gridInput(&c.live.rows, nil)
@@ -598,7 +653,7 @@ func (c *liveCore) regrid(zone int) {
 		k := &e.lines[i]
 		e.totals.add(&k.l, k.y0, k.y1, k.clipped, k.ties)
 		from, to := e.interior(k.l.last - k.l.first)
-		splatSpan(&in, c.canvas.g, &k.l, c.canvas.acc, from, to)
+		splatSpan(&in, v.g, &k.l, v.acc, from, to)
 	}
 }
 
@@ -608,6 +663,11 @@ func (c *liveCore) regrid(zone int) {
 // edges may still change. It returns how many lines are kept.
 func (c *liveCore) keepEarly(lines []placedLine, rows *rowsResult) (int, error) {
 	e := &c.early
+	if c.byStroke {
+		// The strokes of the first lines are not final yet: each Result
+		// grids them afresh, until warmUp.
+		return 0, nil
+	}
 	k := 0
 	for k < len(e.lines) && k+2 < len(lines) && e.lines[k].same(&lines[k+1], rows, lines[k+2].first) {
 		k++
@@ -688,8 +748,9 @@ func (c *liveCore) commitEarly() error {
 			return err
 		}
 		in := c.gridInput(&c.live.rows, c.edge)
+		v := c.canvasOf(0)
 		for i := 1; i <= k; i++ {
-			e.splatEnds(&in, c.canvas.g, &c.queue[i], c.canvas.acc)
+			e.splatEnds(&in, v.g, &c.queue[i], v.acc)
 			c.keepRecent(c.liveLine(&c.queue[i], &c.live.rows))
 		}
 		c.committed.merge(e.totals)
@@ -737,12 +798,14 @@ func (c *liveCore) gridInput(rows *rowsResult, edge *edgeResponse) gridInput {
 	return in
 }
 
-// liveCanvas holds the accumulators of the gridded lines, on the rows of
-// the lattice from top down (rowLattice), grown as the head moves.
+// liveCanvas holds the accumulators of the gridded lines (of a stroke),
+// on the rows of the lattice from top down (rowLattice), grown as the
+// head moves.
 type liveCanvas struct {
-	g   *frameGrid
-	acc []float64
-	top int // lattice number of row 0
+	g        *frameGrid
+	acc      []float64
+	top      int     // lattice number of row 0
+	yHi, yLo float64 // range of the ends of the lines gridded on it, mm
 }
 
 // cover grows the canvas to hold y from lo to hi, mm, with room for more.

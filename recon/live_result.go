@@ -65,6 +65,11 @@ func (c *liveCore) tail() (*liveTail, error) {
 	if t.rows, t.lvLo, t.lvHi = c.live.tail(c.raw, c.n); t.rows == nil {
 		return nil, errNoToneStretch
 	}
+	if c.byStroke {
+		f := c.strokes.clone()
+		f.feed(t.rows.y)
+		t.rows.strokes = f.strokes(t.rows.blockLen, c.n)
+	}
 	t.edge = c.edge
 	if !c.baseline {
 		return t, nil
@@ -97,40 +102,120 @@ func (c *liveCore) tail() (*liveTail, error) {
 // settles reports whether lines[i] is kept (earlyLines).
 func (t *liveTail) settles(i int) bool { return i >= 1 && i <= t.settled }
 
-// result is the image and report of the samples so far.
+// result is the image and report of the samples so far: one frame, or
+// one per stroke (rows.strokes split), or the first stroke's.
 func (c *liveCore) result() *Result {
 	t, err := c.tail()
 	if err != nil {
 		return nil
 	}
-	p := c.r.Image.PitchMM
 	total := c.committed
 	if t.settled > 0 {
 		total.merge(c.early.totals)
 	}
-	ys := make([][2]float64, len(t.lines))
+	groups := c.groups(t, &total)
+	if len(groups) == 0 {
+		return nil
+	}
+	var frames []*Frame
+	var covered, pixels, gapRows int
+	var cover []float64
+	for _, gr := range groups {
+		f, err := c.gridGroup(t, gr, &total)
+		if err != nil {
+			return nil
+		}
+		cov, gaps := coverCounts(f)
+		f.Stroke = gr.stroke
+		frames = append(frames, f)
+		covered, pixels, gapRows = covered+cov, pixels+f.Width*f.Height, gapRows+gaps
+		cover = append(cover, float64(cov)/float64(f.Width*f.Height))
+	}
+	rep := c.report(t, total, frames[0], float64(covered)/float64(pixels), gapRows)
+	for i, f := range frames {
+		f.Report, f.Recipe = rep, c.r.Clone()
+		f.Report.Columns, f.Report.Rows, f.Report.Coverage = f.Width, f.Height, cover[i]
+		f.Report.OriginXMM, f.Report.OriginYMM = f.OriginXMM, f.OriginYMM
+		f.Report.Warnings = slices.Clone(rep.Warnings)
+	}
+	return &Result{Frames: frames, Report: rep, Recipe: c.r.Clone(), Lines: c.recentLines(t.lines, t.rows)}
+}
+
+// liveGroup is the lines of one frame of a Result: its stroke, the canvas
+// of its gridded lines (nil for none), the range of its lines' ends and
+// the lines of the tail in it.
+type liveGroup struct {
+	stroke   int
+	canvas   *liveCanvas
+	yHi, yLo float64
+	lines    []int // of the tail's lines
+}
+
+// groups sorts the tail's lines into the frames of a Result, as
+// groupByStroke does, and counts in total those of no frame.
+func (c *liveCore) groups(t *liveTail, total *liveTotals) []liveGroup {
+	ends := func(l *placedLine) (float64, float64) {
+		y0, y1 := t.rows.at(float64(l.first)), t.rows.at(float64(l.last-1))
+		return math.Max(y0, y1), math.Min(y0, y1)
+	}
+	if !c.byStroke {
+		g := liveGroup{yHi: total.yHi, yLo: total.yLo}
+		if len(c.canvases) > 0 {
+			g.canvas = &c.canvases[0]
+		}
+		for i := range t.lines {
+			g.lines = append(g.lines, i)
+			if !t.settles(i) {
+				hi, lo := ends(&t.lines[i])
+				g.yHi, g.yLo = math.Max(g.yHi, hi), math.Min(g.yLo, lo)
+			}
+		}
+		if total.lines+len(t.lines) == 0 {
+			return nil
+		}
+		return []liveGroup{g}
+	}
+	n := len(t.rows.strokes)
+	if c.r.Rows.Strokes == "first" {
+		n = 1
+	}
+	out := make([]liveGroup, n)
+	for s := range out {
+		out[s] = liveGroup{stroke: s, yHi: math.Inf(-1), yLo: math.Inf(1)}
+		if s < len(c.canvases) && c.canvases[s].g != nil {
+			v := &c.canvases[s]
+			out[s].canvas, out[s].yHi, out[s].yLo = v, v.yHi, v.yLo
+		}
+	}
 	for i := range t.lines {
-		if t.settles(i) {
+		l := &t.lines[i]
+		s := t.rows.strokeOf((l.first + l.last) / 2)
+		if s >= n {
+			total.count(l)
 			continue
 		}
-		l := &t.lines[i]
-		ys[i] = [2]float64{t.rows.at(float64(l.first)), t.rows.at(float64(l.last - 1))}
-		total.yHi = math.Max(total.yHi, math.Max(ys[i][0], ys[i][1]))
-		total.yLo = math.Min(total.yLo, math.Min(ys[i][0], ys[i][1]))
+		g := &out[s]
+		g.lines = append(g.lines, i)
+		hi, lo := ends(l)
+		g.yHi, g.yLo = math.Max(g.yHi, hi), math.Min(g.yLo, lo)
 	}
-	if total.lines+len(t.lines) == 0 {
-		return nil
-	}
-	g, err := layoutFrame(gridInput{sweep: c.sweep, pitch: p, yTop: total.yHi, yBottom: total.yLo})
+	return slices.DeleteFunc(out, func(g liveGroup) bool { return g.canvas == nil && len(g.lines) == 0 })
+}
+
+// gridGroup grids the frame of group gr: its canvas, and its lines of the
+// tail, which it counts in total.
+func (c *liveCore) gridGroup(t *liveTail, gr liveGroup, total *liveTotals) (*Frame, error) {
+	p := c.r.Image.PitchMM
+	g, err := layoutFrame(gridInput{sweep: c.sweep, pitch: p, yTop: gr.yHi, yBottom: gr.yLo})
 	if err != nil {
-		return nil
+		return nil, err
 	}
-	top, _ := rowLattice(total.yHi, total.yLo, p)
+	top, _ := rowLattice(gr.yHi, gr.yLo, p)
 	// The accumulators are scratch, kept between calls.
 	acc := slices.Grow(c.scratch[:0], 2*g.cols*g.rows)[:2*g.cols*g.rows]
 	clear(acc)
 	c.scratch = acc
-	if v := c.canvas; v.g != nil && (c.warm || t.settled > 0) {
+	if v := gr.canvas; v != nil && v.g != nil && (c.warm || t.settled > 0) {
 		// Canvas row r is lattice row v.top−r, frame row int(top)−(v.top−r).
 		shift := v.top - int(top)
 		row := 2 * g.cols
@@ -140,32 +225,31 @@ func (c *liveCore) result() *Result {
 		}
 	}
 	in := c.gridInput(t.rows, t.edge)
-	for i := range t.lines {
+	for _, i := range gr.lines {
 		l := &t.lines[i]
 		if t.settles(i) {
 			c.early.splatEnds(&in, g, l, acc)
 			continue
 		}
 		clipped, ties := splatLine(&in, g, l, acc)
-		total.add(l, ys[i][0], ys[i][1], clipped, ties)
+		total.add(l, t.rows.at(float64(l.first)), t.rows.at(float64(l.last-1)), clipped, ties)
 	}
 	f := frameFromSums(g, p, [][]float64{acc})
 	fillGaps(f, max(c.r.Image.FillGapsPx, int(math.Floor(*c.r.Image.MaxGapMM/p+1e-9))-1), c.r.Image.FillGapsPx)
-	covered, gapRows := coverCounts(f)
-	rep := c.report(t, total, f, covered, gapRows)
-	f.Report, f.Recipe = rep, c.r.Clone()
-	f.Report.Warnings = slices.Clone(rep.Warnings)
-	return &Result{Frames: []*Frame{f}, Report: rep, Recipe: c.r.Clone(), Lines: c.recentLines(t.lines, t.rows)}
+	return f, nil
 }
 
 // report is the build report of the samples so far, as timingReport and
 // gridStage make it.
-func (c *liveCore) report(t *liveTail, total liveTotals, f *Frame, covered, gapRows int) Report {
+func (c *liveCore) report(t *liveTail, total liveTotals, f *Frame, coverage float64, gapRows int) Report {
 	rep := Report{
 		Lines: total.lines, LinesRepaired: t.rep.missing, PulsesMissing: t.rep.missing, PulsesExtra: t.rep.extra,
 		Revolutions: t.revs.n, DelayDeg: *c.r.Sweep.DelayDeg, Threshold: *c.r.Timing.Threshold, PitchMM: c.r.Image.PitchMM,
 		Columns: f.Width, Rows: f.Height, OriginXMM: f.OriginXMM, OriginYMM: f.OriginYMM,
-		Coverage: float64(covered) / float64(f.Width*f.Height),
+		Coverage: coverage,
+	}
+	if c.byStroke {
+		rep.Strokes = len(t.rows.strokes)
 	}
 	if c.r.Rows.Source.ReadsPosition() {
 		rep.PositionLevels = []float64{t.lvLo, t.lvHi}

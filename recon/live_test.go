@@ -2,7 +2,7 @@ package recon_test
 
 import (
 	"context"
-	"errors"
+	"fmt"
 	"math"
 	"path/filepath"
 	"slices"
@@ -151,12 +151,22 @@ func sameImage(t *testing.T, got, want *recon.Result) {
 	if got.Report.Lines != want.Report.Lines {
 		t.Errorf("live %d lines, batch %d", got.Report.Lines, want.Report.Lines)
 	}
-	if len(got.Frames) != 1 || len(want.Frames) != 1 {
+	if len(got.Frames) != len(want.Frames) || len(want.Frames) == 0 {
 		t.Fatalf("live %d frames, batch %d", len(got.Frames), len(want.Frames))
 	}
-	g, w := got.Frames[0], want.Frames[0]
+	for i := range want.Frames {
+		sameFrame(t, fmt.Sprintf("frame %d: ", i), got.Frames[i], want.Frames[i])
+	}
+}
+
+// sameFrame is sameImage's check of one frame, its stroke too.
+func sameFrame(t *testing.T, what string, g, w *recon.Frame) {
+	t.Helper()
+	if g.Stroke != w.Stroke {
+		t.Errorf("%slive stroke %d, batch %d", what, g.Stroke, w.Stroke)
+	}
 	if g.Width != w.Width || g.Height != w.Height || math.Abs(g.OriginXMM-w.OriginXMM) > 1e-9 || math.Abs(g.OriginYMM-w.OriginYMM) > 1e-9 {
-		t.Fatalf("live frame %d × %d at (%g, %g) mm, batch %d × %d at (%g, %g) mm", g.Width, g.Height, g.OriginXMM, g.OriginYMM, w.Width, w.Height, w.OriginXMM, w.OriginYMM)
+		t.Fatalf("%slive frame %d × %d at (%g, %g) mm, batch %d × %d at (%g, %g) mm", what, g.Width, g.Height, g.OriginXMM, g.OriginYMM, w.Width, w.Height, w.OriginXMM, w.OriginYMM)
 	}
 	scale := 0.0
 	for i, v := range w.Pix {
@@ -179,7 +189,7 @@ func sameImage(t *testing.T, got, want *recon.Result) {
 		}
 	}
 	if bad > 0 {
-		t.Errorf("%d of %d pixels differ (largest difference %.3g, frame scale %.3g)", bad, len(w.Pix), worst, scale)
+		t.Errorf("%s%d of %d pixels differ (largest difference %.3g, frame scale %.3g)", what, bad, len(w.Pix), worst, scale)
 	}
 }
 
@@ -266,6 +276,43 @@ func sameRecentLines(t *testing.T, got, want *recon.Result) {
 	}
 }
 
+// TestLiveStrokes: with rows.strokes split the live build makes one
+// frame per pass of the head, with first the first pass's, cut at the
+// reversals the hysteresis resolved from the first seconds finds; after
+// the last sample they equal the batch build of the saved WAV with the
+// same recipe, frame by frame. The rig's hand goes there and back twice
+// (four strokes, a rest at each turn) and steps back once in each
+// stroke by more than the hysteresis (a reversal within the stroke, so
+// more frames than strokes of the rig, as the batch build cuts them).
+func TestLiveStrokes(t *testing.T) {
+	rig := liveRig()
+	rig.DurationS = 14
+	rig.Motion.StartRestS, rig.Motion.StrokeS, rig.Motion.StrokeCount, rig.Motion.TurnRestS = 1, 3, 4, 0.2
+	rig.Motion.BackStepCount, rig.Motion.BackStepMM = 1, 20
+	rec := simulate(t, rig)
+	for _, mode := range []string{"split", "first"} {
+		t.Run(mode, func(t *testing.T) {
+			r := rig.Recipe()
+			r.Rows.Strokes = mode
+			r, err := recon.ResolveLive(context.Background(), head(rec, 3), r)
+			if err != nil {
+				t.Fatal(err)
+			}
+			lv, path := recordAndWatch(t, rec, r, 0, recipe.Recipe{})
+			want := batchOf(t, path, r)
+			if mode == "split" && (len(want.Frames) < 4 || want.Report.Strokes != len(want.Frames)) {
+				t.Fatalf("the batch build cut %d strokes into %d frames; the rig's four strokes need at least four", want.Report.Strokes, len(want.Frames))
+			}
+			got := lv.Result()
+			sameImage(t, got, want)
+			if got.Report.Strokes != want.Report.Strokes {
+				t.Errorf("live %d strokes, batch %d", got.Report.Strokes, want.Report.Strokes)
+			}
+			sameRecentLines(t, got, want)
+		})
+	}
+}
+
 // TestLiveRetune: a delay and aperture offsets changed half-way through
 // re-grid what was recorded; the end equals a batch build with the new
 // recipe.
@@ -301,27 +348,35 @@ func TestLiveShort(t *testing.T) {
 	sameImage(t, lv.Result(), batchOf(t, path, r))
 }
 
-// TestLiveRefuses: what cannot be built as it is recorded is refused with
-// a LiveRefusal naming the key to change; a recipe whose automatic values
-// are not resolved yet is refused with another error.
+// TestLiveRefuses: a recipe whose automatic values are not resolved yet
+// is refused with an error naming the key; each source and law says what
+// it needs, and rows.strokes split and first need the reversal hysteresis.
 func TestLiveRefuses(t *testing.T) {
 	rec := head(simulate(t, liveRig()), 1)
 	r := sampledata.DemoRecipe()
 	_, err := recon.NewLive(r, recon.LayoutOf(rec))
-	var refusal *recon.LiveRefusal
-	if err == nil || errors.As(err, &refusal) {
-		t.Errorf("a recipe with an automatic delay: %v, want an error that is not a refusal", err)
+	if err == nil || !strings.Contains(err.Error(), "is automatic (null)") {
+		t.Errorf("a recipe with an automatic delay: %v, want an error naming a null key", err)
 	}
-	for _, tc := range []struct {
-		name, key string
-		r         recipe.Recipe
-	}{
-		{"strokes split", "rows.strokes split", func() recipe.Recipe { c := r.Clone(); c.Rows.Strokes = "split"; return c }()},
-		{"strokes first", "rows.strokes first", func() recipe.Recipe { c := r.Clone(); c.Rows.Strokes = "first"; return c }()},
-	} {
-		_, err := recon.ResolveLive(context.Background(), rec, tc.r)
-		if !errors.As(err, &refusal) || !strings.Contains(err.Error(), tc.key) {
-			t.Errorf("%s: %v, want a LiveRefusal naming %s", tc.name, err, tc.key)
+	// rows.strokes split and first are formed live once the first
+	// seconds resolve the reversal hysteresis; not before.
+	for _, mode := range []string{"split", "first"} {
+		c := r.Clone()
+		c.Rows.Strokes = mode
+		got, err := recon.ResolveLive(context.Background(), head(simulate(t, liveRig()), 3), c)
+		if err != nil {
+			t.Fatalf("rows.strokes %s: %v", mode, err)
+		}
+		if h := got.Rows.StrokesHysteresisMM; h == nil || !(*h > 0) {
+			t.Errorf("rows.strokes %s: resolved rows.strokes_hysteresis_mm %v, want a value above 0", mode, h)
+		}
+		if _, err := recon.NewLive(got, recon.LayoutOf(rec)); err != nil {
+			t.Errorf("rows.strokes %s, resolved: %v", mode, err)
+		}
+		got.Rows.StrokesHysteresisMM = nil
+		_, err = recon.NewLive(got, recon.LayoutOf(rec))
+		if err == nil || !strings.Contains(err.Error(), "rows.strokes_hysteresis_mm is automatic") {
+			t.Errorf("rows.strokes %s with a null hysteresis: %v, want an error naming rows.strokes_hysteresis_mm", mode, err)
 		}
 	}
 	// Each source and law says what a live build needs of it: the key
@@ -361,11 +416,6 @@ func TestLiveRefuses(t *testing.T) {
 		_, err := recon.NewLive(r, recon.LayoutOf(rec))
 		if err == nil || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("NewLive: %v, want an error saying %q", err, c.want)
-		}
-		// What no sample can resolve is a refusal; a null key is not.
-		var refusal *recon.LiveRefusal
-		if errors.As(err, &refusal) != strings.Contains(c.want, "cannot be formed live") {
-			t.Errorf("NewLive: %v (%T): a refusal only when it cannot be formed live", err, err)
 		}
 	}
 }

@@ -143,6 +143,10 @@ type rowsResult struct {
 	blockLen int
 	y        []float64 // mm
 	strokes  []stroke
+	// autoHyst is the reversal hysteresis the strokes are found with when
+	// rows.strokes_hysteresis_mm is null, mm (0: the source finds no
+	// reversals, its strokes are the whole capture).
+	autoHyst float64
 	carrier  float64 // Hz, for source tone
 	levelMin float64 // range of the smoothed level (volts or full scale)
 	levelMax float64
@@ -164,6 +168,17 @@ func (r *rowsResult) at(s float64) float64 {
 	}
 	f := p - float64(i)
 	return r.y[i] + f*(r.y[i+1]-r.y[i])
+}
+
+// withHysteresis is r with its strokes found with the reversal
+// hysteresis hyst, mm (nil: the automatic one), sharing all else with r.
+func (r *rowsResult) withHysteresis(hyst *float64) *rowsResult {
+	if hyst == nil || r.autoHyst == 0 || *hyst == r.autoHyst || len(r.strokes) == 0 {
+		return r
+	}
+	c := *r
+	c.strokes = findStrokes(r.y, r.blockLen, r.strokes[len(r.strokes)-1].last, *hyst)
+	return &c
 }
 
 // strokeOf returns the stroke that holds sample s.
@@ -264,7 +279,8 @@ func levelRows(ctx context.Context, rec rowsInput, p rowsParams, res *rowsResult
 		resid = append(resid, math.Abs(cal.at(levels[j])-res.y[j]))
 	}
 	noise := 1.4826 * median(resid)
-	res.strokes = findStrokes(res.y, res.blockLen, n, math.Max(0.02*(yMax-yMin), 6*noise))
+	res.autoHyst = math.Max(0.02*(yMax-yMin), 6*noise)
+	res.strokes = findStrokes(res.y, res.blockLen, n, res.autoHyst)
 	return res, nil
 }
 
@@ -306,45 +322,91 @@ func blockMeans(x []float32, blockLen int) []float64 {
 }
 
 // findStrokes splits the capture at direction reversals: a reversal is a
-// turning point after which the position has gone back by more than hyst.
+// turn by more than hyst mm from the extreme since the last one.
 func findStrokes(y []float64, blockLen, n int, hyst float64) []stroke {
-	var turns []int // block indices
-	dir := 0
-	hi, lo := y[0], y[0]
-	hiIdx, loIdx := 0, 0
-	for j, v := range y {
-		switch dir {
+	f := strokeFinder{hyst: hyst}
+	f.feed(y)
+	return f.strokes(blockLen, n)
+}
+
+// strokeFinder finds the reversals of the head in its positions, one
+// block at a time: what it has found of the blocks so far no later block
+// changes, and the strokes before its horizon are final. A copy goes on
+// independently.
+type strokeFinder struct {
+	hyst         float64
+	blocks       int // fed so far
+	dir          int // of the head since the last turn; 0 until it moves by hyst
+	hi, lo       float64
+	hiIdx, loIdx int
+	turns        []int // block indices
+}
+
+// feed takes the blocks of y after those fed already.
+func (f *strokeFinder) feed(y []float64) {
+	if f.blocks == 0 && len(y) > 0 {
+		f.hi, f.lo = y[0], y[0]
+	}
+	for j := f.blocks; j < len(y); j++ {
+		v := y[j]
+		switch f.dir {
 		case 0:
-			if v > hi {
-				hi, hiIdx = v, j
+			if v > f.hi {
+				f.hi, f.hiIdx = v, j
 			}
-			if v < lo {
-				lo, loIdx = v, j
+			if v < f.lo {
+				f.lo, f.loIdx = v, j
 			}
-			if v-lo > hyst {
-				dir, hi, hiIdx = 1, v, j
-			} else if hi-v > hyst {
-				dir, lo, loIdx = -1, v, j
+			if v-f.lo > f.hyst {
+				f.dir, f.hi, f.hiIdx = 1, v, j
+			} else if f.hi-v > f.hyst {
+				f.dir, f.lo, f.loIdx = -1, v, j
 			}
 		case 1:
-			if v > hi {
-				hi, hiIdx = v, j
-			} else if hi-v > hyst {
-				turns = append(turns, hiIdx)
-				dir, lo, loIdx = -1, v, j
+			if v > f.hi {
+				f.hi, f.hiIdx = v, j
+			} else if f.hi-v > f.hyst {
+				f.turns = append(f.turns, f.hiIdx)
+				f.dir, f.lo, f.loIdx = -1, v, j
 			}
 		case -1:
-			if v < lo {
-				lo, loIdx = v, j
-			} else if v-lo > hyst {
-				turns = append(turns, loIdx)
-				dir, hi, hiIdx = 1, v, j
+			if v < f.lo {
+				f.lo, f.loIdx = v, j
+			} else if v-f.lo > f.hyst {
+				f.turns = append(f.turns, f.loIdx)
+				f.dir, f.hi, f.hiIdx = 1, v, j
 			}
 		}
 	}
+	f.blocks = max(f.blocks, len(y))
+}
+
+// clone is an independent copy of f.
+func (f *strokeFinder) clone() strokeFinder {
+	c := *f
+	c.turns = slices.Clone(f.turns)
+	return c
+}
+
+// horizon is the first sample (of blocks of blockLen) whose stroke later
+// blocks may still change: the next turn is at the extreme since the
+// last one or later (or, before the head has moved, at the next block).
+func (f *strokeFinder) horizon(blockLen int) int {
+	next := f.blocks
+	switch f.dir {
+	case 1:
+		next = f.hiIdx
+	case -1:
+		next = f.loIdx
+	}
+	return next*blockLen + blockLen/2
+}
+
+// strokes is the strokes of n samples that the turns so far cut.
+func (f *strokeFinder) strokes(blockLen, n int) []stroke {
 	var out []stroke
 	start := 0
-	for _, t := range turns {
+	for _, t := range f.turns {
 		s := t*blockLen + blockLen/2
 		out = append(out, stroke{start, s})
 		start = s

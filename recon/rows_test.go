@@ -140,4 +140,27 @@ func TestStrokesSplit(t *testing.T) {
 	if o := res.Frames[0]; res.Report.OriginXMM != o.OriginXMM || res.Report.OriginYMM != o.OriginYMM {
 		t.Errorf("build report origin %g, %g mm, first frame's %g, %g mm", res.Report.OriginXMM, res.Report.OriginYMM, o.OriginXMM, o.OriginYMM)
 	}
+	// The automatic reversal hysteresis is the larger of 2 % of the travel
+	// (60 mm, the sine's peak to peak: 1.2 mm) and six times the smoothed
+	// position's noise, which this clean sensor keeps far below that; the
+	// resolved recipe gives it.
+	if h := res.Recipe.Rows.StrokesHysteresisMM; h == nil || math.Abs(*h-1.2) > 0.02 {
+		t.Errorf("resolved rows.strokes_hysteresis_mm %v, want 1.2 mm (2 %% of 60 mm)", h)
+	}
+	// One given in the recipe is used: more than the travel finds no
+	// reversal; one well inside it the same two.
+	for _, c := range []struct {
+		hyst    float64
+		strokes int
+	}{{70, 1}, {5, 3}} {
+		r := r.Clone()
+		r.Rows.StrokesHysteresisMM = &c.hyst
+		res, err := NewSession(rig.recording()).Build(context.Background(), r, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if res.Report.Strokes != c.strokes || len(res.Frames) != c.strokes || *res.Recipe.Rows.StrokesHysteresisMM != c.hyst {
+			t.Errorf("hysteresis %g mm: %d strokes, %d frames, resolved %g; want %d", c.hyst, res.Report.Strokes, len(res.Frames), *res.Recipe.Rows.StrokesHysteresisMM, c.strokes)
+		}
+	}
 }

@@ -226,6 +226,10 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 		return nil, nil, err
 	}
 	warns = append(warns, rows.warnings...)
+	if (r.Rows.Strokes == "split" || r.Rows.Strokes == "first") && r.Rows.StrokesHysteresisMM == nil && rows.autoHyst > 0 {
+		r.Rows.StrokesHysteresisMM = recipe.Float(rows.autoHyst)
+	}
+	rows = rows.withHysteresis(r.Rows.StrokesHysteresisMM)
 	if mustSource(r.Rows.Source).readsTone() && r.Rows.CarrierHz == nil {
 		r.Rows.CarrierHz = recipe.Float(rows.carrier)
 	}

@@ -26,11 +26,10 @@ type rowSource interface {
 	// fromTiming fills in the rows values the source takes from the
 	// index timing when they are left automatic, and says so.
 	fromTiming(r *recipe.Recipe, t *timingResult, rateHz float64) []string
-	// liveCheck says whether a live build (docs/pipeline.md, "Live") can
-	// use the source with r: the key of the source's own that must be
-	// resolved first and is still null (or ""), or a *LiveRefusal saying
-	// why it cannot.
-	liveCheck(r recipe.Recipe) (null string, refusal error)
+	// liveNull is the key of the source's own that a live build
+	// (docs/pipeline.md, "Live") needs resolved first and that is still
+	// null in r, or "".
+	liveNull(r recipe.Recipe) string
 	// liveLevels is the source's share of a live build of r: how the
 	// level of each block is read as the samples come in, or nil for a
 	// source that gives the position itself (liveY).

@@ -31,11 +31,11 @@ func (evenSource) needs() string { return "" }
 
 func (evenSource) readsTone() bool { return false }
 
-func (evenSource) liveCheck(r recipe.Recipe) (string, error) {
+func (evenSource) liveNull(r recipe.Recipe) string {
 	if r.Rows.SpeedMMS == nil {
-		return "rows.speed_mm_s", nil
+		return "rows.speed_mm_s"
 	}
-	return "", nil
+	return ""
 }
 
 // liveLevels is nil: an even motion's rows come from its speed alone.

@@ -23,7 +23,7 @@ func (positionSource) readsTone() bool { return false }
 
 func (positionSource) fromTiming(*recipe.Recipe, *timingResult, float64) []string { return nil }
 
-func (positionSource) liveCheck(recipe.Recipe) (string, error) { return "", nil }
+func (positionSource) liveNull(recipe.Recipe) string { return "" }
 
 func (positionSource) liveLevels(_ recipe.Recipe, rateHz float64) liveLevels {
 	return positionLevels{bl: levelBlockLen(rateHz)}

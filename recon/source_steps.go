@@ -87,19 +87,19 @@ func (stepsSource) readsTone() bool { return false }
 
 func (stepsSource) fromTiming(*recipe.Recipe, *timingResult, float64) []string { return nil }
 
-// liveCheck needs the step pulses' trigger resolved (from the first
+// liveNull needs the step pulses' trigger resolved (from the first
 // seconds, as Session.Resolve gives it), since a threshold from the whole
 // channel is known only at its end.
-func (stepsSource) liveCheck(r recipe.Recipe) (string, error) {
+func (stepsSource) liveNull(r recipe.Recipe) string {
 	switch {
 	case !r.Channels.Steps.IsSet():
-		return "channels.steps", nil
+		return "channels.steps"
 	case r.Rows.StepsThreshold == nil:
-		return "rows.steps_threshold", nil
+		return "rows.steps_threshold"
 	case r.Rows.StepsHysteresis == nil:
-		return "rows.steps_hysteresis", nil
+		return "rows.steps_hysteresis"
 	}
-	return "", nil
+	return ""
 }
 
 func (stepsSource) liveLevels(recipe.Recipe, float64) liveLevels { return nil }

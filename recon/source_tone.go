@@ -31,21 +31,21 @@ func (toneSource) readsTone() bool { return true }
 
 func (toneSource) fromTiming(*recipe.Recipe, *timingResult, float64) []string { return nil }
 
-func (toneSource) liveCheck(r recipe.Recipe) (string, error) {
+func (toneSource) liveNull(r recipe.Recipe) string {
 	if r.Rows.CarrierHz == nil {
-		return "rows.carrier_hz", nil
+		return "rows.carrier_hz"
 	}
 	if r.Channels.Position.IsSet() && r.Channels.Position == r.Channels.Index {
 		// The tone on the index channel: the pulses are told from it by
 		// their levels (liveShared).
 		switch {
 		case r.Rows.PulseRest == nil:
-			return "rows.pulse_rest", nil
+			return "rows.pulse_rest"
 		case r.Rows.PulseAway == nil:
-			return "rows.pulse_away", nil
+			return "rows.pulse_away"
 		}
 	}
-	return "", nil
+	return ""
 }
 
 func (toneSource) liveLevels(r recipe.Recipe, rateHz float64) liveLevels {

@@ -168,7 +168,8 @@ func (ws *Workstation) openWith(path string, copts capture.Options, given *recip
 // calibration, pitch) and sets back to automatic what belongs to one
 // capture: the delay, the index threshold, the aperture offsets (aperture
 // 0 is whichever comes first in each capture), the sine period, the
-// carrier and the levels of pulses sharing the tone's input.
+// carrier, the levels of pulses sharing the tone's input and the
+// reversal hysteresis of the passes.
 func forNewCapture(r recipe.Recipe) recipe.Recipe {
 	r = cloneRecipe(r)
 	r.Sweep.DelayDeg = nil
@@ -178,6 +179,7 @@ func forNewCapture(r recipe.Recipe) recipe.Recipe {
 	r.Rows.CarrierHz = nil
 	r.Rows.StepsThreshold, r.Rows.StepsHysteresis = nil, nil
 	r.Rows.PulseRest, r.Rows.PulseAway = nil, nil
+	r.Rows.StrokesHysteresisMM = nil
 	return r
 }
 

@@ -68,7 +68,6 @@ type liveRun struct {
 	ranges  [][2]float64 // each channel's smallest and largest sample so far, for the trace strip
 	tryAt   float64      // seconds of capture at which to try to start the engine next
 	first   int          // frames the settings were resolved from
-	refused bool         // the settings cannot form a live image at all (recon.LiveRefusal)
 	final   *Result      // the last image, once the capture has ended
 	store   *float32     // where the samples delivered last are stored
 
@@ -183,13 +182,6 @@ func (r *liveRun) consume(block []float32, closed bool) {
 	b, err := startBuilder(r.ctx, r.rec, r.start)
 	if err == nil {
 		err = b.Append(interleave(r.rec))
-	}
-	var refusal *recon.LiveRefusal
-	if errors.As(err, &refusal) {
-		// No later sample changes that: stop trying, keep capturing.
-		r.noImage = fmt.Sprintf("no live image: %s. The capture goes on; at the end it is built with these settings", windowWords(err.Error()))
-		r.tryAt, r.refused = -1, true
-		return
 	}
 	if err != nil {
 		r.noImage = fmt.Sprintf("no image from the first %.1f s yet: %s", secs, windowWords(err.Error()))

@@ -217,15 +217,9 @@ func (ws *Workstation) finishLive(run *liveRun, st liveStatus) {
 		return // nothing of ours to open
 	}
 	if run.final == nil {
-		// No image was formed live: open it as any capture is opened,
-		// with the settings asked for when only the live path refused
-		// them.
+		// No image was formed live: open it as any capture is opened.
 		ws.lv.bar.hide()
-		var with *recipe.Recipe
-		if run.refused {
-			with = &run.start
-		}
-		ws.OpenFile(run.path, with)
+		ws.OpenFile(run.path, nil)
 		return
 	}
 	ws.reopenLive(run, what)

@@ -64,6 +64,7 @@ var windowKeys = map[string]string{
 	"rows.pulse_away":            "index pulses' least height (set in a recipe file)",
 	"rows.source":                "Rows from",
 	"rows.strokes":               "Passes of the head",
+	"rows.strokes_hysteresis_mm": "reversal hysteresis of the passes (set in a recipe file)",
 	"rows.carrier_hz":            "the carrier frequency (set in a recipe file)",
 	"signal.baseline":            "Baseline",
 	"signal.invert":              "Detector polarity",

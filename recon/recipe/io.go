@@ -149,6 +149,7 @@ func (r Recipe) Clone() Recipe {
 	c.Rows.MMPerStep = clonePtr(r.Rows.MMPerStep)
 	c.Rows.StepsThreshold = clonePtr(r.Rows.StepsThreshold)
 	c.Rows.StepsHysteresis = clonePtr(r.Rows.StepsHysteresis)
+	c.Rows.StrokesHysteresisMM = clonePtr(r.Rows.StrokesHysteresisMM)
 	c.Rows.PulseRest = clonePtr(r.Rows.PulseRest)
 	c.Rows.PulseAway = clonePtr(r.Rows.PulseAway)
 	c.Rows.SpeedMMS = clonePtr(r.Rows.SpeedMMS)

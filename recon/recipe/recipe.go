@@ -99,6 +99,13 @@ type Rows struct {
 	MMPerStep   *float64     `json:"mm_per_step"`
 	SpeedMMS    *float64     `json:"speed_mm_s"`
 	Strokes     string       `json:"strokes"` // "merge", "split", "first"
+	// StrokesHysteresisMM is how far the head must come back, mm, before a
+	// reversal counts and a new stroke (pass of the head) begins, with
+	// rows.strokes split or first and a position read from a sensor
+	// (rows.source position or tone). Left out (null): 2 % of the whole
+	// travel or six times the position's noise, whichever is larger; a
+	// build's resolved recipe gives it.
+	StrokesHysteresisMM *float64 `json:"strokes_hysteresis_mm,omitempty"`
 	// StepsThreshold and StepsHysteresis are the level at which step
 	// pulses are timed on the steps channel and the hysteresis of that
 	// trigger, in the channel's unit (source steps). Left out (null): Otsu's

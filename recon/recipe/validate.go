@@ -207,6 +207,9 @@ func (r Recipe) checkRows(c *checker) {
 		c.bad("rows.mm_per_step", "is %g: expected the head travel per step pulse in mm, not 0 and at most %g (negative to count down)", *w.MMPerStep, float64(maxLengthMM))
 	}
 	c.finite("rows.steps_threshold", w.StepsThreshold)
+	if c.finite("rows.strokes_hysteresis_mm", w.StrokesHysteresisMM) && *w.StrokesHysteresisMM <= 0 {
+		c.bad("rows.strokes_hysteresis_mm", "is %g: expected more than 0 mm, or null for automatic", *w.StrokesHysteresisMM)
+	}
 	if c.finite("rows.steps_hysteresis", w.StepsHysteresis) && *w.StepsHysteresis < 0 {
 		c.bad("rows.steps_hysteresis", "is %g: expected 0 or more (the steps channel's unit), or null for automatic", *w.StepsHysteresis)
 	}

@@ -140,6 +140,7 @@ func TestValidateRefusesOverflowingNumbers(t *testing.T) {
 		{func(r *recipe.Recipe) { r.Rows.Calibration[1][1] = 1e308 }, `"rows.calibration" point 1 has mm 1e+308`},
 		{func(r *recipe.Recipe) { r.Rows.CarrierHz = recipe.Float(1e300) }, `"rows.carrier_hz" is 1e+300`},
 		{func(r *recipe.Recipe) { r.Rows.StepsHysteresis = recipe.Float(-0.1) }, `"rows.steps_hysteresis" is -0.1`},
+		{func(r *recipe.Recipe) { r.Rows.StrokesHysteresisMM = recipe.Float(0) }, `"rows.strokes_hysteresis_mm" is 0`},
 		{func(r *recipe.Recipe) { r.Rows.PulseAway = recipe.Float(0) }, `"rows.pulse_away" is 0`},
 		{func(r *recipe.Recipe) { r.Rows.PulseRest = recipe.Float(math.NaN()) }, `"rows.pulse_rest" is NaN`},
 		{func(r *recipe.Recipe) { r.Rows.StepsThreshold = recipe.Float(math.Inf(1)) }, `"rows.steps_threshold" is +Inf`},
