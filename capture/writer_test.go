@@ -3,6 +3,7 @@ package capture
 import (
 	"bytes"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"github.com/go-audio/wav"
@@ -60,5 +61,27 @@ func TestWriteErrors(t *testing.T) {
 	rec.Channels[1].Samples = rec.Channels[1].Samples[:5]
 	if err := WriteCSV(&buf, rec, nil); err == nil {
 		t.Error("unequal channels: no error")
+	}
+}
+
+// roundHalfAway is math.Round of the Go standard library, bit for bit:
+// halves, the largest float64 below one half, the integers where float64
+// stops holding fractions (2^52, 2^53), signed zeros, infinities and NaN,
+// and a million random values across the integer kinds' ranges.
+func TestRoundHalfAwayIsMathRound(t *testing.T) {
+	same := func(x float64) {
+		got, want := roundHalfAway(x), math.Round(x)
+		if math.Float64bits(got) != math.Float64bits(want) && !(math.IsNaN(got) && math.IsNaN(want)) {
+			t.Fatalf("roundHalfAway(%v) = %v, math.Round %v", x, got, want)
+		}
+	}
+	below := math.Nextafter(0.5, 0)
+	for _, x := range []float64{0, math.Copysign(0, -1), 0.5, -0.5, 1.5, -1.5, 2.5, -2.5, below, -below, 1 + below, 8388607.5, -8388608.5,
+		1 << 52, 1<<52 + 1, 1<<53 - 1, 1 << 53, -(1 << 52) - 1, math.MaxFloat64, math.SmallestNonzeroFloat64, math.Inf(1), math.Inf(-1), math.NaN()} {
+		same(x)
+	}
+	rng := rand.New(rand.NewPCG(9, 10))
+	for range 1000000 {
+		same((rng.Float64()*2 - 1) * float64(int(1)<<(rng.IntN(32))))
 	}
 }

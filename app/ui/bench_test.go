@@ -203,7 +203,7 @@ func BenchmarkLiveFeed(b *testing.B) {
 			stream.ReadBack(tapped, in)
 			feed.push(tapped)
 			if k%(rate/block/liveRate) == 0 {
-				got, _, _, _ := feed.take()
+				got, _, _ := feed.take()
 				appendInterleaved(rec, got)
 			}
 		}

@@ -145,8 +145,8 @@ func (r *liveRun) engineLoop() {
 	for {
 		<-r.feed.wake
 		started := time.Now()
-		block, peak, frames, closed, since := r.feed.takeSince()
-		r.consume(block, closed)
+		block, frames, closed, since := r.feed.takeSince()
+		peak := r.consume(block, closed)
 		r.deliver(peak, frames, closed, since)
 		if closed {
 			return
@@ -156,11 +156,13 @@ func (r *liveRun) engineLoop() {
 }
 
 // consume adds frames to the capture so far and to the engine; the engine
-// starts once the first seconds resolve the settings.
-func (r *liveRun) consume(block []float32, closed bool) {
+// starts once the first seconds resolve the settings. It returns each
+// channel's peak |sample| in block, for the meters.
+func (r *liveRun) consume(block []float32, closed bool) []float32 {
 	r.mu.Lock()
 	defer r.mu.Unlock()
-	r.ranges = widenRanges(r.ranges, block, len(r.rec.Channels))
+	peak := make([]float32, len(r.rec.Channels))
+	r.ranges = widenRanges(r.ranges, block, len(r.rec.Channels), peak)
 	if r.builder != nil {
 		if len(block) > 0 {
 			if err := r.builder.Append(block); err != nil {
@@ -168,16 +170,16 @@ func (r *liveRun) consume(block []float32, closed bool) {
 				r.builder = nil
 				r.tryAt = -1
 				appendInterleaved(r.rec, block) // the capture goes on without the engine
-				return
+				return peak
 			}
 		}
 		r.shareSamples()
-		return
+		return peak
 	}
 	appendInterleaved(r.rec, block)
 	secs := r.rec.DurationS()
 	if r.tryAt < 0 || (secs < r.tryAt && !closed) || secs == 0 {
-		return
+		return peak
 	}
 	b, err := startBuilder(r.ctx, r.rec, r.start)
 	if err == nil {
@@ -186,10 +188,11 @@ func (r *liveRun) consume(block []float32, closed bool) {
 	if err != nil {
 		r.noImage = fmt.Sprintf("no image from the first %.1f s yet: %s", secs, windowWords(err.Error()))
 		r.tryAt = secs + max(1, secs/2)
-		return
+		return peak
 	}
 	r.builder, r.noImage, r.first = b, "", r.rec.Frames()
 	r.shareSamples()
+	return peak
 }
 
 // shareSamples makes the capture so far the engine's samples, so that the
@@ -273,8 +276,10 @@ func appendInterleaved(rec *capture.Recording, block []float32) {
 
 // widenRanges widens each channel's [smallest, largest] sample by the
 // interleaved frames of block (nch channels): the trace strip's lane scales
-// at a cost per frame, not per update.
-func widenRanges(ranges [][2]float64, block []float32, nch int) [][2]float64 {
+// at a cost per frame, not per update. peak (nch long) gets each channel's
+// largest |sample| in block (0 for none), the meters' level, from the same
+// pass.
+func widenRanges(ranges [][2]float64, block []float32, nch int, peak []float32) [][2]float64 {
 	for len(ranges) < nch {
 		ranges = append(ranges, [2]float64{math.Inf(1), math.Inf(-1)})
 	}
@@ -294,6 +299,7 @@ func widenRanges(ranges [][2]float64, block []float32, nch int) [][2]float64 {
 		}
 		r := &ranges[c]
 		r[0], r[1] = math.Min(r[0], float64(lo)), math.Max(r[1], float64(hi))
+		peak[c] = max(0, -lo, hi)
 	}
 	return ranges
 }

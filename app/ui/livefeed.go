@@ -9,14 +9,13 @@ import (
 // source's delivery when nothing is written) to the live engine's
 // goroutine. push copies under a short lock and never waits for the
 // engine, so a slow image never costs a sample; take hands over everything
-// pushed since the last take. It also keeps each channel's peak level since
-// the last take, for the meters.
+// pushed since the last take. (The meters' peaks are found where the
+// engine's goroutine scans what it takes: widenRanges.)
 type liveFeed struct {
 	channels int
 	mu       sync.Mutex
 	buf      []float32
 	spare    []float32 // the buffer handed out last, reused
-	peak     []float32
 	frames   int64     // frames pushed so far
 	since    time.Time // when the oldest frame not yet taken arrived
 	closed   bool
@@ -24,7 +23,7 @@ type liveFeed struct {
 }
 
 func newLiveFeed(channels int) *liveFeed {
-	return &liveFeed{channels: channels, peak: make([]float32, channels), wake: make(chan struct{}, 1)}
+	return &liveFeed{channels: channels, wake: make(chan struct{}, 1)}
 }
 
 // push takes whole interleaved frames; it does not keep the slice.
@@ -37,26 +36,9 @@ func (f *liveFeed) push(interleaved []float32) {
 		}
 		f.buf = append(f.buf, interleaved[:n]...)
 		f.frames += int64(n / f.channels)
-		for c := range f.channels {
-			p := f.peak[c]
-			for i := c; i < n; i += f.channels {
-				if a := abs32(interleaved[i]); a > p {
-					p = a
-				}
-			}
-			f.peak[c] = p
-		}
 	}
 	f.mu.Unlock()
 	f.signal()
-}
-
-// abs32 is |v| (NaN stays NaN, which no comparison takes).
-func abs32(v float32) float32 {
-	if v < 0 {
-		return -v
-	}
-	return v
 }
 
 func (f *liveFeed) signal() {
@@ -75,21 +57,19 @@ func (f *liveFeed) close() {
 }
 
 // take returns the frames pushed since the last take (valid until the
-// next take), the peaks since then, the frames pushed in all and whether
-// the feed is closed (with nothing left after these frames).
-func (f *liveFeed) take() (block, peak []float32, frames int64, closed bool) {
-	block, peak, frames, closed, _ = f.takeSince()
-	return block, peak, frames, closed
+// next take), the frames pushed in all and whether the feed is closed
+// (with nothing left after these frames).
+func (f *liveFeed) take() (block []float32, frames int64, closed bool) {
+	block, frames, closed, _ = f.takeSince()
+	return block, frames, closed
 }
 
 // takeSince is take, and when the oldest of the frames arrived.
-func (f *liveFeed) takeSince() (block, peak []float32, frames int64, closed bool, since time.Time) {
+func (f *liveFeed) takeSince() (block []float32, frames int64, closed bool, since time.Time) {
 	f.mu.Lock()
 	defer f.mu.Unlock()
 	since = f.since
 	block = f.buf
 	f.buf, f.spare = f.spare[:0], block
-	peak = append([]float32(nil), f.peak...)
-	clear(f.peak)
-	return block, peak, f.frames, f.closed, since
+	return block, f.frames, f.closed, since
 }

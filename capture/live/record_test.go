@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"context"
 	"fmt"
+	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -97,6 +98,50 @@ func TestRecordReplayKeepsEverySample(t *testing.T) {
 	checkAgainstSource(t, rec, side)
 	if statuses == 0 {
 		t.Error("no status reported")
+	}
+}
+
+// The levels a recording reports are each channel's largest |sample|
+// since the last report (math.Abs of the Go standard library over the
+// source's samples): over all reports, the channel's largest (each
+// channel's own, one of them negative, one in the last block); a NaN
+// from a float device is taken by no comparison.
+func TestRecordPeaksPerChannel(t *testing.T) {
+	rec := knownRecording(8000, 3, 8000)
+	rec.Channels[1].Samples[4321] = float32(math.NaN())
+	// A level above the rest on each channel, one of them negative and
+	// one in the last block, so that each must be found where it is.
+	rec.Channels[0].Samples[100] = -1.25
+	rec.Channels[1].Samples[5000] = 1.125
+	rec.Channels[2].Samples[7990] = 1.5
+	want := make([]float64, 3)
+	for c, ch := range rec.Channels {
+		for _, v := range ch.Samples {
+			if v == v {
+				want[c] = math.Max(want[c], math.Abs(float64(v)))
+			}
+		}
+	}
+	src, err := NewReplay(rec, 20)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := make([]float64, 3)
+	status := func(s Status) {
+		for c, p := range s.Peak {
+			if p != p {
+				t.Errorf("channel %d: a NaN level", c)
+			}
+			got[c] = math.Max(got[c], float64(p))
+		}
+	}
+	if _, err := Record(context.Background(), src, Options{Path: filepath.Join(t.TempDir(), "levels.wav"), SampleType: "float32", Status: status}); err != nil {
+		t.Fatal(err)
+	}
+	for c := range want {
+		if got[c] != want[c] {
+			t.Errorf("channel %d: largest level %v, want %v", c, got[c], want[c])
+		}
 	}
 }
 
