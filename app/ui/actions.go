@@ -474,7 +474,9 @@ func (ws *Workstation) render() {
 		} else if ws.cur.Tone != ws.drawn.tone {
 			ws.view.SetTone(ws.cur.Tone)
 		}
-		newCapture := ws.rec != ws.drawn.rec
+		// A live view's capture grows in a new snapshot at each full
+		// update, with the channels it had: no new capture to lay out.
+		newCapture := ws.rec != ws.drawn.rec && !(ws.lv.run != nil && sameChannels(ws.rec, ws.drawn.rec))
 		ws.drawn.result, ws.drawn.tone, ws.drawn.rec = ws.result, ws.cur.Tone, ws.rec
 		if ws.controls.show(ws.shown()) || newCapture {
 			ws.relayout()
@@ -489,6 +491,20 @@ func (ws *Workstation) render() {
 	ws.showMeasurements()
 	ws.updateUndo()
 	ws.setTitle()
+}
+
+// sameChannels reports whether captures a and b have the same rate and
+// channels (names and units), whatever their samples.
+func sameChannels(a, b *capture.Recording) bool {
+	if a == nil || b == nil || a.SampleRateHz != b.SampleRateHz || len(a.Channels) != len(b.Channels) {
+		return false
+	}
+	for i := range a.Channels {
+		if a.Channels[i].Name != b.Channels[i].Name || a.Channels[i].Unit != b.Channels[i].Unit {
+			return false
+		}
+	}
+	return true
 }
 
 // roleChannels returns the channel numbers of the detector, index and

@@ -5,6 +5,7 @@ import (
 	"image"
 	"image/color"
 	"math"
+	"slices"
 	"sync"
 
 	"fyne.io/fyne/v2"
@@ -59,6 +60,7 @@ type ImageView struct {
 	frame   *recon.Frame
 	tone    recon.Tone
 	toned   []uint8 // grey per frame pixel after tone; 0 where no data
+	spare   []uint8 // the toned of the frame before, reused by retoneShifted
 	covered []bool
 	fit     bool
 	autoFit bool    // fit again on resize until the user zooms or pans
@@ -95,6 +97,9 @@ func (v *ImageView) SetFrame(f *recon.Frame, t recon.Tone) {
 	if sameGrid(old, f) && t == v.tone && len(v.toned) == f.Width*f.Height {
 		v.frame = f
 		v.retoneChanged(old)
+	} else if d, ok := rowShift(old, f); ok && t == v.tone && len(v.toned) == old.Width*old.Height {
+		v.frame = f
+		v.retoneShifted(old, d)
 	} else {
 		v.frame = f
 		v.tone = t
@@ -192,6 +197,57 @@ func (v *ImageView) retoneChanged(old *recon.Frame) {
 	for i, c := range f.Covered {
 		if c && (!old.Covered[i] || f.Pix[i] != old.Pix[i]) {
 			v.toned[i] = uint8(math.Round(255 * v.tone.Map(f.Pix[i])))
+		}
+	}
+}
+
+// rowShift reports whether frame b is frame a's grid grown or cut by
+// whole rows at the top or the bottom (a live image as the head moves on),
+// and by how many rows b's row 0 is above a's (row r of b is row r−d of a).
+func rowShift(a, b *recon.Frame) (d int, ok bool) {
+	if a == nil || b == nil || a.Width != b.Width || a.OriginXMM != b.OriginXMM || a.PitchXMM != b.PitchXMM || a.PitchYMM != b.PitchYMM ||
+		!(a.PitchYMM > 0) || len(a.Pix) != a.Width*a.Height || len(a.Covered) != len(a.Pix) || len(b.Pix) != b.Width*b.Height || len(b.Covered) != len(b.Pix) {
+		return 0, false
+	}
+	// y = OriginYMM − row·PitchYMM (recon.Frame).
+	s := (b.OriginYMM - a.OriginYMM) / a.PitchYMM
+	d = int(math.Round(s))
+	return d, math.Abs(s-float64(d)) < 1e-6
+}
+
+// retoneShifted is retoneChanged for a frame whose rows are old's shifted
+// by d (rowShift): a pixel whose value and coverage are those of old's at
+// its place keeps its grey, the others are mapped again. Call with mu
+// held.
+func (v *ImageView) retoneShifted(old *recon.Frame, d int) {
+	f := v.frame
+	w, n := f.Width, f.Width*f.Height
+	prev := v.toned
+	v.toned = slices.Grow(v.spare[:0], n)[:n]
+	v.spare = prev
+	v.covered = f.Covered
+	for r := range f.Height {
+		row := f.Pix[r*w : (r+1)*w]
+		cov := f.Covered[r*w : (r+1)*w]
+		out := v.toned[r*w : (r+1)*w]
+		if ro := r - d; ro >= 0 && ro < old.Height {
+			oldRow, oldCov, oldTone := old.Pix[ro*w:(ro+1)*w], old.Covered[ro*w:(ro+1)*w], prev[ro*w:(ro+1)*w]
+			for i, c := range cov {
+				if !c {
+					continue
+				}
+				if oldCov[i] && row[i] == oldRow[i] {
+					out[i] = oldTone[i]
+				} else {
+					out[i] = uint8(math.Round(255 * v.tone.Map(row[i])))
+				}
+			}
+			continue
+		}
+		for i, c := range cov {
+			if c {
+				out[i] = uint8(math.Round(255 * v.tone.Map(row[i])))
+			}
 		}
 	}
 }

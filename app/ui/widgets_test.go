@@ -201,8 +201,22 @@ func TestImageViewTonesOnlyChangedPixels(t *testing.T) {
 	darker.Level = 0.8
 	v.SetFrame(b, darker)
 	check("a new tone", b, darker)
+	// The grid grown by two rows at the top and one at the bottom (a live
+	// image as the head moves on): b's rows at their new places, new
+	// values in the new rows and in one old one, coverage gained and lost.
+	g := &recon.Frame{Width: b.Width, Height: b.Height + 3, PitchXMM: b.PitchXMM, PitchYMM: b.PitchYMM, OriginXMM: b.OriginXMM, OriginYMM: b.OriginYMM + 2*b.PitchYMM}
+	g.Pix, g.Covered = make([]float32, g.Width*g.Height), make([]bool, g.Width*g.Height)
+	for i := range g.Pix {
+		g.Pix[i], g.Covered[i] = -0.2+float32(i%7)/5, true
+	}
+	copy(g.Pix[2*g.Width:], b.Pix)
+	copy(g.Covered[2*g.Width:], b.Covered)
+	g.Pix[5*g.Width+3] += 0.25
+	g.Covered[6*g.Width+4], g.Covered[30*g.Width+1] = false, true
+	v.SetFrame(g, darker)
+	check("a frame grown by whole rows", g, darker)
 	c := frame(0.1, func(i int) bool { return true })
-	c.OriginYMM += 0.5
+	c.OriginYMM += 0.2
 	v.SetFrame(c, darker)
 	check("a frame on another grid", c, darker)
 }
