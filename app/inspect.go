@@ -8,6 +8,7 @@ import (
 	"text/tabwriter"
 
 	"spotloom/capture"
+	"spotloom/recon"
 )
 
 func init() {
@@ -97,7 +98,14 @@ type inspectChannel struct {
 	RMS            float64 `json:"rms"`
 	Role           string  `json:"role"`
 	RoleConfidence float64 `json:"role_confidence"`
+	// CarrierHz is the position tone's carrier on a channel that carries
+	// the index pulses too (role "index+tone").
+	CarrierHz float64 `json:"carrier_hz,omitempty"`
 }
+
+// roleSharedInput is inspect's role of a channel that carries both the
+// index pulses and the position tone (recon.SharedInput).
+const roleSharedInput = "index+tone"
 
 // inspectReport is inspect's JSON output.
 type inspectReport struct {
@@ -107,6 +115,7 @@ type inspectReport struct {
 	Frames       int              `json:"frames"`
 	DurationS    float64          `json:"duration_s"`
 	Channels     []inspectChannel `json:"channels"`
+	Notes        []string         `json:"notes,omitempty"`
 	Warnings     []string         `json:"warnings"`
 }
 
@@ -116,7 +125,9 @@ Inspect reads a capture (WAV, CSV or raw binary with a layout) and prints its
 format, sample type, sample rate, number of frames, duration, and for each
 channel its name, unit, minimum, maximum, mean, RMS and the role Spotloom
 guesses for it (detector, index, position, steps or unknown) with a
-confidence from 0 to 1.`, stderr)
+confidence from 0 to 1; "index+tone" is a channel that carries both the
+index pulses and the position tone (a two-input sound card), with the
+carrier it found.`, stderr)
 	asJSON := fs.Bool("json", false, "print JSON instead of a table")
 	cf := addCaptureFlags(fs)
 	rest, err := parseFlags(fs, args)
@@ -150,6 +161,13 @@ confidence from 0 to 1.`, stderr)
 		report.Channels = append(report.Channels, inspectChannel{Name: ch.Name, Unit: ch.Unit, Min: ch.Min, Max: ch.Max,
 			Mean: ch.Mean, RMS: ch.RMS, Role: sum.Roles[c].Role, RoleConfidence: sum.Roles[c].Confidence})
 	}
+	// The index pulses and the position tone on one input, as the first
+	// look (spotloom recipe, the window) finds them.
+	if c, hz, conf := recon.SharedInput(sum.Head, sum.Roles); c >= 0 {
+		ch := &report.Channels[c]
+		ch.Role, ch.CarrierHz, ch.RoleConfidence = roleSharedInput, hz, conf
+		report.Notes = append(report.Notes, fmt.Sprintf("channel %d carries the index pulses and a %.4g Hz position tone (a two-input sound card): a recipe reads it as channels.index and channels.position with rows.source tone", c, hz))
+	}
 	if *asJSON {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
@@ -177,6 +195,9 @@ confidence from 0 to 1.`, stderr)
 		fmt.Fprintf(tw, "%d\t%s\t%s\t%.6g\t%.6g\t%.6g\t%.6g\t%s (%.2f)\t\n", c, ch.Name, unit, ch.Min, ch.Max, ch.Mean, ch.RMS, ch.Role, ch.RoleConfidence)
 	}
 	tw.Flush()
+	for _, n := range report.Notes {
+		fmt.Fprintf(stdout, "note: %s\n", n)
+	}
 	for _, w := range report.Warnings {
 		fmt.Fprintf(stdout, "warning: %s\n", w)
 	}

@@ -10,6 +10,7 @@ import (
 	"testing"
 
 	"spotloom/capture"
+	"spotloom/sampledata"
 )
 
 const captureFixtures = "../testdata/capture"
@@ -198,5 +199,44 @@ func TestInspectCutRecording(t *testing.T) {
 	out := stdout.String()
 	if code != 0 || !strings.Contains(out, "frames") || !strings.Contains(out, " 8\n") || !strings.Contains(out, "warning: ") || !strings.Contains(out, "0.001 s") {
 		t.Fatalf("exit %d, stdout %q, stderr %q", code, out, stderr.String())
+	}
+}
+
+// A two-input sound card's channel that carries both the index pulses
+// and the position tone is inspected as "index+tone", with the carrier
+// the simulator put on it (its rig's carrier_hz, within one bin of the
+// role guess's spectrum), and a note saying how a recipe reads it; a
+// capture with three inputs has no such channel.
+func TestInspectFindsTheSharedInput(t *testing.T) {
+	dir := t.TempDir()
+	rig := sampledata.StereoSoundCardRig()
+	rig.DurationS = 4
+	shared := writeRigCapture(t, dir, "stereo", rig)
+	three := sampledata.DemoRig()
+	three.DurationS = 4
+	for _, tc := range []struct {
+		path  string
+		want  int // the shared channel, -1 for none
+		carry float64
+	}{{shared, 1, rig.Position.CarrierHz}, {writeRigCapture(t, dir, "three", three), -1, 0}} {
+		var stdout, stderr bytes.Buffer
+		if code := run([]string{"inspect", tc.path, "--json"}, &stdout, &stderr); code != 0 {
+			t.Fatalf("exit %d: %s", code, stderr.String())
+		}
+		var rep inspectReport
+		if err := json.Unmarshal(stdout.Bytes(), &rep); err != nil {
+			t.Fatal(err)
+		}
+		for c, ch := range rep.Channels {
+			if got := ch.Role == roleSharedInput; got != (c == tc.want) {
+				t.Errorf("%s channel %d: role %q, want index+tone only on channel %d", filepath.Base(tc.path), c, ch.Role, tc.want)
+			}
+			if c == tc.want && math.Abs(ch.CarrierHz-tc.carry) > 2 {
+				t.Errorf("%s channel %d: carrier %g Hz, the simulated rig's %g Hz", filepath.Base(tc.path), c, ch.CarrierHz, tc.carry)
+			}
+		}
+		if (len(rep.Notes) == 1) != (tc.want >= 0) || tc.want >= 0 && !strings.Contains(rep.Notes[0], "rows.source tone") {
+			t.Errorf("%s: notes %q", filepath.Base(tc.path), rep.Notes)
+		}
 	}
 }

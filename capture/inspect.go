@@ -22,6 +22,9 @@ type Summary struct {
 	Channels     []ChannelSummary
 	Roles        []RoleGuess
 	Warnings     []string
+	// Head is what the roles were guessed from: the start of each channel
+	// (Inspect), or the whole recording (Summarize). Read only.
+	Head *Recording
 }
 
 // DurationS is the length of the capture in seconds.
@@ -66,13 +69,13 @@ func Inspect(path string, opts Options) (*Summary, error) {
 		out.Channels = append(out.Channels, ChannelSummary{Name: ch.Name, Unit: ch.Unit, Stats: a.stats(), NonFinite: a.nonFinite})
 		sample.Channels[c] = Channel{Name: ch.Name, Unit: ch.Unit, Samples: sum.samples[c]}
 	}
-	out.Roles = GuessRoles(sample)
+	out.Roles, out.Head = GuessRoles(sample), sample
 	return out, nil
 }
 
 // Summarize gives the Summary of a recording held in memory.
 func Summarize(rec *Recording) *Summary {
-	out := &Summary{SampleRateHz: rec.SampleRateHz, Frames: rec.Frames(), Source: rec.Source, Warnings: rec.Warnings, Roles: GuessRoles(rec)}
+	out := &Summary{SampleRateHz: rec.SampleRateHz, Frames: rec.Frames(), Source: rec.Source, Warnings: rec.Warnings, Roles: GuessRoles(rec), Head: rec}
 	for _, ch := range rec.Channels {
 		var a statsAccumulator
 		a.add(ch.Samples)

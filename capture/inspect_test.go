@@ -67,6 +67,15 @@ func TestInspectAgreesWithOpen(t *testing.T) {
 		if nonFinite != c.nonFinite {
 			t.Errorf("%s: %d NaN or infinite samples counted, %d written", c.path, nonFinite, c.nonFinite)
 		}
+		// What the roles were guessed from: the start of each channel, the
+		// whole recording for Summarize.
+		for ch := range whole.Channels {
+			head := got.Head.Channels[ch].Samples
+			if n := len(head); n == 0 || !reflect.DeepEqual(head, whole.Channels[ch].Samples[:n]) {
+				t.Errorf("%s: channel %d's head (%d samples) is not the start of the channel", c.path, ch, n)
+			}
+		}
+		got.Head, want.Head = nil, nil
 		if !reflect.DeepEqual(got, want) {
 			t.Errorf("%s: Inspect gives\n%+v\nOpen and Summarize give\n%+v", c.path, got, want)
 		}

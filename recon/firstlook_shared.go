@@ -11,20 +11,55 @@ import (
 // position tone (a two-input sound card): a strong narrow carrier, at least
 // 30 % of the power (DC excluded) within ±4 bins of one line well above
 // mains hum (200 Hz), and, with that line notched out, a train of pulses
-// the role guess takes for an index channel. It returns the carrier.
-func indexWithTone(x []float32, rateHz float64) (float64, bool) {
+// the role guess takes for an index channel. It returns the carrier and
+// the role guess's confidence in those pulses.
+func indexWithTone(x []float32, rateHz float64) (float64, float64, bool) {
 	sp, err := toneSpectrum(x, rateHz)
 	if err != nil || sp.total == 0 || sp.nearShare < 0.3 || sp.peakHz < 200 || sp.peakHz >= rateHz/2 {
-		return 0, false
+		return 0, 0, false
 	}
 	pulses := notchZeroPhase(x, sp.peakHz, sp.peakHz*notchBandwidthFraction, rateHz)
 	alone := &capture.Recording{SampleRateHz: rateHz, Channels: []capture.Channel{{Name: "pulses", Samples: pulses}}}
 	for _, g := range capture.GuessRoles(alone) {
 		if g.Role == capture.RoleIndex {
-			return sp.peakHz, true
+			return sp.peakHz, g.Confidence, true
 		}
 	}
-	return 0, false
+	return 0, 0, false
+}
+
+// SharedInput finds, among the channels of rec that roles (capture.GuessRoles
+// of rec) leaves open, one that carries both the index pulses and a
+// position tone (a two-input sound card), as the first look does: when no
+// index channel was guessed, or no position or steps channel beside it,
+// a channel other than the detector (the index channel itself, when one
+// was guessed) whose samples hold a strong narrow carrier and, with it
+// notched out, index pulses. It returns the channel (−1 for none), the
+// carrier and the role guess's confidence (0 to 1) in the pulses.
+func SharedInput(rec *capture.Recording, roles []capture.RoleGuess) (channel int, carrierHz, confidence float64) {
+	index, rows := -1, false
+	for _, g := range roles {
+		switch g.Role {
+		case capture.RoleIndex:
+			if index < 0 {
+				index = g.Channel
+			}
+		case capture.RolePosition, capture.RoleSteps:
+			rows = true
+		}
+	}
+	if index >= 0 && rows {
+		return -1, 0, 0
+	}
+	for _, g := range roles {
+		if g.Role == capture.RoleDetector || index >= 0 && g.Channel != index || g.Channel >= len(rec.Channels) {
+			continue
+		}
+		if hz, conf, ok := indexWithTone(rec.Channels[g.Channel].Samples, rec.SampleRateHz); ok {
+			return g.Channel, hz, conf
+		}
+	}
+	return -1, 0, 0
 }
 
 // guessSharedInput is the step after the channel guess for a capture whose
@@ -42,7 +77,7 @@ func (d *lookDraft) guessSharedInput(rec *capture.Recording) {
 		if ref == r.Channels.Detector || r.Channels.Index.IsSet() && ref != r.Channels.Index {
 			continue
 		}
-		hz, ok := indexWithTone(rec.Channels[ch].Samples, rec.SampleRateHz)
+		hz, _, ok := indexWithTone(rec.Channels[ch].Samples, rec.SampleRateHz)
 		if !ok {
 			continue
 		}

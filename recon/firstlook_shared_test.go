@@ -32,7 +32,7 @@ func TestFirstLookFindsSharedInput(t *testing.T) {
 			t.Fatal(err)
 		}
 		for ch := range rec.Channels {
-			_, ok := indexWithTone(rec.Channels[ch].Samples, rec.SampleRateHz)
+			_, _, ok := indexWithTone(rec.Channels[ch].Samples, rec.SampleRateHz)
 			if want := tc.shared && ch == 1; ok != want {
 				t.Errorf("%s: channel %d taken for pulses and a tone: %v, want %v", tc.name, ch, ok, want)
 			}
