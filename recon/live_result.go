@@ -203,7 +203,9 @@ func (c *liveCore) groups(t *liveTail, total *liveTotals) []liveGroup {
 }
 
 // gridGroup grids the frame of group gr: its canvas, and its lines of the
-// tail, which it counts in total.
+// tail, which it counts in total. The tail's lines are gridded on the band
+// of rows they reach only, and each pixel is its canvas sums plus its band
+// sums: no copy of the canvas, whose rows outside the band are the frame's.
 func (c *liveCore) gridGroup(t *liveTail, gr liveGroup, total *liveTotals) (*Frame, error) {
 	p := c.r.Image.PitchMM
 	g, err := layoutFrame(gridInput{sweep: c.sweep, pitch: p, yTop: gr.yHi, yBottom: gr.yLo})
@@ -211,32 +213,94 @@ func (c *liveCore) gridGroup(t *liveTail, gr liveGroup, total *liveTotals) (*Fra
 		return nil, err
 	}
 	top, _ := rowLattice(gr.yHi, gr.yLo, p)
-	// The accumulators are scratch, kept between calls.
-	acc := slices.Grow(c.scratch[:0], 2*g.cols*g.rows)[:2*g.cols*g.rows]
-	clear(acc)
-	c.scratch = acc
-	if v := gr.canvas; v != nil && v.g != nil && (c.warm || t.settled > 0) {
-		// Canvas row r is lattice row v.top−r, frame row int(top)−(v.top−r).
-		shift := v.top - int(top)
-		row := 2 * g.cols
-		from, to := max(shift, 0), min(v.g.rows, g.rows+shift)
-		if to > from {
-			copy(acc[(from-shift)*row:], v.acc[from*row:to*row])
-		}
-	}
 	in := c.gridInput(t.rows, t.edge)
+	// The rows the lines' samples reach (each lands on the two rows about
+	// its position, bilinear), with two rows to spare, so that each line
+	// lies inside the band as it would inside the frame.
+	b0, b1 := g.rows, -1
 	for _, i := range gr.lines {
 		l := &t.lines[i]
-		if t.settles(i) {
-			c.early.splatEnds(&in, g, l, acc)
-			continue
-		}
-		clipped, ties := splatLine(&in, g, l, acc)
-		total.add(l, t.rows.at(float64(l.first)), t.rows.at(float64(l.last-1)), clipped, ties)
+		v0, v1 := (g.yTop-t.rows.at(float64(l.first)))*g.inv, (g.yTop-t.rows.at(float64(l.last-1)))*g.inv
+		b0, b1 = min(b0, int(math.Floor(math.Min(v0, v1)))-2), max(b1, int(math.Floor(math.Max(v0, v1)))+3)
 	}
-	f := frameFromSums(g, p, [][]float64{acc})
+	b0, b1 = max(b0, 0), min(b1, g.rows-1)
+	var band frameSums
+	if b1 >= b0 {
+		gb := newFrameGrid(c.sweep, g.cols, b1-b0+1, g.x0, g.yTop-float64(b0)*p, p)
+		// The accumulators are scratch, kept between calls.
+		acc := slices.Grow(c.scratch[:0], 2*g.cols*gb.rows)[:2*g.cols*gb.rows]
+		clear(acc)
+		c.scratch = acc
+		for _, i := range gr.lines {
+			l := &t.lines[i]
+			if t.settles(i) {
+				c.early.splatEnds(&in, gb, l, acc)
+				continue
+			}
+			clipped, ties := splatLine(&in, gb, l, acc)
+			total.add(l, t.rows.at(float64(l.first)), t.rows.at(float64(l.last-1)), clipped, ties)
+		}
+		band = frameSums{acc: acc, first: b0, rows: gb.rows}
+	}
+	var canvas frameSums
+	if v := gr.canvas; v != nil && v.g != nil && (c.warm || t.settled > 0) {
+		// Canvas row r is lattice row v.top−r, frame row int(top)−(v.top−r).
+		canvas = frameSums{acc: v.acc, first: int(top) - v.top, rows: v.g.rows}
+	}
+	f := frameFromParts(g, p, canvas, band)
 	fillGaps(f, max(c.r.Image.FillGapsPx, int(math.Floor(*c.r.Image.MaxGapMM/p+1e-9))-1), c.r.Image.FillGapsPx)
 	return f, nil
+}
+
+// frameSums are the accumulators (value sum and weight of each pixel,
+// interleaved) of rows of a frame from row first on; none when acc is nil.
+type frameSums struct {
+	acc         []float64
+	first, rows int
+}
+
+// row is the sums of frame row r, nil when they hold none of it.
+func (s frameSums) row(r, cols int) []float64 {
+	if k := r - s.first; s.acc != nil && k >= 0 && k < s.rows {
+		return s.acc[2*k*cols : 2*(k+1)*cols]
+	}
+	return nil
+}
+
+// frameFromParts is frameFromSums of grid g with each pixel's sums the sum
+// of the two parts' (either may hold none of a row).
+func frameFromParts(g *frameGrid, p float64, a, b frameSums) *Frame {
+	f := &Frame{
+		Width: g.cols, Height: g.rows,
+		Pix:      make([]float32, g.cols*g.rows),
+		Covered:  make([]bool, g.cols*g.rows),
+		PitchXMM: p, PitchYMM: p,
+		OriginXMM: g.x0, OriginYMM: g.yTop,
+	}
+	forSpans(g.rows, (1<<15)/max(g.cols, 1), func(r0, r1 int) {
+		for r := r0; r < r1; r++ {
+			ra, rb := a.row(r, g.cols), b.row(r, g.cols)
+			pix, cov := f.Pix[r*g.cols:(r+1)*g.cols], f.Covered[r*g.cols:(r+1)*g.cols]
+			switch {
+			case ra != nil && rb != nil:
+				for i := range pix {
+					if wt := ra[2*i+1] + rb[2*i+1]; wt >= minCoverWeight {
+						pix[i], cov[i] = float32((ra[2*i]+rb[2*i])/wt), true
+					}
+				}
+			case ra == nil:
+				ra = rb // one part, or none
+				fallthrough
+			default:
+				for i := 0; ra != nil && i < len(pix); i++ {
+					if wt := ra[2*i+1]; wt >= minCoverWeight {
+						pix[i], cov[i] = float32(ra[2*i]/wt), true
+					}
+				}
+			}
+		}
+	})
+	return f
 }
 
 // report is the build report of the samples so far, as timingReport and

@@ -276,6 +276,28 @@ func sameRecentLines(t *testing.T, got, want *recon.Result) {
 	}
 }
 
+// strokesRig is the live rig's hand going there and back twice (four
+// strokes of 3 s, a rest of 0.2 s at each turn) in 14 s.
+func strokesRig() sampledata.Rig {
+	rig := liveRig()
+	rig.DurationS = 14
+	rig.Motion.StartRestS, rig.Motion.StrokeS, rig.Motion.StrokeCount, rig.Motion.TurnRestS = 1, 3, 4, 0.2
+	return rig
+}
+
+// resolvedStrokes is rig's recipe with rows.strokes mode, resolved from
+// the first 3 s of rec.
+func resolvedStrokes(t *testing.T, rig sampledata.Rig, rec *capture.Recording, mode string) recipe.Recipe {
+	t.Helper()
+	r := rig.Recipe()
+	r.Rows.Strokes = mode
+	r, err := recon.ResolveLive(context.Background(), head(rec, 3), r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return r
+}
+
 // TestLiveStrokes: with rows.strokes split the live build makes one
 // frame per pass of the head, with first the first pass's, cut at the
 // reversals the hysteresis resolved from the first seconds finds; after
@@ -285,19 +307,12 @@ func sameRecentLines(t *testing.T, got, want *recon.Result) {
 // stroke by more than the hysteresis (a reversal within the stroke, so
 // more frames than strokes of the rig, as the batch build cuts them).
 func TestLiveStrokes(t *testing.T) {
-	rig := liveRig()
-	rig.DurationS = 14
-	rig.Motion.StartRestS, rig.Motion.StrokeS, rig.Motion.StrokeCount, rig.Motion.TurnRestS = 1, 3, 4, 0.2
+	rig := strokesRig()
 	rig.Motion.BackStepCount, rig.Motion.BackStepMM = 1, 20
 	rec := simulate(t, rig)
 	for _, mode := range []string{"split", "first"} {
 		t.Run(mode, func(t *testing.T) {
-			r := rig.Recipe()
-			r.Rows.Strokes = mode
-			r, err := recon.ResolveLive(context.Background(), head(rec, 3), r)
-			if err != nil {
-				t.Fatal(err)
-			}
+			r := resolvedStrokes(t, rig, rec, mode)
 			lv, path := recordAndWatch(t, rec, r, 0, recipe.Recipe{})
 			want := batchOf(t, path, r)
 			if mode == "split" && (len(want.Frames) < 4 || want.Report.Strokes != len(want.Frames)) {
@@ -488,6 +503,38 @@ func TestLiveFirstLines(t *testing.T) {
 			}
 			recon.SpoilLiveKept(lv, recon.LiveKept(lv)/2)
 		}
+	}
+}
+
+// TestLiveWhileRecording: after the first thousand lines too, the image
+// at any point of a recording is the batch build of the samples so far,
+// each pass's frame with rows.strokes split as well (its reversals found
+// so far, the lines at the newest one still open).
+func TestLiveWhileRecording(t *testing.T) {
+	rig := strokesRig()
+	rec := simulate(t, rig)
+	for _, mode := range []string{"merge", "split"} {
+		t.Run(mode, func(t *testing.T) {
+			r := resolvedStrokes(t, rig, rec, mode)
+			lv, err := recon.NewLive(r, recon.LayoutOf(rec))
+			if err != nil {
+				t.Fatal(err)
+			}
+			at := 0
+			for _, s := range []float64{9.3, 10.6, 12.25} {
+				at = appendTo(t, lv, rec, at, s)
+				lv.Result() // one before, so that the next follows another
+				at = appendTo(t, lv, rec, at, s+0.05)
+				want, err := recon.NewSession(head(rec, float64(at)/rec.SampleRateHz)).Build(context.Background(), r, nil)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if want.Report.Lines <= 1000 {
+					t.Fatalf("at %g s only %d lines: the test is about the lines after the first thousand", s, want.Report.Lines)
+				}
+				sameImage(t, lv.Result(), want)
+			}
+		})
 	}
 }
 
