@@ -52,8 +52,8 @@ type Look struct {
 // for the rest. Every key the user did not state may be changed to fit
 // the capture: the channel roles, rows.source (a carrier tone is told from
 // a DC level), signal.ac_corner_hz (from how the beam-off level drifts
-// back after bright stretches), the aperture count the beam-on fraction
-// implies, signal.invert for a negative-going detector, a calibration
+// back after bright stretches, on the lines of the aperture count the
+// beam-on stretch implies, which it takes first), signal.invert for a negative-going detector, a calibration
 // spanning the position levels seen, an automatic pitch, and (null) the
 // aperture offsets, which every build then measures. It also says
 // when the capture has no beam-off stretch and when the aperture count,
@@ -69,6 +69,14 @@ func FirstLook(ctx context.Context, s *Session, start recipe.Recipe, known Known
 	res, err := s.Build(ctx, d.r, progress)
 	if err != nil {
 		return d.withoutBeamOff(ctx, s, err, progress)
+	}
+	if d.fitApertures(res.Report) {
+		// The drift of an AC-coupled detector, and the beam-on fraction,
+		// are measured on the lines of the wheel's own aperture count.
+		if res, err = s.Build(ctx, d.r, progress); err != nil {
+			return d.withoutBeamOff(ctx, s, err, progress)
+		}
+		d.changed = false
 	}
 	if err := d.fitToBuild(ctx, s, res); err != nil {
 		return nil, err
@@ -183,6 +191,30 @@ func (d *lookDraft) fitToBuild(ctx context.Context, s *Session, res *Result) err
 	d.fitInvert(res.Report)
 	d.fitCalibration(res.Report)
 	return nil
+}
+
+// fitApertures takes the aperture count the delay stage's beam-on width
+// implies for the field (Report.AperturesSuggested), when the user did not
+// state the count and the law tells apertures from the beam-on fraction:
+// that width is measured on the recorded detector as it is, so it holds
+// where the beam-on fraction (fitBeamOn) needs the detector's coupling
+// undone first, and that coupling is found on the lines of the count.
+func (d *lookDraft) fitApertures(rep Report) bool {
+	n := rep.AperturesSuggested
+	if n < 1 || n > 360 || n == d.r.Sweep.Apertures || d.known.Has("sweep.apertures") || !mustLaw(d.r.Sweep.Law).dutyTellsApertures() {
+		return false
+	}
+	if d.r.Sweep.FieldDeg*float64(n)/360 >= 0.9 {
+		return false // lit for (nearly) the whole line: no beam-off stretch to count by (fitBeamOn says so)
+	}
+	d.r.Sweep.Apertures = n
+	if d.r.Timing.PulsesPerRev != 1 {
+		d.r.Timing.PulsesPerRev = n
+	}
+	d.r.Sweep.ApertureOffsetsDeg = nil // one per aperture no longer fits: measure them
+	d.note("sweep.apertures is set to %d, the count the beam-on stretch (%s of each line) implies for a %g° field: check it against the wheel", n, percentText(d.r.Sweep.FieldDeg*float64(n)/360), d.r.Sweep.FieldDeg)
+	d.changed = true
+	return true
 }
 
 // fitACCorner sets signal.ac_corner_hz (or says what to set it to, when

@@ -84,6 +84,34 @@ func TestFirstLookSoundCard(t *testing.T) {
 	}
 }
 
+// TestFirstLookSoundCardFromNothing: told nothing, a first look on the
+// sound-card capture finds the wheel's six apertures from the beam-on
+// stretch (the simulator's rig: 6 apertures, a 30° field, so 50 % of
+// each line), the coupling's corner on the lines of that count (the
+// simulator's 20 Hz, within 15 %), and says nothing of a beam-on fraction
+// that disagrees: the fraction is measured once the coupling is undone.
+func TestFirstLookSoundCardFromNothing(t *testing.T) {
+	rig := sampledata.SoundCardRig()
+	rig.DurationS, rig.Motion.StrokeS = 8, 6
+	rec, _, err := sampledata.Simulate(context.Background(), rig, "dot-grid", sampledata.SimOptions{Seed: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	look, err := FirstLook(context.Background(), NewSession(rec), recipe.Default(), Known{}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := look.Recipe
+	if r.Sweep.Apertures != rig.Wheel.ApertureCount || r.Sweep.FieldDeg != 30 || math.Abs(r.Signal.ACCornerHz-20) > 3 {
+		t.Errorf("%d apertures, %g° field, corner %g Hz; want the rig's %d, 30° and 20 Hz within 15 %%", r.Sweep.Apertures, r.Sweep.FieldDeg, r.Signal.ACCornerHz, rig.Wheel.ApertureCount)
+	}
+	for _, n := range append(look.Notes, look.Result.Report.Warnings...) {
+		if strings.Contains(n, "the beam is on for") || strings.Contains(n, "beam-on stretch lasts") {
+			t.Errorf("a note that the beam-on fraction disagrees: %q", n)
+		}
+	}
+}
+
 // TestFirstLookDCCapture: the demo rig (DC position, DC-coupled
 // detector) keeps rows.source position and no AC corner, and a first look
 // from nothing finds the wheel's six apertures.
