@@ -84,6 +84,21 @@ func TestFirstLookSoundCard(t *testing.T) {
 	}
 }
 
+// lookFromNothing simulates scene on rig and takes a first look at it told
+// nothing (the default recipe, no key stated).
+func lookFromNothing(t *testing.T, rig sampledata.Rig, scene string, seed uint64) (*Look, *sampledata.Truth) {
+	t.Helper()
+	rec, truth, err := sampledata.Simulate(context.Background(), rig, scene, sampledata.SimOptions{Seed: seed})
+	if err != nil {
+		t.Fatal(err)
+	}
+	look, err := FirstLook(context.Background(), NewSession(rec), recipe.Default(), Known{}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return look, truth
+}
+
 // TestFirstLookSoundCardFromNothing: told nothing, a first look on the
 // sound-card capture finds the wheel's six apertures from the beam-on
 // stretch (the simulator's rig: 6 apertures, a 30° field, so 50 % of
@@ -93,14 +108,7 @@ func TestFirstLookSoundCard(t *testing.T) {
 func TestFirstLookSoundCardFromNothing(t *testing.T) {
 	rig := sampledata.SoundCardRig()
 	rig.DurationS, rig.Motion.StrokeS = 8, 6
-	rec, _, err := sampledata.Simulate(context.Background(), rig, "dot-grid", sampledata.SimOptions{Seed: 3})
-	if err != nil {
-		t.Fatal(err)
-	}
-	look, err := FirstLook(context.Background(), NewSession(rec), recipe.Default(), Known{}, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
+	look, _ := lookFromNothing(t, rig, "dot-grid", 3)
 	r := look.Recipe
 	if r.Sweep.Apertures != rig.Wheel.ApertureCount || r.Sweep.FieldDeg != 30 || math.Abs(r.Signal.ACCornerHz-20) > 3 {
 		t.Errorf("%d apertures, %g° field, corner %g Hz; want the rig's %d, 30° and 20 Hz within 15 %%", r.Sweep.Apertures, r.Sweep.FieldDeg, r.Signal.ACCornerHz, rig.Wheel.ApertureCount)
@@ -118,14 +126,7 @@ func TestFirstLookSoundCardFromNothing(t *testing.T) {
 func TestFirstLookDCCapture(t *testing.T) {
 	rig := sampledata.DemoRig()
 	rig.DurationS = 8
-	rec, truth, err := sampledata.Simulate(context.Background(), rig, "parcel", sampledata.SimOptions{Seed: 12})
-	if err != nil {
-		t.Fatal(err)
-	}
-	look, err := FirstLook(context.Background(), NewSession(rec), recipe.Default(), Known{}, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
+	look, truth := lookFromNothing(t, rig, "parcel", 12)
 	r := look.Recipe
 	t.Logf("notes %q", look.Notes)
 	if r.Rows.Source != recipe.SourcePosition || r.Signal.ACCornerHz != 0 || r.Sweep.Apertures != rig.Wheel.ApertureCount {
