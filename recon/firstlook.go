@@ -53,8 +53,8 @@ type Look struct {
 // the capture: the channel roles, rows.source (a carrier tone is told from
 // a DC level), signal.ac_corner_hz (from how the beam-off level drifts
 // back after bright stretches, on the lines of the aperture count the
-// beam-on stretch implies, which it takes first), signal.invert for a negative-going detector, a calibration
-// spanning the position levels seen, an automatic pitch, and (null) the
+// beam-on stretch implies, which it takes first), signal.invert for a
+// negative-going detector, a calibration spanning the position levels seen, an automatic pitch, and (null) the
 // aperture offsets, which every build then measures. It also says
 // when the capture has no beam-off stretch and when the aperture count,
 // the field and the beam-on fraction disagree. The command line and the
@@ -207,14 +207,23 @@ func (d *lookDraft) fitApertures(rep Report) bool {
 	if d.r.Sweep.FieldDeg*float64(n)/360 >= 0.9 {
 		return false // lit for (nearly) the whole line: no beam-off stretch to count by (fitBeamOn says so)
 	}
-	d.r.Sweep.Apertures = n
-	if d.r.Timing.PulsesPerRev != 1 {
-		d.r.Timing.PulsesPerRev = n
-	}
-	d.r.Sweep.ApertureOffsetsDeg = nil // one per aperture no longer fits: measure them
+	setApertures(&d.r, n)
 	d.note("sweep.apertures is set to %d, the count the beam-on stretch (%s of each line) implies for a %g° field: check it against the wheel", n, percentText(d.r.Sweep.FieldDeg*float64(n)/360), d.r.Sweep.FieldDeg)
 	d.changed = true
 	return true
+}
+
+// setApertures gives r a wheel of n apertures found from the capture: one
+// index pulse each (unless one a revolution), and stated offsets, one per
+// aperture that no longer fits, measured again.
+func setApertures(r *recipe.Recipe, n int) {
+	r.Sweep.Apertures = n
+	if r.Timing.PulsesPerRev != 1 {
+		r.Timing.PulsesPerRev = n
+	}
+	if len(r.Sweep.ApertureOffsetsDeg) != 0 {
+		r.Sweep.ApertureOffsetsDeg = nil
+	}
 }
 
 // fitACCorner sets signal.ac_corner_hz (or says what to set it to, when
@@ -329,13 +338,7 @@ func fitDuty(r *recipe.Recipe, duty float64, ok bool, known Known) (bool, []stri
 	implied := 360 * duty / sw.FieldDeg
 	n := int(math.Round(implied))
 	if !known.Has("sweep.apertures") && n >= 1 && n <= 360 && math.Abs(implied-float64(n)) < 0.15 && n != sw.Apertures {
-		if r.Timing.PulsesPerRev != 1 {
-			r.Timing.PulsesPerRev = n
-		}
-		r.Sweep.Apertures = n
-		if len(r.Sweep.ApertureOffsetsDeg) != 0 {
-			r.Sweep.ApertureOffsetsDeg = nil // one per aperture no longer fits: measure them
-		}
+		setApertures(r, n)
 		return true, []string{fmt.Sprintf("sweep.apertures is set to %d, the count the beam-on fraction (%.0f %% of each line) implies for a %g° field: check it against the wheel", n, 100*duty, sw.FieldDeg)}
 	}
 	return false, []string{fmt.Sprintf("the beam is on for %.0f %% of each line (%.1f° of the %.4g° between apertures), but %d apertures and a %g° field make %.0f %%: check sweep.apertures and sweep.field_deg (with %d apertures the field would be %.1f°)",

@@ -37,9 +37,13 @@ func indexWithTone(x []float32, rateHz float64) (float64, float64, bool) {
 // notched out, index pulses. It returns the channel (−1 for none), the
 // carrier and the role guess's confidence (0 to 1) in the pulses.
 func SharedInput(rec *capture.Recording, roles []capture.RoleGuess) (channel int, carrierHz, confidence float64) {
-	index, rows := -1, false
+	detector, index, rows := -1, -1, false
 	for _, g := range roles {
 		switch g.Role {
+		case capture.RoleDetector:
+			if detector < 0 {
+				detector = g.Channel
+			}
 		case capture.RoleIndex:
 			if index < 0 {
 				index = g.Channel
@@ -48,15 +52,25 @@ func SharedInput(rec *capture.Recording, roles []capture.RoleGuess) (channel int
 			rows = true
 		}
 	}
+	return sharedChannel(rec, detector, index, rows)
+}
+
+// sharedChannel is the channel of rec (−1 for none) that carries both the
+// index pulses and a position tone, with the carrier and the confidence
+// in the pulses (indexWithTone), given the detector and index channels
+// found so far (−1 for none) and whether a rows channel was: none is
+// looked for when both the index and a rows channel are there; else every
+// channel but the detector, or the index channel alone when there is one.
+func sharedChannel(rec *capture.Recording, detector, index int, rows bool) (channel int, carrierHz, confidence float64) {
 	if index >= 0 && rows {
 		return -1, 0, 0
 	}
-	for _, g := range roles {
-		if g.Role == capture.RoleDetector || index >= 0 && g.Channel != index || g.Channel >= len(rec.Channels) {
+	for ch := range rec.Channels {
+		if ch == detector || index >= 0 && ch != index {
 			continue
 		}
-		if hz, conf, ok := indexWithTone(rec.Channels[g.Channel].Samples, rec.SampleRateHz); ok {
-			return g.Channel, hz, conf
+		if hz, conf, ok := indexWithTone(rec.Channels[ch].Samples, rec.SampleRateHz); ok {
+			return ch, hz, conf
 		}
 	}
 	return -1, 0, 0
@@ -69,21 +83,22 @@ func SharedInput(rec *capture.Recording, roles []capture.RoleGuess) (channel int
 // read as a tone.
 func (d *lookDraft) guessSharedInput(rec *capture.Recording) {
 	r := &d.r
-	if r.Channels.Index.IsSet() && r.Channels.Position.IsSet() {
+	lookup := func(ref recipe.ChannelRef) int {
+		if !ref.IsSet() {
+			return -1
+		}
+		i, err := rec.Lookup(string(ref))
+		if err != nil {
+			return -1
+		}
+		return i
+	}
+	ch, hz, _ := sharedChannel(rec, lookup(r.Channels.Detector), lookup(r.Channels.Index), r.Channels.Position.IsSet())
+	if ch < 0 {
 		return
 	}
-	for ch := range rec.Channels {
-		ref := recipe.ChannelRef(strconv.Itoa(ch))
-		if ref == r.Channels.Detector || r.Channels.Index.IsSet() && ref != r.Channels.Index {
-			continue
-		}
-		hz, _, ok := indexWithTone(rec.Channels[ch].Samples, rec.SampleRateHz)
-		if !ok {
-			continue
-		}
-		r.Channels.Index, r.Channels.Position, r.Channels.Steps = ref, ref, ""
-		r.Rows.Source = recipe.SourceTone
-		d.note("channel %d carries the index pulses and a %.4g Hz tone whose amplitude moves with the head (a two-input sound card): it is both channels.index and channels.position, and rows.source is tone", ch, hz)
-		return
-	}
+	ref := recipe.ChannelRef(strconv.Itoa(ch))
+	r.Channels.Index, r.Channels.Position, r.Channels.Steps = ref, ref, ""
+	r.Rows.Source = recipe.SourceTone
+	d.note("channel %d carries the index pulses and a %.4g Hz tone whose amplitude moves with the head (a two-input sound card): it is both channels.index and channels.position, and rows.source is tone", ch, hz)
 }

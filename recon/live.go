@@ -42,8 +42,12 @@ func ResolveLive(ctx context.Context, first *capture.Recording, r recipe.Recipe)
 // sensor, whose reversals cut the strokes (the others make one stroke).
 func byStroke(r recipe.Recipe) bool {
 	src, err := sourceOf(r.Rows.Source)
-	return err == nil && (r.Rows.Strokes == "split" || r.Rows.Strokes == "first") && src.needs() == "position"
+	return err == nil && cutsStrokes(r.Rows.Strokes) && src.needs() == "position"
 }
+
+// cutsStrokes reports whether rows.strokes mode makes frames of single
+// strokes (split, first) rather than of all of them (merge).
+func cutsStrokes(mode string) bool { return mode == "split" || mode == "first" }
 
 // unresolved names the first automatic (null) key of r that a Live needs
 // resolved, or "".

@@ -539,13 +539,7 @@ func (c *liveCore) strokeOf(l *placedLine) int {
 	if !c.byStroke {
 		return 0
 	}
-	mid, bl, s := (l.first+l.last)/2, c.live.rows.blockLen, 0
-	for _, t := range c.strokes.turns {
-		if mid >= t*bl+bl/2 {
-			s++
-		}
-	}
-	return s
+	return c.strokes.strokeAt((l.first+l.last)/2, c.live.rows.blockLen)
 }
 
 // canvasOf is the canvas of stroke s, made empty when there is none yet.

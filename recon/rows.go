@@ -399,7 +399,23 @@ func (f *strokeFinder) horizon(blockLen int) int {
 	case -1:
 		next = f.loIdx
 	}
-	return next*blockLen + blockLen/2
+	return turnSample(next, blockLen)
+}
+
+// turnSample is the sample at which a turn at block t (of blocks of
+// blockLen) ends one stroke and starts the next: the block's centre.
+func turnSample(t, blockLen int) int { return t*blockLen + blockLen/2 }
+
+// strokeAt is the stroke of sample s that the turns so far give: how
+// many turns are at or before it (strokes, rowsResult.strokeOf).
+func (f *strokeFinder) strokeAt(s, blockLen int) int {
+	n := 0
+	for _, t := range f.turns {
+		if s >= turnSample(t, blockLen) {
+			n++
+		}
+	}
+	return n
 }
 
 // strokes is the strokes of n samples that the turns so far cut.
@@ -407,7 +423,7 @@ func (f *strokeFinder) strokes(blockLen, n int) []stroke {
 	var out []stroke
 	start := 0
 	for _, t := range f.turns {
-		s := t*blockLen + blockLen/2
+		s := turnSample(t, blockLen)
 		out = append(out, stroke{start, s})
 		start = s
 	}

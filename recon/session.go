@@ -226,7 +226,7 @@ func (s *Session) resolve(ctx context.Context, in recipe.Recipe, progress Progre
 		return nil, nil, err
 	}
 	warns = append(warns, rows.warnings...)
-	if (r.Rows.Strokes == "split" || r.Rows.Strokes == "first") && r.Rows.StrokesHysteresisMM == nil && rows.autoHyst > 0 {
+	if cutsStrokes(r.Rows.Strokes) && r.Rows.StrokesHysteresisMM == nil && rows.autoHyst > 0 {
 		r.Rows.StrokesHysteresisMM = recipe.Float(rows.autoHyst)
 	}
 	rows = rows.withHysteresis(r.Rows.StrokesHysteresisMM)
